@@ -1,0 +1,29 @@
+// Command wellscan plans, runs, tracks, refines and fits potential-energy
+// scans of molecules. See README.md.
+package main
+
+import (
+	"context"
+	"io"
+	"os"
+	"os/signal"
+	"syscall"
+)
+
+func main() {
+	os.Exit(run(os.Args[1:], os.Stdin, os.Stdout, os.Stderr))
+}
+
+// run executes one wellscan command line and returns the process exit
+// code. It is the seam tests use to run commands in-process.
+func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	a := &app{stdin: stdin, stdout: stdout, stderr: stderr}
+	root := newRootCommand(a)
+	root.SetArgs(args)
+	root.SetOut(stdout)
+	root.SetErr(stderr)
+	err := root.ExecuteContext(ctx)
+	return exitCode(ctx, err, stderr)
+}

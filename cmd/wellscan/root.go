@@ -1,0 +1,85 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+
+	"github.com/spf13/cobra"
+)
+
+// app carries what every command needs; there is no package-level state.
+type app struct {
+	stdin          io.Reader
+	stdout, stderr io.Writer
+}
+
+// version is set at build time with -ldflags "-X main.version=…".
+var version = "0.1.0-dev"
+
+const exitCodeTable = `Exit codes:
+  0    success
+  1    error (bad input, I/O, a calculation that did not converge)
+  2    internal error (Go runtime panic)
+  3    the scan finished but some points failed
+  11   the scan is being run by another process
+  130  interrupted (Ctrl-C / SIGINT / SIGTERM)`
+
+func newRootCommand(a *app) *cobra.Command {
+	root := &cobra.Command{
+		Use:   "wellscan",
+		Short: "Potential-energy scans of molecules, from plan to spectroscopic constants",
+		Long: `wellscan plans, runs, tracks, refines and fits potential-energy scans:
+the energy of a molecule as a bond length, angle or torsion is stepped
+through a range, computed with the built-in Hartree–Fock engine or any
+external program, and turned into spectroscopic constants.
+
+` + exitCodeTable,
+		SilenceUsage:  true,
+		SilenceErrors: true,
+	}
+	root.AddCommand(newVersionCommand(a))
+	return root
+}
+
+func newVersionCommand(a *app) *cobra.Command {
+	return &cobra.Command{
+		Use:   "version",
+		Short: "Print the wellscan version",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			fmt.Fprintf(a.stdout, "wellscan %s\n", version)
+			return nil
+		},
+	}
+}
+
+// Exit-code errors returned by commands.
+var (
+	errSomePointsFailed = errors.New("some points failed")
+	errNotConverged     = errors.New("not converged")
+	errScanLocked       = errors.New("scan is locked")
+)
+
+// usageError marks a mistake on the command line; the usage text is shown.
+type usageError struct{ err error }
+
+func (e usageError) Error() string { return e.err.Error() }
+func (e usageError) Unwrap() error { return e.err }
+
+func exitCode(ctx context.Context, err error, stderr io.Writer) int {
+	if err == nil {
+		return 0
+	}
+	fmt.Fprintf(stderr, "wellscan: %v\n", err)
+	switch {
+	case errors.Is(err, context.Canceled) || ctx.Err() != nil:
+		return 130
+	case errors.Is(err, errSomePointsFailed):
+		return 3
+	case errors.Is(err, errScanLocked):
+		return 11
+	}
+	return 1
+}
