@@ -80,6 +80,9 @@ type prepShell struct {
 	ncart  int       // Cartesian components
 	scale  []float64 // per Cartesian component (used when !pure)
 	off    int       // first function index
+	// transform is set when finishIndex changes anything: a pure shell,
+	// or a Cartesian one with scales other than 1.
+	transform bool
 }
 
 // prepare validates and preprocesses shells.
@@ -118,6 +121,12 @@ func prepare(shells []Shell, norm CartNorm) ([]prepShell, error) {
 				ps.scale[k] = compScale(e[0], e[1], e[2])
 			} else {
 				ps.scale[k] = 1
+			}
+		}
+		ps.transform = ps.pure
+		for _, f := range ps.scale {
+			if f != 1 {
+				ps.transform = true
 			}
 		}
 		off += ps.nfunc

@@ -97,12 +97,12 @@ func oneBody(shells []Shell, norm CartNorm, op oneOp, charges []PointCharge, ori
 }
 
 type oneWork struct {
-	ex         [3][]float64 // E tables per direction
-	r          []float64    // R_tuv^(n)
-	f          []float64    // Boys values
-	cart       [3][]float64
-	tmp, fin   [3][]float64
-	maxl       int
+	ex       [3][]float64 // E tables per direction
+	r        []float64    // R_tuv^(n)
+	f        []float64    // Boys values
+	cart     [3][]float64
+	tmp, fin [3][]float64
+	maxl     int
 }
 
 func newOneWork(maxl int) *oneWork {

@@ -69,3 +69,54 @@ func TestOneBody_WorkedExample(t *testing.T) {
 		})
 	}
 }
+
+func TestComputeERI_WorkedExample(t *testing.T) {
+	for _, tc := range workedCases {
+		t.Run(tc.name, func(t *testing.T) {
+			wc := loadWorked(t, tc.name, tc.norm)
+			n := wc.nbf
+			eri, err := ComputeERI(t.Context(), wc.shells, tc.norm, 2)
+			if err != nil {
+				t.Fatal(err)
+			}
+			// eri.dat: "i j k l (ij|kl)", 1-based, each unique integral
+			// once; integrals that vanish by symmetry are omitted (README).
+			path := filepath.Join(wc.dir, "eri.dat")
+			want := map[int]float64{}
+			for li, r := range readRows(t, path) {
+				if len(r) != 5 {
+					t.Fatalf("%s:%d: want 5 fields", path, li+1)
+				}
+				i, j, k, l := int(r[0])-1, int(r[1])-1, int(r[2])-1, int(r[3])-1
+				want[pidx(pidx(i, j), pidx(k, l))] = r[4]
+			}
+			bad, omitted := 0, 0
+			for i := range n {
+				for j := 0; j <= i; j++ {
+					for k := range n {
+						for l := 0; l <= k; l++ {
+							if pidx(k, l) > pidx(i, j) {
+								continue
+							}
+							w, ok := want[pidx(pidx(i, j), pidx(k, l))]
+							if !ok {
+								omitted++
+							}
+							g := eri.At(i, j, k, l)
+							// absolute 1e-10 for the omitted (zero) ones too
+							if !scalar.EqualWithinAbsOrRel(g, w, workedTol, workedTol) {
+								if bad < 5 {
+									t.Errorf("(%d %d|%d %d) = %.15g, want %.15g", i+1, j+1, k+1, l+1, g, w)
+								}
+								bad++
+							}
+						}
+					}
+				}
+			}
+			if bad > 0 {
+				t.Errorf("%d of %d integrals differ (%d omitted in the file)", bad, len(want)+omitted, omitted)
+			}
+		})
+	}
+}
