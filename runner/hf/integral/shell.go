@@ -1,10 +1,3 @@
-// Package integral computes one- and two-electron integrals over contracted
-// Cartesian Gaussian shells for the built-in Hartree–Fock engine.
-//
-// # Units
-//
-// Atomic units: centres and exponents in bohr and bohr⁻², integrals in
-// hartree (or bohr for multipole integrals).
 package integral
 
 // Shell is one contracted Gaussian shell of angular momentum L on a centre.

@@ -1,0 +1,389 @@
+package integral
+
+import "math"
+
+// Flat Cartesian index tables for all angular momenta 0..flatMaxL: the
+// components of l occupy flat indices ncum(l−1) … ncum(l)−1 in shell
+// order. They are read-only tables computed at package initialisation.
+const flatMaxL = 2*MaxL + 1
+
+type flatComp struct {
+	n    [3]int // exponents
+	l    int
+	dir  int    // direction used to build this component from a lower one
+	down [3]int // flat index of c − 1_i, or −1
+	up   [3]int // flat index of c + 1_i, or −1 beyond flatMaxL
+	sub  int    // index within its shell (cartIndex)
+}
+
+var flatTab = buildFlat()
+
+func flatIndex(lx, ly, lz int) int {
+	return ncum(lx+ly+lz-1) + cartIndex(lx, ly, lz)
+}
+
+func buildFlat() []flatComp {
+	out := make([]flatComp, ncum(flatMaxL))
+	for l := 0; l <= flatMaxL; l++ {
+		for _, e := range cartExps(l) {
+			fi := flatIndex(e[0], e[1], e[2])
+			c := flatComp{n: e, l: l, dir: -1, sub: cartIndex(e[0], e[1], e[2])}
+			for i := range 3 {
+				c.down[i], c.up[i] = -1, -1
+				if e[i] > 0 {
+					d := e
+					d[i]--
+					c.down[i] = flatIndex(d[0], d[1], d[2])
+					if c.dir < 0 {
+						c.dir = i
+					}
+				}
+				if l < flatMaxL {
+					u := e
+					u[i]++
+					c.up[i] = flatIndex(u[0], u[1], u[2])
+				}
+			}
+			out[fi] = c
+		}
+	}
+	return out
+}
+
+// primPair is a screened primitive pair of a shell pair.
+type primPair struct {
+	p, inv2p float64
+	P, PA    [3]float64
+	U        float64 // √2 π^{5/4} c_a c_b exp(−μ|AB|²) / p
+}
+
+// shellPair holds what the two-electron code needs for one pair of shells.
+// The first shell has the higher angular momentum (HRR builds on it);
+// fi/fj list the function indices of its output rows/columns.
+type shellPair struct {
+	s1, s2   int // shell indices in pair order
+	l1, l2   int
+	AB       [3]float64 // centre1 − centre2
+	prims    []primPair
+	same     bool // s1 == s2
+	n1, n2   int  // output functions
+	fi, fj   []int
+	schwarz  float64 // √max|(ab|ab)|
+	sh1, sh2 *prepShell
+}
+
+// primScreen drops primitive pairs whose Gaussian product prefactor
+// exp(−μ|AB|²) is below it: their contributions are at least 1e-18
+// relative to a normalised function (common practice).
+const primScreen = 1e-18
+
+func newShellPair(ps []prepShell, a, b int) shellPair {
+	if ps[a].l < ps[b].l {
+		a, b = b, a
+	}
+	sa, sb := &ps[a], &ps[b]
+	sp := shellPair{s1: a, s2: b, l1: sa.l, l2: sb.l, same: a == b, n1: sa.nfunc, n2: sb.nfunc, sh1: sa, sh2: sb}
+	for d := range 3 {
+		sp.AB[d] = sa.center[d] - sb.center[d]
+	}
+	ab2 := sp.AB[0]*sp.AB[0] + sp.AB[1]*sp.AB[1] + sp.AB[2]*sp.AB[2]
+	pref := math.Sqrt2 * math.Pow(math.Pi, 1.25)
+	for i, alpha := range sa.exps {
+		for j, beta := range sb.exps {
+			p := alpha + beta
+			k := math.Exp(-alpha * beta / p * ab2)
+			if k < primScreen {
+				continue
+			}
+			pp := primPair{p: p, inv2p: 0.5 / p, U: pref * sa.coefs[i] * sb.coefs[j] * k / p}
+			for d := range 3 {
+				pp.P[d] = (alpha*sa.center[d] + beta*sb.center[d]) / p
+				pp.PA[d] = pp.P[d] - sa.center[d]
+			}
+			sp.prims = append(sp.prims, pp)
+		}
+	}
+	sp.fi = make([]int, sa.nfunc)
+	for i := range sp.fi {
+		sp.fi[i] = sa.off + i
+	}
+	sp.fj = make([]int, sb.nfunc)
+	for i := range sp.fj {
+		sp.fj[i] = sb.off + i
+	}
+	return sp
+}
+
+// eriWork is the per-goroutine scratch of the two-electron code: nothing
+// is allocated per quartet.
+type eriWork struct {
+	v      []float64 // VRR [m][f][e]
+	c      []float64 // contracted [f][e]
+	h1, h2 []float64 // HRR ping-pong
+	out    []float64 // final block
+	fb     []float64 // Boys values
+	base   []float64
+}
+
+func newERIWork(maxl int) *eriWork {
+	nE := ncum(2 * maxl)
+	nc := ncart(maxl)
+	h := max(nE*nc*nE, nE*nc*nc*nc, nc*nc*nc*nc)
+	return &eriWork{
+		v:    make([]float64, (4*maxl+1)*nE*nE),
+		c:    make([]float64, nE*nE),
+		h1:   make([]float64, h),
+		h2:   make([]float64, h),
+		out:  make([]float64, nc*nc*nc*nc),
+		fb:   make([]float64, 4*maxl+1),
+		base: make([]float64, 4*maxl+1),
+	}
+}
+
+// quartet computes the finished block (ab|cd) for bra pair bp and ket
+// pair kp, row-major [bp.n1][bp.n2][kp.n1][kp.n2], in chemists' notation.
+// The returned slice is owned by w and valid until the next call.
+//
+// Algorithm: Head-Gordon–Pople. The Obara–Saika vertical recurrences
+// (Obara & Saika 1986, eqs. 39 and the electron-transfer-free form with
+// the cross term e_i/(2(p+q))) build [e0|f0]^(0) for la ≤ e ≤ la+lb and
+// lc ≤ f ≤ lc+ld on every primitive quartet; after contraction the
+// horizontal recurrence (a,b+1_i| = (a+1_i,b| + AB_i (a,b| (Head-Gordon &
+// Pople 1988, eq. 18) is applied on the ket and then on the bra.
+func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
+	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
+	Lab, Lcd := la+lb, lc+ld
+	L := Lab + Lcd
+	if L == 0 {
+		return w.quartetSSSS(bp, kp)
+	}
+	nE, nF := ncum(Lab), ncum(Lcd)
+	e0, f0 := ncum(la-1), ncum(lc-1)
+	nEr, nFr := nE-e0, nF-f0
+	C := w.c[:nEr*nFr]
+	for i := range C {
+		C[i] = 0
+	}
+	V := w.v
+	stM := nF * nE // stride of m
+	for _, pa := range bp.prims {
+		p := pa.p
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			rho := p * q / pq
+			var PQ, WP, WQ [3]float64
+			for d := range 3 {
+				PQ[d] = pa.P[d] - pc.P[d]
+				Wd := (p*pa.P[d] + q*pc.P[d]) / pq
+				WP[d] = Wd - pa.P[d]
+				WQ[d] = Wd - pc.P[d]
+			}
+			T := rho * (PQ[0]*PQ[0] + PQ[1]*PQ[1] + PQ[2]*PQ[2])
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			boys(T, L, w.fb)
+			for m := 0; m <= L; m++ {
+				V[m*stM] = pref * w.fb[m]
+			}
+			// Electron 1: [e0|00]^(m), m ≤ L − l_e.
+			i2p, rp := pa.inv2p, rho/p
+			for e := 1; e < nE; e++ {
+				fc := &flatTab[e]
+				i := fc.dir
+				e1 := fc.down[i]
+				e2 := flatTab[e1].down[i]
+				ni := float64(fc.n[i] - 1)
+				pai, wpi := pa.PA[i], WP[i]
+				mmax := L - fc.l
+				if e2 < 0 {
+					for m := 0; m <= mmax; m++ {
+						o := m * stM
+						V[o+e] = pai*V[o+e1] + wpi*V[o+stM+e1]
+					}
+				} else {
+					c := ni * i2p
+					for m := 0; m <= mmax; m++ {
+						o := m * stM
+						V[o+e] = pai*V[o+e1] + wpi*V[o+stM+e1] + c*(V[o+e2]-rp*V[o+stM+e2])
+					}
+				}
+			}
+			// Electron 2: [e0|f0]^(m), m ≤ Lcd − l_f.
+			i2q, rq, i2pq := pc.inv2p, rho/q, 0.5/pq
+			for f := 1; f < nF; f++ {
+				fc := &flatTab[f]
+				i := fc.dir
+				f1 := fc.down[i]
+				f2 := flatTab[f1].down[i]
+				nfi := float64(fc.n[i] - 1)
+				qci, wqi := pc.PA[i], WQ[i]
+				mmax := Lcd - fc.l
+				// Only e ≥ la − (Lcd − l_f) can still reach the target.
+				es := ncum(la - (Lcd - fc.l) - 1)
+				for m := 0; m <= mmax; m++ {
+					o := m * stM
+					dst := V[o+f*nE+es : o+f*nE+nE]
+					s0 := V[o+f1*nE+es : o+f1*nE+nE]
+					s1 := V[o+stM+f1*nE+es : o+stM+f1*nE+nE]
+					if f2 >= 0 {
+						c := nfi * i2q
+						t0 := V[o+f2*nE+es : o+f2*nE+nE]
+						t1 := V[o+stM+f2*nE+es : o+stM+f2*nE+nE]
+						for k := range dst {
+							dst[k] = qci*s0[k] + wqi*s1[k] + c*(t0[k]-rq*t1[k])
+						}
+					} else {
+						for k := range dst {
+							dst[k] = qci*s0[k] + wqi*s1[k]
+						}
+					}
+					// cross term e_i/(2(p+q)) [e−1_i 0|f−1_i 0]^(m+1)
+					s1f := V[o+stM+f1*nE : o+stM+f1*nE+nE]
+					dstf := V[o+f*nE : o+f*nE+nE]
+					for e := max(es, 1); e < nE; e++ {
+						ec := &flatTab[e]
+						if ec.n[i] == 0 {
+							continue
+						}
+						dstf[e] += float64(ec.n[i]) * i2pq * s1f[ec.down[i]]
+					}
+				}
+			}
+			// Contract [e0|f0]^(0).
+			for f := f0; f < nF; f++ {
+				src := V[f*nE+e0 : f*nE+nE]
+				dst := C[(f-f0)*nEr : (f-f0+1)*nEr]
+				for k, v := range src {
+					dst[k] += v
+				}
+			}
+		}
+	}
+	na, nb, nc, nd := ncart(la), ncart(lb), ncart(lc), ncart(ld)
+	// Ket HRR on C[f][e] (inner index e over nEr): build (e|c d) levels.
+	cur := C
+	for k := 0; k < ld; k++ {
+		// current: [cIdx over levels lc..Lcd−k][d comp of level k][e]
+		// next:    [cIdx over levels lc..Lcd−k−1][d comp of level k+1][e]
+		nCur := ncart(k)
+		nNext := ncart(k + 1)
+		nCnext := ncum(Lcd-k-1) - f0
+		dst := w.h1
+		if &cur[0] == &w.h1[0] {
+			dst = w.h2
+		}
+		dst = dst[:nCnext*nNext*nEr]
+		for dn := range nNext {
+			dflat := ncum(k) + dn
+			dc := &flatTab[dflat]
+			i := dc.dir
+			dprev := flatTab[dc.down[i]].sub
+			abi := kp.AB[i]
+			for ci := range nCnext {
+				cflat := f0 + ci
+				cup := flatTab[cflat].up[i] - f0
+				out := dst[(ci*nNext+dn)*nEr : (ci*nNext+dn+1)*nEr]
+				s0 := cur[(cup*nCur+dprev)*nEr : (cup*nCur+dprev+1)*nEr]
+				s1 := cur[(ci*nCur+dprev)*nEr : (ci*nCur+dprev+1)*nEr]
+				for e := range out {
+					out[e] = s0[e] + abi*s1[e]
+				}
+			}
+		}
+		cur = dst
+	}
+	// cur is [c (nc)][d (nd)][e (nEr)]. Transpose to [e][cd].
+	ncd := nc * nd
+	tr := w.h1
+	if &cur[0] == &w.h1[0] {
+		tr = w.h2
+	}
+	tr = tr[:nEr*ncd]
+	for cd := range ncd {
+		src := cur[cd*nEr : (cd+1)*nEr]
+		for e, v := range src {
+			tr[e*ncd+cd] = v
+		}
+	}
+	cur = tr
+	// Bra HRR on [a flat][b comp][cd].
+	for k := 0; k < lb; k++ {
+		nCur := ncart(k)
+		nNext := ncart(k + 1)
+		nAnext := ncum(Lab-k-1) - e0
+		dst := w.h1
+		if &cur[0] == &w.h1[0] {
+			dst = w.h2
+		}
+		dst = dst[:nAnext*nNext*ncd]
+		for bn := range nNext {
+			bflat := ncum(k) + bn
+			bc := &flatTab[bflat]
+			i := bc.dir
+			bprev := flatTab[bc.down[i]].sub
+			abi := bp.AB[i]
+			for ai := range nAnext {
+				aup := flatTab[e0+ai].up[i] - e0
+				out := dst[(ai*nNext+bn)*ncd : (ai*nNext+bn+1)*ncd]
+				s0 := cur[(aup*nCur+bprev)*ncd : (aup*nCur+bprev+1)*ncd]
+				s1 := cur[(ai*nCur+bprev)*ncd : (ai*nCur+bprev+1)*ncd]
+				for x := range out {
+					out[x] = s0[x] + abi*s1[x]
+				}
+			}
+		}
+		cur = dst
+	}
+	// cur is [a][b][c][d] Cartesian.
+	return w.finish(cur[:na*nb*nc*nd], bp, kp)
+}
+
+// quartetSSSS is the fast path for four s shells.
+func (w *eriWork) quartetSSSS(bp, kp *shellPair) []float64 {
+	var sum float64
+	for _, pa := range bp.prims {
+		p := pa.p
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			rho := p * q / pq
+			dx, dy, dz := pa.P[0]-pc.P[0], pa.P[1]-pc.P[1], pa.P[2]-pc.P[2]
+			boys(rho*(dx*dx+dy*dy+dz*dz), 0, w.fb)
+			sum += pa.U * pc.U / math.Sqrt(pq) * w.fb[0]
+		}
+	}
+	w.out[0] = sum
+	return w.out[:1]
+}
+
+// finish applies component scales and spherical transforms to the
+// Cartesian block cart, which lives in w.h1 or w.h2.
+func (w *eriWork) finish(cart []float64, bp, kp *shellPair) []float64 {
+	s := [4]*prepShell{bp.sh1, bp.sh2, kp.sh1, kp.sh2}
+	if !s[0].transform && !s[1].transform && !s[2].transform && !s[3].transform {
+		return cart
+	}
+	dims := [4]int{s[0].ncart, s[1].ncart, s[2].ncart, s[3].ncart}
+	src := cart
+	for idx := range 4 {
+		if !s[idx].transform {
+			continue
+		}
+		outer, inner := 1, 1
+		for k := range idx {
+			outer *= dims[k]
+		}
+		for k := idx + 1; k < 4; k++ {
+			inner *= dims[k]
+		}
+		dst := w.h1
+		if &src[0] == &w.h1[0] {
+			dst = w.h2
+		}
+		dims[idx] = s[idx].nfunc
+		dst = dst[:outer*dims[idx]*inner]
+		finishIndex(s[idx], outer, inner, src, dst)
+		src = dst
+	}
+	return src
+}
