@@ -74,8 +74,9 @@ const (
 	// References: M. Wolfsberg and L. Helmholz, J. Chem. Phys. 20, 837
 	// (1952), doi:10.1063/1.1700580 (from memory).
 	GuessGWH
-	// guessOrbitals marks a start from SCFInput.GuessOrbitals.
-	guessOrbitals
+	// GuessFromOrbitals is reported in SCFResult.Guess when the run started
+	// from SCFInput.GuessOrbitals. It is not a valid Options.Guess.
+	GuessFromOrbitals
 )
 
 func (g GuessKind) String() string {
@@ -84,7 +85,7 @@ func (g GuessKind) String() string {
 		return "core"
 	case GuessGWH:
 		return "gwh"
-	case guessOrbitals:
+	case GuessFromOrbitals:
 		return "orbitals"
 	}
 	return fmt.Sprintf("GuessKind(%d)", int(g))

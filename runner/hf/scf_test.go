@@ -259,7 +259,7 @@ func TestRunSCF_GuessOrbitals_ConvergesQuickly(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if second.Iterations > 3 || second.Guess.String() != "orbitals" {
+		if second.Iterations > 3 || second.Guess != GuessFromOrbitals {
 			t.Errorf("restricted=%v: %d iterations from %v guess, want ≤ 3 from orbitals", restricted, second.Iterations, second.Guess)
 		}
 		if !scalar.EqualWithinAbs(second.Energy, first.Energy, 1e-10) { // 1e-10: EnergyTol

@@ -137,7 +137,7 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 	}
 	guess := opts.Guess
 	if st.in.GuessOrbitals != nil {
-		guess = guessOrbitals
+		guess = GuessFromOrbitals
 	}
 	res.Guess = guess
 	if err := st.startGuess(guess); err != nil {
@@ -264,7 +264,7 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 
 // startGuess sets the densities for iteration 0 (or a restart).
 func (st *scfState) startGuess(kind GuessKind) error {
-	if kind == guessOrbitals {
+	if kind == GuessFromOrbitals {
 		if err := st.orbitalGuess(st.in.GuessOrbitals); err != nil {
 			return err
 		}
