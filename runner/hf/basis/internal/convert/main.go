@@ -139,7 +139,7 @@ func specs() []spec {
 	return []spec{
 		{slug: "sto-3g", name: "STO-3G", harmonics: format.Spherical},
 		{slug: "sto-3g-v0", name: "STO-3G-v0", rename: true, harmonics: format.Spherical,
-			about: "; older 8-digit data (library data version 0), kept as a test set: the current data is STO-3G",
+			about:   "; older 8-digit data (library data version 0), kept as a test set: the current data is STO-3G",
 			remarks: []string{"This is the library's data version 0 of STO-3G (8 significant digits), not its default. Look up \"STO-3G\" for the current data."}},
 		{slug: "3-21g", name: "3-21G", harmonics: format.Cartesian},
 		{slug: "6-31g", name: "6-31G", harmonics: format.Cartesian},
