@@ -15,7 +15,8 @@ func ExampleLookup() {
 	}
 	o, _ := planner.ElementBySymbol("O")
 	h, _ := planner.ElementBySymbol("H")
-	// Water near its equilibrium geometry, positions in bohr.
+	// Water near its equilibrium geometry (r = 0.957 Å, 104.5°, from
+	// memory), positions in bohr; the count does not depend on it.
 	water, err := planner.NewMolecule([]planner.Atom{
 		planner.NewAtom(o, [3]float64{0, 0, 0}),
 		planner.NewAtom(h, [3]float64{0, 1.431, 1.108}),
