@@ -43,7 +43,7 @@ func run(args []string, stderr io.Writer) int {
 		fmt.Fprintln(stderr, "usage: convert -src DIR [-dst DIR]")
 		return 2
 	}
-	if err := convertAll(*src, *dst); err != nil {
+	if err := convertAll(*src, *dst, specs()); err != nil {
 		fmt.Fprintln(stderr, err)
 		return 1
 	}
@@ -54,8 +54,8 @@ func run(args []string, stderr io.Writer) int {
 // redistribution clause requires.
 const licenseFile = "LICENSE-basis_set_exchange.txt"
 
-func convertAll(src, dst string) error {
-	for _, sp := range specs() {
+func convertAll(src, dst string, sets []spec) error {
+	for _, sp := range sets {
 		in := filepath.Join(src, sp.slug+".json")
 		b, err := os.ReadFile(in)
 		if err != nil {
@@ -262,8 +262,11 @@ func convert(b []byte, sp spec) (*format.File, error) {
 	f.Origins = append(f.Origins,
 		clean(fmt.Sprintf("%s, commit %s", o.Library, o.Commit)),
 		clean(fmt.Sprintf("library data version %s (%s): %s", o.Version, o.RevisionDate, o.RevisionDesc)),
-		clean(fmt.Sprintf("converted unchanged from the neutral JSON extract %s.json; license: BSD-3-Clause, see LICENSE-basis_set_exchange.txt", sp.slug)),
+		clean(fmt.Sprintf("converted unchanged from the neutral JSON extract %s.json", sp.slug)),
 	)
+	if o.License != "" {
+		f.Origins = append(f.Origins, clean("license: "+o.License))
+	}
 	if js.LiteratureD != "" {
 		f.Remarks = append(f.Remarks, clean(js.LiteratureD))
 	}
@@ -306,7 +309,7 @@ func convert(b []byte, sp spec) (*format.File, error) {
 		syms = append(syms, sym)
 	}
 	slices.SortFunc(syms, func(a, b string) int { return js.Elements[a].Z - js.Elements[b].Z })
-	hasSplit := false
+	split := map[string]bool{}
 	for _, sym := range syms {
 		je := js.Elements[sym]
 		el := format.Element{Symbol: sym, Z: je.Z, Cites: je.References}
@@ -323,7 +326,13 @@ func convert(b []byte, sp spec) (*format.File, error) {
 			}
 			l := *s.L
 			hasD = hasD || l >= 2
-			hasSplit = hasSplit || s.SplitFrom != ""
+			switch s.SplitFrom {
+			case "":
+			case "sp", "spd":
+				split[s.SplitFrom] = true
+			default:
+				return nil, fmt.Errorf("element %s shell %d: unknown split_from %q", sym, si+1, s.SplitFrom)
+			}
 			sh := format.Shell{L: l}
 			for _, t := range s.Exponents {
 				n, err := format.ParseNumber(t)
@@ -374,8 +383,11 @@ func convert(b []byte, sp spec) (*format.File, error) {
 	if len(f.Elements) == 0 {
 		return nil, errors.New("no elements")
 	}
-	if hasSplit {
-		f.Remarks = append(f.Remarks, "Combined sp (and spd) shells of the source are written as separate s, p (and d) shells over the same exponents, s first.")
+	switch {
+	case split["spd"]:
+		f.Remarks = append(f.Remarks, "Combined sp and spd shells of the source are written as separate s, p (and d) shells over the same exponents, in that order.")
+	case split["sp"]:
+		f.Remarks = append(f.Remarks, "Combined sp shells of the source are written as an s shell and a p shell over the same exponents, s first.")
 	}
 	return f, nil
 }
