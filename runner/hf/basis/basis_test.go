@@ -17,7 +17,7 @@ import (
 
 // molecule builds a molecule from symbols at arbitrary, distinct positions
 // (bohr); the basis does not depend on the geometry.
-func molecule(t *testing.T, symbols ...string) planner.Molecule {
+func molecule(t testing.TB, symbols ...string) planner.Molecule {
 	t.Helper()
 	var atoms []planner.Atom
 	for i, s := range symbols {
