@@ -71,12 +71,19 @@ func (e *UnknownSetError) Error() string {
 }
 
 // Slug is the lookup key of a set name: lower case, with '*' written as
-// 's' and '+' as 'p', so that "6-31G*", "6-31g*" and "6-31gs" share the
-// slug "6-31gs". Embedded files are named by their set's slug.
+// 's', '+' as 'p' and blanks or underscores as '-', so that "6-31G*",
+// "6-31g*" and "6-31gs" share the slug "6-31gs". The polarisation
+// notation "(d)" and "(d,p)" counts as "*" and "**" (common practice:
+// 6-31G(d) is 6-31G*). Embedded files are named by their set's slug.
 func Slug(name string) string {
+	n := strings.ToLower(strings.TrimSpace(name))
+	n = strings.ReplaceAll(n, "(d,p)", "**")
+	n = strings.ReplaceAll(n, "(d)", "*")
 	var b strings.Builder
-	for _, r := range strings.TrimSpace(name) {
+	for _, r := range n {
 		switch {
+		case r == ' ' || r == '\t' || r == '_':
+			b.WriteByte('-')
 		case r == '*':
 			b.WriteByte('s')
 		case r == '+':

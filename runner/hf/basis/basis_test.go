@@ -17,7 +17,7 @@ import (
 
 // molecule builds a molecule from symbols at arbitrary, distinct positions
 // (bohr); the basis does not depend on the geometry.
-func molecule(t *testing.T, symbols ...string) planner.Molecule {
+func molecule(t testing.TB, symbols ...string) planner.Molecule {
 	t.Helper()
 	var atoms []planner.Atom
 	for i, s := range symbols {
@@ -214,6 +214,11 @@ func TestLookup_Name_CaseInsensitive(t *testing.T) {
 		{"sto-3g", "STO-3G"},
 		{"sto-3g-v0", "STO-3G-v0"},
 		{"3-21g", "3-21G"},
+		{"6-31G(d)", "6-31G*"},
+		{"6-31G(d,p)", "6-31G**"},
+		{"6-311G(d,p)", "6-311G**"},
+		{"STO-3G v0", "STO-3G-v0"},
+		{"sto_3g_v0", "STO-3G-v0"},
 	}
 	for _, tc := range tests {
 		if got := lookup(t, tc.in).Name(); got != tc.want {

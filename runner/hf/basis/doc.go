@@ -36,7 +36,8 @@
 // # Concurrency
 //
 // The package has no mutable state: [Lookup] parses the embedded file each
-// time it is called (about a millisecond). A *Set may be used from several
+// time it is called (about a millisecond of CPU
+// time for the largest set). A *Set may be used from several
 // goroutines at once; slices it returns are fresh copies owned by the
 // caller.
 //

@@ -299,12 +299,12 @@ func (p *parser) parseRow(s string) error {
 	}
 	nums := make([]Number, len(fs))
 	for i, t := range fs {
-		what := "exponent"
-		if i > 0 {
-			what = fmt.Sprintf("coefficient %d", i)
-		}
 		n, err := ParseNumber(t)
 		if err != nil {
+			what := "exponent"
+			if i > 0 {
+				what = fmt.Sprintf("coefficient %d", i)
+			}
 			return p.errf(p.line, "%s %q: %v", what, clip(t), err)
 		}
 		nums[i] = n
@@ -374,7 +374,16 @@ func ParseNumber(t string) (Number, error) {
 	if !isDecimal(t) {
 		return Number{}, errors.New("expected a decimal number such as 0.1543 or 1.2E-03")
 	}
-	v, err := strconv.ParseFloat(strings.NewReplacer("D", "E", "d", "e").Replace(t), 64)
+	g := t
+	if strings.ContainsAny(g, "Dd") {
+		g = strings.Map(func(r rune) rune {
+			if r == 'D' || r == 'd' {
+				return 'e'
+			}
+			return r
+		}, g)
+	}
+	v, err := strconv.ParseFloat(g, 64)
 	if err != nil || math.IsInf(v, 0) {
 		return Number{}, errors.New("number out of the float64 range")
 	}
