@@ -308,8 +308,8 @@ func TestSet_Shells_Convention(t *testing.T) {
 
 // TestSet_Shells_GeneralContraction checks the layout for cc-pVDZ O, whose
 // s shell has 9 primitives and 3 columns (JSON extract: 3 coefficient
-// lists over one exponent list): three shells sharing one Exps slice, in
-// atom order then shell order.
+// lists over one exponent list): three shells in atom order then shell
+// order, each keeping only the primitives whose coefficient is non-zero.
 func TestSet_Shells_GeneralContraction(t *testing.T) {
 	s := lookup(t, "cc-pVDZ")
 	mol := molecule(t, "H", "O")
@@ -317,22 +317,20 @@ func TestSet_Shells_GeneralContraction(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// cc-pVDZ H: s (4 prims, 2 columns), p; O: s (9, 3 columns), p (4, 2 columns), d.
+	// cc-pVDZ H: s (4 prims, the second column a free primitive), p;
+	// O: s (9, 9, and a free primitive), p (4, free), d.
 	var got []string
 	for _, sh := range shells {
 		got = append(got, strconv.Itoa(sh.Atom)+":"+"spdf"[sh.L:sh.L+1]+strconv.Itoa(len(sh.Exps)))
 	}
-	want := []string{"0:s4", "0:s4", "0:p1", "1:s9", "1:s9", "1:s9", "1:p4", "1:p4", "1:d1"}
+	want := []string{"0:s4", "0:s1", "0:p1", "1:s9", "1:s9", "1:s1", "1:p4", "1:p1", "1:d1"}
 	if !slices.Equal(got, want) {
 		t.Fatalf("shell layout = %v, want %v", got, want)
 	}
-	if &shells[3].Exps[0] != &shells[5].Exps[0] {
-		t.Error("the columns of the O s contraction do not share their exponents")
-	}
 	// The third column is the free primitive 0.3023 (JSON: 1.000000E+00 in
 	// the last row, zeros elsewhere).
-	if c := shells[5].Coefs; c[8] != 1 || c[0] != 0 {
-		t.Errorf("O s column 3 = %v, want zeros and a final 1", c)
+	if c, e := shells[5].Coefs, shells[5].Exps; c[0] != 1 || e[0] != 0.3023 {
+		t.Errorf("O s column 3 = %v × %v, want the single primitive 0.3023 with coefficient 1", c, e)
 	}
 	if !shells[8].Pure {
 		t.Error("cc-pVDZ O d shell not Pure under the set's convention")

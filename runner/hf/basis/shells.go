@@ -14,8 +14,10 @@ import (
 // share one Exps slice (do not modify it). Center is the atom's position
 // (bohr), Atom its index. Pure is set for l ≥ 2 from conv, or from the
 // set's convention for the element when conv is ConventionAsSet; l ≤ 1
-// shells are never Pure. Zero coefficients of general contractions are
-// kept as they are stored.
+// shells are never Pure. Primitives whose coefficient in a column is
+// exactly zero (the free-primitive columns of general contractions) are
+// left out of that column's shell: they contribute nothing, and dropping
+// them makes such columns as cheap as the single primitive they are.
 //
 // An element the set lacks gives a *[MissingElementError].
 func (s *Set) Shells(mol planner.Molecule, conv Convention) ([]integral.Shell, error) {
@@ -30,14 +32,21 @@ func (s *Set) Shells(mol planner.Molecule, conv Convention) ([]integral.Shell, e
 		}
 		pure := s.pure(el, conv)
 		for _, sh := range el.Shells {
-			exps := values(sh.Exps)
+			allExps := values(sh.Exps)
 			for _, col := range sh.Coefs {
+				var exps, coefs []float64
+				for k, c := range values(col) {
+					if c != 0 {
+						exps = append(exps, allExps[k])
+						coefs = append(coefs, c)
+					}
+				}
 				out = append(out, integral.Shell{
 					L:      sh.L,
 					Center: a.Pos,
 					Atom:   i,
 					Exps:   exps,
-					Coefs:  values(col),
+					Coefs:  coefs,
 					Pure:   sh.L >= 2 && pure,
 				})
 			}
