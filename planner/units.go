@@ -81,3 +81,8 @@ func lower(s string) string {
 	}
 	return string(b)
 }
+
+// BohrElectronInDebye converts a dipole moment from e·a0 to debye:
+// e·a0 = 8.4783536255e-30 C·m (CODATA 2018) and 1 D = 1e-21/c C·m with
+// c = 299792458 m/s (exact).
+const BohrElectronInDebye = 8.4783536255e-30 / (1e-21 / 299792458)

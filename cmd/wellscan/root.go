@@ -40,6 +40,8 @@ external program, and turned into spectroscopic constants.
 		SilenceErrors: true,
 	}
 	root.AddCommand(newVersionCommand(a))
+	root.AddCommand(newEnergyCommand(a))
+	root.AddCommand(newBasisCommand(a))
 	return root
 }
 

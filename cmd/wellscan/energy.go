@@ -1,0 +1,232 @@
+package main
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strings"
+
+	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
+
+	"wellscan/parsers"
+	"wellscan/planner"
+	"wellscan/runner/hf"
+	"wellscan/runner/hf/basis"
+)
+
+type energyOptions struct {
+	basis        string
+	basisFile    string
+	convention   string
+	method       string
+	charge       int
+	multiplicity int
+	units        string
+	json         bool
+	workers      int
+	maxIter      int
+}
+
+func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
+	fs.StringVar(&o.basis, "basis", "6-31G*", "basis set from the built-in library (see 'wellscan basis list'); case-insensitive")
+	fs.StringVar(&o.basisFile, "basis-file", "", "read the basis set from this file (wellscan basis format) instead of the library")
+	fs.StringVar(&o.convention, "convention", "as-set", "d/f functions: as-set, cartesian (6D/10F) or spherical (5D/7F)")
+	fs.StringVar(&o.method, "method", "", "rhf or uhf (default: rhf for singlets, uhf otherwise)")
+	fs.IntVar(&o.charge, "charge", 0, "total charge of the molecule")
+	fs.IntVar(&o.multiplicity, "multiplicity", 0, "spin multiplicity 2S+1 (default: the lowest consistent with the electron count)")
+	fs.StringVar(&o.units, "units", "angstrom", "units of the XYZ coordinates: angstrom or bohr")
+	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the table")
+	fs.IntVar(&o.workers, "workers", 0, "goroutines for integrals and Fock builds (default: all CPUs)")
+	fs.IntVar(&o.maxIter, "max-iterations", 0, "SCF iteration cap (default 128)")
+}
+
+func newEnergyCommand(a *app) *cobra.Command {
+	o := &energyOptions{}
+	cmd := &cobra.Command{
+		Use:   "energy FILE.xyz",
+		Short: "Single-point Hartree–Fock energy of one geometry with the built-in engine",
+		Long: `Compute the RHF or UHF energy of the molecule in an XYZ file with the
+built-in engine. Use "-" to read the XYZ from standard input. The exit
+status is 1 when the SCF does not converge (the last energy is still
+printed, marked as not converged).`,
+		Example: `  wellscan energy water.xyz --basis cc-pVDZ
+  wellscan energy oh.xyz --basis 6-31G* --multiplicity 2 --json
+  wellscan energy h2.xyz --units bohr --basis-file mybasis.txt`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runEnergy(cmd, a, o, args[0])
+		},
+	}
+	o.AddFlags(cmd.Flags())
+	return cmd
+}
+
+// energyReport is the --json output of `wellscan energy`.
+type energyReport struct {
+	EnergyHartree           float64    `json:"energy_hartree"`
+	ElectronicEnergyHartree float64    `json:"electronic_energy_hartree"`
+	NuclearRepulsionHartree float64    `json:"nuclear_repulsion_hartree"`
+	Converged               bool       `json:"converged"`
+	Status                  string     `json:"status"`
+	Iterations              int        `json:"iterations"`
+	BasisFunctions          int        `json:"basis_functions"`
+	DroppedFunctions        int        `json:"dropped_functions"`
+	Method                  string     `json:"method"`
+	Basis                   string     `json:"basis"`
+	Convention              string     `json:"convention"`
+	Charge                  int        `json:"charge"`
+	Multiplicity            int        `json:"multiplicity"`
+	SSquared                *float64   `json:"s_squared,omitempty"`
+	OrbitalEnergiesAlpha    []float64  `json:"orbital_energies_alpha_hartree"`
+	OrbitalEnergiesBeta     []float64  `json:"orbital_energies_beta_hartree,omitempty"`
+	MullikenCharges         []float64  `json:"mulliken_charges"`
+	DipoleAU                [3]float64 `json:"dipole_e_bohr"`
+	DipoleDebye             float64    `json:"dipole_debye"`
+}
+
+func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error {
+	unit, ok := planner.ParseLengthUnit(o.units)
+	if !ok {
+		return usageError{fmt.Errorf("--units: unknown unit %q (expected angstrom or bohr)", o.units)}
+	}
+	method, err := hf.ParseMethod(o.method)
+	if err != nil {
+		return usageError{fmt.Errorf("--method: %w", err)}
+	}
+	conv, err := basis.ParseConvention(o.convention)
+	if err != nil {
+		return usageError{fmt.Errorf("--convention: %w", err)}
+	}
+	var r io.Reader = a.stdin
+	if path != "-" {
+		f, err := os.Open(path)
+		if err != nil {
+			return err
+		}
+		defer f.Close()
+		r = f
+	} else {
+		path = "<stdin>"
+	}
+	frames, err := parsers.ReadXYZ(io.LimitReader(r, 64<<20), path)
+	if err != nil {
+		return err
+	}
+	mol, err := planner.MoleculeFromFrame(frames[0], unit, o.charge, o.multiplicity, path)
+	if err != nil {
+		return err
+	}
+	var set *basis.Set
+	if o.basisFile != "" {
+		set, err = basis.LoadFile(o.basisFile)
+	} else {
+		set, err = basis.Lookup(o.basis)
+	}
+	if err != nil {
+		return err
+	}
+	res, err := hf.Energy(cmd.Context(), mol, hf.Options{Method: method, Basis: set, Convention: conv,
+		Workers: o.workers, SCF: hf.SCFOptions{MaxIterations: o.maxIter}})
+	if res == nil {
+		return err
+	}
+	rep := newEnergyReport(res, mol)
+	if o.json {
+		enc := json.NewEncoder(a.stdout)
+		enc.SetIndent("", "  ")
+		if e := enc.Encode(rep); e != nil {
+			return e
+		}
+	} else {
+		printEnergy(a.stdout, rep, mol, res)
+	}
+	if errors.Is(err, hf.ErrNotConverged) {
+		return fmt.Errorf("%w: %v", errNotConverged, err)
+	}
+	return err
+}
+
+func newEnergyReport(res *hf.Result, mol planner.Molecule) energyReport {
+	rep := energyReport{
+		EnergyHartree: res.Energy, ElectronicEnergyHartree: res.ElectronicEnergy,
+		NuclearRepulsionHartree: res.NuclearRepulsion, Converged: res.Converged, Status: res.Status.String(),
+		Iterations: res.Iterations, BasisFunctions: res.BasisFunctions, DroppedFunctions: res.Dropped,
+		Method: string(res.Method), Basis: res.Basis, Convention: res.Convention,
+		Charge: mol.Charge, Multiplicity: mol.Multiplicity,
+		MullikenCharges: res.Mulliken, DipoleAU: res.Dipole,
+		DipoleDebye: math.Sqrt(res.Dipole[0]*res.Dipole[0]+res.Dipole[1]*res.Dipole[1]+res.Dipole[2]*res.Dipole[2]) * planner.BohrElectronInDebye,
+	}
+	if o := res.Orbitals; o != nil {
+		rep.OrbitalEnergiesAlpha = o.EnergiesAlpha
+		if !o.Restricted {
+			rep.OrbitalEnergiesBeta = o.EnergiesBeta
+		}
+	}
+	if res.Method == hf.UHF {
+		s2 := res.S2
+		rep.SSquared = &s2
+	}
+	return rep
+}
+
+func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Result) {
+	if !rep.Converged {
+		fmt.Fprintf(w, "!! SCF NOT CONVERGED after %d iterations (%s): the energy below is NOT a result !!\n\n", rep.Iterations, res.Reason)
+	}
+	fmt.Fprintf(w, "molecule        %s, charge %+d, multiplicity %d, %d electrons\n", mol.Formula(), mol.Charge, mol.Multiplicity, mol.Electrons())
+	fmt.Fprintf(w, "method / basis  %s / %s (%d functions, d/f %s", strings.ToUpper(rep.Method), rep.Basis, rep.BasisFunctions, rep.Convention)
+	if rep.DroppedFunctions > 0 {
+		fmt.Fprintf(w, ", %d near-linear-dependent combinations dropped", rep.DroppedFunctions)
+	}
+	fmt.Fprintln(w, ")")
+	fmt.Fprintf(w, "SCF             %d iterations, %s\n\n", rep.Iterations, map[bool]string{true: "converged", false: "NOT converged"}[rep.Converged])
+	fmt.Fprintf(w, "total energy          %20.12f hartree  (%.6f eV)\n", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
+	fmt.Fprintf(w, "electronic energy     %20.12f hartree\n", rep.ElectronicEnergyHartree)
+	fmt.Fprintf(w, "nuclear repulsion     %20.12f hartree\n", rep.NuclearRepulsionHartree)
+	if rep.SSquared != nil {
+		s := float64(mol.Multiplicity-1) / 2
+		fmt.Fprintf(w, "<S^2>                 %20.6f          (exact %.4f)\n", *rep.SSquared, s*(s+1))
+	}
+	fmt.Fprintf(w, "dipole moment         %20.6f debye    (x %.6f, y %.6f, z %.6f e·bohr)\n\n", rep.DipoleDebye, rep.DipoleAU[0], rep.DipoleAU[1], rep.DipoleAU[2])
+	fmt.Fprintln(w, "atom  element  Mulliken charge (e)")
+	for i, q := range rep.MullikenCharges {
+		fmt.Fprintf(w, "%4d  %-7s  %+.6f\n", i+1, mol.Atoms[i].Element.Symbol, q)
+	}
+	if o := res.Orbitals; o != nil {
+		printOrbitals(w, "orbital energies (hartree)", o.EnergiesAlpha, o.OccAlpha)
+		if !o.Restricted {
+			printOrbitals(w, "beta orbital energies (hartree)", o.EnergiesBeta, o.OccBeta)
+		}
+	}
+}
+
+func printOrbitals(w io.Writer, title string, e, occ []float64) {
+	fmt.Fprintf(w, "\n%s, occupied marked *:\n", title)
+	lastOcc := -1
+	for i, x := range occ {
+		if x > 0 {
+			lastOcc = i
+		}
+	}
+	shown := 0
+	for i, x := range e {
+		if i > lastOcc+5 {
+			fmt.Fprintf(w, "  … %d more virtual", len(e)-i)
+			break
+		}
+		mark := " "
+		if i < len(occ) && occ[i] > 0 {
+			mark = "*"
+		}
+		fmt.Fprintf(w, " %s%12.6f", mark, x)
+		shown++
+		if shown%6 == 0 {
+			fmt.Fprintln(w)
+		}
+	}
+	fmt.Fprintln(w)
+}

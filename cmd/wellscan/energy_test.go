@@ -1,0 +1,106 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func runCLI(t *testing.T, stdin string, args ...string) (int, string, string) {
+	t.Helper()
+	var out, errb bytes.Buffer
+	code := run(args, strings.NewReader(stdin), &out, &errb)
+	return code, out.String(), errb.String()
+}
+
+func writeFile(t *testing.T, name, text string) string {
+	t.Helper()
+	p := filepath.Join(t.TempDir(), name)
+	if err := os.WriteFile(p, []byte(text), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+func TestEnergyCommand_JSON(t *testing.T) {
+	// H2 at 1.4 bohr in STO-3G: −1.1167 Eh (Szabo & Ostlund, Modern Quantum
+	// Chemistry, §3.5.2; 4 decimals printed).
+	code, out, errs := runCLI(t, "2\nH2\nH 0 0 0\nH 0 0 1.4\n", "energy", "-", "--units", "bohr", "--basis", "sto-3g", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var rep map[string]any
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"energy_hartree", "electronic_energy_hartree", "nuclear_repulsion_hartree", "converged", "iterations", "basis_functions", "method", "basis"} {
+		if _, ok := rep[k]; !ok {
+			t.Errorf("JSON lacks %q", k)
+		}
+	}
+	if e := rep["energy_hartree"].(float64); e > -1.11665 || e < -1.11675 {
+		t.Errorf("energy_hartree = %v, want −1.1167", e)
+	}
+	if _, ok := rep["s_squared"]; ok {
+		t.Error("RHF output carries s_squared")
+	}
+	code, out, _ = runCLI(t, "2\nH2+\nH 0 0 0\nH 0 0 2\n", "energy", "-", "--units", "bohr", "--charge", "1", "--json")
+	if code != 0 || !strings.Contains(out, `"s_squared"`) || !strings.Contains(out, `"method": "uhf"`) {
+		t.Errorf("H2⁺: exit %d, output %s; want UHF with s_squared", code, out)
+	}
+}
+
+func TestEnergyCommand_BadInput(t *testing.T) {
+	cases := []struct {
+		name, xyz string
+		args      []string
+		want      string
+	}{
+		{"unknown element", "1\n\nXx 0 0 0\n", nil, `unknown element "Xx"`},
+		{"atoms on top of each other", "2\n\nH 0 0 0\nH 0 0 0.01\n", nil, "atoms too close: atom 1 (H) and atom 2 (H)"},
+		{"impossible multiplicity", "2\n\nH 0 0 0\nH 0 0 0.74\n", []string{"--multiplicity", "2"}, "2 electrons (charge +0) cannot have multiplicity 2"},
+		{"no electrons", "1\n\nH 0 0 0\n", []string{"--charge", "1"}, "charge +1 leaves 0 electrons"},
+		{"basis lacks element", "1\n\nK 0 0 0\n", []string{"--basis", "cc-pVDZ"}, "cc-pVDZ has no data for K"},
+		{"unknown basis", "1\n\nH 0 0 0\n", []string{"--basis", "nope-3G"}, "nope-3G"},
+		{"bad count line", "two\n\nH 0 0 0\n", nil, "water.xyz:1: expected the number of atoms"},
+		{"bad coordinate", "1\n\nH 0 zero 0\n", nil, "water.xyz:3: coordinate y of H"},
+		{"bad units", "1\n\nH 0 0 0\n", []string{"--units", "furlong"}, `unknown unit "furlong"`},
+		{"bad method", "1\n\nH 0 0 0\n", []string{"--method", "ccsd"}, `unknown method "ccsd"`},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			p := filepath.Join(t.TempDir(), "water.xyz")
+			if err := os.WriteFile(p, []byte(tc.xyz), 0o600); err != nil {
+				t.Fatal(err)
+			}
+			code, _, errs := runCLI(t, "", append([]string{"energy", p}, tc.args...)...)
+			if code != 1 || !strings.Contains(errs, tc.want) {
+				t.Errorf("exit %d, stderr %q; want exit 1 and %q", code, errs, tc.want)
+			}
+		})
+	}
+}
+
+func TestEnergyCommand_NotConverged(t *testing.T) {
+	p := writeFile(t, "w.xyz", "3\n\nO 0 0 0.1173\nH 0 0.7572 -0.4692\nH 0 -0.7572 -0.4692\n")
+	code, out, _ := runCLI(t, "", "energy", p, "--max-iterations", "2")
+	if code != 1 || !strings.Contains(out, "NOT CONVERGED") {
+		t.Errorf("exit %d, output %q; want exit 1 and a NOT CONVERGED banner", code, out)
+	}
+}
+
+func TestBasisCommand(t *testing.T) {
+	code, out, _ := runCLI(t, "", "basis", "list")
+	for _, name := range []string{"STO-3G", "3-21G", "6-31G*", "6-31G**", "6-311G**", "cc-pVDZ", "cc-pVTZ", "aug-cc-pVDZ"} {
+		if code != 0 || !strings.Contains(out, name) {
+			t.Errorf("basis list lacks %s", name)
+		}
+	}
+	code, out, _ = runCLI(t, "", "basis", "show", "6-31g*", "O")
+	if code != 0 || !strings.Contains(out, "element O") || strings.Contains(out, "element H") {
+		t.Errorf("basis show 6-31g* O: exit %d, output %.200q", code, out)
+	}
+}
