@@ -281,8 +281,10 @@ type SCFResult struct {
 	// (coefficients, energies, occupations); write it with WriteOrbitals
 	// to seed the next geometry.
 	Orbitals *Orbitals
-	// Densities without a factor 2; for RHF DensityAlpha and DensityBeta
-	// are equal copies. Density = DensityAlpha + DensityBeta.
+	// Densities built from Orbitals, without a factor 2; for RHF
+	// DensityAlpha and DensityBeta are equal copies. Density = DensityAlpha
+	// + DensityBeta. At convergence they differ from the density whose
+	// energy is Energy by less than the convergence tolerances.
 	DensityAlpha, DensityBeta, Density *mat.SymDense
 	// S2 is ⟨S²⟩ of the determinant (0 for closed-shell RHF).
 	S2 float64

@@ -423,3 +423,32 @@ func TestRunSCF_WorkedExample_DIISListing(t *testing.T) {
 		t.Errorf("converged after %d Fock builds, listing has %d rows", res.Iterations, len(rows))
 	}
 }
+
+func TestRunSCF_OnIteration_SeesEveryRecord(t *testing.T) {
+	w := loadWorked(t, workedCases[0])
+	var seen []Iteration
+	res, err := RunSCF(t.Context(), w.input(true, SCFOptions{OnIteration: func(it Iteration) { seen = append(seen, it) }}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(seen) != len(res.History) {
+		t.Fatalf("callback saw %d iterations, history has %d", len(seen), len(res.History))
+	}
+	for i := range seen {
+		if seen[i] != res.History[i] { // same values, deliberately compared exactly
+			t.Errorf("iteration %d: callback %+v, history %+v", i, seen[i], res.History[i])
+		}
+	}
+}
+
+func TestRunSCF_NegativeOverlap_Errors(t *testing.T) {
+	w := loadWorked(t, workedCases[0])
+	in := w.input(true, SCFOptions{})
+	s := mat.NewSymDense(w.n, nil)
+	s.CopySym(w.s)
+	s.SetSym(0, 1, 2) // |S_01| > 1 makes S indefinite
+	in.S = s
+	if res, err := RunSCF(t.Context(), in); err == nil || res != nil || !strings.Contains(err.Error(), "negative eigenvalue") {
+		t.Errorf("RunSCF = %v, %v; want a negative-eigenvalue error", res, err)
+	}
+}

@@ -72,6 +72,7 @@ type scfState struct {
 	errAO      *mat.Dense
 	diis       *diis
 	errLen     int
+	lumoReady  bool // the α LUMO column of st.c is a real orbital (for mixGuess)
 	damping    float64
 	levelShift float64
 }
@@ -283,6 +284,7 @@ func (st *scfState) startGuess(kind GuessKind) error {
 	if err := st.diagonalize(); err != nil {
 		return fmt.Errorf("hf: scf guess: %w", err)
 	}
+	st.lumoReady = st.nocc[0] < st.m
 	st.mixGuess()
 	st.hasSrc = true
 	st.occupy(false)
@@ -306,7 +308,7 @@ func gwhMatrix(s, h *mat.SymDense) *mat.SymDense {
 func (st *scfState) mixGuess() {
 	th := st.opts.GuessMixAngle
 	h := st.nocc[0] - 1
-	if th == 0 || st.ns == 1 || h < 0 || h+1 >= st.m {
+	if th == 0 || st.ns == 1 || h < 0 || !st.lumoReady {
 		return
 	}
 	cs, sn := math.Cos(th), math.Sin(th)
@@ -337,8 +339,11 @@ func (st *scfState) orbitalGuess(o *Orbitals) error {
 			src = o.Beta()
 		}
 		k := st.nocc[s]
-		if s == 0 && st.ns == 2 && st.opts.GuessMixAngle != 0 && k+1 <= min(o.NMO(), st.m) {
-			k++ // keep the LUMO too, to mix it in below
+		if s == 0 {
+			st.lumoReady = st.ns == 2 && st.opts.GuessMixAngle != 0 && k+1 <= min(o.NMO(), st.m)
+			if st.lumoReady {
+				k++ // keep the LUMO too, to mix it in below
+			}
 		}
 		if k > o.NMO() {
 			return fmt.Errorf("hf: scf guess: %d occupied orbitals needed, the guess has %d", k, o.NMO())
