@@ -235,6 +235,17 @@ func TestRunSCF_H2_StretchedUHFBelowRHF(t *testing.T) {
 	if !scalar.EqualWithinAbs(uhf.S2, 1, 1e-3) { // singlet–triplet mixture of two free spins: ⟨S²⟩ = 1
 		t.Errorf("⟨S²⟩ = %g, want ≈ 1", uhf.S2)
 	}
+	// The high-spin triplet (two α electrons) is degenerate with the
+	// broken-symmetry singlet at this distance, and ⟨S²⟩ = S(S+1) = 2 exactly.
+	tin, _, _, _ := h2Input(r, false, SCFOptions{})
+	tin.NAlpha, tin.NBeta = 2, 0
+	trip, err := RunSCF(context.Background(), tin)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !scalar.EqualWithinAbs(trip.Energy, uhf.Energy, 1e-5) || !scalar.EqualWithinAbs(trip.S2, 2, 1e-12) { // 1e-5: residual interaction at 12 bohr
+		t.Errorf("triplet E = %.8f, ⟨S²⟩ = %g; want ≈ %.8f and 2", trip.Energy, trip.S2, uhf.Energy)
+	}
 	// Without the mixing the UHF stays on the RHF solution (α = β by symmetry).
 	uin.Options.GuessMixAngle = 0
 	same, err := RunSCF(context.Background(), uin)
