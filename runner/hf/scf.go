@@ -147,11 +147,12 @@ func (s Status) String() string {
 type DIISError int
 
 const (
-	// DIISErrorOrthogonal uses e' = F'D' − D'F' in the orthogonal basis,
-	// which equals Xᵀ(FDS − SDF)X (Pulay 1982). The default.
+	// DIISErrorOrthogonal uses e' = F'D' − D'F' = Xᵀ(FDS − SDF)X, Pulay's
+	// (1982) commutator expressed in the orthogonal basis. The default.
 	DIISErrorOrthogonal DIISError = iota
-	// DIISErrorAO uses e = FDS − SDF in the AO basis (Pulay 1982's
-	// eq. for non-orthogonal bases), as some published worked examples do.
+	// DIISErrorAO uses e = FDS − SDF in the AO basis, as Pulay (1982)
+	// writes it. It weights the components differently (so the iterates
+	// differ) and is what the published worked DIIS listing used.
 	DIISErrorAO
 )
 
@@ -390,4 +391,18 @@ func (in *SCFInput) validate() error {
 		}
 	}
 	return nil
+}
+
+// ElectronCounts splits nElectrons into α and β electrons for a spin
+// multiplicity 2S+1 (1 singlet, 2 doublet, …), with N_α ≥ N_β.
+func ElectronCounts(nElectrons, multiplicity int) (nAlpha, nBeta int, err error) {
+	if nElectrons < 1 || multiplicity < 1 {
+		return 0, 0, fmt.Errorf("hf: %d electrons with multiplicity %d: want ≥ 1 of each", nElectrons, multiplicity)
+	}
+	unpaired := multiplicity - 1
+	if unpaired > nElectrons || (nElectrons-unpaired)%2 != 0 {
+		return 0, 0, fmt.Errorf("hf: multiplicity %d is impossible with %d electrons", multiplicity, nElectrons)
+	}
+	nBeta = (nElectrons - unpaired) / 2
+	return nBeta + unpaired, nBeta, nil
 }

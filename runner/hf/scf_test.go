@@ -468,3 +468,24 @@ func TestRunSCF_NegativeOverlap_Errors(t *testing.T) {
 		t.Errorf("RunSCF = %v, %v; want a negative-eigenvalue error", res, err)
 	}
 }
+
+func TestElectronCounts(t *testing.T) {
+	tests := []struct {
+		n, mult, na, nb int
+		ok              bool
+	}{
+		{10, 1, 5, 5, true}, // closed shell
+		{9, 2, 5, 4, true},  // doublet
+		{8, 3, 5, 3, true},  // triplet (O2-like count)
+		{2, 3, 2, 0, true},
+		{10, 2, 0, 0, false}, // parity mismatch
+		{1, 3, 0, 0, false},  // too few electrons
+		{0, 1, 0, 0, false},
+	}
+	for _, tc := range tests {
+		na, nb, err := ElectronCounts(tc.n, tc.mult)
+		if (err == nil) != tc.ok || (tc.ok && (na != tc.na || nb != tc.nb)) {
+			t.Errorf("ElectronCounts(%d, %d) = %d, %d, %v; want %d, %d, ok=%v", tc.n, tc.mult, na, nb, err, tc.na, tc.nb, tc.ok)
+		}
+	}
+}

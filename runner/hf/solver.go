@@ -152,6 +152,13 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 	prevE := 0.0
 	status, reason := StatusMaxIterations, fmt.Sprintf("iteration limit %d reached", opts.MaxIterations)
 	var last Iteration
+	record := func(rec Iteration) {
+		res.History = append(res.History, rec)
+		if opts.OnIteration != nil {
+			opts.OnIteration(rec)
+		}
+		last = rec
+	}
 	for it := 0; it < opts.MaxIterations; it++ {
 		if err := ctx.Err(); err != nil {
 			return nil, fmt.Errorf("hf: scf cancelled at iteration %d: %w", it, err)
@@ -178,11 +185,7 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 
 		converged := it > 0 && math.Abs(rec.DeltaE) <= opts.EnergyTol && errMax <= opts.ErrorTol && rec.DensityChange <= opts.ErrorTol
 		if converged {
-			res.History = append(res.History, rec)
-			if opts.OnIteration != nil {
-				opts.OnIteration(rec)
-			}
-			last = rec
+			record(rec)
 			status, reason = StatusConverged, fmt.Sprintf("|ΔE| %.1e ≤ %.1e Eh and error %.1e ≤ %.1e", math.Abs(rec.DeltaE), opts.EnergyTol, errMax, opts.ErrorTol)
 			break
 		}
@@ -201,11 +204,7 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 				why = fmt.Sprintf("energy rose %d times", rises)
 			}
 			if stage == StageRestarted {
-				res.History = append(res.History, rec)
-				if opts.OnIteration != nil {
-					opts.OnIteration(rec)
-				}
-				last = rec
+				record(rec)
 				status, reason = StatusStalled, "all fall-backs (damping, level shift, restart) tried; last stage: "+why
 				break
 			}
@@ -239,11 +238,7 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 			}
 			st.occupy(true)
 		}
-		res.History = append(res.History, rec)
-		if opts.OnIteration != nil {
-			opts.OnIteration(rec)
-		}
-		last = rec
+		record(rec)
 	}
 
 	// Canonical orbitals of the last Fock matrix, without shift or damping.
