@@ -256,3 +256,51 @@ func TestRunSCF_H2_StretchedUHFBelowRHF(t *testing.T) {
 		t.Errorf("unmixed UHF E = %.10f, RHF %.10f", same.Energy, rhf.Energy)
 	}
 }
+
+// The scan use-case: orbitals of a neighbouring geometry (different S and
+// H) as the guess. They are re-orthonormalised in the new metric, converge
+// faster than the core guess, and keep the electronic state: broken-
+// symmetry UHF orbitals from 12 bohr stay broken-symmetry at 8 bohr
+// without any mixing.
+func TestRunSCF_GuessOrbitals_NeighbouringGeometry(t *testing.T) {
+	ctx := context.Background()
+	prev, _, _, _ := h2Input(1.4, true, SCFOptions{})
+	p, err := RunSCF(ctx, prev)
+	if err != nil {
+		t.Fatal(err)
+	}
+	core, _, _, _ := h2Input(1.5, true, SCFOptions{})
+	c, err := RunSCF(ctx, core)
+	if err != nil {
+		t.Fatal(err)
+	}
+	next, _, _, _ := h2Input(1.5, true, SCFOptions{})
+	next.GuessOrbitals = p.Orbitals
+	n, err := RunSCF(ctx, next)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !scalar.EqualWithinAbs(n.Energy, c.Energy, 1e-10) || n.Iterations > c.Iterations { // 1e-10: EnergyTol
+		t.Errorf("from neighbour: E = %.12f in %d iterations; core guess: %.12f in %d", n.Energy, n.Iterations, c.Energy, c.Iterations)
+	}
+
+	far, _, _, _ := h2Input(12, false, SCFOptions{GuessMixAngle: math.Pi / 4})
+	f, err := RunSCF(ctx, far)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mid, _, _, _ := h2Input(8, false, SCFOptions{})
+	mid.GuessOrbitals = f.Orbitals
+	m, err := RunSCF(ctx, mid)
+	if err != nil {
+		t.Fatal(err)
+	}
+	midRHF, _, _, _ := h2Input(8, true, SCFOptions{})
+	r, err := RunSCF(ctx, midRHF)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m.S2 < 0.9 || m.Energy > r.Energy-0.1 { // broken-symmetry state: ⟨S²⟩ near 1, far below RHF (see the 12-bohr test)
+		t.Errorf("8 bohr from 12-bohr UHF orbitals: E = %.6f, ⟨S²⟩ = %.4f; RHF E = %.6f", m.Energy, m.S2, r.Energy)
+	}
+}
