@@ -406,3 +406,31 @@ func ElectronCounts(nElectrons, multiplicity int) (nAlpha, nBeta int, err error)
 	nBeta = (nElectrons - unpaired) / 2
 	return nBeta + unpaired, nBeta, nil
 }
+
+// MarshalText encodes the stage by name (for JSON records of iterations).
+func (s Stage) MarshalText() ([]byte, error) { return []byte(s.String()), nil }
+
+// UnmarshalText decodes a name written by MarshalText.
+func (s *Stage) UnmarshalText(b []byte) error {
+	for v := StageNormal; v <= StageRestarted; v++ {
+		if v.String() == string(b) {
+			*s = v
+			return nil
+		}
+	}
+	return fmt.Errorf("hf: unknown scf stage %q", b)
+}
+
+// MarshalText encodes the status by name.
+func (s Status) MarshalText() ([]byte, error) { return []byte(s.String()), nil }
+
+// UnmarshalText decodes a name written by MarshalText.
+func (s *Status) UnmarshalText(b []byte) error {
+	for v := StatusConverged; v <= StatusStalled; v++ {
+		if v.String() == string(b) {
+			*s = v
+			return nil
+		}
+	}
+	return fmt.Errorf("hf: unknown scf status %q", b)
+}

@@ -3,6 +3,7 @@ package hf
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"errors"
 	"math"
 	"os"
@@ -487,5 +488,31 @@ func TestElectronCounts(t *testing.T) {
 		if (err == nil) != tc.ok || (tc.ok && (na != tc.na || nb != tc.nb)) {
 			t.Errorf("ElectronCounts(%d, %d) = %d, %d, %v; want %d, %d, ok=%v", tc.n, tc.mult, na, nb, err, tc.na, tc.nb, tc.ok)
 		}
+	}
+}
+
+func TestIteration_JSON_RoundTrip(t *testing.T) {
+	in := Iteration{Index: 3, Energy: -74.9, DeltaE: -1e-3, Error: 2e-4, Stage: StageShifted, DIISVectors: 4}
+	b, err := json.Marshal(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(b), `"Stage":"level-shifted"`) {
+		t.Errorf("JSON %s lacks the stage name", b)
+	}
+	var out Iteration
+	if err := json.Unmarshal(b, &out); err != nil || out != in {
+		t.Errorf("round trip: %+v, %v; want %+v", out, err, in)
+	}
+	for _, s := range []Status{StatusConverged, StatusMaxIterations, StatusStalled} {
+		txt, _ := s.MarshalText()
+		var back Status
+		if err := back.UnmarshalText(txt); err != nil || back != s {
+			t.Errorf("status %v: round trip %v, %v", s, back, err)
+		}
+	}
+	var bad Stage
+	if err := bad.UnmarshalText([]byte("sideways")); err == nil {
+		t.Error("unknown stage accepted")
 	}
 }
