@@ -516,3 +516,22 @@ func TestIteration_JSON_RoundTrip(t *testing.T) {
 		t.Error("unknown stage accepted")
 	}
 }
+
+// badJK writes outside its matrices, as a broken builder might.
+type badJK struct{}
+
+func (badJK) JK(_ context.Context, dens []*mat.SymDense, j, k []*mat.SymDense) error {
+	n := dens[0].SymmetricDim()
+	j[0].SetSym(n, n, 1) // out of range: gonum panics with a mat.Error
+	return nil
+}
+
+func TestRunSCF_BrokenJK_ErrorNotPanic(t *testing.T) {
+	w := loadWorked(t, workedCases[0])
+	in := w.input(true, SCFOptions{})
+	in.JK = badJK{}
+	res, err := RunSCF(t.Context(), in)
+	if err == nil || res != nil || !strings.HasPrefix(err.Error(), "hf: ") {
+		t.Errorf("RunSCF = %v, %v; want an hf error", res, err)
+	}
+}

@@ -23,7 +23,19 @@ import (
 // Converged == false) and an error wrapping ErrNotConverged. Bad input and
 // JK failures return a nil result and a descriptive error; cancellation
 // returns ctx.Err() wrapped.
-func RunSCF(ctx context.Context, in SCFInput) (*SCFResult, error) {
+func RunSCF(ctx context.Context, in SCFInput) (res *SCFResult, err error) {
+	// gonum reports dimension and index errors by panicking with a
+	// mat.Error; turn one that slipped past validation (or came from the
+	// JK builder) into an error. Any other panic is a bug and propagates.
+	defer func() {
+		if r := recover(); r != nil {
+			e, ok := r.(mat.Error)
+			if !ok {
+				panic(r)
+			}
+			res, err = nil, fmt.Errorf("hf: scf: matrix operation failed: %v", e)
+		}
+	}()
 	if err := in.validate(); err != nil {
 		return nil, err
 	}
