@@ -177,7 +177,8 @@ type SCFOptions struct {
 	DIISError DIISError
 
 	// Damping, in [0, 1), mixes this fraction of the previous density into
-	// each new one from the first iteration on: D ← (1−a) D_new + a D_old.
+	// each new one from the first iteration on: D ← (1−a) D_new + a D_old
+	// (simple density mixing; common practice).
 	Damping float64
 	// LevelShift (hartree, ≥ 0) raises the virtual orbitals from the first
 	// iteration on (Saunders & Hillier 1973).
