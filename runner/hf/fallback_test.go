@@ -153,3 +153,37 @@ func TestRunSCF_LinearDependence_DropsAndKeepsEnergy(t *testing.T) {
 		t.Errorf("E = %.12f with duplicated function, want %.12f", res.Energy, ref.Energy)
 	}
 }
+
+// With an impatient stall criterion and no DIIS, the hard problem runs
+// through every stage in order and ends as a stalled, unconverged result.
+func TestRunSCF_Fallback_ExhaustedIsStalled(t *testing.T) {
+	if testing.Short() {
+		t.Skip("uses the DZ case")
+	}
+	w := loadWorked(t, workedCases[1])
+	in := w.input(true, SCFOptions{MaxIterations: 200, StallIterations: 2, DisableDIIS: true})
+	in.JK = &incoreJK{n: w.n, eri: w.eri, scale: 3}
+	res, err := RunSCF(t.Context(), in)
+	var nc *NotConvergedError
+	if !errors.Is(err, ErrNotConverged) || !errors.As(err, &nc) || nc.Status != StatusStalled {
+		t.Fatalf("error = %v, want a stalled NotConvergedError", err)
+	}
+	if res.Converged || res.Status != StatusStalled || res.Restarts != 1 {
+		t.Errorf("status %v, restarts %d; want stalled after 1 restart", res.Status, res.Restarts)
+	}
+	var stages []Stage
+	for _, it := range res.History {
+		if len(stages) == 0 || stages[len(stages)-1] != it.Stage {
+			stages = append(stages, it.Stage)
+		}
+	}
+	want := []Stage{StageNormal, StageDamped, StageShifted, StageRestarted}
+	if len(stages) != len(want) {
+		t.Fatalf("stages %v, want %v", stages, want)
+	}
+	for i := range want {
+		if stages[i] != want[i] {
+			t.Errorf("stages %v, want %v", stages, want)
+		}
+	}
+}

@@ -235,6 +235,17 @@ func TestRunSCF_H2_StretchedUHFBelowRHF(t *testing.T) {
 	if !scalar.EqualWithinAbs(uhf.S2, 1, 1e-3) { // singlet–triplet mixture of two free spins: ⟨S²⟩ = 1
 		t.Errorf("⟨S²⟩ = %g, want ≈ 1", uhf.S2)
 	}
+	// The high-spin triplet (two α electrons) is degenerate with the
+	// broken-symmetry singlet at this distance, and ⟨S²⟩ = S(S+1) = 2 exactly.
+	tin, _, _, _ := h2Input(r, false, SCFOptions{})
+	tin.NAlpha, tin.NBeta = 2, 0
+	trip, err := RunSCF(context.Background(), tin)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !scalar.EqualWithinAbs(trip.Energy, uhf.Energy, 1e-5) || !scalar.EqualWithinAbs(trip.S2, 2, 1e-12) { // 1e-5: residual interaction at 12 bohr
+		t.Errorf("triplet E = %.8f, ⟨S²⟩ = %g; want ≈ %.8f and 2", trip.Energy, trip.S2, uhf.Energy)
+	}
 	// Without the mixing the UHF stays on the RHF solution (α = β by symmetry).
 	uin.Options.GuessMixAngle = 0
 	same, err := RunSCF(context.Background(), uin)
@@ -243,5 +254,53 @@ func TestRunSCF_H2_StretchedUHFBelowRHF(t *testing.T) {
 	}
 	if !scalar.EqualWithinAbs(same.Energy, rhf.Energy, 1e-9) { // 1e-9: EnergyTol-level
 		t.Errorf("unmixed UHF E = %.10f, RHF %.10f", same.Energy, rhf.Energy)
+	}
+}
+
+// The scan use-case: orbitals of a neighbouring geometry (different S and
+// H) as the guess. They are re-orthonormalised in the new metric, converge
+// faster than the core guess, and keep the electronic state: broken-
+// symmetry UHF orbitals from 12 bohr stay broken-symmetry at 8 bohr
+// without any mixing.
+func TestRunSCF_GuessOrbitals_NeighbouringGeometry(t *testing.T) {
+	ctx := context.Background()
+	prev, _, _, _ := h2Input(1.4, true, SCFOptions{})
+	p, err := RunSCF(ctx, prev)
+	if err != nil {
+		t.Fatal(err)
+	}
+	core, _, _, _ := h2Input(1.5, true, SCFOptions{})
+	c, err := RunSCF(ctx, core)
+	if err != nil {
+		t.Fatal(err)
+	}
+	next, _, _, _ := h2Input(1.5, true, SCFOptions{})
+	next.GuessOrbitals = p.Orbitals
+	n, err := RunSCF(ctx, next)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !scalar.EqualWithinAbs(n.Energy, c.Energy, 1e-10) || n.Iterations > c.Iterations { // 1e-10: EnergyTol
+		t.Errorf("from neighbour: E = %.12f in %d iterations; core guess: %.12f in %d", n.Energy, n.Iterations, c.Energy, c.Iterations)
+	}
+
+	far, _, _, _ := h2Input(12, false, SCFOptions{GuessMixAngle: math.Pi / 4})
+	f, err := RunSCF(ctx, far)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mid, _, _, _ := h2Input(8, false, SCFOptions{})
+	mid.GuessOrbitals = f.Orbitals
+	m, err := RunSCF(ctx, mid)
+	if err != nil {
+		t.Fatal(err)
+	}
+	midRHF, _, _, _ := h2Input(8, true, SCFOptions{})
+	r, err := RunSCF(ctx, midRHF)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m.S2 < 0.9 || m.Energy > r.Energy-0.1 { // broken-symmetry state: ⟨S²⟩ near 1, far below RHF (see the 12-bohr test)
+		t.Errorf("8 bohr from 12-bohr UHF orbitals: E = %.6f, ⟨S²⟩ = %.4f; RHF E = %.6f", m.Energy, m.S2, r.Energy)
 	}
 }

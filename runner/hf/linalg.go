@@ -65,6 +65,11 @@ func orthogonalizer(s *mat.SymDense, threshold float64, kind Orthogonalization) 
 	vals := eig.Values(nil)
 	var u mat.Dense
 	eig.VectorsTo(&u)
+	// A clearly negative eigenvalue means the matrix is not an overlap
+	// matrix (Gram matrices are positive semidefinite); 1e-8 allows rounding.
+	if vals[0] < -1e-8 {
+		return nil, 0, kind, fmt.Errorf("hf: overlap matrix has a negative eigenvalue %g: not a valid overlap matrix", vals[0])
+	}
 	var keep []int
 	for i, v := range vals {
 		if v >= threshold {

@@ -136,11 +136,15 @@ func WriteOrbitals(w io.Writer, o *Orbitals) error {
 // the magic header, the dimensions, the length and the checksum.
 func ReadOrbitals(r io.Reader) (*Orbitals, error) {
 	head := make([]byte, 20)
-	if _, err := io.ReadFull(r, head); err != nil {
+	nm, err := io.ReadFull(r, head[:8])
+	if err != nil && nm == 0 {
 		return nil, fmt.Errorf("hf: read orbitals: header: %w", err)
 	}
 	if string(head[:8]) != orbitalsMagic {
-		return nil, fmt.Errorf("hf: read orbitals: bad magic %q, want %q (not an orbital file)", head[:8], orbitalsMagic)
+		return nil, fmt.Errorf("hf: read orbitals: bad magic %q, want %q (not an orbital file)", head[:nm], orbitalsMagic)
+	}
+	if _, err := io.ReadFull(r, head[8:]); err != nil {
+		return nil, fmt.Errorf("hf: read orbitals: header: %w", err)
 	}
 	flags := binary.LittleEndian.Uint32(head[8:])
 	n := int(binary.LittleEndian.Uint32(head[12:]))

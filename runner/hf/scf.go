@@ -147,11 +147,12 @@ func (s Status) String() string {
 type DIISError int
 
 const (
-	// DIISErrorOrthogonal uses e' = F'D' − D'F' in the orthogonal basis,
-	// which equals Xᵀ(FDS − SDF)X (Pulay 1982). The default.
+	// DIISErrorOrthogonal uses e' = F'D' − D'F' = Xᵀ(FDS − SDF)X, Pulay's
+	// (1982) commutator expressed in the orthogonal basis. The default.
 	DIISErrorOrthogonal DIISError = iota
-	// DIISErrorAO uses e = FDS − SDF in the AO basis (Pulay 1982's
-	// eq. for non-orthogonal bases), as some published worked examples do.
+	// DIISErrorAO uses e = FDS − SDF in the AO basis, as Pulay (1982)
+	// writes it. It weights the components differently (so the iterates
+	// differ) and is what the published worked DIIS listing used.
 	DIISErrorAO
 )
 
@@ -176,7 +177,8 @@ type SCFOptions struct {
 	DIISError DIISError
 
 	// Damping, in [0, 1), mixes this fraction of the previous density into
-	// each new one from the first iteration on: D ← (1−a) D_new + a D_old.
+	// each new one from the first iteration on: D ← (1−a) D_new + a D_old
+	// (simple density mixing; common practice).
 	Damping float64
 	// LevelShift (hartree, ≥ 0) raises the virtual orbitals from the first
 	// iteration on (Saunders & Hillier 1973).
@@ -281,8 +283,10 @@ type SCFResult struct {
 	// (coefficients, energies, occupations); write it with WriteOrbitals
 	// to seed the next geometry.
 	Orbitals *Orbitals
-	// Densities without a factor 2; for RHF DensityAlpha and DensityBeta
-	// are equal copies. Density = DensityAlpha + DensityBeta.
+	// Densities built from Orbitals, without a factor 2; for RHF
+	// DensityAlpha and DensityBeta are equal copies. Density = DensityAlpha
+	// + DensityBeta. At convergence they differ from the density whose
+	// energy is Energy by less than the convergence tolerances.
 	DensityAlpha, DensityBeta, Density *mat.SymDense
 	// S2 is ⟨S²⟩ of the determinant (0 for closed-shell RHF).
 	S2 float64
@@ -388,4 +392,46 @@ func (in *SCFInput) validate() error {
 		}
 	}
 	return nil
+}
+
+// ElectronCounts splits nElectrons into α and β electrons for a spin
+// multiplicity 2S+1 (1 singlet, 2 doublet, …), with N_α ≥ N_β.
+func ElectronCounts(nElectrons, multiplicity int) (nAlpha, nBeta int, err error) {
+	if nElectrons < 1 || multiplicity < 1 {
+		return 0, 0, fmt.Errorf("hf: %d electrons with multiplicity %d: want ≥ 1 of each", nElectrons, multiplicity)
+	}
+	unpaired := multiplicity - 1
+	if unpaired > nElectrons || (nElectrons-unpaired)%2 != 0 {
+		return 0, 0, fmt.Errorf("hf: multiplicity %d is impossible with %d electrons", multiplicity, nElectrons)
+	}
+	nBeta = (nElectrons - unpaired) / 2
+	return nBeta + unpaired, nBeta, nil
+}
+
+// MarshalText encodes the stage by name (for JSON records of iterations).
+func (s Stage) MarshalText() ([]byte, error) { return []byte(s.String()), nil }
+
+// UnmarshalText decodes a name written by MarshalText.
+func (s *Stage) UnmarshalText(b []byte) error {
+	for v := StageNormal; v <= StageRestarted; v++ {
+		if v.String() == string(b) {
+			*s = v
+			return nil
+		}
+	}
+	return fmt.Errorf("hf: unknown scf stage %q", b)
+}
+
+// MarshalText encodes the status by name.
+func (s Status) MarshalText() ([]byte, error) { return []byte(s.String()), nil }
+
+// UnmarshalText decodes a name written by MarshalText.
+func (s *Status) UnmarshalText(b []byte) error {
+	for v := StatusConverged; v <= StatusStalled; v++ {
+		if v.String() == string(b) {
+			*s = v
+			return nil
+		}
+	}
+	return fmt.Errorf("hf: unknown scf status %q", b)
 }

@@ -3,6 +3,7 @@ package hf
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"errors"
 	"math"
 	"os"
@@ -356,18 +357,34 @@ func TestRunSCF_Cancelled_ReturnsContextError(t *testing.T) {
 	}
 }
 
+// BenchmarkRunSCF_WorkedDZP times a full default RHF (DIIS) on water/DZP
+// (n = 26) with the test's naive in-core JK, and one JK build alone, so
+// that the SCF's own overhead is the difference.
 func BenchmarkRunSCF_WorkedDZP(b *testing.B) {
 	w := loadWorked(b, workedCases[2])
-	var iters int
-	b.ReportAllocs()
-	for b.Loop() {
-		res, err := RunSCF(b.Context(), w.input(true, SCFOptions{}))
-		if err != nil {
-			b.Fatal(err)
+	b.Run("scf", func(b *testing.B) {
+		var iters int
+		b.ReportAllocs()
+		for b.Loop() {
+			res, err := RunSCF(b.Context(), w.input(true, SCFOptions{}))
+			if err != nil {
+				b.Fatal(err)
+			}
+			iters = res.Iterations
 		}
-		iters = res.Iterations
-	}
-	b.ReportMetric(float64(iters), "iterations")
+		b.ReportMetric(float64(iters), "iterations")
+	})
+	b.Run("jk-only", func(b *testing.B) {
+		jk := &incoreJK{n: w.n, eri: w.eri}
+		d := []*mat.SymDense{w.s}
+		j, k := []*mat.SymDense{mat.NewSymDense(w.n, nil)}, []*mat.SymDense{mat.NewSymDense(w.n, nil)}
+		b.ReportAllocs()
+		for b.Loop() {
+			if err := jk.JK(b.Context(), d, j, k); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
 }
 
 func contextWithCancel(t *testing.T) (context.Context, context.CancelFunc) {
@@ -421,5 +438,100 @@ func TestRunSCF_WorkedExample_DIISListing(t *testing.T) {
 	// The listing converges at iteration 10 (README); so do we with the same variant.
 	if res.Iterations != len(rows) {
 		t.Errorf("converged after %d Fock builds, listing has %d rows", res.Iterations, len(rows))
+	}
+}
+
+func TestRunSCF_OnIteration_SeesEveryRecord(t *testing.T) {
+	w := loadWorked(t, workedCases[0])
+	var seen []Iteration
+	res, err := RunSCF(t.Context(), w.input(true, SCFOptions{OnIteration: func(it Iteration) { seen = append(seen, it) }}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(seen) != len(res.History) {
+		t.Fatalf("callback saw %d iterations, history has %d", len(seen), len(res.History))
+	}
+	for i := range seen {
+		if seen[i] != res.History[i] { // same values, deliberately compared exactly
+			t.Errorf("iteration %d: callback %+v, history %+v", i, seen[i], res.History[i])
+		}
+	}
+}
+
+func TestRunSCF_NegativeOverlap_Errors(t *testing.T) {
+	w := loadWorked(t, workedCases[0])
+	in := w.input(true, SCFOptions{})
+	s := mat.NewSymDense(w.n, nil)
+	s.CopySym(w.s)
+	s.SetSym(0, 1, 2) // |S_01| > 1 makes S indefinite
+	in.S = s
+	if res, err := RunSCF(t.Context(), in); err == nil || res != nil || !strings.Contains(err.Error(), "negative eigenvalue") {
+		t.Errorf("RunSCF = %v, %v; want a negative-eigenvalue error", res, err)
+	}
+}
+
+func TestElectronCounts(t *testing.T) {
+	tests := []struct {
+		n, mult, na, nb int
+		ok              bool
+	}{
+		{10, 1, 5, 5, true}, // closed shell
+		{9, 2, 5, 4, true},  // doublet
+		{8, 3, 5, 3, true},  // triplet (O2-like count)
+		{2, 3, 2, 0, true},
+		{10, 2, 0, 0, false}, // parity mismatch
+		{1, 3, 0, 0, false},  // too few electrons
+		{0, 1, 0, 0, false},
+	}
+	for _, tc := range tests {
+		na, nb, err := ElectronCounts(tc.n, tc.mult)
+		if (err == nil) != tc.ok || (tc.ok && (na != tc.na || nb != tc.nb)) {
+			t.Errorf("ElectronCounts(%d, %d) = %d, %d, %v; want %d, %d, ok=%v", tc.n, tc.mult, na, nb, err, tc.na, tc.nb, tc.ok)
+		}
+	}
+}
+
+func TestIteration_JSON_RoundTrip(t *testing.T) {
+	in := Iteration{Index: 3, Energy: -74.9, DeltaE: -1e-3, Error: 2e-4, Stage: StageShifted, DIISVectors: 4}
+	b, err := json.Marshal(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(b), `"Stage":"level-shifted"`) {
+		t.Errorf("JSON %s lacks the stage name", b)
+	}
+	var out Iteration
+	if err := json.Unmarshal(b, &out); err != nil || out != in {
+		t.Errorf("round trip: %+v, %v; want %+v", out, err, in)
+	}
+	for _, s := range []Status{StatusConverged, StatusMaxIterations, StatusStalled} {
+		txt, _ := s.MarshalText()
+		var back Status
+		if err := back.UnmarshalText(txt); err != nil || back != s {
+			t.Errorf("status %v: round trip %v, %v", s, back, err)
+		}
+	}
+	var bad Stage
+	if err := bad.UnmarshalText([]byte("sideways")); err == nil {
+		t.Error("unknown stage accepted")
+	}
+}
+
+// badJK writes outside its matrices, as a broken builder might.
+type badJK struct{}
+
+func (badJK) JK(_ context.Context, dens []*mat.SymDense, j, k []*mat.SymDense) error {
+	n := dens[0].SymmetricDim()
+	j[0].SetSym(n, n, 1) // out of range: gonum panics with a mat.Error
+	return nil
+}
+
+func TestRunSCF_BrokenJK_ErrorNotPanic(t *testing.T) {
+	w := loadWorked(t, workedCases[0])
+	in := w.input(true, SCFOptions{})
+	in.JK = badJK{}
+	res, err := RunSCF(t.Context(), in)
+	if err == nil || res != nil || !strings.HasPrefix(err.Error(), "hf: ") {
+		t.Errorf("RunSCF = %v, %v; want an hf error", res, err)
 	}
 }

@@ -23,7 +23,19 @@ import (
 // Converged == false) and an error wrapping ErrNotConverged. Bad input and
 // JK failures return a nil result and a descriptive error; cancellation
 // returns ctx.Err() wrapped.
-func RunSCF(ctx context.Context, in SCFInput) (*SCFResult, error) {
+func RunSCF(ctx context.Context, in SCFInput) (res *SCFResult, err error) {
+	// gonum reports dimension and index errors by panicking with a
+	// mat.Error; turn one that slipped past validation (or came from the
+	// JK builder) into an error. Any other panic is a bug and propagates.
+	defer func() {
+		if r := recover(); r != nil {
+			e, ok := r.(mat.Error)
+			if !ok {
+				panic(r)
+			}
+			res, err = nil, fmt.Errorf("hf: scf: matrix operation failed: %v", e)
+		}
+	}()
 	if err := in.validate(); err != nil {
 		return nil, err
 	}
@@ -72,6 +84,7 @@ type scfState struct {
 	errAO      *mat.Dense
 	diis       *diis
 	errLen     int
+	lumoReady  bool // the α LUMO column of st.c is a real orbital (for mixGuess)
 	damping    float64
 	levelShift float64
 }
@@ -151,6 +164,13 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 	prevE := 0.0
 	status, reason := StatusMaxIterations, fmt.Sprintf("iteration limit %d reached", opts.MaxIterations)
 	var last Iteration
+	record := func(rec Iteration) {
+		res.History = append(res.History, rec)
+		if opts.OnIteration != nil {
+			opts.OnIteration(rec)
+		}
+		last = rec
+	}
 	for it := 0; it < opts.MaxIterations; it++ {
 		if err := ctx.Err(); err != nil {
 			return nil, fmt.Errorf("hf: scf cancelled at iteration %d: %w", it, err)
@@ -177,11 +197,7 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 
 		converged := it > 0 && math.Abs(rec.DeltaE) <= opts.EnergyTol && errMax <= opts.ErrorTol && rec.DensityChange <= opts.ErrorTol
 		if converged {
-			res.History = append(res.History, rec)
-			if opts.OnIteration != nil {
-				opts.OnIteration(rec)
-			}
-			last = rec
+			record(rec)
 			status, reason = StatusConverged, fmt.Sprintf("|ΔE| %.1e ≤ %.1e Eh and error %.1e ≤ %.1e", math.Abs(rec.DeltaE), opts.EnergyTol, errMax, opts.ErrorTol)
 			break
 		}
@@ -200,11 +216,7 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 				why = fmt.Sprintf("energy rose %d times", rises)
 			}
 			if stage == StageRestarted {
-				res.History = append(res.History, rec)
-				if opts.OnIteration != nil {
-					opts.OnIteration(rec)
-				}
-				last = rec
+				record(rec)
 				status, reason = StatusStalled, "all fall-backs (damping, level shift, restart) tried; last stage: "+why
 				break
 			}
@@ -238,11 +250,7 @@ func (st *scfState) run(ctx context.Context) (*SCFResult, error) {
 			}
 			st.occupy(true)
 		}
-		res.History = append(res.History, rec)
-		if opts.OnIteration != nil {
-			opts.OnIteration(rec)
-		}
-		last = rec
+		record(rec)
 	}
 
 	// Canonical orbitals of the last Fock matrix, without shift or damping.
@@ -283,6 +291,7 @@ func (st *scfState) startGuess(kind GuessKind) error {
 	if err := st.diagonalize(); err != nil {
 		return fmt.Errorf("hf: scf guess: %w", err)
 	}
+	st.lumoReady = st.nocc[0] < st.m
 	st.mixGuess()
 	st.hasSrc = true
 	st.occupy(false)
@@ -306,7 +315,7 @@ func gwhMatrix(s, h *mat.SymDense) *mat.SymDense {
 func (st *scfState) mixGuess() {
 	th := st.opts.GuessMixAngle
 	h := st.nocc[0] - 1
-	if th == 0 || st.ns == 1 || h < 0 || h+1 >= st.m {
+	if th == 0 || st.ns == 1 || h < 0 || !st.lumoReady {
 		return
 	}
 	cs, sn := math.Cos(th), math.Sin(th)
@@ -337,8 +346,11 @@ func (st *scfState) orbitalGuess(o *Orbitals) error {
 			src = o.Beta()
 		}
 		k := st.nocc[s]
-		if s == 0 && st.ns == 2 && st.opts.GuessMixAngle != 0 && k+1 <= min(o.NMO(), st.m) {
-			k++ // keep the LUMO too, to mix it in below
+		if s == 0 {
+			st.lumoReady = st.ns == 2 && st.opts.GuessMixAngle != 0 && k+1 <= min(o.NMO(), st.m)
+			if st.lumoReady {
+				k++ // keep the LUMO too, to mix it in below
+			}
 		}
 		if k > o.NMO() {
 			return fmt.Errorf("hf: scf guess: %d occupied orbitals needed, the guess has %d", k, o.NMO())
