@@ -40,6 +40,7 @@ external program, and turned into spectroscopic constants.
 		SilenceErrors: true,
 	}
 	root.AddCommand(newVersionCommand(a))
+	root.AddCommand(newInitCommand(a), newPlanCommand(a), newRunCommand(a), newStatusCommand(a), newDemoCommand(a))
 	return root
 }
 
