@@ -1,0 +1,38 @@
+package main
+
+import (
+	"fmt"
+
+	"wellscan/planner"
+	"wellscan/runner"
+	"wellscan/runner/local"
+	"wellscan/runner/model"
+)
+
+// newBackend builds the backend a spec's [engine] asks for. It is the one
+// place that knows every backend package; runner never imports them.
+func newBackend(spec *planner.Spec) (runner.Backend, error) {
+	switch spec.Engine.Kind {
+	case "model":
+		return model.New(spec)
+	case "builtin":
+		return nil, fmt.Errorf("%s: engine.kind = \"builtin\": the built-in Hartree–Fock engine is not part of this build yet", spec.File())
+	case "command":
+		return nil, fmt.Errorf("%s: engine.kind = \"command\": the external-command engine is not part of this build yet", spec.File())
+	}
+	return nil, fmt.Errorf("%s: unknown engine kind %q", spec.File(), spec.Engine.Kind)
+}
+
+// newQueue builds the queue of [queue]; workers > 0 overrides queue.workers.
+func newQueue(spec *planner.Spec, workers int) (runner.Queue, error) {
+	switch spec.Queue.Kind {
+	case "local", "":
+		if workers == 0 {
+			workers = spec.Queue.Workers
+		}
+		return local.New(workers), nil
+	case "slurm":
+		return nil, fmt.Errorf("%s: queue.kind = \"slurm\": the Slurm queue is not part of this build yet", spec.File())
+	}
+	return nil, fmt.Errorf("%s: unknown queue kind %q", spec.File(), spec.Queue.Kind)
+}

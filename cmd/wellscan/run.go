@@ -1,0 +1,181 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
+
+	"wellscan/planner"
+	"wellscan/runner"
+)
+
+type runOptions struct {
+	workers int
+	quiet   bool
+}
+
+func (o *runOptions) AddFlags(fs *pflag.FlagSet) {
+	fs.IntVar(&o.workers, "workers", 0, "points computed at once (default: queue.workers, or all CPUs)")
+	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress on stderr")
+}
+
+func newRunCommand(a *app) *cobra.Command {
+	var o runOptions
+	cmd := &cobra.Command{
+		Use:   "run DIR",
+		Short: "Run (or resume) the scan in DIR",
+		Long: `Run the scan described by DIR/scan.toml: compute every planned point,
+refine around each minimum, round after round, until refinement converges
+or a budget stops it. Progress goes to stderr, the summary to stdout.
+
+A scan that was killed resumes where it stopped: rerun the same command.
+Changes to the grid, [refine] or [queue] are applied; changes to the
+molecule, coordinates or [engine] are refused.
+
+` + exitCodeTable,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if o.workers < 0 {
+				return usageError{fmt.Errorf("--workers must not be negative")}
+			}
+			spec, err := planner.Load(filepath.Join(args[0], "scan.toml"))
+			if err != nil {
+				return err
+			}
+			sum, err := runScan(cmd.Context(), a, args[0], spec, o)
+			if sum != nil {
+				printSummary(a.stdout, spec, args[0], *sum)
+			}
+			return err
+		},
+	}
+	o.AddFlags(cmd.Flags())
+	return cmd
+}
+
+// runScan opens the scan's store and runs it to the end.
+func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runOptions) (*runner.Summary, error) {
+	backend, err := newBackend(spec)
+	if err != nil {
+		return nil, err
+	}
+	queue, err := newQueue(spec, o.workers)
+	if err != nil {
+		return nil, err
+	}
+	st, err := runner.OpenScan(dir, spec, runner.OpenOptions{})
+	if err != nil {
+		if errors.Is(err, runner.ErrLocked) {
+			return nil, fmt.Errorf("%w: %w", errScanLocked, err)
+		}
+		return nil, err
+	}
+	defer st.Close()
+	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue}
+	if !o.quiet {
+		r.OnEvent = newProgressPrinter(a.stderr, spec).event
+	}
+	sum, err := r.Run(ctx)
+	switch {
+	case err == nil:
+	case errors.Is(err, runner.ErrPointsFailed):
+		err = fmt.Errorf("%w: %w", errSomePointsFailed, err)
+	case ctx.Err() != nil:
+		fmt.Fprintf(a.stderr, "wellscan: interrupted; the store is intact, rerun `wellscan run %s` to resume\n", dir)
+	}
+	return &sum, err
+}
+
+// progressPrinter renders runner events as progress lines on stderr; on a
+// terminal the point counter updates in place.
+type progressPrinter struct {
+	w    io.Writer
+	tty  bool
+	last time.Time
+	spec *planner.Spec
+}
+
+func newProgressPrinter(w io.Writer, spec *planner.Spec) *progressPrinter {
+	p := &progressPrinter{w: w, spec: spec}
+	if f, ok := w.(*os.File); ok {
+		if fi, err := f.Stat(); err == nil && fi.Mode()&os.ModeCharDevice != 0 {
+			p.tty = true
+		}
+	}
+	return p
+}
+
+func (p *progressPrinter) event(e runner.Event) {
+	switch e.Kind {
+	case "round", "refine", "resume", "interrupt", "retry", string(runner.Failed):
+		if p.tty {
+			fmt.Fprint(p.w, "\r\033[K")
+		}
+		msg := e.Message
+		if e.Key != "" {
+			msg = e.Key + ": " + msg
+		}
+		fmt.Fprintf(p.w, "%s\n", msg)
+		return
+	case string(runner.Done):
+	default:
+		return
+	}
+	now := time.Now()
+	if !p.tty && now.Sub(p.last) < 2*time.Second {
+		return
+	}
+	p.last = now
+	pr := e.Progress
+	if pr == nil {
+		return
+	}
+	c := pr.Counts
+	line := fmt.Sprintf("round %d · %d/%d done · %d failed · %d running", pr.Round, c[runner.Done], pr.Total, c[runner.Failed], c[runner.Running]+c[runner.Submitted])
+	if pr.ETA > 0 {
+		line += fmt.Sprintf(" · ETA %s", pr.ETA.Round(time.Second))
+	}
+	if p.tty {
+		fmt.Fprintf(p.w, "\r\033[K%s", line)
+	} else {
+		fmt.Fprintln(p.w, line)
+	}
+}
+
+func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary) {
+	if spec.Title != "" {
+		fmt.Fprintf(w, "scan: %s (%s)\n", spec.Title, dir)
+	}
+	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed, %d not run · computed now %d, from earlier runs %d · %s\n",
+		s.Rounds, s.Counts[runner.Done], s.Counts[runner.Failed], s.Counts[runner.Planned]+s.Counts[runner.Running]+s.Counts[runner.Submitted],
+		s.Computed, s.Reused, s.Elapsed.Round(time.Millisecond))
+	if s.Status != "" {
+		fmt.Fprintf(w, "refinement: %s — %s\n", s.Status, s.Reason)
+	}
+	for _, e := range s.Extrema {
+		fmt.Fprintf(w, "%s: %s  E = %.8f hartree", e.Kind, spec.Describe(e.Values), e.Energy)
+		if !math.IsNaN(e.Frequency) {
+			fmt.Fprintf(w, "  harmonic ≈ %.1f cm⁻¹ (refinement fit, μ = %.5f amu)", e.Frequency, e.Mass)
+		}
+		if e.Note != "" {
+			fmt.Fprintf(w, "  [%s]", e.Note)
+		}
+		fmt.Fprintln(w)
+	}
+	for i, f := range s.Failed {
+		if i == 5 {
+			fmt.Fprintf(w, "… and %d more failed points (wellscan status %s)\n", len(s.Failed)-5, dir)
+			break
+		}
+		fmt.Fprintf(w, "failed: %s (%s, %d attempts): %s\n", f.Key, f.Class, f.Attempts, strings.TrimSpace(f.LastError))
+	}
+}

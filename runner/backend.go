@@ -1,0 +1,73 @@
+package runner
+
+import (
+	"context"
+
+	"wellscan/planner"
+)
+
+// Task is one point handed to a backend.
+type Task struct {
+	Key     string
+	Values  []float64 // bohr, radians, in [[scan]] order
+	Mol     planner.Molecule
+	Dir     string // points/<key>/, created before Compute is called; the backend may write there
+	Attempt int    // 1 for the first try
+	// GuessPath is the orbitals file of the nearest done neighbour, "" if
+	// none (or if the spec turns the continuation guess off).
+	GuessPath string
+	Threads   int // engine threads this point may use
+}
+
+// Outcome is what a backend computed for one point. A calculation that
+// ran but did not converge is an Outcome with Converged false and a Class,
+// not an error.
+type Outcome struct {
+	Energy     float64 // hartree
+	Converged  bool
+	Iterations int
+	SSquared   *float64 // ⟨S²⟩ for unrestricted methods
+	// OrbitalsPath is a file (absolute, or relative to Task.Dir) that a
+	// later neighbour may start from; "" if none.
+	OrbitalsPath string
+	Extra        map[string]float64
+	// Class names the failure when Converged is false ("not-converged",
+	// …); empty on success.
+	Class string
+}
+
+// Backend computes the energy of one point. Compute must honour ctx
+// (return promptly with ctx.Err() once it is done) and be safe for
+// concurrent use. An error means the calculation could not run; it is
+// retried while attempts remain.
+type Backend interface {
+	Name() string
+	Compute(ctx context.Context, t Task) (Outcome, error)
+}
+
+// Completion reports one finished (or abandoned) task back to the loop.
+type Completion struct {
+	Task   Task
+	Result Result
+	// Interrupted means the task was abandoned because the run was
+	// cancelled; it does not use up an attempt.
+	Interrupted bool
+	// Reused means the result file already existed; nothing was computed.
+	Reused bool
+}
+
+// Worker runs one task to completion, writing its result file. Queues
+// call it (in process) or arrange for its equivalent to run elsewhere.
+type Worker func(ctx context.Context, t Task) Completion
+
+// Queue runs tasks. Run reads tasks from in until in is closed, runs each
+// with w and sends exactly one Completion per task on out; it returns once
+// every task it took has completed. When ctx is cancelled it stops taking
+// new work; tasks in flight end early with Interrupted set. Run must not
+// close out.
+type Queue interface {
+	Name() string
+	// Slots is how many tasks may run at once.
+	Slots() int
+	Run(ctx context.Context, w Worker, in <-chan Task, out chan<- Completion) error
+}

@@ -1,0 +1,83 @@
+package runner
+
+import (
+	"time"
+)
+
+// State is where a point is in its lifecycle:
+// planned → submitted → running → done | failed. A failed point with
+// attempts left goes back to planned.
+type State string
+
+// Point states; the strings are what status --json prints.
+const (
+	Planned   State = "planned"
+	Submitted State = "submitted"
+	Running   State = "running"
+	Done      State = "done"
+	Failed    State = "failed"
+)
+
+// States lists every state in lifecycle order.
+var States = []State{Planned, Submitted, Running, Done, Failed}
+
+// recordVersion is the schema version of PointRecord ("v").
+const recordVersion = 1
+
+// PointRecord is a point as the store keeps it (JSON, so a person can dump
+// it). Values are bohr/radians; Energy is hartree.
+type PointRecord struct {
+	V          int                `json:"v"`
+	Key        string             `json:"key"`
+	Values     []float64          `json:"values"`
+	Round      int                `json:"round"`
+	State      State              `json:"state"`
+	Attempts   int                `json:"attempts"`
+	Energy     *float64           `json:"energy_hartree,omitempty"`
+	Converged  bool               `json:"converged,omitempty"`
+	Iterations int                `json:"iterations,omitempty"`
+	SSquared   *float64           `json:"s_squared,omitempty"`
+	Extra      map[string]float64 `json:"extra,omitempty"`
+	Orbitals   string             `json:"orbitals,omitempty"` // relative to the scan directory
+	Backend    string             `json:"backend,omitempty"`
+	JobID      string             `json:"job_id,omitempty"`
+	Class      string             `json:"class,omitempty"` // failure class of the last attempt
+	LastError  string             `json:"last_error,omitempty"`
+	Planned    time.Time          `json:"planned"`
+	Started    time.Time          `json:"started,omitzero"`
+	Finished   time.Time          `json:"finished,omitzero"`
+	Seconds    float64            `json:"seconds,omitempty"` // compute time of the successful attempt
+}
+
+// Event is one entry of the store's append-only event log, and what
+// progress observers receive.
+type Event struct {
+	Seq     uint64    `json:"seq"`
+	Time    time.Time `json:"time"`
+	Kind    string    `json:"kind"` // a State, or "round", "refine", "retry", "resume", "interrupt", "finish"
+	Key     string    `json:"key,omitempty"`
+	Round   int       `json:"round,omitempty"`
+	Message string    `json:"message,omitempty"`
+	// Progress is filled for observers (not stored).
+	Progress *Progress `json:"-"`
+}
+
+// Progress is a count of the scan's points at one moment.
+type Progress struct {
+	Round   int
+	Counts  map[State]int
+	Total   int
+	ETA     time.Duration // 0 when unknown
+	Elapsed time.Duration
+}
+
+// RoundRecord is one round as the store keeps it.
+type RoundRecord struct {
+	V        int       `json:"v"`
+	Round    int       `json:"round"`
+	Points   int       `json:"points"` // planned in this round
+	Started  time.Time `json:"started"`
+	Finished time.Time `json:"finished,omitzero"`
+	Status   string    `json:"refine_status,omitempty"`
+	Reason   string    `json:"refine_reason,omitempty"`
+}

@@ -1,0 +1,109 @@
+package runner
+
+import (
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+)
+
+// resultVersion is the schema version of result files.
+const resultVersion = 1
+
+// Result is the content of points/<key>/result.json, written by whoever
+// computed the point. Status is "done" or "failed".
+type Result struct {
+	V           int                `json:"v"`
+	Key         string             `json:"key"`
+	Fingerprint string             `json:"fingerprint"`
+	Attempt     int                `json:"attempt"`
+	Status      string             `json:"status"`
+	Energy      float64            `json:"energy_hartree"`
+	Converged   bool               `json:"converged"`
+	Iterations  int                `json:"iterations,omitempty"`
+	SSquared    *float64           `json:"s_squared,omitempty"`
+	Orbitals    string             `json:"orbitals,omitempty"` // relative to the point directory
+	Extra       map[string]float64 `json:"extra,omitempty"`
+	Class       string             `json:"class,omitempty"`
+	Error       string             `json:"error,omitempty"`
+	Backend     string             `json:"backend"`
+	Host        string             `json:"host"`
+	PID         int                `json:"pid"`
+	Started     time.Time          `json:"started"`
+	Finished    time.Time          `json:"finished"`
+}
+
+// PointDir is the work directory of the point with key in scan dir.
+func PointDir(dir, key string) string { return filepath.Join(dir, PointsDir, key) }
+
+// WriteResult writes r to points/<key>/result.json atomically.
+func WriteResult(dir string, r Result) error {
+	r.V = resultVersion
+	b, err := json.MarshalIndent(r, "", "  ")
+	if err != nil {
+		return fmt.Errorf("runner: result %s: %w", r.Key, err)
+	}
+	return WriteFileAtomic(filepath.Join(PointDir(dir, r.Key), ResultFile), append(b, '\n'))
+}
+
+// ReadResult reads the result file of key. ok is false when the file is
+// absent, empty, half-written, or belongs to another key or fingerprint:
+// "not visible yet", never an error.
+func ReadResult(dir, key, fingerprint string) (Result, bool) {
+	b, err := os.ReadFile(filepath.Join(PointDir(dir, key), ResultFile))
+	if err != nil || len(b) == 0 {
+		return Result{}, false
+	}
+	var r Result
+	if json.Unmarshal(b, &r) != nil || r.V != resultVersion || r.Key != key || r.Fingerprint != fingerprint {
+		return Result{}, false
+	}
+	if r.Status != "done" && r.Status != "failed" {
+		return Result{}, false
+	}
+	return r, true
+}
+
+// WriteFileAtomic writes data to path through a temporary file in the
+// same directory: write, fsync, close, rename, fsync the directory. A
+// reader sees the old file or the new one, never a mix.
+func WriteFileAtomic(path string, data []byte) error {
+	dir := filepath.Dir(path)
+	host, _ := os.Hostname()
+	tmp := fmt.Sprintf("%s.tmp.%s.%d", path, strings.ReplaceAll(host, "/", "_"), os.Getpid())
+	f, err := os.OpenFile(tmp, os.O_WRONLY|os.O_CREATE|os.O_TRUNC, 0o644)
+	if err != nil {
+		return fmt.Errorf("runner: %w", err)
+	}
+	if _, err := f.Write(data); err != nil {
+		f.Close()
+		os.Remove(tmp)
+		return fmt.Errorf("runner: write %s: %w", tmp, err)
+	}
+	if err := f.Sync(); err != nil {
+		f.Close()
+		os.Remove(tmp)
+		return fmt.Errorf("runner: sync %s: %w", tmp, err)
+	}
+	if err := f.Close(); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("runner: close %s: %w", tmp, err)
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		if _, serr := os.Stat(path); serr != nil {
+			os.Remove(tmp)
+			return fmt.Errorf("runner: rename %s: %w", tmp, err)
+		}
+	}
+	d, err := os.Open(dir)
+	if err != nil {
+		return fmt.Errorf("runner: %w", err)
+	}
+	defer d.Close()
+	if err := d.Sync(); err != nil {
+		return fmt.Errorf("runner: sync %s: %w", dir, err)
+	}
+	return nil
+}

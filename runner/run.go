@@ -1,0 +1,687 @@
+package runner
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"strings"
+	"time"
+
+	"wellscan/planner"
+)
+
+// OpenScan opens the store of the scan in dir for a run of spec: a new
+// store records the spec and its fingerprint; an existing one must have
+// the same fingerprint (molecule, coordinates, engine), otherwise
+// OpenScan fails with ErrSpecChanged and leaves the store as it was.
+// Changes to the grid, refinement or queue are accepted.
+func OpenScan(dir string, spec *planner.Spec, opts OpenOptions) (*Store, error) {
+	st, err := Open(dir, opts)
+	if err != nil {
+		return nil, err
+	}
+	meta, err := st.Meta()
+	if err != nil {
+		st.Close()
+		return nil, err
+	}
+	fp, _ := json.Marshal(spec.Fingerprint())
+	if meta.Fingerprint != "" && meta.Fingerprint != string(fp) {
+		var old planner.Fingerprint
+		_ = json.Unmarshal([]byte(meta.Fingerprint), &old)
+		diff := old.Diff(spec.Fingerprint())
+		st.Close()
+		return nil, fmt.Errorf("%w since this scan started: %s changed, which changes the energy of every point; restore the old settings or start a new scan in another directory",
+			ErrSpecChanged, strings.Join(diff, " and "))
+	}
+	if meta.Fingerprint == "" || string(meta.LastSpec) != string(spec.Text()) {
+		if err := st.SetSpec(spec.Text(), string(fp)); err != nil {
+			st.Close()
+			return nil, err
+		}
+	}
+	return st, nil
+}
+
+// Runner runs one scan. Fill the fields, then call Run once.
+type Runner struct {
+	Spec    *planner.Spec
+	Dir     string
+	Store   *Store
+	Backend Backend
+	Queue   Queue
+	// OnEvent receives every event, from Run's goroutine; nil: none.
+	OnEvent func(Event)
+	// Now is the clock; nil: time.Now.
+	Now func() time.Time
+	// SnapshotEvery is how often status.json is rewritten while points
+	// run; 0: every 2 s.
+	SnapshotEvery time.Duration
+	// CPUs to share between concurrent points; 0: runtime.NumCPU().
+	CPUs int
+
+	fp       string
+	recs     map[string]*PointRecord
+	dirty    map[string]bool
+	rounds   map[int]*RoundRecord
+	dirtyR   map[int]bool
+	events   []Event
+	start    time.Time
+	computed int
+	reused   int
+	round    int
+	lastPlan planner.RefinePlan
+}
+
+// Summary is the outcome of Run.
+type Summary struct {
+	Rounds   int
+	Counts   map[State]int
+	Status   planner.RefineStatus
+	Reason   string
+	Extrema  []planner.Extremum
+	Failed   []PointRecord
+	Computed int // points computed by this run
+	Reused   int // results taken from result files left by an earlier run
+	Elapsed  time.Duration
+}
+
+// ErrPointsFailed is returned (wrapped) by Run when the scan finished but
+// some points failed for good.
+var ErrPointsFailed = errors.New("runner: some points failed")
+
+// Run drives the scan to its end: it reconciles the store with the
+// result files on disk, then repeats rounds (dispatch every planned point,
+// wait, ingest, refine) until refinement adds nothing. On cancellation it
+// abandons the points in flight (they return to planned without using an
+// attempt), writes the store and status.json, and returns an error
+// wrapping ctx.Err().
+func (r *Runner) Run(ctx context.Context) (Summary, error) {
+	if r.Now == nil {
+		r.Now = time.Now
+	}
+	if r.SnapshotEvery == 0 {
+		r.SnapshotEvery = 2 * time.Second
+	}
+	if r.CPUs == 0 {
+		r.CPUs = runtime.NumCPU()
+	}
+	r.start = r.Now()
+	fp, _ := json.Marshal(r.Spec.Fingerprint())
+	r.fp = string(fp)
+	r.dirty, r.dirtyR = map[string]bool{}, map[int]bool{}
+	if err := r.load(); err != nil {
+		return Summary{}, err
+	}
+	if err := r.reconcile(); err != nil {
+		return Summary{}, err
+	}
+
+	in := make(chan Task)
+	// Unbuffered: a worker cannot take a new task before its completion is
+	// ingested, so every task is built knowing every finished point (the
+	// continuation guess picks the nearest done neighbour).
+	out := make(chan Completion)
+	qerr := make(chan error, 1)
+	go func() { qerr <- r.Queue.Run(ctx, r.work, in, out) }()
+	stopQueue := func() error {
+		close(in)
+		for {
+			select {
+			case c := <-out:
+				r.ingest(c)
+			case err := <-qerr:
+				for {
+					select {
+					case c := <-out:
+						r.ingest(c)
+					default:
+						return err
+					}
+				}
+			}
+		}
+	}
+
+	for {
+		err := r.runRound(ctx, in, out)
+		if err != nil {
+			qe := stopQueue()
+			ferr := r.flush()
+			r.emit(Event{Kind: "interrupt", Round: r.round, Message: "interrupted; points in flight return to planned"})
+			_ = r.flush()
+			r.snapshot("interrupted")
+			return r.summary(), errors.Join(fmt.Errorf("runner: %w", err), qe, ferr)
+		}
+		plan := planner.Refine(r.Spec, r.samples(), r.round)
+		r.lastPlan = plan
+		rr := r.roundRec(r.round)
+		if rr.Finished.IsZero() {
+			rr.Finished = r.Now()
+		}
+		rr.Status, rr.Reason = string(plan.Status), plan.Reason
+		r.dirtyR[r.round] = true
+		r.emit(Event{Kind: "refine", Round: r.round, Message: string(plan.Status) + ": " + plan.Reason})
+		if plan.Status != planner.RefineContinue {
+			break
+		}
+		r.round++
+		for _, p := range plan.Points {
+			r.plan(p, r.round)
+		}
+		nr := r.roundRec(r.round)
+		nr.Points = len(plan.Points)
+		r.emit(Event{Kind: "round", Round: r.round, Message: fmt.Sprintf("round %d: %d points", r.round, len(plan.Points))})
+		if err := r.flush(); err != nil {
+			return r.summary(), err
+		}
+		_ = r.Store.Backup(filepath.Join(r.Dir, DBFile+".bak"))
+	}
+	qe := stopQueue()
+	r.emit(Event{Kind: "finish", Round: r.round, Message: string(r.lastPlan.Status)})
+	if err := r.flush(); err != nil {
+		return r.summary(), err
+	}
+	_ = r.Store.Backup(filepath.Join(r.Dir, DBFile+".bak"))
+	r.snapshot("finished")
+	sum := r.summary()
+	if qe != nil {
+		return sum, qe
+	}
+	if len(sum.Failed) > 0 {
+		return sum, fmt.Errorf("%w: %d of %d", ErrPointsFailed, len(sum.Failed), len(r.recs))
+	}
+	return sum, nil
+}
+
+func (r *Runner) load() error {
+	recs, err := r.Store.Points()
+	if err != nil {
+		return err
+	}
+	r.recs = map[string]*PointRecord{}
+	for i := range recs {
+		r.recs[recs[i].Key] = &recs[i]
+		r.round = max(r.round, recs[i].Round)
+	}
+	rounds, err := r.Store.Rounds()
+	if err != nil {
+		return err
+	}
+	r.rounds = map[int]*RoundRecord{}
+	for i := range rounds {
+		r.rounds[rounds[i].Round] = &rounds[i]
+	}
+	return nil
+}
+
+// reconcile brings the store in line with the files on disk after a
+// crash, and plans round 1 (or points a grown grid added).
+func (r *Runner) reconcile() error {
+	resumed := 0
+	for _, k := range r.keys() {
+		rec := r.recs[k]
+		if rec.State == Done || rec.State == Failed {
+			continue
+		}
+		inFlight := rec.State == Submitted || rec.State == Running
+		if res, ok := ReadResult(r.Dir, k, r.fp); ok && (res.Status == "done" || (inFlight && res.Attempt == rec.Attempts)) {
+			r.apply(rec, res)
+			r.reused++
+			resumed++
+			continue
+		}
+		if inFlight {
+			// Lost with the process that ran it: back to planned, without
+			// using up an attempt.
+			rec.State = Planned
+			rec.Attempts = max(0, rec.Attempts-1)
+			r.touch(rec)
+			r.emit(Event{Kind: string(Planned), Key: k, Round: rec.Round, Message: "in flight when the last run stopped; planned again"})
+			resumed++
+		}
+	}
+	if r.round == 0 {
+		r.round = 1
+	}
+	r.roundRec(r.round)
+	added := 0
+	for _, p := range r.Spec.InitialPoints() {
+		if _, ok := r.recs[p.Key]; !ok {
+			r.plan(p, r.round)
+			added++
+		}
+	}
+	if added > 0 {
+		r.roundRec(r.round).Points += added
+		r.emit(Event{Kind: "round", Round: r.round, Message: fmt.Sprintf("round %d: %d points from the grid", r.round, added)})
+	}
+	if resumed > 0 {
+		r.emit(Event{Kind: "resume", Round: r.round, Message: fmt.Sprintf("resumed: %d points reconciled with their result files", resumed)})
+	}
+	return r.flush()
+}
+
+func (r *Runner) keys() []string {
+	ks := make([]string, 0, len(r.recs))
+	for k := range r.recs {
+		ks = append(ks, k)
+	}
+	sort.Strings(ks)
+	return ks
+}
+
+func (r *Runner) roundRec(n int) *RoundRecord {
+	rr, ok := r.rounds[n]
+	if !ok {
+		rr = &RoundRecord{Round: n, Started: r.Now()}
+		r.rounds[n] = rr
+	}
+	r.dirtyR[n] = true
+	return rr
+}
+
+func (r *Runner) plan(p planner.Point, round int) {
+	rec := &PointRecord{Key: p.Key, Values: p.Values, Round: round, State: Planned, Planned: r.Now(), Backend: r.Backend.Name()}
+	r.recs[p.Key] = rec
+	r.touch(rec)
+	r.emit(Event{Kind: string(Planned), Key: p.Key, Round: round})
+}
+
+func (r *Runner) touch(rec *PointRecord) { r.dirty[rec.Key] = true }
+
+func (r *Runner) emit(e Event) {
+	e.Time = r.Now()
+	r.events = append(r.events, e)
+}
+
+// flush commits every pending change in one transaction, then tells the
+// observer.
+func (r *Runner) flush() error {
+	if len(r.dirty) == 0 && len(r.dirtyR) == 0 && len(r.events) == 0 {
+		return nil
+	}
+	recs := make([]PointRecord, 0, len(r.dirty))
+	for k := range r.dirty {
+		recs = append(recs, *r.recs[k])
+	}
+	rounds := make([]RoundRecord, 0, len(r.dirtyR))
+	for n := range r.dirtyR {
+		rounds = append(rounds, *r.rounds[n])
+	}
+	evs := r.events
+	if err := r.Store.Commit(recs, rounds, evs); err != nil {
+		return err
+	}
+	clear(r.dirty)
+	clear(r.dirtyR)
+	r.events = nil
+	if r.OnEvent != nil {
+		pr := r.progress()
+		for _, e := range evs {
+			e.Progress = &pr
+			r.OnEvent(e)
+		}
+	}
+	return nil
+}
+
+func (r *Runner) counts() map[State]int {
+	c := map[State]int{}
+	for _, s := range States {
+		c[s] = 0
+	}
+	for _, rec := range r.recs {
+		c[rec.State]++
+	}
+	return c
+}
+
+func (r *Runner) progress() Progress {
+	c := r.counts()
+	p := Progress{Round: r.round, Counts: c, Total: len(r.recs), Elapsed: r.Now().Sub(r.start)}
+	left := c[Planned] + c[Submitted] + c[Running]
+	if r.computed > 0 && left > 0 {
+		per := p.Elapsed / time.Duration(r.computed)
+		p.ETA = per * time.Duration(left)
+	}
+	return p
+}
+
+// runRound dispatches planned points until none is planned or in flight.
+func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Completion) error {
+	var queue []*PointRecord
+	for _, k := range r.keys() {
+		if r.recs[k].State == Planned {
+			queue = append(queue, r.recs[k])
+		}
+	}
+	sortQueue(queue)
+	inflight := 0
+	var next *Task
+	var nextRec *PointRecord
+	tick := time.NewTicker(r.SnapshotEvery)
+	defer tick.Stop()
+	r.snapshot("running")
+	for {
+		if ctx.Err() != nil {
+			return ctx.Err()
+		}
+		for next == nil && len(queue) > 0 {
+			rec := queue[0]
+			t, err := r.task(rec, len(queue)+inflight)
+			if err != nil {
+				queue = queue[1:]
+				rec.Attempts++
+				rec.State, rec.Class, rec.LastError = Failed, "geometry", err.Error()
+				r.touch(rec)
+				r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: err.Error()})
+				continue
+			}
+			next, nextRec = &t, rec
+		}
+		if next == nil && inflight == 0 {
+			return r.flush()
+		}
+		var send chan<- Task
+		var nv Task // the send expression is evaluated even when send is nil
+		if next != nil {
+			send, nv = in, *next
+		}
+		dispatched := func() {
+			rec := nextRec
+			queue = queue[1:]
+			rec.Attempts++
+			rec.State, rec.Started = Running, r.Now()
+			r.touch(rec)
+			r.emit(Event{Kind: string(Submitted), Key: rec.Key, Round: rec.Round, Message: r.Queue.Name()})
+			r.emit(Event{Kind: string(Running), Key: rec.Key, Round: rec.Round})
+			inflight++
+			next, nextRec = nil, nil
+		}
+		completed := func(c Completion) {
+			inflight--
+			next, nextRec = nil, nil // rebuild: a nearer neighbour may be done now
+			if rec := r.ingest(c); rec != nil && rec.State == Planned {
+				queue = append(queue, rec)
+				sortQueue(queue)
+			}
+		}
+		// Take whatever is ready without blocking; commit once nothing is.
+		select {
+		case send <- nv:
+			dispatched()
+			continue
+		case c := <-out:
+			completed(c)
+			continue
+		default:
+		}
+		if err := r.flush(); err != nil {
+			return err
+		}
+		select {
+		case send <- nv:
+			dispatched()
+		case c := <-out:
+			completed(c)
+		case <-tick.C:
+			r.snapshot("running")
+		case <-ctx.Done():
+			return ctx.Err()
+		}
+	}
+}
+
+func sortQueue(q []*PointRecord) {
+	sort.SliceStable(q, func(a, b int) bool {
+		if q[a].Round != q[b].Round {
+			return q[a].Round < q[b].Round
+		}
+		for i := range q[a].Values {
+			if q[a].Values[i] != q[b].Values[i] {
+				return q[a].Values[i] < q[b].Values[i]
+			}
+		}
+		return q[a].Key < q[b].Key
+	})
+}
+
+// task builds the Task for rec: geometry, directory, continuation guess
+// and a thread share.
+func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
+	p := planner.Point{Key: rec.Key, Values: rec.Values}
+	mol, err := r.Spec.Geometry(p)
+	if err != nil {
+		return Task{}, err
+	}
+	t := Task{Key: rec.Key, Values: rec.Values, Mol: mol, Dir: PointDir(r.Dir, rec.Key), Attempt: rec.Attempts + 1}
+	if r.Spec.Engine.Guess != "fresh" {
+		best, bestKey := math.Inf(1), ""
+		for _, o := range r.recs {
+			if o.State != Done || o.Orbitals == "" || o.Key == rec.Key {
+				continue
+			}
+			d := 0.0
+			for i := range o.Values {
+				d += (o.Values[i] - rec.Values[i]) * (o.Values[i] - rec.Values[i])
+			}
+			if d < best || (d == best && o.Key < bestKey) {
+				best, bestKey = d, o.Key
+				t.GuessPath = filepath.Join(r.Dir, filepath.FromSlash(o.Orbitals))
+			}
+		}
+	}
+	t.Threads = r.Spec.Queue.Threads
+	if t.Threads == 0 {
+		t.Threads = max(1, r.CPUs/max(1, min(r.Queue.Slots(), active)))
+	}
+	return t, nil
+}
+
+// work is the Worker: it runs one task in this process and writes its
+// result file. A point whose result file already says done is not
+// computed again.
+func (r *Runner) work(ctx context.Context, t Task) Completion {
+	if res, ok := ReadResult(r.Dir, t.Key, r.fp); ok && res.Status == "done" {
+		return Completion{Task: t, Result: res, Reused: true}
+	}
+	if err := os.MkdirAll(t.Dir, 0o755); err != nil {
+		return Completion{Task: t, Result: r.failure(t, r.Now(), "io", err)}
+	}
+	cctx := ctx
+	if to := r.Spec.Queue.Timeout.Duration; to > 0 {
+		var cancel context.CancelFunc
+		cctx, cancel = context.WithTimeout(ctx, to)
+		defer cancel()
+	}
+	start := r.Now()
+	out, err := r.computeSafely(cctx, t)
+	if ctx.Err() != nil {
+		return Completion{Task: t, Interrupted: true}
+	}
+	var res Result
+	switch {
+	case err != nil && errors.Is(cctx.Err(), context.DeadlineExceeded):
+		res = r.failure(t, start, "timeout", fmt.Errorf("no result within %s: %w", r.Spec.Queue.Timeout.Duration, err))
+	case err != nil:
+		res = r.failure(t, start, "error", err)
+	default:
+		res = r.resultOf(t, start, out)
+	}
+	if err := WriteResult(r.Dir, res); err != nil {
+		return Completion{Task: t, Result: r.failure(t, start, "io", err)}
+	}
+	return Completion{Task: t, Result: res}
+}
+
+// computeSafely turns a backend panic into an error for that point; a
+// runtime error is a bug and panics on.
+func (r *Runner) computeSafely(ctx context.Context, t Task) (out Outcome, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			if re, ok := p.(runtime.Error); ok {
+				panic(re)
+			}
+			err = fmt.Errorf("runner: backend %s panicked: %v", r.Backend.Name(), p)
+		}
+	}()
+	return r.Backend.Compute(ctx, t)
+}
+
+func (r *Runner) base(t Task, start time.Time) Result {
+	host, _ := os.Hostname()
+	return Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Backend: r.Backend.Name(),
+		Host: host, PID: os.Getpid(), Started: start, Finished: r.Now()}
+}
+
+func (r *Runner) failure(t Task, start time.Time, class string, err error) Result {
+	res := r.base(t, start)
+	res.Status, res.Class, res.Error = "failed", class, err.Error()
+	return res
+}
+
+func (r *Runner) resultOf(t Task, start time.Time, o Outcome) Result {
+	res := r.base(t, start)
+	res.Energy, res.Converged, res.Iterations, res.SSquared, res.Extra = o.Energy, o.Converged, o.Iterations, o.SSquared, o.Extra
+	if o.OrbitalsPath != "" {
+		p := o.OrbitalsPath
+		if filepath.IsAbs(p) {
+			if rel, err := filepath.Rel(t.Dir, p); err == nil {
+				p = rel
+			}
+		}
+		res.Orbitals = p
+	}
+	if o.Converged && !math.IsNaN(o.Energy) && !math.IsInf(o.Energy, 0) {
+		res.Status = "done"
+	} else {
+		res.Status, res.Class = "failed", o.Class
+		if res.Class == "" {
+			res.Class = "not-converged"
+		}
+		res.Error = fmt.Sprintf("backend %s: %s", r.Backend.Name(), res.Class)
+	}
+	return res
+}
+
+// retriable says whether a failure class may succeed on another try. A
+// calculation that ran and did not converge, or a geometry that cannot be
+// built, will fail the same way again.
+func retriable(class string) bool {
+	switch class {
+	case "not-converged", "geometry":
+		return false
+	}
+	return true
+}
+
+// ingest applies a completion to its record; it returns the record.
+func (r *Runner) ingest(c Completion) *PointRecord {
+	rec := r.recs[c.Task.Key]
+	if rec == nil {
+		return nil
+	}
+	if c.Interrupted {
+		rec.State = Planned
+		rec.Attempts = max(0, rec.Attempts-1)
+		r.touch(rec)
+		r.emit(Event{Kind: string(Planned), Key: rec.Key, Round: rec.Round, Message: "interrupted"})
+		return rec
+	}
+	switch {
+	case c.Reused:
+		r.reused++
+	case c.Result.Status == "done":
+		r.computed++
+	}
+	r.apply(rec, c.Result)
+	return rec
+}
+
+// apply records result res on rec.
+func (r *Runner) apply(rec *PointRecord, res Result) {
+	rec.Finished = res.Finished
+	if rec.Attempts < res.Attempt {
+		rec.Attempts = res.Attempt
+	}
+	if res.Status == "done" {
+		e := res.Energy
+		rec.State, rec.Energy, rec.Converged, rec.Iterations, rec.SSquared, rec.Extra = Done, &e, true, res.Iterations, res.SSquared, res.Extra
+		rec.Class, rec.LastError = "", ""
+		rec.Seconds = res.Finished.Sub(res.Started).Seconds()
+		if res.Orbitals != "" {
+			rec.Orbitals = filepath.ToSlash(filepath.Join(PointsDir, rec.Key, res.Orbitals))
+		}
+		r.touch(rec)
+		r.emit(Event{Kind: string(Done), Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%.10f hartree", e)})
+		return
+	}
+	rec.Class, rec.LastError = res.Class, res.Error
+	if retriable(res.Class) && rec.Attempts < r.Spec.Queue.Attempts {
+		rec.State = Planned
+		r.touch(rec)
+		r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("attempt %d of %d failed (%s): %s", rec.Attempts, r.Spec.Queue.Attempts, res.Class, res.Error)})
+		return
+	}
+	rec.State = Failed
+	r.touch(rec)
+	r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%s after %d attempts: %s", res.Class, rec.Attempts, res.Error)})
+}
+
+// samples turns records into refinement input.
+func (r *Runner) samples() []planner.Sample {
+	return Samples(r.recs)
+}
+
+// Samples converts point records to refinement samples (ordered by key).
+func Samples(recs map[string]*PointRecord) []planner.Sample {
+	ks := make([]string, 0, len(recs))
+	for k := range recs {
+		ks = append(ks, k)
+	}
+	sort.Strings(ks)
+	var out []planner.Sample
+	for _, k := range ks {
+		rec := recs[k]
+		s := planner.Sample{Key: k, Values: rec.Values, Round: rec.Round, Energy: math.NaN()}
+		switch rec.State {
+		case Done:
+			s.Energy = *rec.Energy
+		case Failed:
+			s.Failed = true
+		}
+		out = append(out, s)
+	}
+	return out
+}
+
+func (r *Runner) summary() Summary {
+	s := Summary{Rounds: r.round, Counts: r.counts(), Status: r.lastPlan.Status, Reason: r.lastPlan.Reason,
+		Extrema: r.lastPlan.Extrema, Computed: r.computed, Reused: r.reused, Elapsed: r.Now().Sub(r.start)}
+	for _, k := range r.keys() {
+		if r.recs[k].State == Failed {
+			s.Failed = append(s.Failed, *r.recs[k])
+		}
+	}
+	return s
+}
+
+func (r *Runner) snapshot(state string) {
+	recs := make([]PointRecord, 0, len(r.recs))
+	for _, k := range r.keys() {
+		recs = append(recs, *r.recs[k])
+	}
+	rounds := make([]RoundRecord, 0, len(r.rounds))
+	for _, rr := range r.rounds {
+		rounds = append(rounds, *rr)
+	}
+	snap := BuildSnapshot(r.Spec, recs, rounds, state, r.Now())
+	_ = WriteSnapshot(r.Dir, snap)
+}
