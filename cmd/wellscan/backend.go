@@ -5,6 +5,7 @@ import (
 
 	"wellscan/planner"
 	"wellscan/runner"
+	"wellscan/runner/hf"
 	"wellscan/runner/local"
 	"wellscan/runner/model"
 )
@@ -16,7 +17,7 @@ func newBackend(spec *planner.Spec) (runner.Backend, error) {
 	case "model":
 		return model.New(spec)
 	case "builtin":
-		return nil, fmt.Errorf("%s: engine.kind = \"builtin\": the built-in Hartree–Fock engine is not part of this build yet", spec.File())
+		return hf.NewBackend(spec)
 	case "command":
 		return nil, fmt.Errorf("%s: engine.kind = \"command\": the external-command engine is not part of this build yet", spec.File())
 	}

@@ -26,7 +26,7 @@ var (
 
 // demoSpec is the spec `wellscan demo` runs. Switch to demoCO when the
 // built-in engine lands.
-func demoSpec() []byte { return demoModel }
+func demoSpec() []byte { return demoCO }
 
 type demoOptions struct {
 	dir string

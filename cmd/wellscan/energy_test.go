@@ -3,6 +3,8 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -102,5 +104,32 @@ func TestBasisCommand(t *testing.T) {
 	code, out, _ = runCLI(t, "", "basis", "show", "6-31g*", "O")
 	if code != 0 || !strings.Contains(out, "element O") || strings.Contains(out, "element H") {
 		t.Errorf("basis show 6-31g* O: exit %d, output %.200q", code, out)
+	}
+}
+
+// TestDemo_COMinimum runs the README's demo (CO stretch, RHF/6-31G*,
+// adaptive) and checks the minimum it locates. Reference: r_e(CO) =
+// 1.114 Å at RHF/6-31G* (W. J. Hehre, L. Radom, P. v. R. Schleyer and
+// J. A. Pople, Ab Initio Molecular Orbital Theory (Wiley 1986), table of
+// HF/6-31G* bond lengths; from memory), printed to 3 decimals, so the
+// tolerance is 1e-3 Å.
+func TestDemo_COMinimum(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a 12-point RHF scan")
+	}
+	code, out, errs := runCLI(t, "", "demo", "--dir", filepath.Join(t.TempDir(), "co"))
+	if code != 0 {
+		t.Fatalf("demo exit %d: %s", code, errs)
+	}
+	i := strings.Index(out, "located minimum: r = ")
+	if i < 0 {
+		t.Fatalf("demo printed no minimum:\n%s", out)
+	}
+	var r float64
+	if _, err := fmt.Sscanf(out[i:], "located minimum: r = %g", &r); err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(r-1.114) > 1e-3 {
+		t.Errorf("CO RHF/6-31G* minimum at %.5f Å, want 1.114 ± 0.001", r)
 	}
 }

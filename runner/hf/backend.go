@@ -1,0 +1,165 @@
+package hf
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"wellscan/planner"
+	"wellscan/runner"
+	"wellscan/runner/hf/basis"
+)
+
+// OrbitalsFile is the name of the converged-orbitals file a scan point
+// leaves in its directory for its neighbours to start from.
+const OrbitalsFile = "orbitals.bin"
+
+// Backend runs scan points with the built-in engine. It implements
+// runner.Backend and is safe for concurrent use: it holds only the
+// immutable basis set and options.
+type Backend struct {
+	opts      Options
+	useGuess  bool
+	basisName string
+}
+
+// NewBackend builds the built-in backend from a validated spec whose
+// engine kind is "builtin".
+func NewBackend(spec *planner.Spec) (*Backend, error) {
+	e := spec.Engine
+	if e.Kind != "builtin" {
+		return nil, fmt.Errorf("hf: engine kind is %q, not \"builtin\"", e.Kind)
+	}
+	method, err := ParseMethod(e.Method)
+	if err != nil {
+		return nil, fmt.Errorf("%s: engine.method: %w", spec.File(), err)
+	}
+	name := e.Basis
+	if name == "" {
+		return nil, fmt.Errorf("%s: engine.basis: missing (for example basis = \"6-31G*\"; see 'wellscan basis list')", spec.File())
+	}
+	set, err := basis.Lookup(name)
+	if err != nil {
+		return nil, fmt.Errorf("%s: engine.basis: %w", spec.File(), err)
+	}
+	o := Options{Method: method, Basis: set}
+	if e.Cartesian != nil {
+		o.Convention = basis.ConventionSpherical
+		if *e.Cartesian {
+			o.Convention = basis.ConventionCartesian
+		}
+	}
+	o.SCF.MaxIterations = e.MaxIterations
+	if e.Convergence != nil {
+		o.SCF.EnergyTol = *e.Convergence
+	}
+	// Check the basis covers the molecule before any point runs.
+	mol, err := spec.Molecule()
+	if err != nil {
+		return nil, err
+	}
+	if _, err := set.NumFunctions(mol, o.Convention); err != nil {
+		return nil, fmt.Errorf("%s: engine.basis: %w", spec.File(), err)
+	}
+	if method == RHF && mol.Multiplicity != 1 {
+		return nil, fmt.Errorf("%s: engine.method = \"rhf\" needs a singlet, but the molecule has multiplicity %d; use \"uhf\"", spec.File(), mol.Multiplicity)
+	}
+	return &Backend{opts: o, useGuess: e.Guess != "fresh", basisName: set.Name()}, nil
+}
+
+// Name implements runner.Backend.
+func (b *Backend) Name() string { return "builtin" }
+
+// Compute implements runner.Backend: one SCF at the point's geometry,
+// started from the neighbour's orbitals when the runner found some. An SCF
+// that does not converge is an Outcome with Converged false and class
+// "scf-not-converged", not an error.
+func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, error) {
+	opts := b.opts
+	opts.Workers = max(1, t.Threads)
+	guessNote := -1.0
+	if b.useGuess && t.GuessPath != "" {
+		if g, err := readOrbitalsFile(t.GuessPath); err == nil {
+			opts.Guess = g
+			guessNote = 1
+		}
+	}
+	res, err := Energy(ctx, t.Mol, opts)
+	if res == nil {
+		if ctx.Err() != nil {
+			return runner.Outcome{}, ctx.Err()
+		}
+		return runner.Outcome{}, err
+	}
+	if err != nil && !errors.Is(err, ErrNotConverged) {
+		return runner.Outcome{}, err
+	}
+	out := runner.Outcome{
+		Energy:     res.Energy,
+		Converged:  res.Converged,
+		Iterations: res.Iterations,
+		Extra: map[string]float64{
+			"electronic_energy_hartree": res.ElectronicEnergy,
+			"nuclear_repulsion_hartree": res.NuclearRepulsion,
+			"basis_functions":           float64(res.BasisFunctions),
+			"guess_from_neighbour":      guessNote,
+			"dipole_x_e_bohr":           res.Dipole[0],
+			"dipole_y_e_bohr":           res.Dipole[1],
+			"dipole_z_e_bohr":           res.Dipole[2],
+		},
+	}
+	if res.GuessRejected != "" {
+		out.Extra["guess_from_neighbour"] = -1
+	}
+	if res.Method == UHF {
+		s2 := res.S2
+		out.SSquared = &s2
+	}
+	if !res.Converged {
+		out.Class = "scf-not-converged"
+		return out, nil
+	}
+	if res.Orbitals != nil && t.Dir != "" {
+		if p, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
+			out.OrbitalsPath = p
+		}
+	}
+	return out, nil
+}
+
+func readOrbitalsFile(path string) (*Orbitals, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	return ReadOrbitals(f)
+}
+
+// writeOrbitalsFile writes the orbitals by temporary file and rename, so a
+// neighbour never reads a half-written file.
+func writeOrbitalsFile(dir string, o *Orbitals) (string, error) {
+	tmp, err := os.CreateTemp(dir, ".orbitals-*")
+	if err != nil {
+		return "", err
+	}
+	defer os.Remove(tmp.Name())
+	if err := WriteOrbitals(tmp, o); err != nil {
+		tmp.Close()
+		return "", err
+	}
+	if err := tmp.Sync(); err != nil {
+		tmp.Close()
+		return "", err
+	}
+	if err := tmp.Close(); err != nil {
+		return "", err
+	}
+	path := filepath.Join(dir, OrbitalsFile)
+	if err := os.Rename(tmp.Name(), path); err != nil {
+		return "", err
+	}
+	return path, nil
+}
