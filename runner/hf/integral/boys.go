@@ -32,6 +32,24 @@ const (
 // state.
 var boysTable = buildBoysTable()
 
+// boysInvOdd[m] = 1/(2m+1), for the recursions.
+var boysInvOdd = func() (t [boysNOrder]float64) {
+	for m := range t {
+		t[m] = 1 / float64(2*m+1)
+	}
+	return t
+}()
+
+// boysExpTab[k] = exp(−T_k) on the grid, so that exp(−T) =
+// exp(−T_k)·exp(T_k−T) needs only a short Taylor series.
+var boysExpTab = func() []float64 {
+	t := make([]float64, boysNGrid)
+	for k := range t {
+		t[k] = math.Exp(-float64(k) * boysStep)
+	}
+	return t
+}()
+
 // boysInvFact[k] = 1/k!, for the Taylor expansion.
 var boysInvFact = [boysTaylor]float64{1, 1, 1.0 / 2, 1.0 / 6, 1.0 / 24, 1.0 / 120, 1.0 / 720}
 
@@ -88,10 +106,13 @@ func boys(t float64, mmax int, f []float64) {
 		v = v*dt + row[0]
 		f[mmax] = v
 		if mmax > 0 {
-			e := math.Exp(-t)
+			// exp(dt) to 5e-18 relative for |dt| ≤ 0.025 (Taylor, 8 terms).
+			x := dt
+			ex := 1 + x*(1+x*(0.5+x*(1.0/6+x*(1.0/24+x*(1.0/120+x*(1.0/720+x*(1.0/5040)))))))
+			e := boysExpTab[k] * ex
 			t2 := 2 * t
 			for m := mmax - 1; m >= 0; m-- {
-				f[m] = (t2*f[m+1] + e) / float64(2*m+1)
+				f[m] = (t2*f[m+1] + e) * boysInvOdd[m]
 			}
 		}
 		return

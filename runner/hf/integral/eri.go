@@ -18,6 +18,32 @@ type flatComp struct {
 
 var flatTab = buildFlat()
 
+// crossTab[i] lists, in increasing flat index, the components e with
+// e_i > 0 together with e − 1_i and e_i, for the cross term of the
+// electron-2 recurrence; crossStart[i][f] is the first list position
+// with index ≥ f. Read-only tables computed at initialisation.
+type crossEntry struct {
+	e, down int32
+	n       float64
+}
+
+var crossTab, crossStart = buildCross()
+
+func buildCross() (tab [3][]crossEntry, start [3][]int32) {
+	nf := len(flatTab)
+	for i := range 3 {
+		start[i] = make([]int32, nf+1)
+		for f := range nf {
+			start[i][f] = int32(len(tab[i]))
+			if c := flatTab[f]; c.n[i] > 0 {
+				tab[i] = append(tab[i], crossEntry{int32(f), int32(c.down[i]), float64(c.n[i])})
+			}
+		}
+		start[i][nf] = int32(len(tab[i]))
+	}
+	return tab, start
+}
+
 func flatIndex(lx, ly, lz int) int {
 	return ncum(lx+ly+lz-1) + cartIndex(lx, ly, lz)
 }
@@ -154,8 +180,11 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
 	Lab, Lcd := la+lb, lc+ld
 	L := Lab + Lcd
-	if L == 0 {
+	switch {
+	case L == 0:
 		return w.quartetSSSS(bp, kp)
+	case L == 1:
+		return w.quartetL1(bp, kp)
 	}
 	nE, nF := ncum(Lab), ncum(Lcd)
 	e0, f0 := ncum(la-1), ncum(lc-1)
@@ -240,12 +269,8 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 					// cross term e_i/(2(p+q)) [e−1_i 0|f−1_i 0]^(m+1)
 					s1f := V[o+stM+f1*nE : o+stM+f1*nE+nE]
 					dstf := V[o+f*nE : o+f*nE+nE]
-					for e := max(es, 1); e < nE; e++ {
-						ec := &flatTab[e]
-						if ec.n[i] == 0 {
-							continue
-						}
-						dstf[e] += float64(ec.n[i]) * i2pq * s1f[ec.down[i]]
+					for _, ce := range crossTab[i][crossStart[i][es]:crossStart[i][nE]] {
+						dstf[ce.e] += ce.n * i2pq * s1f[ce.down]
 					}
 				}
 			}
@@ -354,6 +379,41 @@ func (w *eriWork) quartetSSSS(bp, kp *shellPair) []float64 {
 	}
 	w.out[0] = sum
 	return w.out[:1]
+}
+
+// quartetL1 is the fast path for (ps|ss) and (ss|ps):
+// [p_i 0|00] = PA_i θ⁰ + WP_i θ¹ and [00|p_i 0] = QC_i θ⁰ + WQ_i θ¹
+// (Obara & Saika 1986).
+func (w *eriWork) quartetL1(bp, kp *shellPair) []float64 {
+	var s0, s1, s2 float64
+	braP := bp.l1 == 1
+	for _, pa := range bp.prims {
+		p := pa.p
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			rho := p * q / pq
+			dx, dy, dz := pa.P[0]-pc.P[0], pa.P[1]-pc.P[1], pa.P[2]-pc.P[2]
+			boys(rho*(dx*dx+dy*dy+dz*dz), 1, w.fb)
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			t0, t1 := pref*w.fb[0], pref*w.fb[1]
+			if braP {
+				// W − P = −q/(p+q) (P − Q)
+				g := -q / pq * t1
+				s0 += pa.PA[0]*t0 + g*dx
+				s1 += pa.PA[1]*t0 + g*dy
+				s2 += pa.PA[2]*t0 + g*dz
+			} else {
+				// W − Q = p/(p+q) (P − Q)
+				g := p / pq * t1
+				s0 += pc.PA[0]*t0 + g*dx
+				s1 += pc.PA[1]*t0 + g*dy
+				s2 += pc.PA[2]*t0 + g*dz
+			}
+		}
+	}
+	w.out[0], w.out[1], w.out[2] = s0, s1, s2
+	return w.out[:3]
 }
 
 // finish applies component scales and spherical transforms to the

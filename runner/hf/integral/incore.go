@@ -107,7 +107,8 @@ type ERI struct {
 	n       int
 	data    []float64
 	workers int
-	pi, pj  []int32 // function indices of packed pair ij
+	pi, pj  []int32   // function indices of packed pair ij
+	wkl     []float64 // ½ for a diagonal pair (k = l), else 1
 }
 
 // InCoreBytes is the memory ComputeERI needs for nbf functions (the packed
@@ -135,9 +136,14 @@ func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int)
 	e := &ERI{n: n, workers: workers, data: make([]float64, InCoreBytes(n)/8)}
 	e.pi = make([]int32, np)
 	e.pj = make([]int32, np)
+	e.wkl = make([]float64, np)
 	for i := range n {
 		for j := 0; j <= i; j++ {
 			e.pi[pidx(i, j)], e.pj[pidx(i, j)] = int32(i), int32(j)
+			e.wkl[pidx(i, j)] = 1
+			if i == j {
+				e.wkl[pidx(i, j)] = 0.5
+			}
 		}
 	}
 	data := e.data
@@ -302,37 +308,36 @@ func (e *ERI) jkRow(IJ int, D, Dp, jp, B [][]float64) {
 	n := e.n
 	i, j := int(e.pi[IJ]), int(e.pj[IJ])
 	row := e.data[IJ*(IJ+1)/2 : IJ*(IJ+1)/2+IJ+1]
-	wij := 1.0
+	wij2 := 2.0
 	if i == j {
-		wij = 0.5
+		wij2 = 1
 	}
-	pi, pj := e.pi[:IJ+1], e.pj[:IJ+1]
+	pi, pj, wkl := e.pi[:IJ+1], e.pj[:IJ+1], e.wkl[:IJ+1]
 	for d := range D {
 		dd, dp, jpd, bd := D[d], Dp[d][:IJ+1], jp[d][:IJ+1], B[d]
 		dpij := dp[IJ]
 		di, dj := dd[i*n:(i+1)*n], dd[j*n:(j+1)*n]
 		bi, bj := bd[i*n:(i+1)*n], bd[j*n:(j+1)*n]
 		var jsum float64
-		for KL, v := range row {
-			if v == 0 {
-				continue
-			}
-			g := v
-			if KL == IJ {
-				g *= 0.5
-			}
+		// KL < IJ; the diagonal KL = IJ (g = v/2) is done after the loop.
+		for KL, v := range row[:IJ] {
 			k, l := int(pi[KL]), int(pj[KL])
-			jsum += g * dp[KL]
-			jpd[KL] += g * dpij
-			f2 := 2 * g * wij
-			if k == l {
-				f2 *= 0.5
-			}
+			jsum += v * dp[KL]
+			jpd[KL] += v * dpij
+			f2 := v * wij2 * wkl[KL]
 			bi[k] += f2 * dj[l]
 			bj[k] += f2 * di[l]
 			bi[l] += f2 * dj[k]
 			bj[l] += f2 * di[k]
 		}
+		g := 0.5 * row[IJ]
+		jsum += g * dpij
+		jpd[IJ] += g * dpij
+		f2 := g * wij2 * wkl[IJ]
+		bi[i] += f2 * dj[j]
+		bj[i] += f2 * di[j]
+		bi[j] += f2 * dj[i]
+		bj[j] += f2 * di[i]
 		jpd[IJ] += jsum
 	}
 }

@@ -1,0 +1,83 @@
+package integral
+
+import (
+	"context"
+	"fmt"
+	"math/rand/v2"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// Benchmark systems: water/cc-pVDZ (24 spherical functions, geometry of
+// the worked example) and benzene/6-31G* (102 Cartesian functions, our
+// own standard-bond-length geometry, see benzeneAtoms).
+func benchSystems(b *testing.B) []struct {
+	name   string
+	shells []Shell
+} {
+	b.Helper()
+	water := readGeom(b, "testdata/worked-water/STO-3G/geom.dat")
+	return []struct {
+		name   string
+		shells []Shell
+	}{
+		{"water-cc-pVDZ", basisShells(b, "cc-pvdz-HCO.json", water, true)},
+		{"benzene-6-31Gs", basisShells(b, "6-31gs-HCO.json", benzeneAtoms(), false)},
+	}
+}
+
+func BenchmarkComputeERI(b *testing.B) {
+	for _, sys := range benchSystems(b) {
+		for _, workers := range []int{1, 2} {
+			b.Run(fmt.Sprintf("%s/workers=%d", sys.name, workers), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					if _, err := ComputeERI(context.Background(), sys.shells, NormPerComponent, workers); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}
+
+func benchDensity(n int) []*mat.SymDense {
+	rng := rand.New(rand.NewPCG(1, 1))
+	return []*mat.SymDense{randomDensity(rng, n)}
+}
+
+func BenchmarkJK(b *testing.B) {
+	for _, sys := range benchSystems(b) {
+		n := NumFunctions(sys.shells)
+		dens := benchDensity(n)
+		j := []*mat.SymDense{mat.NewSymDense(n, nil)}
+		k := []*mat.SymDense{mat.NewSymDense(n, nil)}
+		for _, workers := range []int{1, 2} {
+			eri, err := ComputeERI(context.Background(), sys.shells, NormPerComponent, workers)
+			if err != nil {
+				b.Fatal(err)
+			}
+			b.Run(fmt.Sprintf("%s/incore/workers=%d", sys.name, workers), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					if err := eri.JK(context.Background(), dens, j, k); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+			dir, err := NewDirect(sys.shells, NormPerComponent, workers, 1e-12)
+			if err != nil {
+				b.Fatal(err)
+			}
+			b.Run(fmt.Sprintf("%s/direct/workers=%d", sys.name, workers), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					if err := dir.JK(context.Background(), dens, j, k); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}
