@@ -2,9 +2,13 @@ module wellscan
 
 go 1.26
 
-require github.com/spf13/cobra v1.10.2
+require (
+	github.com/spf13/cobra v1.10.2
+	gonum.org/v1/gonum v0.17.0
+)
 
 require (
 	github.com/inconshreveable/mousetrap v1.1.0 // indirect
 	github.com/spf13/pflag v1.0.10 // indirect
+	golang.org/x/tools v0.30.0 // indirect
 )
