@@ -7,7 +7,7 @@ import (
 
 // ForceConstants are the derivatives of a potential at its minimum, in
 // atomic units: X is the position of the minimum (bohr, or radian for an
-// angle), F2 = V''(X) in E_h/bohr², F3 = V'''(X) in E_h/bohr³, F4 = V''''(X)
+// angle), F2 = V”(X) in E_h/bohr², F3 = V”'(X) in E_h/bohr³, F4 = V””(X)
 // in E_h/bohr⁴ (E_h/rad^n for angles).
 type ForceConstants struct {
 	X, F2, F3, F4 float64

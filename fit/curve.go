@@ -99,13 +99,13 @@ type Options struct {
 // Result is the analysis of one curve. It is plain data, safe to encode
 // as JSON (no NaN or Inf values).
 type Result struct {
-	Kind          string     `json:"coordinate_kind"`
-	PointsUsed    int        `json:"points_used"`
-	Minima        []Minimum  `json:"minima"`
-	Morse         *MorseFit  `json:"morse,omitempty"`
-	ExtendedMorse *MorseFit  `json:"extended_morse,omitempty"`
-	Warnings      []string   `json:"warnings"`
-	Isotopologues []MassSet  `json:"isotopologue_masses,omitempty"`
+	Kind          string    `json:"coordinate_kind"`
+	PointsUsed    int       `json:"points_used"`
+	Minima        []Minimum `json:"minima"`
+	Morse         *MorseFit `json:"morse,omitempty"`
+	ExtendedMorse *MorseFit `json:"extended_morse,omitempty"`
+	Warnings      []string  `json:"warnings"`
+	Isotopologues []MassSet `json:"isotopologue_masses,omitempty"`
 }
 
 // Minimum is one well of the curve. For a distance coordinate the

@@ -37,7 +37,7 @@ func (s *LevelSet) Below(e float64) int {
 }
 
 // Levels solves the radial (or one-coordinate) Schrödinger equation
-// −ħ²/(2μ) ψ'' + [V(r) + ħ²J(J+1)/(2μr²)] ψ = E ψ by the sinc discrete
+// −ħ²/(2μ) ψ” + [V(r) + ħ²J(J+1)/(2μr²)] ψ = E ψ by the sinc discrete
 // variable representation on n equally spaced points from rmin to rmax
 // (bohr), mu in amu. potential returns hartree. The grid ends act as hard
 // walls: choose them where the states of interest have vanished. J > 0 is
