@@ -356,3 +356,39 @@ func linspace(a, b float64, n int) []float64 {
 	}
 	return r
 }
+
+func TestCurve_PolyatomicBend_OneDimensional(t *testing.T) {
+	// A bending scan of the invented triatomic of wilson_test.go: the
+	// effective mass is 1/G_φφ (Wilson, Decius & Cross 1955) and the
+	// harmonic wavenumber is √(f2·G)/(2πc) in any units.
+	pos, _, _, _ := bentTriatomic()
+	row, err := BRowAngle(pos, [3]int{0, 1, 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	g, err := GElement(pos, []float64{massH, mass16O, massH}, row)
+	if err != nil {
+		t.Fatal(err)
+	}
+	const f2, th0 = 0.16, 104.5 * math.Pi / 180 // E_h/rad², invented
+	v := func(x float64) float64 { d := x - th0; return 0.5*f2*d*d - 0.02*d*d*d + 0.01*d*d*d*d }
+	r := linspace(th0-1.1, th0+1.1, 111)
+	res, err := Curve(t.Context(), r, sampleAt(v, r), Options{Kind: Angle, Isotopologues: []MassSet{{Name: "bend", EffectiveMass: 1 / g}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mn := res.Minima[0]
+	if !mn.OneD || mn.Be != 0 {
+		t.Errorf("bend block: one_dimensional_along_scan = %v, b_e = %g; want true and no rotational constant", mn.OneD, mn.Be)
+	}
+	near(t, "θ_e (°)", mn.ThetaEDegree, 104.5, 1e-7, 0)
+	// The quartic is exact for the polynomial fit: round-off only.
+	near(t, "ω (cm⁻¹)", mn.OmegaE, math.Sqrt(f2*g/AmuInElectronMass)*HartreeInCm1, 0, 1e-7)
+	if len(mn.Levels) < 3 {
+		t.Fatalf("%d levels, want at least 3; warnings %q", len(mn.Levels), mn.Warnings)
+	}
+	// The grid fundamental agrees with the perturbative one to the
+	// higher-order terms (small for this weak anharmonicity; observed
+	// difference well under 1 cm⁻¹).
+	near(t, "fundamental", mn.Fundamental, mn.OmegaE-2*mn.OmegaExe, 1, 0)
+}
