@@ -835,11 +835,7 @@ func gridLevels(c *Constants, sp interp.Predictor, x, e []float64, w well, m *Mi
 		n = min(max(n, 120), 600)
 	}
 	V := func(r float64) float64 { return sp.Predict(r) }
-	j := 0
-	if mi.diatomic {
-		j = 0
-	}
-	ls, err := Levels(V, mi.mu, rlo, rhi, n, j)
+	ls, err := Levels(V, mi.mu, rlo, rhi, n, 0)
 	if err != nil {
 		c.ConstantWarnings = append(c.ConstantWarnings, "grid levels: "+err.Error())
 		return
@@ -874,17 +870,25 @@ func gridLevels(c *Constants, sp interp.Predictor, x, e []float64, w well, m *Mi
 	} else {
 		c.ConstantWarnings = append(c.ConstantWarnings, "only v = 0 lies within the sampled energies; the fundamental is the perturbative ω_e − 2ω_e x_e")
 	}
-	above := len(ls.Energies) - nb
 	if opt.Asymptote == nil || *opt.Asymptote > top {
 		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("levels above %.1f cm⁻¹ (the lowest edge of the sampled well) are not determined by the data: %d level(s) listed, higher ones omitted", depth*HartreeInCm1, nb))
 	}
-	_ = above
 }
 
-// sanitize replaces NaN and Inf, which JSON cannot carry, with 0.
+// sanitize replaces NaN and Inf, which JSON cannot carry, with 0, and nil
+// warning lists with empty ones.
 func sanitize(r *Result) {
+	if r.Warnings == nil {
+		r.Warnings = []string{}
+	}
 	for i := range r.Minima {
 		m := &r.Minima[i]
+		if m.Warnings == nil {
+			m.Warnings = []string{}
+		}
+		if m.Isotopologues == nil {
+			m.Isotopologues = []Constants{}
+		}
 		for _, p := range []*float64{&m.XE, &m.XEStderr, &m.REAngstrom, &m.REStderrAng, &m.RESpreadAng, &m.ThetaEDegree, &m.ThetaEStderr, &m.EMin, &m.EMinStderr, &m.K, &m.KStderr, &m.KSpread, &m.KAngle, &m.KAngleStderr, &m.KMdynPerAng, &m.KNPerM, &m.KThreePoint, &m.F3, &m.F4, &m.RMSResidual, &m.WindowEnergy} {
 			fin(p)
 		}
