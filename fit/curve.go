@@ -149,7 +149,10 @@ type Minimum struct {
 // Constants are the mass-dependent results for one isotopologue, in cm⁻¹
 // unless the key says otherwise. Rotational constants are given only for a
 // diatomic; for a polyatomic the block is labelled one-dimensional along the
-// scan. levels_cm1 are G(v) above the minimum from the grid calculation.
+// scan. levels_cm1 are G(v) above the minimum from the grid calculation;
+// levels_wall_shift_cm1 is, per level, how far it moves when the grid loses
+// a point at each end: an estimate of its error from where the data stop
+// (levels moving more than 0.1 cm⁻¹ are not listed).
 type Constants struct {
 	Name             string    `json:"name"`
 	Mass             float64   `json:"mass_amu"`
@@ -170,6 +173,7 @@ type Constants struct {
 	ZPE              float64   `json:"zpe_cm1"`
 	ZPEGrid          float64   `json:"zpe_grid_cm1,omitempty"`
 	Levels           []float64 `json:"levels_cm1"`
+	LevelsWallShift  []float64 `json:"levels_wall_shift_cm1"`
 	DeltaG           []float64 `json:"delta_g_cm1"`
 	Fundamental      float64   `json:"fundamental_cm1"`
 	FundamentalGrid  bool      `json:"fundamental_from_grid"`
@@ -812,8 +816,10 @@ func threePoint(x, e []float64, w well) float64 {
 }
 
 // wallTol is the largest shift (hartree) of a level, when the grid loses one
-// point at each end, for which the level is still reported: 0.01 cm⁻¹.
-const wallTol = 0.01 / HartreeInCm1
+// point at each end, for which the level is still reported: 0.1 cm⁻¹. The
+// shift is of the same size as the level's error from where the data stop
+// (checked against analytic Morse levels), and is reported beside each level.
+const wallTol = 0.1 / HartreeInCm1
 
 // gridLevels fills the level results of one isotopologue from a DVR on the
 // spline over the well.
@@ -854,6 +860,9 @@ func gridLevels(c *Constants, sp interp.Predictor, x, e []float64, w well, m *Mi
 	c.Levels = make([]float64, nb)
 	for v := range nb {
 		c.Levels[v] = (ls.Energies[v] - m.EMin) * HartreeInCm1
+		if ls.WallShift != nil {
+			c.LevelsWallShift = append(c.LevelsWallShift, ls.WallShift[v]*HartreeInCm1)
+		}
 		if mi.diatomic {
 			c.Bv = append(c.Bv, BFromInvR2(ls.InvR2[v], mi.mu))
 		}
@@ -903,7 +912,7 @@ func sanitizeConstants(c *Constants) {
 	for _, p := range []*float64{&c.OmegaE, &c.OmegaEStderr, &c.OmegaESpread, &c.OmegaExe, &c.OmegaExeStderr, &c.OmegaExeSpread, &c.Be, &c.BeStderr, &c.AlphaE, &c.AlphaEStderr, &c.AlphaESpread, &c.DbarE, &c.Y00, &c.ZPE, &c.ZPEGrid, &c.Fundamental, &c.AlphaEGrid, &c.DeCm1, &c.D0Cm1, &c.DeEV, &c.D0EV} {
 		fin(p)
 	}
-	for _, s := range [][]float64{c.Levels, c.DeltaG, c.Bv} {
+	for _, s := range [][]float64{c.Levels, c.LevelsWallShift, c.DeltaG, c.Bv} {
 		for i := range s {
 			fin(&s[i])
 		}

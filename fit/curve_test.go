@@ -392,3 +392,74 @@ func TestCurve_PolyatomicBend_OneDimensional(t *testing.T) {
 	// difference well under 1 cm⁻¹).
 	near(t, "fundamental", mn.Fundamental, mn.OmegaE-2*mn.OmegaExe, 1, 0)
 }
+
+func TestCurve_Weights_ScaleInvariantAndZeroDropsPoint(t *testing.T) {
+	m := coLike
+	r := linspace(1.8, 2.6, 41)
+	e := sampleAt(m.v, r)
+	rng := rand.New(rand.NewPCG(7, 7))
+	for i := range e {
+		e[i] += 1e-6 * rng.NormFloat64() // seeded noise so the stderr is not 0
+	}
+	w1 := make([]float64, len(r))
+	w10 := make([]float64, len(r))
+	for i := range w1 {
+		w1[i] = 1 + float64(i%3)
+		w10[i] = 10 * w1[i]
+	}
+	opt := func(w []float64) Options {
+		return Options{Weights: w, Isotopologues: []MassSet{{Masses: []float64{mass12C, mass16O}}}, NoGlobal: true, NoLevels: true}
+	}
+	a, err := Curve(t.Context(), r, e, opt(w1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := Curve(t.Context(), r, e, opt(w10))
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Relative weights: a common factor changes nothing (the residual
+	// variance absorbs it; common practice). 1e-12 relative is round-off;
+	// the standard errors go through a finite-difference Jacobian, whose
+	// round-off is ~1e-7 relative, hence 1e-6.
+	near(t, "r_e", b.Minima[0].XE, a.Minima[0].XE, 0, 1e-12)
+	near(t, "r_e stderr", b.Minima[0].XEStderr, a.Minima[0].XEStderr, 0, 1e-6)
+	near(t, "ω_e stderr", b.Minima[0].OmegaEStderr, a.Minima[0].OmegaEStderr, 0, 1e-6)
+	// A wild point with weight 0 is the same as no point at all.
+	drop := func(s []float64) []float64 { return append(append([]float64{}, s[:20]...), s[21:]...) }
+	want, err := Curve(t.Context(), drop(r), drop(e), opt(drop(w1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	e[20] += 0.01
+	w1[20] = 0
+	c, err := Curve(t.Context(), r, e, opt(w1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	near(t, "r_e with a zero-weight outlier", c.Minima[0].XE, want.Minima[0].XE, 0, 1e-12)
+}
+
+func TestCurve_GivenAsymptote_GivesD0(t *testing.T) {
+	m := coLike
+	r := refinedGrid(1.6, m.re, 3.2, 0.01, 0.1)
+	lim := m.de - 112.5
+	res, err := Curve(t.Context(), r, sampleAt(m.v, r), Options{Asymptote: &lim, Isotopologues: []MassSet{{Masses: []float64{mass12C, mass16O}}}, NoGlobal: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mn := res.Minima[0]
+	// D_e = limit − E_min exactly; D_0 = D_e − G(0) with the analytic Morse
+	// G(0) (Morse 1929); the grid ZPE is good to 0.01 cm⁻¹ here.
+	near(t, "D_e", mn.DeCm1, m.de*HartreeInCm1, 1e-4, 0)
+	near(t, "D_0", mn.D0Cm1, m.de*HartreeInCm1-m.level(0), 0.05, 0)
+}
+
+func TestCurve_Cancelled_ReturnsContextError(t *testing.T) {
+	ctx, cancel := context.WithCancel(t.Context())
+	cancel()
+	r := linspace(1.8, 2.6, 41)
+	if _, err := Curve(ctx, r, sampleAt(coLike.v, r), Options{}); err == nil {
+		t.Error("a cancelled context gave no error")
+	}
+}
