@@ -1,0 +1,119 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+
+	"wellscan/planner"
+)
+
+// writeMorseTable writes an invented Morse curve (D_e = 0.4 E_h, a = 1.2
+// bohr⁻¹, r_e = 2.13 bohr) in Å and eV.
+func writeMorseTable(t *testing.T) string {
+	t.Helper()
+	var b strings.Builder
+	b.WriteString("# invented Morse curve for the command test\nr [angstrom], E [eV], converged\n")
+	for i := range 90 {
+		r := 1.8 + 0.01*float64(i)
+		s := 1 - math.Exp(-1.2*(r-2.13))
+		e := (0.4*s*s - 100) * planner.HartreeInEV
+		fmt.Fprintf(&b, "%.10f, %.12f, true\n", r*planner.BohrInAngstrom, e)
+	}
+	p := filepath.Join(t.TempDir(), "curve.csv")
+	if err := os.WriteFile(p, []byte(b.String()), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+func runFit(t *testing.T, args ...string) (string, error) {
+	t.Helper()
+	var out bytes.Buffer
+	a := &app{stdout: &out, stderr: &out}
+	cmd := newFitCommand(a)
+	cmd.SetArgs(args)
+	cmd.SetOut(&out)
+	cmd.SetErr(&out)
+	err := cmd.ExecuteContext(t.Context())
+	return out.String(), err
+}
+
+func TestFitCommand_Table_JSON(t *testing.T) {
+	p := writeMorseTable(t)
+	out, err := runFit(t, "--table", p, "--atoms", "C,O", "--isotopes", "13C,16O", "--json")
+	if err != nil {
+		t.Fatalf("fit: %v\n%s", err, out)
+	}
+	var res map[string]any
+	if err := json.Unmarshal([]byte(out), &res); err != nil {
+		t.Fatalf("output is not JSON: %v\n%s", err, out)
+	}
+	minima, _ := res["minima"].([]any)
+	if len(minima) != 1 {
+		t.Fatalf("%d minima in the JSON, want 1", len(minima))
+	}
+	m := minima[0].(map[string]any)
+	for _, k := range []string{"r_e_angstrom", "r_e_stderr_angstrom", "e_min_hartree", "k_hartree_per_bohr2", "omega_e_cm1", "omega_e_x_e_cm1", "b_e_cm1", "alpha_e_cm1", "zpe_cm1", "levels_cm1", "fundamental_cm1", "warnings", "isotopologues"} {
+		if _, ok := m[k]; !ok {
+			t.Errorf("JSON minimum has no %q", k)
+		}
+	}
+	// r_e = 2.13 bohr in Å (CODATA 2018 a0); the table carries 10 decimals
+	// in Å, so 1e-7 Å is ample.
+	if got := m["r_e_angstrom"].(float64); !scalar.EqualWithinAbsOrRel(got, 2.13*planner.BohrInAngstrom, 1e-7, 0) {
+		t.Errorf("r_e = %v Å, want %v", got, 2.13*planner.BohrInAngstrom)
+	}
+	iso := m["isotopologues"].([]any)
+	if len(iso) != 2 || iso[1].(map[string]any)["name"] != "13C16O" {
+		t.Errorf("isotopologues = %v, want 12C16O and 13C16O", iso)
+	}
+}
+
+func TestFitCommand_Table_Text(t *testing.T) {
+	p := writeMorseTable(t)
+	out, err := runFit(t, "--table", p, "--atoms", "C,O")
+	if err != nil {
+		t.Fatalf("fit: %v\n%s", err, out)
+	}
+	for _, want := range []string{"r_e = 1.1271", "12C16O", "G(v)/cm⁻¹"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("text output lacks %q:\n%s", want, out)
+		}
+	}
+}
+
+func TestFitCommand_BadInput_Errors(t *testing.T) {
+	p := writeMorseTable(t)
+	bad := filepath.Join(t.TempDir(), "bad.csv")
+	if err := os.WriteFile(bad, []byte("r, e [hartree]\n1, 2\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	tests := []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"no input", nil, "nothing to fit"},
+		{"directory", []string{"somescan"}, "scan directory"},
+		{"bad atoms", []string{"--table", p, "--atoms", "C"}, "expected two atoms"},
+		{"unknown isotope", []string{"--table", p, "--atoms", "C,O", "--isotopes", "99C,16O"}, "99C"},
+		{"no coordinate unit", []string{"--table", bad}, "need a coordinate column"},
+		{"missing file", []string{"--table", filepath.Join(t.TempDir(), "none.csv")}, "no such file"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := runFit(t, tc.args...)
+			if err == nil || !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("error = %v, want one mentioning %q", err, tc.want)
+			}
+		})
+	}
+}

@@ -1,0 +1,33 @@
+package fit
+
+// Physical constants, from the 2018 CODATA recommended values
+// (E. Tiesinga, P. J. Mohr, D. B. Newell, B. N. Taylor, "CODATA recommended
+// values of the fundamental physical constants: 2018", Rev. Mod. Phys. 93,
+// 025010 (2021), doi:10.1103/RevModPhys.93.025010).
+//
+// They duplicate a few of planner's constants on purpose: fit imports no
+// other wellscan package, so it carries the handful it needs, with the same
+// edition named. A test in the cmd layer may compare the two sets.
+const (
+	// BohrInAngstrom is the Bohr radius a0 in ångström (CODATA 2018).
+	BohrInAngstrom = 0.529177210903
+	// HartreeInCm1 is the hartree as a wavenumber in cm⁻¹ (CODATA 2018:
+	// hartree–inverse metre relationship 2.1947463136320e7 m⁻¹).
+	HartreeInCm1 = 219474.63136320
+	// HartreeInEV is the hartree in electronvolt (CODATA 2018).
+	HartreeInEV = 27.211386245988
+	// HartreeInKJPerMol is the molar hartree energy E_h N_A in kJ/mol
+	// (CODATA 2018).
+	HartreeInKJPerMol = 2625.4996394799
+	// AmuInElectronMass is m_u/m_e (CODATA 2018: electron mass
+	// 5.48579909065e-4 u).
+	AmuInElectronMass = 1 / 5.48579909065e-4
+	// HartreeInJoule is E_h in joule (CODATA 2018).
+	HartreeInJoule = 4.3597447222071e-18
+	// HartreePerBohr2InNPerM converts a force constant from E_h/a0² to N/m
+	// (E_h and a0 from CODATA 2018; 1 E_h/a0² ≈ 1556.89 N/m).
+	HartreePerBohr2InNPerM = HartreeInJoule / (BohrInAngstrom * 1e-10 * BohrInAngstrom * 1e-10)
+	// HartreePerBohr2InMdynPerAngstrom is the same in mdyn/Å
+	// (1 mdyn/Å = 100 N/m, by definition of the units).
+	HartreePerBohr2InMdynPerAngstrom = HartreePerBohr2InNPerM / 100
+)
