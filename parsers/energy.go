@@ -7,6 +7,7 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 )
 
 // Errors an [Extractor] returns, wrapped in an [*ExtractError] that adds the
@@ -189,6 +190,9 @@ func (s ExtractorSpec) Compile() (Extractor, error) {
 		if label == "" {
 			return Extractor{}, fmt.Errorf("parsers: energy label %q has no text before the separator", clip(s.Label))
 		}
+		if !utf8.ValidString(label) {
+			return Extractor{}, fmt.Errorf("parsers: energy label %q is not valid UTF-8 text", clip(label))
+		}
 		if strings.ContainsAny(label, "\r\n") {
 			return Extractor{}, fmt.Errorf("parsers: energy label %q spans several lines; a label is the start of one line", clip(s.Label))
 		}
@@ -198,7 +202,11 @@ func (s ExtractorSpec) Compile() (Extractor, error) {
 		for i, w := range words {
 			words[i] = regexp.QuoteMeta(w)
 		}
-		x.re = regexp.MustCompile(`(?m)^[ \t]*` + strings.Join(words, `[ \t]+`) + `[ \t]*[=:][ \t]*(?P<energy>[^\s,;]*)`)
+		re, err := regexp.Compile(`(?m)^[ \t]*` + strings.Join(words, `[ \t]+`) + `[ \t]*[=:][ \t]*(?P<energy>[^\s,;]*)`)
+		if err != nil {
+			return Extractor{}, fmt.Errorf("parsers: energy label %q: %w", clip(label), err)
+		}
+		x.re = re
 		x.desc = fmt.Sprintf("label %q", clip(label))
 	case KindJSON:
 		if s.Pattern != "" || s.Label != "" {

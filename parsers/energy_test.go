@@ -177,6 +177,7 @@ func TestExtractorSpec_Compile_Errors(t *testing.T) {
 		{"unknown kind", ExtractorSpec{Kind: "xml", Path: "a", Unit: "eV"}, `unknown energy extractor kind "xml"`},
 		{"kind and wrong field", ExtractorSpec{Kind: "regexp", Label: "e", Unit: "eV"}, "takes a pattern, not a label"},
 		{"label only separator", ExtractorSpec{Label: " = ", Unit: "eV"}, "no text before the separator"},
+		{"label not UTF-8", ExtractorSpec{Label: "\x94", Unit: "eV"}, "not valid UTF-8"},
 		{"label two lines", ExtractorSpec{Label: "a\nb", Unit: "eV"}, "spans several lines"},
 		{"bad json path", ExtractorSpec{Path: "a..b", Unit: "eV"}, "expected a key"},
 	}
