@@ -137,7 +137,10 @@ func TestConfig_Run_FailureClasses(t *testing.T) {
 			ProgramMissing, -1, os.ErrNotExist, "run.sh"},
 		{"exit 3", func(c Config) Config { c.Args = []string{"sh", testdata(t, "exit3.sh")}; return c },
 			ExitNonZero, 3, nil, "exited with status 3; stderr: last 1 line(s) of the output:\n  | toy: unknown keyword 'nonsense' on line 2"},
-		{"killed by a signal", func(c Config) Config { c.Args = []string{"sh", "-c", "echo toy: crashing >&2; kill -KILL $$"}; return c },
+		{"killed by a signal", func(c Config) Config {
+			c.Args = []string{"sh", "-c", "echo toy: crashing >&2; kill -KILL $$"}
+			return c
+		},
 			ExitNonZero, -1, nil, "sh was killed by signal killed; stderr: last 1 line(s) of the output:\n  | toy: crashing"},
 		{"energy missing", func(c Config) Config { return printConfig(t, "converged, but no energy line") },
 			EnergyMissing, 0, parsers.ErrEnergyMissing, "| converged, but no energy line"},
