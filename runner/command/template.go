@@ -111,7 +111,7 @@ type Point struct {
 func (p Point) XYZ(unit string) (string, error) {
 	u, ok := planner.ParseLengthUnit(unit)
 	if !ok {
-		return "", fmt.Errorf("XYZ: unknown length unit %q; expected \"angstrom\" or \"bohr\"", unit)
+		return "", fmt.Errorf("unknown length unit %q; expected \"angstrom\" or \"bohr\"", unit)
 	}
 	var b strings.Builder
 	for i, a := range p.Atoms {
@@ -137,7 +137,7 @@ func (p Point) Coord(name string) (Number, error) {
 			names = append(names, k)
 		}
 		slices.Sort(names)
-		return 0, fmt.Errorf("Coord: no coordinate %q; this scan has %s", name, strings.Join(names, ", "))
+		return 0, fmt.Errorf("no coordinate %q; this scan has %s", name, strings.Join(names, ", "))
 	}
 	return v, nil
 }
