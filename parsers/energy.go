@@ -22,6 +22,11 @@ var (
 	ErrEnergyInvalid = errors.New("parsers: energy invalid")
 )
 
+// MaxMatches bounds how many occurrences of a pattern or label an
+// extractor collects, and so the memory a pattern that matches almost
+// everywhere can take.
+const MaxMatches = 1 << 18
+
 // TailLines is how many lines of output an [ExtractError] quotes.
 const TailLines = 8
 
@@ -315,11 +320,13 @@ func (x Extractor) number(text string) (float64, *ExtractError) {
 }
 
 func (x Extractor) findText(output []byte) (string, *ExtractError) {
-	var locs [][]int
-	if x.match > 0 {
-		locs = x.re.FindAllSubmatchIndex(output, x.match)
-	} else {
-		locs = x.re.FindAllSubmatchIndex(output, -1)
+	limit := MaxMatches + 1
+	if x.match > 0 && x.match < limit {
+		limit = x.match
+	}
+	locs := x.re.FindAllSubmatchIndex(output, limit)
+	if len(locs) > MaxMatches {
+		return "", &ExtractError{Err: ErrEnergyMissing, Detail: fmt.Sprintf("%s occurs more than %d times; make it match only energy lines", x.desc, MaxMatches)}
 	}
 	i := x.match - 1
 	if x.match < 0 {

@@ -102,6 +102,7 @@ func TestExtractor_Extract_Fails(t *testing.T) {
 		{"label with nothing after", ExtractorSpec{Label: "energy", Unit: "eV"}, "energy =\n", ErrEnergyInvalid, "empty"},
 		{"text in group", ExtractorSpec{Pattern: `converged (?P<energy>\w+)`, Unit: "hartree"}, toyLog, ErrEnergyInvalid, `"after" is not a number`},
 		{"optional group unused", ExtractorSpec{Pattern: `converged( after (?P<energy>\d+))?`, Match: "first", Unit: "hartree"}, "converged\n", ErrEnergyInvalid, "took no part"},
+		{"too many matches", ExtractorSpec{Pattern: `(?P<energy>a)`, Unit: "hartree"}, strings.Repeat("a\n", MaxMatches+1), ErrEnergyMissing, "more than 262144 times"},
 		{"json not json", ExtractorSpec{Path: "energy", Unit: "hartree"}, toyLog, ErrEnergyMissing, "not JSON"},
 		{"json truncated", ExtractorSpec{Path: "energy", Unit: "hartree"}, jsonLines + `{"iter": 4, "ener`, ErrEnergyMissing, "document 4"},
 		{"json empty", ExtractorSpec{Path: "energy", Unit: "hartree"}, "  \n", ErrEnergyMissing, "no JSON document"},
