@@ -1,10 +1,33 @@
 // Package parsers reads text that other people's programs and files
-// produce: XYZ geometries and (with the external-command backend) energies
-// extracted from program output. It imports no other wellscan package.
+// produce: XYZ geometries, and energies extracted from program output for
+// the external-command backend. It imports no other wellscan package.
+//
+// # Overview
+//
+// An energy extractor is described by an [ExtractorSpec] (plain data, as a
+// spec states it) and compiled into an [Extractor]: a regular expression
+// with a named group energy, a "label = value" line, or a path into JSON
+// output ([ParseJSONPath]); each picks the first, last or n-th occurrence
+// and names the unit the program writes. [Plausibility] rejects values that
+// cannot be right for a molecule (positive total energy, a spike against
+// both neighbours).
+//
+// # Units
+//
+// Extracted energies are returned in hartree, converted from hartree, eV,
+// kJ/mol, kcal/mol or cm⁻¹ with CODATA 2018 factors ([HartreeInEV] and
+// friends). XYZ coordinates are returned as written; the caller knows the
+// file's unit.
 //
 // # Invariants
 //
-// No parser panics on any input; every error names the source (file name or
-// the label the caller gave) and the line it concerns. Every parser has a
-// fuzz target.
+// No parser panics on any input; every error names the source (file name,
+// the label the caller gave, or the extractor) and the line or item it
+// concerns, and extraction errors quote the last lines of the output
+// ([Tail]). Numbers may carry Fortran D exponents ([ParseFloat]). Every
+// parser has a fuzz target.
+//
+// # Concurrency
+//
+// Compiled extractors and paths are immutable and safe for concurrent use.
 package parsers

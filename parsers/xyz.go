@@ -138,12 +138,21 @@ func atomLine(text string) (string, [3]float64, error) {
 }
 
 // ParseFloat parses a decimal number, accepting Fortran-style D/d exponents
-// ("1.5D-03") as well as E.
+// ("1.5D-03") as well as E. Hexadecimal floats ("0x1.dp3") are read as Go
+// reads them: their digit d is not an exponent.
 func ParseFloat(s string) (float64, error) {
-	if strings.ContainsAny(s, "dD") {
+	if strings.ContainsAny(s, "dD") && !isHex(s) {
 		s = strings.NewReplacer("D", "E", "d", "e").Replace(s)
 	}
 	return strconv.ParseFloat(s, 64)
+}
+
+// isHex reports whether s has a hexadecimal prefix after an optional sign.
+func isHex(s string) bool {
+	if s != "" && (s[0] == '+' || s[0] == '-') {
+		s = s[1:]
+	}
+	return len(s) >= 2 && s[0] == '0' && (s[1] == 'x' || s[1] == 'X')
 }
 
 // WriteXYZ writes frames in the standard XYZ layout with coordinates at

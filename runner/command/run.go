@@ -1,0 +1,495 @@
+package command
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+	"syscall"
+	"time"
+
+	"wellscan/parsers"
+	"wellscan/planner"
+)
+
+// FailureClass says why a point failed; the empty class means it did not.
+// The classes are recorded per point and decide whether a retry can help.
+type FailureClass string
+
+// The failure classes.
+const (
+	// ProgramMissing: the program (or the shell script) does not exist or
+	// is not executable.
+	ProgramMissing FailureClass = "program-missing"
+	// ExitNonZero: the program exited with a non-zero status or was killed
+	// by a signal it did not get from wellscan.
+	ExitNonZero FailureClass = "exit-nonzero"
+	// TimedOut: the program ran past Config.Timeout and was killed.
+	TimedOut FailureClass = "timed-out"
+	// OutputMissing: the program exited cleanly but left out a file listed
+	// in Config.Outputs (or the energy file).
+	OutputMissing FailureClass = "output-missing"
+	// EnergyMissing: the output holds no energy where the extractor looks.
+	EnergyMissing FailureClass = "energy-missing"
+	// EnergyInvalid: the energy is NaN, infinite, not a number, or
+	// implausible (positive, unless allowed).
+	EnergyInvalid FailureClass = "energy-invalid"
+	// SetupFailed: the point could not be prepared (template error,
+	// directory or file could not be written).
+	SetupFailed FailureClass = "setup-failed"
+	// Cancelled: the context was cancelled; the point did not fail on its
+	// own and should be run again later, without counting an attempt.
+	Cancelled FailureClass = "cancelled"
+)
+
+// Retryable reports whether running the same point again may succeed. A
+// missing program, a template error, or an output that holds no valid
+// energy comes back the same way every time (the same input gives the same
+// output), so those are not retried blindly. A non-zero exit (a crash, a
+// full disk, a licence server), a timeout (a loaded machine; the lead may
+// raise the limit) and a cancellation can go differently next time.
+func (f FailureClass) Retryable() bool {
+	switch f {
+	case ExitNonZero, TimedOut, Cancelled:
+		return true
+	}
+	return false
+}
+
+// Outcome is what one run produced. Stdout and Stderr are the paths of the
+// kept output files; ExitCode is -1 when the program did not exit on its
+// own (killed, or never started).
+type Outcome struct {
+	Energy   float64 // hartree; meaningful only when Class is empty
+	Class    FailureClass
+	ExitCode int
+	Input    string
+	Stdout   string
+	Stderr   string
+	Elapsed  time.Duration
+}
+
+// RunError is the error of a failed run. Err is the cause: a
+// parsers.ErrEnergyMissing/ErrEnergyInvalid error, a context error, an
+// exec error, or an error of this package.
+type RunError struct {
+	Key   string
+	Class FailureClass
+	Err   error
+}
+
+func (e *RunError) Error() string {
+	return fmt.Sprintf("command: point %s: %s: %v", e.Key, e.Class, e.Err)
+}
+
+func (e *RunError) Unwrap() error { return e.Err }
+
+// ClassOf returns the failure class carried by err, or "" when err is nil
+// or not from this package.
+func ClassOf(err error) FailureClass {
+	var re *RunError
+	if errors.As(err, &re) {
+		return re.Class
+	}
+	return ""
+}
+
+// maxOutputBytes bounds how much of an output file is read for the energy.
+const maxOutputBytes = 512 << 20
+
+// stderrTailLines is how many lines of stderr a non-zero exit quotes.
+const stderrTailLines = 8
+
+// Run does one point: it renders the input into job.Dir, starts the
+// program there, waits for it (killing its process group on timeout or
+// cancellation), checks the expected outputs and extracts the energy. The
+// error, when not nil, is a [*RunError] whose class is also in the
+// Outcome. The exit-status file is written in every case where the
+// directory exists.
+func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
+	dir, err := filepath.Abs(job.Dir)
+	out := Outcome{ExitCode: -1}
+	fail := func(class FailureClass, err error) (Outcome, error) {
+		out.Class = class
+		if dir != "" {
+			writeStatus(dir, out, err)
+		}
+		return out, &RunError{Key: job.Key, Class: class, Err: err}
+	}
+	if err != nil || job.Dir == "" {
+		dir = ""
+		return fail(SetupFailed, fmt.Errorf("point directory %q: %v", job.Dir, err))
+	}
+	if err := ctx.Err(); err != nil {
+		dir = ""
+		return fail(Cancelled, err)
+	}
+	if err := c.Validate(); err != nil {
+		dir = ""
+		return fail(SetupFailed, err)
+	}
+	x, _ := c.Energy.Compile() // Validate compiled it already
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		dir = ""
+		return fail(SetupFailed, err)
+	}
+	out.Input = filepath.Join(dir, c.InputName)
+	out.Stdout = filepath.Join(dir, StdoutFile)
+	out.Stderr = filepath.Join(dir, StderrFile)
+
+	// A file left by an earlier attempt must not pass for this one's.
+	stale := append(slices.Clone(c.Outputs), ExitStatusFile)
+	if c.EnergyFrom != "" && c.EnergyFrom != Stdout && c.EnergyFrom != StderrFile {
+		stale = append(stale, c.EnergyFrom)
+	}
+	for _, name := range stale {
+		if err := os.Remove(filepath.Join(dir, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+			return fail(SetupFailed, fmt.Errorf("removing %s left by an earlier attempt: %w", name, err))
+		}
+	}
+
+	input, err := c.Render(job)
+	if err != nil {
+		return fail(SetupFailed, err)
+	}
+	if err := os.WriteFile(out.Input, input, 0o644); err != nil {
+		return fail(SetupFailed, err)
+	}
+	if err := writeGeometry(filepath.Join(dir, GeometryFile), job); err != nil {
+		return fail(SetupFailed, err)
+	}
+	env, err := c.environ(job, dir)
+	if err != nil {
+		return fail(SetupFailed, err)
+	}
+	path, args, err := c.program()
+	if err != nil {
+		return fail(ProgramMissing, err)
+	}
+
+	stdout, err := os.Create(out.Stdout)
+	if err != nil {
+		return fail(SetupFailed, err)
+	}
+	defer stdout.Close()
+	stderr, err := os.Create(out.Stderr)
+	if err != nil {
+		return fail(SetupFailed, err)
+	}
+	defer stderr.Close()
+
+	cmd := &exec.Cmd{Path: path, Args: append([]string{path}, args...), Dir: dir, Env: env, Stdout: stdout, Stderr: stderr}
+	ownProcessGroup(cmd)
+	start := time.Now()
+	if err := cmd.Start(); err != nil {
+		if errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission) || errors.Is(err, exec.ErrNotFound) {
+			return fail(ProgramMissing, err)
+		}
+		return fail(SetupFailed, fmt.Errorf("starting %s: %w", path, err))
+	}
+	done := make(chan error, 1)
+	go func() { done <- cmd.Wait() }()
+
+	var timeout <-chan time.Time
+	if c.Timeout > 0 {
+		t := time.NewTimer(c.Timeout)
+		defer t.Stop()
+		timeout = t.C
+	}
+	grace := c.KillGrace
+	if grace == 0 {
+		grace = DefaultKillGrace
+	}
+	var stopped FailureClass
+	var stopErr error
+	select {
+	case err = <-done:
+	case <-timeout:
+		stopped, stopErr = TimedOut, fmt.Errorf("still running after the timeout of %v; its process group was killed", c.Timeout)
+		err = stopGroup(cmd, done, grace)
+	case <-ctx.Done():
+		stopped, stopErr = Cancelled, ctx.Err()
+		err = stopGroup(cmd, done, grace)
+	}
+	// Whatever the program left running in its group ends with it.
+	killGroup(cmd, syscall.SIGKILL)
+	out.Elapsed = time.Since(start)
+	if cmd.ProcessState != nil {
+		out.ExitCode = cmd.ProcessState.ExitCode()
+	}
+	if stopped != "" {
+		out.ExitCode = -1
+		return fail(stopped, stopErr)
+	}
+	if err != nil {
+		var ee *exec.ExitError
+		if !errors.As(err, &ee) {
+			return fail(SetupFailed, fmt.Errorf("waiting for %s: %w", path, err))
+		}
+		return fail(ExitNonZero, fmt.Errorf("%s %s%s", filepath.Base(path), describeExit(cmd.ProcessState), outputTail(out.Stderr, out.Stdout)))
+	}
+
+	var missing []string
+	for _, o := range c.Outputs {
+		if _, err := os.Stat(filepath.Join(dir, o)); err != nil {
+			missing = append(missing, o)
+		}
+	}
+	source := filepath.Join(dir, StdoutFile)
+	switch c.EnergyFrom {
+	case StderrFile:
+		source = out.Stderr
+	case "", Stdout:
+	default:
+		source = filepath.Join(dir, c.EnergyFrom)
+		if _, err := os.Stat(source); err != nil && !slices.Contains(missing, c.EnergyFrom) {
+			missing = append(missing, c.EnergyFrom)
+		}
+	}
+	if len(missing) > 0 {
+		return fail(OutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", ")))
+	}
+	text, err := readCapped(source)
+	if err != nil {
+		return fail(SetupFailed, err)
+	}
+	e, err := x.Extract(text)
+	if err != nil {
+		class := EnergyMissing
+		if errors.Is(err, parsers.ErrEnergyInvalid) {
+			class = EnergyInvalid
+		}
+		return fail(class, fmt.Errorf("%s: %w", filepath.Base(source), err))
+	}
+	if err := (parsers.Plausibility{AllowPositive: c.AllowPositive}).Check(e); err != nil {
+		return fail(EnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err))
+	}
+	out.Energy = e
+	writeStatus(dir, out, nil)
+	return out, nil
+}
+
+// Check looks for the program (or script) and parses the template, so that
+// a plan can report both before anything runs. Its error is a [*RunError]
+// of class ProgramMissing or SetupFailed, with an empty key.
+func (c Config) Check() error {
+	if err := c.Validate(); err != nil {
+		return &RunError{Class: SetupFailed, Err: err}
+	}
+	if _, _, err := c.program(); err != nil {
+		return &RunError{Class: ProgramMissing, Err: err}
+	}
+	if _, err := c.parseTemplate(); err != nil {
+		return &RunError{Class: SetupFailed, Err: err}
+	}
+	return nil
+}
+
+// program resolves what to start: an absolute path and its arguments.
+func (c Config) program() (string, []string, error) {
+	if c.Shell {
+		script, err := filepath.Abs(c.Script)
+		if err != nil {
+			return "", nil, err
+		}
+		if st, err := os.Stat(script); err != nil {
+			return "", nil, fmt.Errorf("shell script %s: %w", c.Script, err)
+		} else if st.IsDir() {
+			return "", nil, fmt.Errorf("shell script %s is a directory", c.Script)
+		}
+		sh, err := exec.LookPath("/bin/sh")
+		if err != nil {
+			return "", nil, fmt.Errorf("/bin/sh: %w", err)
+		}
+		return sh, []string{script}, nil
+	}
+	name := c.Args[0]
+	if strings.ContainsRune(name, '/') {
+		abs, err := filepath.Abs(name)
+		if err != nil {
+			return "", nil, err
+		}
+		name = abs
+	}
+	path, err := exec.LookPath(name)
+	if err != nil {
+		if errors.Is(err, exec.ErrDot) {
+			return "", nil, fmt.Errorf("program %q is found only through a relative PATH entry; give its path", c.Args[0])
+		}
+		return "", nil, fmt.Errorf("program %q: %w", c.Args[0], err)
+	}
+	if !filepath.IsAbs(path) {
+		if path, err = filepath.Abs(path); err != nil {
+			return "", nil, err
+		}
+	}
+	return path, c.Args[1:], nil
+}
+
+// environ builds the program's environment: wellscan's own (less any
+// WELLSCAN_* variables it inherited), then Config.Env, then the point's
+// values.
+func (c Config) environ(job Job, dir string) ([]string, error) {
+	var env []string
+	for _, kv := range os.Environ() {
+		if !strings.HasPrefix(kv, envPrefix) {
+			env = append(env, kv)
+		}
+	}
+	keys := make([]string, 0, len(c.Env))
+	for k := range c.Env {
+		keys = append(keys, k)
+	}
+	slices.Sort(keys)
+	for _, k := range keys {
+		env = append(env, k+"="+c.Env[k])
+	}
+	set := map[string]string{
+		"KEY":          job.Key,
+		"TITLE":        job.Title,
+		"CHARGE":       strconv.Itoa(job.Charge),
+		"MULTIPLICITY": strconv.Itoa(job.Multiplicity),
+		"NATOMS":       strconv.Itoa(len(job.Atoms)),
+		"INPUT":        c.InputName,
+		"XYZ":          GeometryFile,
+		"POINT_DIR":    dir,
+	}
+	names := make([]string, 0, len(job.Coords))
+	for name := range job.Coords {
+		names = append(names, name)
+	}
+	slices.Sort(names)
+	var envNames []string
+	for _, name := range names {
+		en := "COORD_" + envName(name)
+		if _, dup := set[en]; dup {
+			return nil, fmt.Errorf("coordinates named %q and another give the same variable %s%s", name, envPrefix, en)
+		}
+		set[en] = strconv.FormatFloat(job.Coords[name], 'g', -1, 64)
+		envNames = append(envNames, envName(name))
+	}
+	set["COORDS"] = strings.Join(envNames, " ")
+	for _, k := range slices.Sorted(mapKeys(set)) {
+		v := set[k]
+		if strings.ContainsRune(v, 0) {
+			return nil, fmt.Errorf("value of %s%s contains a NUL byte", envPrefix, k)
+		}
+		env = append(env, envPrefix+k+"="+v)
+	}
+	return env, nil
+}
+
+func mapKeys(m map[string]string) func(yield func(string) bool) {
+	return func(yield func(string) bool) {
+		for k := range m {
+			if !yield(k) {
+				return
+			}
+		}
+	}
+}
+
+// envName turns a coordinate name into the tail of a variable name:
+// upper-case letters, digits and '_'; anything else becomes '_'.
+func envName(name string) string {
+	var b strings.Builder
+	for _, r := range name {
+		switch {
+		case r >= 'a' && r <= 'z':
+			b.WriteRune(r - 'a' + 'A')
+		case r >= 'A' && r <= 'Z', r >= '0' && r <= '9', r == '_':
+			b.WriteRune(r)
+		default:
+			b.WriteByte('_')
+		}
+	}
+	return b.String()
+}
+
+func writeGeometry(path string, job Job) error {
+	f := parsers.Frame{Comment: "wellscan point " + job.Key + " (angstrom)"}
+	for _, a := range job.Atoms {
+		f.Labels = append(f.Labels, a.Symbol)
+		f.Coords = append(f.Coords, [3]float64{
+			a.Pos[0] * planner.BohrInAngstrom, a.Pos[1] * planner.BohrInAngstrom, a.Pos[2] * planner.BohrInAngstrom,
+		})
+	}
+	var buf bytes.Buffer
+	if len(f.Labels) > 0 {
+		if err := parsers.WriteXYZ(&buf, []parsers.Frame{f}); err != nil {
+			return err
+		}
+	}
+	return os.WriteFile(path, buf.Bytes(), 0o644)
+}
+
+func describeExit(ps *os.ProcessState) string {
+	if ws, ok := ps.Sys().(syscall.WaitStatus); ok && ws.Signaled() {
+		return "was killed by signal " + ws.Signal().String()
+	}
+	return fmt.Sprintf("exited with status %d", ps.ExitCode())
+}
+
+// outputTail quotes the end of stderr, or of stdout when stderr is empty.
+func outputTail(stderr, stdout string) string {
+	for _, p := range []string{stderr, stdout} {
+		b, err := readTail(p, 64<<10)
+		if err == nil && len(bytes.TrimSpace(b)) > 0 {
+			return "; " + filepath.Base(p) + ": " + parsers.Tail(b, stderrTailLines)
+		}
+	}
+	return "; it wrote nothing to stderr or stdout"
+}
+
+func readTail(path string, n int64) ([]byte, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return nil, err
+	}
+	off := max(st.Size()-n, 0)
+	buf := make([]byte, st.Size()-off)
+	_, err = f.ReadAt(buf, off)
+	return buf, err
+}
+
+func readCapped(path string) ([]byte, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil, err
+	}
+	if st.Size() > maxOutputBytes {
+		return nil, fmt.Errorf("%s is %d bytes, more than the %d read for an energy", filepath.Base(path), st.Size(), maxOutputBytes)
+	}
+	return os.ReadFile(path)
+}
+
+// writeStatus records how the run ended; a failure to write it is not
+// reported, as the outcome is returned anyway.
+func writeStatus(dir string, out Outcome, err error) {
+	class := string(out.Class)
+	if class == "" {
+		class = "ok"
+	}
+	var b strings.Builder
+	fmt.Fprintf(&b, "exit_code = %d\nclass = %s\nelapsed = %s\n", out.ExitCode, class, out.Elapsed.Round(time.Millisecond))
+	if out.Class == "" {
+		fmt.Fprintf(&b, "energy_hartree = %.12f\n", out.Energy)
+	}
+	if err != nil {
+		first, _, _ := strings.Cut(err.Error(), "\n")
+		fmt.Fprintf(&b, "error = %s\n", first)
+	}
+	_ = os.WriteFile(filepath.Join(dir, ExitStatusFile), []byte(b.String()), 0o644)
+}
