@@ -34,7 +34,7 @@ func (f *fakeRunner) programs() []string {
 	return out
 }
 
-func mustClient(t *testing.T, p *Profile, r Runner) *Client {
+func mustClient(t testing.TB, p *Profile, r Runner) *Client {
 	t.Helper()
 	c, err := NewClient(p, r)
 	if err != nil {

@@ -193,14 +193,41 @@ func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
 		return snap, err
 	}
 	seen := map[TaskRef]bool{}
-	for _, t := range listed {
-		ref := t.Ref()
+	update := func(ref TaskRef, t TaskState) {
 		seen[ref] = true
 		old := p.tasks[ref]
 		if old.State != t.State || old.Reason != t.Reason {
 			snap.Changed = true
 		}
 		p.tasks[ref] = TaskStatus{TaskState: t, Seen: true, Submitted: old.Submitted}
+	}
+	arrays := map[string]bool{}
+	for ref := range p.tasks {
+		if ref.Index != NoTask {
+			arrays[ref.Array] = true
+		}
+	}
+	var wholeArrays []TaskState
+	for _, t := range listed {
+		if t.Index == NoTask && arrays[t.Array] {
+			// One record for the whole array: Slurm shows an array whose
+			// tasks never started (for example cancelled while pending) as
+			// a single job with no task index. It stands for every tracked
+			// task of that array without a record of its own.
+			wholeArrays = append(wholeArrays, t)
+			continue
+		}
+		update(t.Ref(), t)
+	}
+	for _, w := range wholeArrays {
+		for ref := range p.tasks {
+			if ref.Array == w.Array && ref.Index != NoTask && !seen[ref] {
+				t := w
+				t.Index = ref.Index
+				t.ID = ref.String()
+				update(ref, t)
+			}
+		}
 	}
 	// Tasks that left the listing and whose final state is not known.
 	var gone []TaskRef

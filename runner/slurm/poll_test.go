@@ -249,3 +249,34 @@ func TestPoller_Watch_GivesUpWhenUnreachable(t *testing.T) {
 		t.Errorf("Watch error = %v after %d calls, want unreachable after %d", err, len(r.calls), MaxPollFailures)
 	}
 }
+
+func TestPoller_Poll_WholeArrayRecordCoversTasks(t *testing.T) {
+	// An array cancelled before any task started is one squeue record with
+	// no task index ("16|16|16|N/A|CANCELLED|None", seen on the local Slurm
+	// 22.05); it stands for every tracked task of that array.
+	r := &fakeRunner{respond: func(Cmd) (Output, error) {
+		return Output{Stdout: []byte("16|16|16|N/A|CANCELLED|None\n15_0|18|15|0|RUNNING|None\n")}, nil
+	}}
+	p, err := NewPoller(mustClient(t, Slurm(), r), "ws-1a2b3c4d", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Track("16", 0, 2, testTime)
+	p.Track("15", 0, 2, testTime)
+	snap, err := p.Poll(t.Context())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, ref := range []TaskRef{{"16", 0}, {"16", 1}} {
+		if got := snap.Tasks[ref]; got.State != "CANCELLED" || !got.Seen {
+			t.Errorf("%s = %+v, want CANCELLED and seen", ref, got)
+		}
+	}
+	if _, ok := snap.Tasks[TaskRef{"16", NoTask}]; ok {
+		t.Error("the whole-array record was kept as a task of its own")
+	}
+	// A plain job record does not stand for another array's tasks.
+	if got := snap.Tasks[TaskRef{"15", 1}]; got.Seen || got.MissingSince.IsZero() {
+		t.Errorf("15_1 = %+v, want unseen and missing", got)
+	}
+}
