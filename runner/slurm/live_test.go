@@ -398,3 +398,45 @@ func TestLive_Timeout_RetriedWithMoreTime(t *testing.T) {
 		t.Errorf("Decide(TIMEOUT) = %+v, want a retry with 2 min", d)
 	}
 }
+
+// The history path: with accounting (SLURM_LOCAL_ACCOUNTING=1) sacct reports
+// the final states of the array's tasks; without it, the client recognises
+// "accounting storage is disabled" and the test skips after checking that.
+func TestLive_History_Sacct(t *testing.T) {
+	e := newLiveEnv(t)
+	start := time.Now()
+	id, _ := e.submit(Resources{Time: 2 * time.Minute, MemMB: 100}, []string{"h=0"}, []string{"exit=3"})
+	e.waitFinal(60 * time.Second)
+	_, err := e.client.History(t.Context(), e.jobName, start.Add(-time.Minute))
+	if errors.Is(err, ErrNoAccounting) {
+		t.Skipf("accounting is off (%v); start the local Slurm with SLURM_LOCAL_ACCOUNTING=1 to test sacct", err)
+	}
+	if err != nil {
+		t.Fatal(err)
+	}
+	// sacct shows array tasks 2-5 s after squeue (localhost notes §5).
+	want := map[TaskRef]string{{id, 0}: "COMPLETED", {id, 1}: "FAILED"}
+	deadline := time.Now().Add(30 * time.Second)
+	for {
+		hist, err := e.client.History(t.Context(), e.jobName, start.Add(-time.Minute))
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := map[TaskRef]string{}
+		exit := map[TaskRef]string{}
+		for _, h := range hist {
+			got[h.Ref()] = h.State
+			exit[h.Ref()] = h.ExitCode
+		}
+		if fmt.Sprint(got) == fmt.Sprint(want) {
+			if exit[TaskRef{id, 1}] != "3:0" {
+				t.Errorf("exit code of the failed task = %q, want 3:0", exit[TaskRef{id, 1}])
+			}
+			return
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("sacct states = %v, want %v", got, want)
+		}
+		time.Sleep(500 * time.Millisecond)
+	}
+}

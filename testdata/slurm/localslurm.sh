@@ -17,7 +17,8 @@
 #   SLURM_LOCAL_KEEP_STATE=1  keep old jobs and node state across a restart
 #                             (default: slurmctld -c, a clean controller)
 #   SLURM_LOCAL_PROBE=1       after start, also wait for one tiny job to finish
-#   SLURM_LOCAL_ACCOUNTING=1  not implemented yet: refused with a message
+#   SLURM_LOCAL_ACCOUNTING=1  also run slurmdbd with a local MariaDB, so that
+#                             sacct works (installs slurmdbd and mariadb-server)
 #
 # Facts this script relies on (observed on the target machine):
 #   - the Debian packages create users, the munge key and the spool/log
@@ -36,6 +37,12 @@ STATE_DIR=/var/lib/slurm/slurmctld
 MUNGE_PID=/run/munge/munged.pid
 CTLD_PID=/run/slurmctld.pid
 SLURMD_PID=/run/slurmd.pid
+DBD_PID=/run/slurmdbd.pid
+DBD_CONF=$CONF_DIR/slurmdbd.conf
+MYSQL_PID=/run/mysqld/mysqld.pid
+MYSQL_SOCK=/run/mysqld/mysqld.sock
+# Password of a database that listens on 127.0.0.1 only, on a test node.
+DB_PASS=slurm-localhost-only
 WAIT_SECS=${SLURM_LOCAL_WAIT:-30}
 
 say() { printf 'localslurm: %s\n' "$*" >&2; }
@@ -99,14 +106,107 @@ stop_daemon() {
   say "stopped $comm (pid $pid)"
 }
 
+accounting_on() { [ "${SLURM_LOCAL_ACCOUNTING:-0}" = 1 ]; }
+
+accounting_lines() {
+  if accounting_on; then
+    printf '%s\n' AccountingStorageType=accounting_storage/slurmdbd AccountingStorageHost=localhost \
+      JobAcctGatherType=jobacct_gather/linux
+  else
+    printf '%s\n' AccountingStorageType=accounting_storage/none JobAcctGatherType=jobacct_gather/none
+  fi
+}
+
+write_dbd_conf() {
+  local tmp
+  tmp=$(mktemp "$CONF_DIR/.slurmdbd.conf.XXXXXX")
+  {
+    echo "# Written by wellscan testdata/slurm/localslurm.sh (SLURM_LOCAL_ACCOUNTING=1)."
+    echo "AuthType=auth/munge"
+    echo "DbdHost=localhost"
+    echo "DbdAddr=127.0.0.1"
+    echo "SlurmUser=root"
+    echo "PidFile=$DBD_PID"
+    echo "LogFile=$LOG_DIR/slurmdbd.log"
+    echo "DebugLevel=info"
+    echo "StorageType=accounting_storage/mysql"
+    echo "StorageHost=localhost"
+    echo "StoragePort=3306"
+    echo "StorageUser=slurm"
+    echo "StoragePass=$DB_PASS"
+    echo "StorageLoc=slurm_acct_db"
+  } >"$tmp"
+  # slurmdbd refuses a config file that others can read (it holds a password).
+  chmod 0600 "$tmp"
+  mv -f "$tmp" "$DBD_CONF"
+}
+
+mysql_ok() { mariadb-admin --socket="$MYSQL_SOCK" ping; }
+
+start_mariadb() {
+  if pid_alive "$MYSQL_PID" mariadbd && mysql_ok >/dev/null 2>&1; then return 0; fi
+  rm -f "$MYSQL_PID"
+  install -d -o mysql -g mysql -m 0755 /run/mysqld
+  # mariadbd stays in the foreground: detach it with setsid and &.
+  setsid /usr/sbin/mariadbd --user=mysql --pid-file="$MYSQL_PID" --socket="$MYSQL_SOCK" \
+    --bind-address=127.0.0.1 --innodb-lock-wait-timeout=900 </dev/null >>"$LOG_DIR/mariadb.log" 2>&1 &
+  wait_for "$WAIT_SECS" "mariadbd" mysql_ok
+  say "mariadbd up"
+}
+
+# prepare_db makes the accounting database and its user. Without KEEP_STATE
+# the database is recreated, so a fresh controller starts with no old jobs.
+prepare_db() {
+  local drop=""
+  [ "${SLURM_LOCAL_KEEP_STATE:-0}" = 1 ] || drop="DROP DATABASE IF EXISTS slurm_acct_db;"
+  mariadb --socket="$MYSQL_SOCK" -e "$drop CREATE DATABASE IF NOT EXISTS slurm_acct_db;
+    CREATE USER IF NOT EXISTS 'slurm'@'localhost' IDENTIFIED BY '$DB_PASS';
+    GRANT ALL ON slurm_acct_db.* TO 'slurm'@'localhost'; FLUSH PRIVILEGES;" ||
+    die "could not prepare the accounting database; see $LOG_DIR/mariadb.log"
+}
+
+dbd_ok() { sacctmgr -n -P list cluster format=cluster; }
+
+start_slurmdbd() {
+  if pid_alive "$DBD_PID" slurmdbd && dbd_ok >/dev/null 2>&1; then return 0; fi
+  stop_daemon "$DBD_PID" slurmdbd
+  prepare_db
+  /usr/sbin/slurmdbd </dev/null >"$LOG_DIR/slurmdbd.stdout" 2>&1 ||
+    die "slurmdbd failed to start; see $LOG_DIR/slurmdbd.log"
+  # sacctmgr answers only once slurm.conf names slurmdbd (written before this).
+  wait_for "$WAIT_SECS" "slurmdbd" dbd_ok
+  say "slurmdbd up"
+}
+
+# start_accounting runs before slurmctld, which registers the cluster itself.
+start_accounting() {
+  write_dbd_conf
+  start_mariadb
+  # A fresh controller (slurmctld -c) goes with a fresh database: restart
+  # slurmdbd so that prepare_db recreates it.
+  if ! pid_alive "$CTLD_PID" slurmctld && [ "${SLURM_LOCAL_KEEP_STATE:-0}" != 1 ]; then
+    stop_daemon "$DBD_PID" slurmdbd
+  fi
+  start_slurmdbd
+}
+
+stop_accounting() {
+  stop_daemon "$DBD_PID" slurmdbd
+  stop_daemon "$MYSQL_PID" mariadbd
+}
+
 install_packages() {
-  local missing=0 p
-  for p in munged slurmctld slurmd sbatch; do
+  local missing=0 p pkgs=(munge slurm-client slurmctld slurmd) progs=(munged slurmctld slurmd sbatch)
+  if accounting_on; then
+    pkgs+=(slurmdbd mariadb-server)
+    progs+=(slurmdbd mariadbd)
+  fi
+  for p in "${progs[@]}"; do
     command -v "$p" >/dev/null 2>&1 || [ -x "/usr/sbin/$p" ] || missing=1
   done
   [ "$missing" -eq 1 ] || return 0
   command -v apt-get >/dev/null 2>&1 || die "slurm is not installed and apt-get is missing; install munge, slurmctld, slurmd and slurm-client by hand"
-  say "installing munge and slurm (Debian packages, no recommends)"
+  say "installing ${pkgs[*]} (Debian packages, no recommends)"
   local added_policy=0
   if [ ! -e /usr/sbin/policy-rc.d ]; then
     # Keep the package scripts from starting daemons; we start them ourselves.
@@ -117,8 +217,7 @@ install_packages() {
   local rc=0
   {
     apt-get update -qq &&
-      DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends \
-        munge slurm-client slurmctld slurmd
+      DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends "${pkgs[@]}"
   } >/dev/null || rc=$?
   [ "$added_policy" -eq 0 ] || rm -f /usr/sbin/policy-rc.d
   [ "$rc" -eq 0 ] || die "apt-get failed (exit $rc)"
@@ -176,8 +275,7 @@ SlurmctldDebug=info
 SlurmdDebug=info
 JobCompType=jobcomp/filetxt
 JobCompLoc=$LOG_DIR/jobcomp.log
-AccountingStorageType=accounting_storage/none
-JobAcctGatherType=jobacct_gather/none
+$(accounting_lines)
 NodeName=localhost CPUs=$cpus RealMemory=$mem State=UNKNOWN
 PartitionName=debug Nodes=ALL Default=YES MaxTime=INFINITE State=UP
 EOF
@@ -264,7 +362,6 @@ probe_job() {
 
 cmd_start() {
   need_root
-  [ "${SLURM_LOCAL_ACCOUNTING:-0}" != 1 ] || die "SLURM_LOCAL_ACCOUNTING=1 is not implemented by this script yet"
   install_packages
   install -d -m 0755 "$LOG_DIR" "$STATE_DIR" /var/lib/slurm/slurmd
   local conf
@@ -275,10 +372,17 @@ cmd_start() {
     stop_daemon "$CTLD_PID" slurmctld
   fi
   start_munge
+  if accounting_on; then
+    start_accounting
+  else
+    stop_accounting
+  fi
   start_slurmctld
   start_slurmd
   [ "${SLURM_LOCAL_PROBE:-0}" != 1 ] || probe_job
-  say "slurm ready ($(node_cpus) CPUs advertised, partition debug)"
+  local acct=off
+  accounting_on && acct=on
+  say "slurm ready ($(node_cpus) CPUs advertised, partition debug, accounting $acct)"
 }
 
 cancel_all_jobs() {
@@ -299,12 +403,16 @@ cmd_stop() {
   cancel_all_jobs
   stop_daemon "$SLURMD_PID" slurmd
   stop_daemon "$CTLD_PID" slurmctld
+  stop_accounting
   stop_daemon "$MUNGE_PID" munged
 }
 
 cmd_status() {
-  local rc=0 d
-  for d in "$MUNGE_PID munged" "$CTLD_PID slurmctld" "$SLURMD_PID slurmd"; do
+  local rc=0 d daemons=("$MUNGE_PID munged" "$CTLD_PID slurmctld" "$SLURMD_PID slurmd")
+  if pid_alive "$DBD_PID" slurmdbd || pid_alive "$MYSQL_PID" mariadbd; then
+    daemons+=("$MYSQL_PID mariadbd" "$DBD_PID slurmdbd")
+  fi
+  for d in "${daemons[@]}"; do
     set -- $d
     if pid_alive "$1" "$2"; then
       printf '%-10s running (pid %s)\n' "$2" "$(pid_of "$1")"
