@@ -209,10 +209,20 @@ type TaskState struct {
 	// as printed (first word only: "CANCELLED by 0" gives "CANCELLED").
 	State, Native string
 	Reason        string
+	// Comment is the job's comment where the status command shows it; for
+	// jobs wellscan submitted it is "ws:<token>" (see [TaskState.Token]).
+	Comment string
 	// ExitCode is "code:signal" where the history command reports it.
 	ExitCode string
 	// FromHistory is true when the state came from the accounting history.
 	FromHistory bool
+}
+
+// Token returns the submission token from the task's comment ("ws:<token>"),
+// so that after a crash between recording a submission and learning its job
+// id, the job can be found in one status listing and adopted.
+func (t TaskState) Token() (string, bool) {
+	return strings.CutPrefix(t.Comment, "ws:")
 }
 
 // TaskRef identifies an array task: array job id and index. Match tasks by
@@ -303,7 +313,7 @@ func (c *Client) parseLines(re *regexp.Regexp, out []byte, jobName string, histo
 		native = strings.TrimRight(native, "+")
 		t := TaskState{
 			ID: group(m, "id"), Array: group(m, "array"), Native: native, State: p.States[native],
-			Reason: group(m, "reason"), ExitCode: group(m, "exit"), FromHistory: history,
+			Reason: group(m, "reason"), Comment: group(m, "comment"), ExitCode: group(m, "exit"), FromHistory: history,
 		}
 		if t.Array == "" {
 			t.Array = t.ID
@@ -336,9 +346,11 @@ func (c *Client) parseLines(re *regexp.Regexp, out []byte, jobName string, histo
 	return tasks, nil
 }
 
-// maxExpand bounds range expansion (Slurm's default MaxArraySize is 1001;
-// sites raise it, so allow much more, but not an unbounded allocation).
-const maxExpand = 1 << 20
+// maxExpand bounds range expansion of one folded index list. wellscan
+// submits arrays of at most 1000 tasks (lessons memo §11), so a listing that
+// expands beyond this is not ours, or is corrupt; refusing it also keeps a
+// hostile line from allocating without limit.
+const maxExpand = 1 << 16
 
 // parseIndexes reads "7", or with ranges allowed "1-10:2", "3,5,8-9",
 // "[2-9%2]".

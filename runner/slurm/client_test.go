@@ -135,7 +135,7 @@ func TestClient_Status_Slurm(t *testing.T) {
 	// Lines in the shape printed by squeue -h -r -t all -o '%i|%A|%F|%K|%T|%r'
 	// on the local Slurm 22.05 (array 8: task 2 kept the array's own id, the
 	// others got new ids when they started; localhost notes pitfall 15).
-	out := "8_0|9|8|0|COMPLETED|None\n8_1|10|8|1|RUNNING|None\n8_2|8|8|2|PENDING|JobArrayTaskLimit\n4|4|4|N/A|CANCELLED|None\n"
+	out := "8_0|9|8|0|COMPLETED|None|ws:1a2b3c4d-r1-1\n8_1|10|8|1|RUNNING|None|ws:1a2b3c4d-r1-1\n8_2|8|8|2|PENDING|JobArrayTaskLimit|ws:1a2b3c4d-r1-1\n4|4|4|N/A|CANCELLED|None|(null)\n"
 	r := &fakeRunner{respond: func(c Cmd) (Output, error) { return Output{Stdout: []byte(out)}, nil }}
 	c := mustClient(t, Slurm(), r)
 	got, err := c.Status(t.Context(), "ws-1a2b3c4d")
@@ -143,15 +143,21 @@ func TestClient_Status_Slurm(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := []TaskState{
-		{ID: "9", Array: "8", Index: 0, State: "COMPLETED", Native: "COMPLETED", Reason: "None"},
-		{ID: "10", Array: "8", Index: 1, State: "RUNNING", Native: "RUNNING", Reason: "None"},
-		{ID: "8", Array: "8", Index: 2, State: "PENDING", Native: "PENDING", Reason: "JobArrayTaskLimit"},
-		{ID: "4", Array: "4", Index: NoTask, State: "CANCELLED", Native: "CANCELLED", Reason: "None"},
+		{ID: "9", Array: "8", Index: 0, State: "COMPLETED", Native: "COMPLETED", Reason: "None", Comment: "ws:1a2b3c4d-r1-1"},
+		{ID: "10", Array: "8", Index: 1, State: "RUNNING", Native: "RUNNING", Reason: "None", Comment: "ws:1a2b3c4d-r1-1"},
+		{ID: "8", Array: "8", Index: 2, State: "PENDING", Native: "PENDING", Reason: "JobArrayTaskLimit", Comment: "ws:1a2b3c4d-r1-1"},
+		{ID: "4", Array: "4", Index: NoTask, State: "CANCELLED", Native: "CANCELLED", Reason: "None", Comment: "(null)"},
 	}
 	if !reflect.DeepEqual(got, want) {
 		t.Errorf("Status =\n%+v\nwant\n%+v", got, want)
 	}
-	wantArgv := []string{"squeue", "--me", "-h", "-r", "-t", "all", "--name=ws-1a2b3c4d", "-o", "%i|%A|%F|%K|%T|%r"}
+	if tok, ok := got[0].Token(); !ok || tok != "1a2b3c4d-r1-1" {
+		t.Errorf("Token() = %q, %v; want 1a2b3c4d-r1-1", tok, ok)
+	}
+	if _, ok := got[3].Token(); ok {
+		t.Error("Token() of a job without our comment = ok")
+	}
+	wantArgv := []string{"squeue", "--me", "-h", "-r", "-t", "all", "--name=ws-1a2b3c4d", "-o", "%i|%A|%F|%K|%T|%r|%k"}
 	if !reflect.DeepEqual(r.calls[0].Argv, wantArgv) {
 		t.Errorf("argv = %q, want %q", r.calls[0].Argv, wantArgv)
 	}

@@ -194,7 +194,7 @@ func (e *liveEnv) waitFinal(timeout time.Duration) Snapshot {
 
 func TestLive_Array_ThreeTasksComplete(t *testing.T) {
 	e := newLiveEnv(t)
-	id, _ := e.submit(Resources{Time: 2 * time.Minute, MemMB: 100, Partition: "debug"},
+	id, spec := e.submit(Resources{Time: 2 * time.Minute, MemMB: 100, Partition: "debug"},
 		[]string{"r=1.10000"}, []string{"r=1.12000"}, []string{"r=1.14000", "r=1.16000"})
 	snap := e.waitFinal(60 * time.Second)
 	if len(snap.Tasks) != 3 {
@@ -204,6 +204,10 @@ func TestLive_Array_ThreeTasksComplete(t *testing.T) {
 		task := snap.Tasks[TaskRef{id, i}]
 		if task.State != "COMPLETED" {
 			t.Errorf("task %d: state %q, want COMPLETED", i, task.State)
+		}
+		// The token travels in --comment, so an interrupted submit can be adopted.
+		if tok, ok := task.Token(); !ok || tok != spec.Token {
+			t.Errorf("task %d: token %q (%v), want %q", i, tok, ok, spec.Token)
 		}
 	}
 	for i, k := range []string{"r=1.10000", "r=1.12000", "r=1.14000", "r=1.16000"} {

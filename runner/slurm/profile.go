@@ -51,7 +51,8 @@ type Profile struct {
 	Status []string
 	// StatusLine matches one line of status output. Named groups: "state"
 	// (required), "id" (the task's own id), "array" (array job id), "index"
-	// (task index), "reason", "name".
+	// (task index), "reason", "name", "comment" (the submission's comment,
+	// which carries the token).
 	StatusLine string
 	// StatusSkipUnmatched ignores lines that do not match StatusLine (headers);
 	// otherwise such a line is an error.
@@ -223,8 +224,8 @@ func Slurm() *Profile {
 		Submit:        []string{"sbatch", "--parsable", "{{.Script}}"},
 		// "123" or "123;cluster" (sbatch man, --parsable).
 		JobID:      `^(?P<id>[0-9]+)(?:;\S+)?$`,
-		Status:     []string{"squeue", "--me", "-h", "-r", "-t", "all", "--name={{.JobName}}", "-o", "%i|%A|%F|%K|%T|%r"},
-		StatusLine: `^(?P<display>[^|]*)\|(?P<id>[^|]*)\|(?P<array>[^|]*)\|(?P<index>[^|]*)\|(?P<state>[^|]*)\|(?P<reason>.*)$`,
+		Status:     []string{"squeue", "--me", "-h", "-r", "-t", "all", "--name={{.JobName}}", "-o", "%i|%A|%F|%K|%T|%r|%k"},
+		StatusLine: `^(?P<display>[^|]*)\|(?P<id>[^|]*)\|(?P<array>[^|]*)\|(?P<index>[^|]*)\|(?P<state>[^|]*)\|(?P<reason>[^|]*)(?:\|(?P<comment>.*))?$`,
 		// After MinJobAge a job id is unknown to the controller (localhost notes §4).
 		StatusNotFound: []string{"Invalid job id specified"},
 		NoIndex:        []string{"N/A"},
