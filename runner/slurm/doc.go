@@ -1,0 +1,55 @@
+// Package slurm is wellscan's batch-scheduler client layer: it renders job-array
+// submission scripts, submits them through argv, polls the scheduler with one
+// batched query per cycle, classifies final states into wellscan's failure
+// classes with a retry policy, cancels a scan's jobs by name, and carries the
+// result-file protocol that compute-node tasks use to hand results back.
+//
+// # Overview
+//
+// Slurm is the scheduler this package is built and tested for. Other batch
+// systems (PBS/Torque-like, LSF-like, SGE-like) are described as data in a
+// [Profile]: command templates (argv lists), directive prefix, array and
+// throttle syntax, a job-id pattern, a status-line pattern and a state map.
+// [Slurm], [Torque], [LSF] and [SGE] return the presets. Only the Slurm preset is
+// exercised against a real scheduler (the tests behind the build tag `slurm`);
+// the others are checked only on sample outputs written for the tests.
+//
+// The pieces, in the order a round uses them:
+//   - [Render] writes the job-array script from a [ScriptSpec]; [WriteManifest]
+//     writes the per-task list of point keys (tasks.tsv) that the worker reads;
+//     no point data ever goes into the script.
+//   - [Client.Submit] runs `sbatch --parsable FILE` (no shell, no --wrap) and
+//     returns the job id or a [*SubmitError].
+//   - [Poller.Poll] runs one status command for the whole scan (filtered by the
+//     scan-unique job name) and, only for tasks that left the queue and only
+//     when accounting exists, one bounded history command.
+//   - [Classify] and [RetryPolicy.Decide] turn a final state into a class and
+//     an action (retry with more time, more memory, unchanged, or not at all).
+//   - [Client.Cancel] cancels by name and confirms with a status query.
+//   - [WriteResultAtomic] and [ReadResult] are the compute-node/orchestrator
+//     halves of the result-file protocol: a result file decides success,
+//     whatever the scheduler says.
+//
+// This package does not import package runner: the round loop adapts these
+// types to its own Queue interface.
+//
+// # Units
+//
+// Times are [time.Duration] (rendered as whole minutes, rounded up, because
+// Slurm time limits have minute resolution); memory is MiB per node.
+//
+// # Invariants
+//
+//   - Every value that reaches a directive line is validated first
+//     ([ValidateValue]); every word of the script body goes through shell
+//     single-quoting; newlines are rejected everywhere.
+//   - Scheduler commands are run only through a [Runner], as argv lists.
+//   - A poll cycle issues a constant number of scheduler commands (one status
+//     command, plus at most one history command), independent of the number
+//     of jobs or tasks.
+//
+// # Concurrency
+//
+// [Client] and [Profile] values are safe for concurrent use once built. A
+// [Poller] keeps state between cycles and must be used by one goroutine.
+package slurm

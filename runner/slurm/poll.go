@@ -1,0 +1,352 @@
+package slurm
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"time"
+)
+
+// PollPolicy sets how often the scheduler is asked. Defaults from the
+// lessons memo §1 and §11: first poll 30 s after a submit, then every 60 s,
+// ×1.5 while nothing changes, up to 300 s, reset on any change, never below
+// 15 s.
+type PollPolicy struct {
+	FirstDelay time.Duration
+	Interval   time.Duration
+	Backoff    float64
+	Max        time.Duration
+	// Floor is the lowest interval allowed; tests lower it.
+	Floor time.Duration
+}
+
+// DefaultPollPolicy returns the defaults above.
+func DefaultPollPolicy() PollPolicy {
+	return PollPolicy{FirstDelay: 30 * time.Second, Interval: 60 * time.Second, Backoff: 1.5,
+		Max: 300 * time.Second, Floor: 15 * time.Second}
+}
+
+// Validate refuses intervals below the floor and other inconsistent values.
+func (p PollPolicy) Validate() error {
+	switch {
+	case p.Floor <= 0:
+		return fmt.Errorf("slurm: poll floor %s must be positive", p.Floor)
+	case p.FirstDelay < p.Floor || p.Interval < p.Floor:
+		return fmt.Errorf("slurm: poll intervals (first %s, interval %s) may not be below the floor %s", p.FirstDelay, p.Interval, p.Floor)
+	case p.Max < p.Interval:
+		return fmt.Errorf("slurm: poll maximum %s is below the interval %s", p.Max, p.Interval)
+	case p.Backoff < 1 || math.IsNaN(p.Backoff) || math.IsInf(p.Backoff, 0):
+		return fmt.Errorf("slurm: poll backoff %g must be a finite number ≥ 1", p.Backoff)
+	}
+	return nil
+}
+
+// WithoutAccounting caps the intervals at minJobAge/2, so a finished task is
+// still seen in the status listing before the controller forgets it (Slurm's
+// MinJobAge, 300 s by default). The floor still applies.
+func (p PollPolicy) WithoutAccounting(minJobAge time.Duration) PollPolicy {
+	limit := max(minJobAge/2, p.Floor)
+	p.Max = min(p.Max, limit)
+	p.Interval = min(p.Interval, p.Max)
+	p.FirstDelay = min(p.FirstDelay, p.Max)
+	return p
+}
+
+// Next returns the wait before the next poll, given the previous wait (0
+// for the first poll after a submit) and whether the last poll saw a change.
+func (p PollPolicy) Next(prev time.Duration, changed bool) time.Duration {
+	var d time.Duration
+	switch {
+	case prev == 0:
+		d = p.FirstDelay
+	case changed:
+		d = p.Interval
+	default:
+		d = time.Duration(float64(prev) * p.Backoff)
+		d = max(d, p.Interval)
+	}
+	return max(min(d, p.Max), p.Floor)
+}
+
+// Accounting says whether the history command can be used.
+type Accounting int
+
+const (
+	// AccountingUnknown: not asked yet.
+	AccountingUnknown Accounting = iota
+	// AccountingOn: the history command answered.
+	AccountingOn
+	// AccountingOff: the site keeps none (or the profile has no history
+	// command); only status and result files are used for the rest of the run.
+	AccountingOff
+)
+
+func (a Accounting) String() string {
+	return [...]string{"unknown", "on", "off"}[a]
+}
+
+// TaskStatus is a task's state after a poll cycle.
+type TaskStatus struct {
+	TaskState
+	// Seen: the task appeared in this cycle's status or history output.
+	Seen bool
+	// MissingSince is when the task was first missing from both status and
+	// history while its last known state was not final; zero otherwise.
+	MissingSince time.Time
+	// Submitted is when its job was tracked; zero for tasks found by name only.
+	Submitted time.Time
+}
+
+// Class returns the class of the last known state.
+func (t TaskStatus) Class() Class { return Classify(t.State) }
+
+// Lost reports whether the task left the scheduler without a final state at
+// least grace ago. The caller must check the result file before acting.
+func (t TaskStatus) Lost(now time.Time, grace time.Duration) bool {
+	return !t.MissingSince.IsZero() && now.Sub(t.MissingSince) >= grace
+}
+
+// Snapshot is the outcome of one poll cycle.
+type Snapshot struct {
+	Time  time.Time
+	Tasks map[TaskRef]TaskStatus
+	// Commands is the number of scheduler commands this cycle ran (1 or 2).
+	Commands int
+	// Changed is true when any task's state differs from the previous cycle.
+	Changed    bool
+	Accounting Accounting
+	// HistoryErr is a failed history query (not "no accounting"); the cycle
+	// still counts, with status data only.
+	HistoryErr error
+}
+
+// Counts returns the number of tasks per class.
+func (s Snapshot) Counts() map[Class]int {
+	m := map[Class]int{}
+	for _, t := range s.Tasks {
+		m[t.Class()]++
+	}
+	return m
+}
+
+// Poller tracks one scan's tasks across poll cycles.
+type Poller struct {
+	client  *Client
+	jobName string
+	now     func() time.Time
+
+	accounting Accounting
+	tasks      map[TaskRef]TaskStatus
+}
+
+// NewPoller returns a poller for all jobs named jobName. now is the clock
+// (nil: time.Now).
+func NewPoller(c *Client, jobName string, now func() time.Time) (*Poller, error) {
+	if err := ValidateValue("job name", jobName); err != nil {
+		return nil, err
+	}
+	if now == nil {
+		now = time.Now
+	}
+	p := &Poller{client: c, jobName: jobName, now: now, tasks: map[TaskRef]TaskStatus{}}
+	if c.history == nil {
+		p.accounting = AccountingOff
+	}
+	return p, nil
+}
+
+// Accounting reports what the poller knows about the history command.
+func (p *Poller) Accounting() Accounting { return p.accounting }
+
+// Track registers a submitted array (tasks first..first+n-1 of job id
+// array), so that tasks that never show up in the status output are noticed.
+// Call it right after a successful submit.
+func (p *Poller) Track(array string, first, n int, submitted time.Time) {
+	for i := first; i < first+n; i++ {
+		ref := TaskRef{Array: array, Index: i}
+		if _, ok := p.tasks[ref]; !ok {
+			p.tasks[ref] = TaskStatus{TaskState: TaskState{ID: ref.String(), Array: array, Index: i}, Submitted: submitted}
+		}
+	}
+}
+
+// Forget drops tasks the caller no longer needs (ingested results).
+func (p *Poller) Forget(refs ...TaskRef) {
+	for _, r := range refs {
+		delete(p.tasks, r)
+	}
+}
+
+// Poll runs one cycle: one status command for the whole scan; then, only
+// if some tracked task left the listing without a known final state and
+// accounting is not known to be off, one history command bounded by the
+// earliest submit time. The number of commands does not depend on the
+// number of jobs or tasks.
+func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
+	now := p.now()
+	snap := Snapshot{Time: now}
+	listed, err := p.client.Status(ctx, p.jobName)
+	snap.Commands++
+	if err != nil {
+		snap.Accounting = p.accounting
+		return snap, err
+	}
+	seen := map[TaskRef]bool{}
+	update := func(ref TaskRef, t TaskState) {
+		seen[ref] = true
+		old := p.tasks[ref]
+		if old.State != t.State || old.Reason != t.Reason {
+			snap.Changed = true
+		}
+		p.tasks[ref] = TaskStatus{TaskState: t, Seen: true, Submitted: old.Submitted}
+	}
+	arrays := map[string]bool{}
+	for ref := range p.tasks {
+		if ref.Index != NoTask {
+			arrays[ref.Array] = true
+		}
+	}
+	var wholeArrays []TaskState
+	for _, t := range listed {
+		if t.Index == NoTask && arrays[t.Array] {
+			// One record for the whole array: Slurm shows an array whose
+			// tasks never started (for example cancelled while pending) as
+			// a single job with no task index. It stands for every tracked
+			// task of that array without a record of its own.
+			wholeArrays = append(wholeArrays, t)
+			continue
+		}
+		update(t.Ref(), t)
+	}
+	for _, w := range wholeArrays {
+		for ref := range p.tasks {
+			if ref.Array == w.Array && ref.Index != NoTask && !seen[ref] {
+				t := w
+				t.Index = ref.Index
+				t.ID = ref.String()
+				update(ref, t)
+			}
+		}
+	}
+	// Tasks that left the listing and whose final state is not known.
+	var gone []TaskRef
+	var since time.Time
+	for ref, t := range p.tasks {
+		if seen[ref] {
+			continue
+		}
+		t.Seen = false
+		p.tasks[ref] = t
+		if t.Class().Terminal() {
+			continue
+		}
+		gone = append(gone, ref)
+		if !t.Submitted.IsZero() && (since.IsZero() || t.Submitted.Before(since)) {
+			since = t.Submitted
+		}
+	}
+	if len(gone) > 0 && p.accounting != AccountingOff {
+		if since.IsZero() {
+			since = now.Add(-48 * time.Hour)
+		}
+		// One minute of margin for clock differences between hosts.
+		hist, err := p.client.History(ctx, p.jobName, since.Add(-time.Minute))
+		snap.Commands++
+		switch {
+		case errors.Is(err, ErrNoAccounting):
+			p.accounting = AccountingOff
+		case err != nil:
+			snap.HistoryErr = err
+		default:
+			p.accounting = AccountingOn
+			byRef := map[TaskRef]TaskState{}
+			for _, h := range hist {
+				byRef[h.Ref()] = h
+			}
+			for _, ref := range gone {
+				if h, ok := byRef[ref]; ok {
+					old := p.tasks[ref]
+					if old.State != h.State {
+						snap.Changed = true
+					}
+					p.tasks[ref] = TaskStatus{TaskState: h, Seen: true, Submitted: old.Submitted}
+				}
+			}
+		}
+	}
+	for _, ref := range gone {
+		t := p.tasks[ref]
+		if !t.Seen && t.MissingSince.IsZero() {
+			t.MissingSince = now
+			p.tasks[ref] = t
+			snap.Changed = true
+		} else if t.Seen {
+			t.MissingSince = time.Time{}
+			p.tasks[ref] = t
+		}
+	}
+	snap.Tasks = make(map[TaskRef]TaskStatus, len(p.tasks))
+	for ref, t := range p.tasks {
+		snap.Tasks[ref] = t
+	}
+	snap.Accounting = p.accounting
+	return snap, nil
+}
+
+// MaxPollFailures is how many status failures in a row [Poller.Watch]
+// tolerates before it gives up (lessons memo §1: "scheduler unreachable"
+// after 5 failed cycles).
+const MaxPollFailures = 5
+
+// Watch polls on the policy's schedule until done returns true for a
+// snapshot, ctx ends, or the status command fails MaxPollFailures times in
+// a row. sleep waits (nil: a timer honouring ctx); tests inject a fake.
+func (p *Poller) Watch(ctx context.Context, policy PollPolicy, sleep func(context.Context, time.Duration) error,
+	done func(Snapshot) bool) (Snapshot, error) {
+	if err := policy.Validate(); err != nil {
+		return Snapshot{}, err
+	}
+	if sleep == nil {
+		sleep = sleepCtx
+	}
+	var wait time.Duration
+	var last Snapshot
+	failures := 0
+	changed := false
+	for {
+		wait = policy.Next(wait, changed)
+		if err := sleep(ctx, wait); err != nil {
+			return last, err
+		}
+		snap, err := p.Poll(ctx)
+		if err != nil {
+			if ctx.Err() != nil {
+				return last, ctx.Err()
+			}
+			failures++
+			if failures >= MaxPollFailures {
+				return last, fmt.Errorf("slurm: scheduler unreachable after %d polls: %w", failures, err)
+			}
+			changed = false
+			continue
+		}
+		failures = 0
+		last = snap
+		changed = snap.Changed
+		if done(snap) {
+			return snap, nil
+		}
+	}
+}
+
+func sleepCtx(ctx context.Context, d time.Duration) error {
+	t := time.NewTimer(d)
+	defer t.Stop()
+	select {
+	case <-ctx.Done():
+		return ctx.Err()
+	case <-t.C:
+		return nil
+	}
+}

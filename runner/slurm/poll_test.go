@@ -1,0 +1,282 @@
+package slurm
+
+import (
+	"context"
+	"fmt"
+	"strings"
+	"testing"
+	"time"
+)
+
+var testTime = time.Date(2026, 5, 1, 10, 0, 0, 0, time.UTC)
+
+func TestPollPolicy_Next_DefaultSchedule(t *testing.T) {
+	// Lessons memo §1/§11: 30 s first, 60 s, ×1.5 while unchanged, cap 300 s,
+	// reset to 60 s on a change.
+	p := DefaultPollPolicy()
+	if err := p.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	steps := []struct {
+		changed bool
+		want    time.Duration
+	}{
+		{false, 30 * time.Second}, // first poll after a submit
+		{true, 60 * time.Second},
+		{false, 90 * time.Second},
+		{false, 135 * time.Second},
+		{false, 202500 * time.Millisecond},
+		{false, 300 * time.Second},
+		{false, 300 * time.Second},
+		{true, 60 * time.Second},
+	}
+	var d time.Duration
+	for i, s := range steps {
+		d = p.Next(d, s.changed)
+		if d != s.want {
+			t.Fatalf("step %d: Next = %s, want %s", i, d, s.want)
+		}
+	}
+}
+
+func TestPollPolicy_Validate_Rejects(t *testing.T) {
+	tests := []struct {
+		name   string
+		modify func(*PollPolicy)
+	}{
+		{"interval below floor", func(p *PollPolicy) { p.Interval = 5 * time.Second }},
+		{"first below floor", func(p *PollPolicy) { p.FirstDelay = time.Second }},
+		{"max below interval", func(p *PollPolicy) { p.Max = 30 * time.Second }},
+		{"backoff below one", func(p *PollPolicy) { p.Backoff = 0.5 }},
+		{"zero floor", func(p *PollPolicy) { p.Floor = 0 }},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			p := DefaultPollPolicy()
+			tc.modify(&p)
+			if err := p.Validate(); err == nil {
+				t.Error("Validate = nil, want an error")
+			}
+		})
+	}
+}
+
+func TestPollPolicy_WithoutAccounting_CapsAtHalfMinJobAge(t *testing.T) {
+	p := DefaultPollPolicy().WithoutAccounting(300 * time.Second)
+	if p.Max != 150*time.Second || p.Validate() != nil {
+		t.Errorf("Max = %s (valid: %v), want 150 s for MinJobAge 300 s", p.Max, p.Validate())
+	}
+	p = DefaultPollPolicy().WithoutAccounting(10 * time.Second)
+	if p.Max != p.Floor || p.Interval != p.Floor || p.Validate() != nil {
+		t.Errorf("tiny MinJobAge: %+v, want everything at the floor", p)
+	}
+}
+
+// scheduler is a fake Slurm: it prints squeue lines for its tasks and
+// answers sacct from a history table.
+type scheduler struct {
+	squeue     map[TaskRef]string // ref → state, listed by squeue
+	history    map[TaskRef]string // ref → state, known to sacct
+	accounting bool
+}
+
+func (s *scheduler) respond(c Cmd) (Output, error) {
+	var b strings.Builder
+	switch c.Argv[0] {
+	case "squeue":
+		for ref, st := range s.squeue {
+			fmt.Fprintf(&b, "%s_%d|%s|%s|%d|%s|None\n", ref.Array, ref.Index, ref.Array, ref.Array, ref.Index, st)
+		}
+	case "sacct":
+		if !s.accounting {
+			return Output{Stderr: []byte("Slurm accounting storage is disabled\n"), ExitCode: 1}, nil
+		}
+		for ref, st := range s.history {
+			fmt.Fprintf(&b, "%s|%s_%d|%s|0:0\n", ref.Array, ref.Array, ref.Index, st)
+		}
+	default:
+		return Output{}, fmt.Errorf("unexpected command %q", c.Argv)
+	}
+	return Output{Stdout: []byte(b.String())}, nil
+}
+
+func newTestPoller(t *testing.T, s *scheduler, now *time.Time) (*Poller, *CountingRunner) {
+	t.Helper()
+	cr := &CountingRunner{Next: &fakeRunner{respond: s.respond}}
+	p, err := NewPoller(mustClient(t, Slurm(), cr), "ws-1a2b3c4d", func() time.Time { return *now })
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p, cr
+}
+
+func TestPoller_Poll_CommandsPerCycleConstant(t *testing.T) {
+	for _, n := range []int{1, 10, 1000} {
+		t.Run(fmt.Sprintf("tasks=%d", n), func(t *testing.T) {
+			s := &scheduler{squeue: map[TaskRef]string{}, history: map[TaskRef]string{}, accounting: true}
+			now := testTime
+			p, cr := newTestPoller(t, s, &now)
+			for j := 0; j < 3; j++ { // three arrays of the scan
+				array := fmt.Sprint(100 + j)
+				p.Track(array, 0, n, testTime)
+				for i := 0; i < n; i++ {
+					s.squeue[TaskRef{array, i}] = "RUNNING"
+				}
+			}
+			snap, err := p.Poll(t.Context())
+			if err != nil {
+				t.Fatal(err)
+			}
+			if snap.Commands != 1 || cr.Total() != 1 {
+				t.Errorf("all listed: %d commands (%v), want 1 squeue", snap.Commands, cr.Counts())
+			}
+			// Every task leaves squeue at once: still one squeue and one sacct.
+			for ref := range s.squeue {
+				s.history[ref] = "COMPLETED"
+			}
+			s.squeue = map[TaskRef]string{}
+			snap, err = p.Poll(t.Context())
+			if err != nil {
+				t.Fatal(err)
+			}
+			if c := cr.Counts(); snap.Commands != 2 || c["squeue"] != 2 || c["sacct"] != 1 {
+				t.Errorf("after all left: %d commands (%v), want one squeue plus one sacct", snap.Commands, c)
+			}
+			if got := snap.Counts()[ClassCompleted]; got != 3*n {
+				t.Errorf("completed = %d, want %d", got, 3*n)
+			}
+			// Final states known: no more sacct.
+			snap, _ = p.Poll(t.Context())
+			if snap.Commands != 1 {
+				t.Errorf("after final states known: %d commands, want 1", snap.Commands)
+			}
+		})
+	}
+}
+
+func TestPoller_Poll_AccountingDisabledStopsAsking(t *testing.T) {
+	s := &scheduler{squeue: map[TaskRef]string{{"7", 0}: "RUNNING", {"7", 1}: "RUNNING"}}
+	now := testTime
+	p, cr := newTestPoller(t, s, &now)
+	p.Track("7", 0, 2, testTime)
+	if _, err := p.Poll(t.Context()); err != nil {
+		t.Fatal(err)
+	}
+	delete(s.squeue, TaskRef{"7", 1}) // vanished with no final state
+	now = now.Add(time.Minute)
+	snap, err := p.Poll(t.Context())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if snap.Accounting != AccountingOff || snap.Commands != 2 {
+		t.Errorf("first vanish: accounting %s, %d commands; want off after one sacct", snap.Accounting, snap.Commands)
+	}
+	lostAt := now
+	gone := snap.Tasks[TaskRef{"7", 1}]
+	if gone.Seen || !gone.MissingSince.Equal(lostAt) || gone.Class() != ClassActive {
+		t.Errorf("vanished task = %+v, want unseen, missing since %s, last known RUNNING", gone, lostAt)
+	}
+	now = now.Add(4 * time.Minute)
+	snap, _ = p.Poll(t.Context())
+	if snap.Commands != 1 || cr.Counts()["sacct"] != 1 {
+		t.Errorf("accounting off: %d commands this cycle, %d sacct in total; want 1 and 1", snap.Commands, cr.Counts()["sacct"])
+	}
+	gone = snap.Tasks[TaskRef{"7", 1}]
+	if gone.Lost(now, 5*time.Minute) {
+		t.Error("Lost after 4 min with a 5 min grace = true")
+	}
+	if !gone.Lost(now.Add(time.Minute), 5*time.Minute) {
+		t.Error("Lost after 5 min with a 5 min grace = false")
+	}
+}
+
+func TestPoller_Poll_FinishedThenPurgedKeepsFinalState(t *testing.T) {
+	s := &scheduler{squeue: map[TaskRef]string{{"7", 0}: "TIMEOUT"}, accounting: true}
+	now := testTime
+	p, cr := newTestPoller(t, s, &now)
+	p.Track("7", 0, 1, testTime)
+	if _, err := p.Poll(t.Context()); err != nil {
+		t.Fatal(err)
+	}
+	s.squeue = map[TaskRef]string{} // purged after MinJobAge
+	snap, _ := p.Poll(t.Context())
+	got := snap.Tasks[TaskRef{"7", 0}]
+	if got.State != "TIMEOUT" || !got.MissingSince.IsZero() || cr.Counts()["sacct"] != 0 {
+		t.Errorf("purged task = %+v with %d sacct; want TIMEOUT kept, not missing, no sacct", got, cr.Counts()["sacct"])
+	}
+}
+
+func TestPoller_Watch_BacksOffAndStops(t *testing.T) {
+	s := &scheduler{squeue: map[TaskRef]string{{"7", 0}: "RUNNING"}}
+	now := testTime
+	p, _ := newTestPoller(t, s, &now)
+	var waits []time.Duration
+	polls := 0
+	sleep := func(_ context.Context, d time.Duration) error {
+		waits = append(waits, d)
+		now = now.Add(d)
+		return nil
+	}
+	snap, err := p.Watch(t.Context(), DefaultPollPolicy(), sleep, func(s2 Snapshot) bool {
+		polls++
+		if polls == 4 {
+			s.squeue[TaskRef{"7", 0}] = "COMPLETED"
+		}
+		return s2.Counts()[ClassCompleted] == 1
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Poll 1 sees a new task (change → 60 s), then no change (90, 135), then
+	// the completion is seen at poll 5.
+	want := []time.Duration{30 * time.Second, 60 * time.Second, 90 * time.Second, 135 * time.Second, 202500 * time.Millisecond}
+	if fmt.Sprint(waits) != fmt.Sprint(want) || snap.Counts()[ClassCompleted] != 1 {
+		t.Errorf("waits = %v, want %v; final %v", waits, want, snap.Counts())
+	}
+}
+
+func TestPoller_Watch_GivesUpWhenUnreachable(t *testing.T) {
+	r := &fakeRunner{respond: func(Cmd) (Output, error) {
+		return Output{Stderr: []byte("squeue: error: Unable to contact slurm controller (connect failure)"), ExitCode: 1}, nil
+	}}
+	p, err := NewPoller(mustClient(t, Slurm(), r), "ws-1a2b3c4d", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = p.Watch(t.Context(), DefaultPollPolicy(), func(context.Context, time.Duration) error { return nil },
+		func(Snapshot) bool { return false })
+	if err == nil || !strings.Contains(err.Error(), "unreachable") || len(r.calls) != MaxPollFailures {
+		t.Errorf("Watch error = %v after %d calls, want unreachable after %d", err, len(r.calls), MaxPollFailures)
+	}
+}
+
+func TestPoller_Poll_WholeArrayRecordCoversTasks(t *testing.T) {
+	// An array cancelled before any task started is one squeue record with
+	// no task index ("16|16|16|N/A|CANCELLED|None", seen on the local Slurm
+	// 22.05); it stands for every tracked task of that array.
+	r := &fakeRunner{respond: func(Cmd) (Output, error) {
+		return Output{Stdout: []byte("16|16|16|N/A|CANCELLED|None\n15_0|18|15|0|RUNNING|None\n")}, nil
+	}}
+	p, err := NewPoller(mustClient(t, Slurm(), r), "ws-1a2b3c4d", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Track("16", 0, 2, testTime)
+	p.Track("15", 0, 2, testTime)
+	snap, err := p.Poll(t.Context())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, ref := range []TaskRef{{"16", 0}, {"16", 1}} {
+		if got := snap.Tasks[ref]; got.State != "CANCELLED" || !got.Seen {
+			t.Errorf("%s = %+v, want CANCELLED and seen", ref, got)
+		}
+	}
+	if _, ok := snap.Tasks[TaskRef{"16", NoTask}]; ok {
+		t.Error("the whole-array record was kept as a task of its own")
+	}
+	// A plain job record does not stand for another array's tasks.
+	if got := snap.Tasks[TaskRef{"15", 1}]; got.Seen || got.MissingSince.IsZero() {
+		t.Errorf("15_1 = %+v, want unseen and missing", got)
+	}
+}
