@@ -34,7 +34,11 @@
 // (residual variance times (AᵀWA)⁻¹, propagated to derived quantities to
 // first order). A *_spread is the largest change when the polynomial degree
 // is moved by one or the window is scaled by 0.6 or 1.6: a model
-// sensitivity, not a statistical error. Report both.
+// sensitivity, not a statistical error. Report both. In the package's seeded
+// test (Gaussian noise of 2e-6 E_h on a refined Morse scan, 200 trials)
+// ±2 stderr covered the true r_e and ω_e in about 91 % of trials against the
+// 95 % of an exact linear model: the degree choice makes the standard errors
+// slightly optimistic.
 //
 // # Concurrency
 //

@@ -50,16 +50,6 @@ func (m morse) pekeris() (float64, float64) {
 	return be, 6*math.Sqrt(wx*be*be*be)/w - 6*be*be/w
 }
 
-func (m morse) sample(r0, r1 float64, n int) ([]float64, []float64) {
-	r := make([]float64, n)
-	e := make([]float64, n)
-	for i := range n {
-		r[i] = r0 + (r1-r0)*float64(i)/float64(n-1)
-		e[i] = m.v(r[i]) - 100 // an arbitrary absolute zero, like a total energy
-	}
-	return r, e
-}
-
 func near(t *testing.T, what string, got, want, abs, rel float64) {
 	t.Helper()
 	if !scalar.EqualWithinAbsOrRel(got, want, abs, rel) {

@@ -196,18 +196,3 @@ func minimumOf(c []float64, start, lo, hi float64) (t float64, ok bool) {
 	}
 	return t, true
 }
-
-// shift re-expands the polynomial coefficients c about a new origin
-// displaced by t: returns d with Σ d_k u^k = Σ c_k (u + t)^k, so that
-// d_k = P^{(k)}(t)/k!.
-func shift(c []float64, t float64) []float64 {
-	d := make([]float64, len(c))
-	fact := 1.0
-	for k := range c {
-		if k > 0 {
-			fact *= float64(k)
-		}
-		d[k] = polyDeriv(c, t, k) / fact
-	}
-	return d
-}

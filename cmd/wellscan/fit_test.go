@@ -12,6 +12,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"wellscan/fit"
 	"wellscan/planner"
 )
 
@@ -115,5 +116,25 @@ func TestFitCommand_BadInput_Errors(t *testing.T) {
 				t.Errorf("error = %v, want one mentioning %q", err, tc.want)
 			}
 		})
+	}
+}
+
+// fit carries its own copy of a few CODATA 2018 constants (it may not import
+// planner); they must be the very same numbers as planner's.
+func TestFitConstants_SameAsPlanner(t *testing.T) {
+	for _, c := range []struct {
+		name      string
+		fit, plan float64
+	}{
+		{"bohr in Å", fit.BohrInAngstrom, planner.BohrInAngstrom},
+		{"hartree in cm⁻¹", fit.HartreeInCm1, planner.HartreeInCm1},
+		{"hartree in eV", fit.HartreeInEV, planner.HartreeInEV},
+		{"hartree in kJ/mol", fit.HartreeInKJPerMol, planner.HartreeInKJPerMol},
+		{"m_u/m_e", fit.AmuInElectronMass, planner.AmuInElectronMass},
+		{"E_h/a0² in N/m", fit.HartreePerBohr2InNPerM, planner.HartreePerBohr2InNPerM},
+	} {
+		if c.fit != c.plan {
+			t.Errorf("%s: fit has %v, planner %v", c.name, c.fit, c.plan)
+		}
 	}
 }
