@@ -62,14 +62,28 @@ kcal/mol), the units named in the header, e.g.
 Optional columns "converged" (true/false or 1/0) and "weight".`,
 		Args: cobra.MaximumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if len(args) == 1 && o.table == "" {
-				return usageError{errors.New("fit: reading a scan directory is not available in this build; use --table FILE")}
-			}
-			if len(args) == 1 {
+			if len(args) == 1 && o.table != "" {
 				return usageError{errors.New("fit: give either a scan directory or --table, not both")}
 			}
-			if o.table == "" {
-				return usageError{errors.New("fit: nothing to fit: give --table FILE")}
+			if len(args) == 0 && o.table == "" {
+				return usageError{errors.New("fit: nothing to fit: give a scan directory or --table FILE")}
+			}
+			if len(args) == 1 {
+				spec, err := planner.Load(scanSpecPath(args[0]))
+				if err != nil {
+					return err
+				}
+				res, err := fitScanDir(cmd.Context(), args[0], spec, o)
+				if err != nil {
+					return err
+				}
+				if o.json {
+					enc := json.NewEncoder(a.stdout)
+					enc.SetIndent("", "  ")
+					return enc.Encode(res)
+				}
+				printScanFit(a.stdout, res)
+				return nil
 			}
 			res, err := fitTable(cmd.Context(), o)
 			if err != nil {

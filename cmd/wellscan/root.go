@@ -42,6 +42,7 @@ external program, and turned into spectroscopic constants.
 	root.AddCommand(newVersionCommand(a))
 	root.AddCommand(newEnergyCommand(a))
 	root.AddCommand(newBasisCommand(a))
+	root.AddCommand(newFitCommand(a))
 	root.AddCommand(newInitCommand(a), newPlanCommand(a), newRunCommand(a), newStatusCommand(a), newDemoCommand(a))
 	return root
 }
