@@ -87,6 +87,7 @@ print the located minimum. Rerunning with the same --dir resumes.`,
 						fmt.Fprintln(a.stdout)
 					}
 				}
+				printEndFit(cmd.Context(), a.stdout, dir, spec)
 				if spec.Engine.Kind == "model" {
 					fmt.Fprintln(a.stdout, "note: this demo ran on a MODEL potential (engine.kind = \"model\"), not an electronic-structure method")
 				}

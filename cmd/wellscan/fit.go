@@ -69,6 +69,9 @@ Optional columns "converged" (true/false or 1/0) and "weight".`,
 				return usageError{errors.New("fit: nothing to fit: give a scan directory or --table FILE")}
 			}
 			if len(args) == 1 {
+				if _, err := os.Stat(scanSpecPath(args[0])); err != nil {
+					return fmt.Errorf("fit: %s is not a scan directory (no scan.toml); for energies computed elsewhere use --table FILE", args[0])
+				}
 				spec, err := planner.Load(scanSpecPath(args[0]))
 				if err != nil {
 					return err
@@ -246,9 +249,9 @@ func printFitTable(w io.Writer, res *fit.Result) {
 	}
 	for _, m := range res.Minima {
 		if res.Kind == "angle" {
-			fmt.Fprintf(w, "%s: θ_e = %.4f ± %.4f°   E_min = %.9f E_h   k = %.6g E_h/rad²\n", m.Label, m.ThetaEDegree, m.ThetaEStderr, m.EMin, m.KAngle)
+			fmt.Fprintf(w, "%s: θ_e = %.4f ± %.1e°   E_min = %.9f E_h   k = %.6g E_h/rad²\n", m.Label, m.ThetaEDegree, m.ThetaEStderr, m.EMin, m.KAngle)
 		} else {
-			fmt.Fprintf(w, "%s: r_e = %.6f ± %.6f Å (window/degree spread %.6f)   E_min = %.9f E_h\n", m.Label, m.REAngstrom, m.REStderrAng, m.RESpreadAng, m.EMin)
+			fmt.Fprintf(w, "%s: r_e = %.6f ± %.1e Å (window/degree spread %.1e)   E_min = %.9f E_h\n", m.Label, m.REAngstrom, m.REStderrAng, m.RESpreadAng, m.EMin)
 			fmt.Fprintf(w, "  k = %.6g ± %.2g E_h/bohr² = %.4f mdyn/Å = %.1f N/m   (three-point %.6g)\n", m.K, m.KStderr, m.KMdynPerAng, m.KNPerM, m.KThreePoint)
 		}
 		fmt.Fprintf(w, "  local polynomial: degree %d, %d points within %.4g E_h, rms residual %.2g E_h\n", m.Degree, m.WindowPoints, m.WindowEnergy, m.RMSResidual)

@@ -215,3 +215,21 @@ func printScanFit(w io.Writer, f *scanFit) {
 
 
 func scanSpecPath(dir string) string { return filepath.Join(dir, "scan.toml") }
+
+// printEndFit prints the constants table at the end of run and demo. A
+// fit that cannot be made is reported, never fatal: the scan itself is
+// done.
+func printEndFit(ctx context.Context, w io.Writer, dir string, spec *planner.Spec) {
+	if ctx.Err() != nil {
+		return
+	}
+	o := &fitOptions{limit: math.NaN()}
+	res, err := fitScanDir(ctx, dir, spec, o)
+	fmt.Fprintln(w)
+	if err != nil {
+		fmt.Fprintf(w, "constants: not available (%v)\n", err)
+		return
+	}
+	fmt.Fprintln(w, "== spectroscopic constants (wellscan fit "+dir+" --json for all numbers) ==")
+	printScanFit(w, res)
+}

@@ -54,6 +54,7 @@ molecule, coordinates or [engine] are refused.
 			sum, err := runScan(cmd.Context(), a, args[0], spec, o)
 			if sum != nil {
 				printSummary(a.stdout, spec, args[0], *sum)
+				printEndFit(cmd.Context(), a.stdout, args[0], spec)
 			}
 			return err
 		},
