@@ -368,6 +368,10 @@ func (s *Spec) DecodePrimitive(p toml.Primitive, prefix string, v any) error {
 		}
 		return &SpecError{File: s.file, Key: prefix, Msg: strings.TrimPrefix(err.Error(), "toml: ")}
 	}
+	if _, generic := v.(*map[string]any); generic {
+		// Every key lands in the map; the caller checks the names.
+		return nil
+	}
 	for _, k := range s.meta.Undecoded() {
 		if strings.HasPrefix(k.String(), prefix+".") {
 			return &SpecError{File: s.file, Line: keyLine(s.text, k), Key: k.String(), Msg: "unknown key"}

@@ -34,6 +34,13 @@ type Outcome struct {
 	// Class names the failure when Converged is false ("not-converged",
 	// …); empty on success.
 	Class string
+	// Detail explains a failure (the error text, with the end of the
+	// program's output where there is one).
+	Detail string
+	// Permanent marks a failure that would come back the same way on
+	// another try (a missing program, an energy that is not in the
+	// output): the point is not retried.
+	Permanent bool
 }
 
 // Backend computes the energy of one point. Compute must honour ctx

@@ -28,11 +28,13 @@ type Result struct {
 	Extra       map[string]float64 `json:"extra,omitempty"`
 	Class       string             `json:"class,omitempty"`
 	Error       string             `json:"error,omitempty"`
-	Backend     string             `json:"backend"`
-	Host        string             `json:"host"`
-	PID         int                `json:"pid"`
-	Started     time.Time          `json:"started"`
-	Finished    time.Time          `json:"finished"`
+	// Permanent: the failure would recur on another try; not retried.
+	Permanent bool      `json:"permanent,omitempty"`
+	Backend   string    `json:"backend"`
+	Host      string    `json:"host"`
+	PID       int       `json:"pid"`
+	Started   time.Time `json:"started"`
+	Finished  time.Time `json:"finished"`
 }
 
 // PointDir is the work directory of the point with key in scan dir.

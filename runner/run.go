@@ -567,6 +567,12 @@ func (r *Runner) resultOf(t Task, start time.Time, o Outcome) Result {
 			res.Class = "not-converged"
 		}
 		res.Error = fmt.Sprintf("backend %s: %s", r.Backend.Name(), res.Class)
+		if o.Detail != "" {
+			res.Error += ": " + o.Detail
+		}
+		if o.Permanent {
+			res.Permanent = true
+		}
 	}
 	return res
 }
@@ -576,7 +582,7 @@ func (r *Runner) resultOf(t Task, start time.Time, o Outcome) Result {
 // built, will fail the same way again.
 func retriable(class string) bool {
 	switch class {
-	case "not-converged", "geometry":
+	case "not-converged", "scf-not-converged", "geometry":
 		return false
 	}
 	return true
@@ -624,7 +630,7 @@ func (r *Runner) apply(rec *PointRecord, res Result) {
 		return
 	}
 	rec.Class, rec.LastError = res.Class, res.Error
-	if retriable(res.Class) && rec.Attempts < r.Spec.Queue.Attempts {
+	if !res.Permanent && retriable(res.Class) && rec.Attempts < r.Spec.Queue.Attempts {
 		rec.State = Planned
 		r.touch(rec)
 		r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("attempt %d of %d failed (%s): %s", rec.Attempts, r.Spec.Queue.Attempts, res.Class, res.Error)})

@@ -5,6 +5,7 @@ import (
 
 	"wellscan/planner"
 	"wellscan/runner"
+	"wellscan/runner/command"
 	"wellscan/runner/hf"
 	"wellscan/runner/local"
 	"wellscan/runner/model"
@@ -19,7 +20,7 @@ func newBackend(spec *planner.Spec) (runner.Backend, error) {
 	case "builtin":
 		return hf.NewBackend(spec)
 	case "command":
-		return nil, fmt.Errorf("%s: engine.kind = \"command\": the external-command engine is not part of this build yet", spec.File())
+		return command.NewBackend(spec)
 	}
 	return nil, fmt.Errorf("%s: unknown engine kind %q", spec.File(), spec.Engine.Kind)
 }

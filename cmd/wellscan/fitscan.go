@@ -213,7 +213,6 @@ func printScanFit(w io.Writer, f *scanFit) {
 	}
 }
 
-
 func scanSpecPath(dir string) string { return filepath.Join(dir, "scan.toml") }
 
 // printEndFit prints the constants table at the end of run and demo. A

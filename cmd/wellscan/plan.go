@@ -3,6 +3,7 @@ package main
 import (
 	"fmt"
 	"io"
+	"os"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -12,6 +13,7 @@ import (
 
 	"wellscan/planner"
 	"wellscan/runner"
+	"wellscan/runner/command"
 )
 
 func newPlanCommand(a *app) *cobra.Command {
@@ -20,11 +22,20 @@ func newPlanCommand(a *app) *cobra.Command {
 		Short: "Show what a run of DIR would compute, without computing anything",
 		Long: `Dry run: check DIR/scan.toml, then print the points of round 1 with
 their geometry's coordinates, the refinement settings and budgets, and an
-estimate of the cost. Nothing is computed and the store is not touched.`,
+estimate of the cost. Nothing is computed and the store is not touched.
+With an external program (engine.kind = "command") every input of round 1
+is rendered into DIR/plan-inputs/ and the first template error stops the
+plan with the template's file and line.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			spec, err := planner.Load(filepath.Join(args[0], "scan.toml"))
 			if err != nil {
+				return err
+			}
+			if _, err := newBackend(spec); err != nil {
+				return err
+			}
+			if err := renderInputs(a.stdout, args[0], spec); err != nil {
 				return err
 			}
 			printPlan(a.stdout, args[0], spec)
@@ -132,4 +143,37 @@ func atoms1(idx []int) string {
 		s = append(s, fmt.Sprint(i+1))
 	}
 	return "[" + strings.Join(s, ",") + "]"
+}
+
+// renderInputs renders the round-1 inputs of a command scan into
+// DIR/plan-inputs/<key>.in, so that template mistakes show before anything
+// runs. Other engines need nothing rendered.
+func renderInputs(w io.Writer, dir string, spec *planner.Spec) error {
+	if spec.Engine.Kind != "command" {
+		return nil
+	}
+	b, err := command.NewBackend(spec)
+	if err != nil {
+		return err
+	}
+	out := filepath.Join(dir, "plan-inputs")
+	if err := os.MkdirAll(out, 0o700); err != nil {
+		return err
+	}
+	pts := spec.InitialPoints()
+	for _, p := range pts {
+		mol, err := spec.Geometry(p)
+		if err != nil {
+			return fmt.Errorf("point %s: %w", p.Key, err)
+		}
+		text, err := b.Render(runner.Task{Key: p.Key, Values: p.Values, Mol: mol})
+		if err != nil {
+			return fmt.Errorf("point %s: %w", p.Key, err)
+		}
+		if err := os.WriteFile(filepath.Join(out, p.Key+".in"), text, 0o600); err != nil {
+			return err
+		}
+	}
+	fmt.Fprintf(w, "rendered %d inputs of round 1 into %s\n", len(pts), out)
+	return nil
 }
