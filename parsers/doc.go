@@ -12,6 +12,10 @@
 // cannot be right for a molecule (positive total energy, a spike against
 // both neighbours).
 //
+// XYZ files are read and written with [ReadXYZ] and [WriteXYZ] (several
+// frames per file); [FormatXYZComment] and [ParseXYZComment] put a point's
+// key and energy on a frame's comment line.
+//
 // # Units
 //
 // Extracted energies are returned in hartree, converted from hartree, eV,
