@@ -437,3 +437,37 @@ func TestComputeERI_Errors(t *testing.T) {
 		})
 	}
 }
+
+func TestComputeERI_PointChargeLimit(t *testing.T) {
+	// An s function with a very large exponent ζ gives a charge
+	// distribution φ² of unit charge and width ~1/√ζ, so
+	// (ab|φφ) → ⟨a|1/|r−C||b⟩ = −V_ab/Z as ζ → ∞, with an error of order
+	// ρ_ab(C)·π/(4ζ) (electrostatics of a Gaussian charge; common
+	// practice). This ties the Head-Gordon–Pople ERIs for up to g
+	// functions to the McMurchie–Davidson nuclear attraction, itself
+	// checked by quadrature. ζ = 1e9 gives errors ~1e-9; tolerance 1e-7.
+	C := [3]float64{0.4, -0.3, 0.8}
+	for _, pure := range []bool{false, true} {
+		shells := []Shell{
+			{L: 3, Center: [3]float64{0, 0.2, -0.1}, Exps: []float64{1.1, 0.4}, Coefs: []float64{0.6, 0.5}, Pure: pure},
+			{L: 4, Center: [3]float64{0.9, -0.5, 0.3}, Exps: []float64{0.9}, Coefs: []float64{1}, Pure: pure},
+			{L: 2, Center: [3]float64{-0.6, 0.4, 0.2}, Exps: []float64{0.7}, Coefs: []float64{1}, Pure: pure},
+			{L: 0, Center: C, Exps: []float64{1e9}, Coefs: []float64{1}},
+		}
+		eri, err := ComputeERI(t.Context(), shells, NormPerComponent, 2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		V := Nuclear(shells[:3], NormPerComponent, []PointCharge{{Z: 1, Pos: C}})
+		n := V.SymmetricDim()
+		s := n // index of the sharp s function
+		for i := range n {
+			for j := 0; j <= i; j++ {
+				got, want := eri.At(i, j, s, s), -V.At(i, j)
+				if !scalar.EqualWithinAbsOrRel(got, want, 1e-7, 1e-7) {
+					t.Errorf("pure=%v: (%d %d|ss) = %.12g, ⟨%d|1/r_C|%d⟩ = %.12g", pure, i, j, got, i, j, want)
+				}
+			}
+		}
+	}
+}
