@@ -1,6 +1,8 @@
 package integral
 
 import (
+	"context"
+	"errors"
 	"math"
 	"math/rand/v2"
 	"path/filepath"
@@ -469,5 +471,59 @@ func TestComputeERI_PointChargeLimit(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+func TestComputeERI_CancelledContext(t *testing.T) {
+	ctx, cancel := context.WithCancel(t.Context())
+	cancel()
+	sh := basisShells(t, "cc-pvdz-HCO.json", waterAtoms(t), true)
+	if _, err := ComputeERI(ctx, sh, NormPerComponent, 2); !errors.Is(err, context.Canceled) {
+		t.Errorf("ComputeERI(cancelled) error = %v, want context.Canceled", err)
+	}
+	dir, err := NewDirect(sh, NormPerComponent, 2, 1e-12)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := NumFunctions(sh)
+	one := func() []*mat.SymDense { return []*mat.SymDense{mat.NewSymDense(n, nil)} }
+	if err := dir.JK(ctx, one(), one(), one()); !errors.Is(err, context.Canceled) {
+		t.Errorf("Direct.JK(cancelled) error = %v, want context.Canceled", err)
+	}
+}
+
+func TestJK_BadArguments(t *testing.T) {
+	sh := testShells(false)
+	n := NumFunctions(sh)
+	eri, err := ComputeERI(t.Context(), sh, NormPerComponent, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir, err := NewDirect(sh, NormPerComponent, 1, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	good := []*mat.SymDense{mat.NewSymDense(n, nil)}
+	small := []*mat.SymDense{mat.NewSymDense(n-1, nil)}
+	for _, tc := range []struct {
+		name       string
+		dens, j, k []*mat.SymDense
+	}{
+		{"wrong size density", small, good, good},
+		{"wrong size K", good, good, small},
+		{"count mismatch", good, nil, good},
+		{"nil matrix", good, []*mat.SymDense{nil}, good},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			if err := eri.JK(t.Context(), tc.dens, tc.j, tc.k); err == nil {
+				t.Error("ERI.JK: no error")
+			}
+			if err := dir.JK(t.Context(), tc.dens, tc.j, tc.k); err == nil {
+				t.Error("Direct.JK: no error")
+			}
+		})
+	}
+	if _, err := NewDirect(sh, NormPerComponent, 1, -1); err == nil {
+		t.Error("NewDirect(threshold −1): no error")
 	}
 }
