@@ -180,6 +180,24 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
 	Lab, Lcd := la+lb, lc+ld
 	L := Lab + Lcd
+	if Lab < Lcd {
+		// The electron-1 recurrence is the cheaper one: put the higher
+		// pair in the bra and transpose (ab|cd) = (cd|ab).
+		blk := w.quartet(kp, bp)
+		nab, ncd := bp.n1*bp.n2, kp.n1*kp.n2
+		dst := w.h1
+		if &blk[0] == &w.h1[0] {
+			dst = w.h2
+		}
+		dst = dst[:nab*ncd]
+		for cd := range ncd {
+			row := blk[cd*nab : (cd+1)*nab]
+			for ab, v := range row {
+				dst[ab*ncd+cd] = v
+			}
+		}
+		return dst
+	}
 	switch {
 	case L == 0:
 		return w.quartetSSSS(bp, kp)
