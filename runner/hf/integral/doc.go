@@ -41,6 +41,19 @@
 //   - T. Helgaker, P. Jørgensen, J. Olsen, Molecular Electronic-Structure
 //     Theory, Wiley (2000), ch. 6 (solid harmonics) and ch. 9.
 //
+// Screening: primitive pairs with exp(−μ|AB|²) < 1e-18 are dropped;
+// [ComputeERI] skips shell quartets whose Schwarz bound
+// √(ab|ab)·√(cd|cd) is below 1e-15; [Direct] skips quartets whose Schwarz
+// bound times the largest density element they touch is below the
+// caller's threshold. J and K are linear in the density, so an SCF can
+// pass density differences to [Direct.JK] for sharper screening.
+//
+// # Invariants
+//
+// [ERI.JK] and [Direct.JK] compute the same sums and agree to rounding
+// (tested to 1e-12) when the direct threshold is small. Matrices are
+// symmetric; [ERI.At] has the full 8-fold permutational symmetry.
+//
 // # Units
 //
 // Atomic units: centres and exponents in bohr and bohr⁻², integrals in
@@ -49,6 +62,10 @@
 // # Concurrency
 //
 // All functions are safe for concurrent use. The package holds only
-// read-only tables (Boys function grid, solid-harmonic coefficients)
-// computed deterministically at initialisation.
+// read-only tables (Boys function grid, solid-harmonic coefficients,
+// Cartesian index tables) computed deterministically at initialisation.
+// [ComputeERI], [ERI.JK] and [Direct.JK] run on the requested number of
+// goroutines, each with its own scratch and accumulators (nothing is
+// allocated per shell quartet); results are summed after all workers
+// finish, and every call returns only after its goroutines have exited.
 package integral

@@ -180,11 +180,31 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
 	Lab, Lcd := la+lb, lc+ld
 	L := Lab + Lcd
+	if Lab < Lcd {
+		// The electron-1 recurrence is the cheaper one: put the higher
+		// pair in the bra and transpose (ab|cd) = (cd|ab).
+		blk := w.quartet(kp, bp)
+		nab, ncd := bp.n1*bp.n2, kp.n1*kp.n2
+		dst := w.h1
+		if &blk[0] == &w.h1[0] {
+			dst = w.h2
+		}
+		dst = dst[:nab*ncd]
+		for cd := range ncd {
+			row := blk[cd*nab : (cd+1)*nab]
+			for ab, v := range row {
+				dst[ab*ncd+cd] = v
+			}
+		}
+		return dst
+	}
 	switch {
 	case L == 0:
 		return w.quartetSSSS(bp, kp)
 	case L == 1:
 		return w.quartetL1(bp, kp)
+	case Lab == 1 && Lcd == 1:
+		return w.quartetPSPS(bp, kp)
 	}
 	nE, nF := ncum(Lab), ncum(Lcd)
 	e0, f0 := ncum(la-1), ncum(lc-1)
@@ -414,6 +434,46 @@ func (w *eriWork) quartetL1(bp, kp *shellPair) []float64 {
 	}
 	w.out[0], w.out[1], w.out[2] = s0, s1, s2
 	return w.out[:3]
+}
+
+// quartetPSPS is the fast path for (ps|ps):
+// [p_i|s]^(m) = PA_i θ^m + WP_i θ^{m+1} and
+// [p_i 0|p_k 0] = QC_k [p_i|s]⁰ + WQ_k [p_i|s]¹ + δ_ik/(2(p+q)) θ¹
+// (Obara & Saika 1986).
+func (w *eriWork) quartetPSPS(bp, kp *shellPair) []float64 {
+	var acc [9]float64
+	for _, pa := range bp.prims {
+		p := pa.p
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			rho := p * q / pq
+			PQ := [3]float64{pa.P[0] - pc.P[0], pa.P[1] - pc.P[1], pa.P[2] - pc.P[2]}
+			boys(rho*(PQ[0]*PQ[0]+PQ[1]*PQ[1]+PQ[2]*PQ[2]), 2, w.fb)
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			t0, t1, t2 := pref*w.fb[0], pref*w.fb[1], pref*w.fb[2]
+			// W − P = −q/(p+q) PQ, W − Q = p/(p+q) PQ
+			wp, wq := -q/pq, p/pq
+			var s0, s1 [3]float64
+			for i := range 3 {
+				wpi := wp * PQ[i]
+				s0[i] = pa.PA[i]*t0 + wpi*t1
+				s1[i] = pa.PA[i]*t1 + wpi*t2
+			}
+			cross := 0.5 / pq * t1
+			for i := range 3 {
+				for k := range 3 {
+					v := pc.PA[k]*s0[i] + wq*PQ[k]*s1[i]
+					if i == k {
+						v += cross
+					}
+					acc[i*3+k] += v
+				}
+			}
+		}
+	}
+	copy(w.out[:9], acc[:])
+	return w.out[:9]
 }
 
 // finish applies component scales and spherical transforms to the

@@ -61,7 +61,7 @@ func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int
 		sp.schwarz = math.Sqrt(m)
 	}, eb.maxl)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("integral: Schwarz factors: %w", err)
 	}
 	return eb, nil
 }

@@ -1,6 +1,8 @@
 package integral
 
 import (
+	"context"
+	"errors"
 	"math"
 	"math/rand/v2"
 	"path/filepath"
@@ -435,5 +437,93 @@ func TestComputeERI_Errors(t *testing.T) {
 				t.Error("Validate: no error")
 			}
 		})
+	}
+}
+
+func TestComputeERI_PointChargeLimit(t *testing.T) {
+	// An s function with a very large exponent ζ gives a charge
+	// distribution φ² of unit charge and width ~1/√ζ, so
+	// (ab|φφ) → ⟨a|1/|r−C||b⟩ = −V_ab/Z as ζ → ∞, with an error of order
+	// ρ_ab(C)·π/(4ζ) (electrostatics of a Gaussian charge; common
+	// practice). This ties the Head-Gordon–Pople ERIs for up to g
+	// functions to the McMurchie–Davidson nuclear attraction, itself
+	// checked by quadrature. ζ = 1e9 gives errors ~1e-9; tolerance 1e-7.
+	C := [3]float64{0.4, -0.3, 0.8}
+	for _, pure := range []bool{false, true} {
+		shells := []Shell{
+			{L: 3, Center: [3]float64{0, 0.2, -0.1}, Exps: []float64{1.1, 0.4}, Coefs: []float64{0.6, 0.5}, Pure: pure},
+			{L: 4, Center: [3]float64{0.9, -0.5, 0.3}, Exps: []float64{0.9}, Coefs: []float64{1}, Pure: pure},
+			{L: 2, Center: [3]float64{-0.6, 0.4, 0.2}, Exps: []float64{0.7}, Coefs: []float64{1}, Pure: pure},
+			{L: 0, Center: C, Exps: []float64{1e9}, Coefs: []float64{1}},
+		}
+		eri, err := ComputeERI(t.Context(), shells, NormPerComponent, 2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		V := Nuclear(shells[:3], NormPerComponent, []PointCharge{{Z: 1, Pos: C}})
+		n := V.SymmetricDim()
+		s := n // index of the sharp s function
+		for i := range n {
+			for j := 0; j <= i; j++ {
+				got, want := eri.At(i, j, s, s), -V.At(i, j)
+				if !scalar.EqualWithinAbsOrRel(got, want, 1e-7, 1e-7) {
+					t.Errorf("pure=%v: (%d %d|ss) = %.12g, ⟨%d|1/r_C|%d⟩ = %.12g", pure, i, j, got, i, j, want)
+				}
+			}
+		}
+	}
+}
+
+func TestComputeERI_CancelledContext(t *testing.T) {
+	ctx, cancel := context.WithCancel(t.Context())
+	cancel()
+	sh := basisShells(t, "cc-pvdz-HCO.json", waterAtoms(t), true)
+	if _, err := ComputeERI(ctx, sh, NormPerComponent, 2); !errors.Is(err, context.Canceled) {
+		t.Errorf("ComputeERI(cancelled) error = %v, want context.Canceled", err)
+	}
+	dir, err := NewDirect(sh, NormPerComponent, 2, 1e-12)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := NumFunctions(sh)
+	one := func() []*mat.SymDense { return []*mat.SymDense{mat.NewSymDense(n, nil)} }
+	if err := dir.JK(ctx, one(), one(), one()); !errors.Is(err, context.Canceled) {
+		t.Errorf("Direct.JK(cancelled) error = %v, want context.Canceled", err)
+	}
+}
+
+func TestJK_BadArguments(t *testing.T) {
+	sh := testShells(false)
+	n := NumFunctions(sh)
+	eri, err := ComputeERI(t.Context(), sh, NormPerComponent, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir, err := NewDirect(sh, NormPerComponent, 1, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	good := []*mat.SymDense{mat.NewSymDense(n, nil)}
+	small := []*mat.SymDense{mat.NewSymDense(n-1, nil)}
+	for _, tc := range []struct {
+		name       string
+		dens, j, k []*mat.SymDense
+	}{
+		{"wrong size density", small, good, good},
+		{"wrong size K", good, good, small},
+		{"count mismatch", good, nil, good},
+		{"nil matrix", good, []*mat.SymDense{nil}, good},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			if err := eri.JK(t.Context(), tc.dens, tc.j, tc.k); err == nil {
+				t.Error("ERI.JK: no error")
+			}
+			if err := dir.JK(t.Context(), tc.dens, tc.j, tc.k); err == nil {
+				t.Error("Direct.JK: no error")
+			}
+		})
+	}
+	if _, err := NewDirect(sh, NormPerComponent, 1, -1); err == nil {
+		t.Error("NewDirect(threshold −1): no error")
 	}
 }
