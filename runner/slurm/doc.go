@@ -25,7 +25,13 @@
 //     when accounting exists, one bounded history command.
 //   - [Classify] and [RetryPolicy.Decide] turn a final state into a class and
 //     an action (retry with more time, more memory, unchanged, or not at all).
-//   - [Client.Cancel] cancels by name and confirms with a status query.
+//   - [Client.Cancel] cancels by name (or by ids in batches) and
+//     [Client.ConfirmCancelled] confirms with status queries.
+//   - [ReadSlurmLimits] reads MaxArraySize and MinJobAge once per run (array
+//     chunk size; [PollPolicy.WithoutAccounting] caps polling at MinJobAge/2).
+//   - The submission token travels in the job comment and comes back in the
+//     status listing ([TaskState.Token]), so a submit interrupted by a crash
+//     can be adopted instead of repeated.
 //   - [WriteResultAtomic] and [ReadResult] are the compute-node/orchestrator
 //     halves of the result-file protocol: a result file decides success,
 //     whatever the scheduler says.

@@ -280,3 +280,17 @@ func TestPoller_Poll_WholeArrayRecordCoversTasks(t *testing.T) {
 		t.Errorf("15_1 = %+v, want unseen and missing", got)
 	}
 }
+
+func TestParseSlurmLimits(t *testing.T) {
+	// Lines as printed by `scontrol show config` on the local Slurm 22.05.
+	text := "Configuration data as of 2026-12-01T23:40:00\nMaxArraySize            = 1001\nMaxJobCount             = 10000\nMinJobAge               = 300 sec\n"
+	got, err := ParseSlurmLimits([]byte(text))
+	if err != nil || got.MaxArraySize != 1001 || got.MinJobAge != 300*time.Second {
+		t.Errorf("ParseSlurmLimits = %+v, %v; want 1001 and 300 s", got, err)
+	}
+	for _, bad := range []string{"MaxArraySize = 1001\n", "MaxArraySize = x\nMinJobAge = 5 sec\n", "MaxArraySize = 10\nMinJobAge = 5 min\n"} {
+		if _, err := ParseSlurmLimits([]byte(bad)); err == nil {
+			t.Errorf("ParseSlurmLimits(%q) = nil error", bad)
+		}
+	}
+}

@@ -16,6 +16,8 @@
 #   SLURM_LOCAL_MEM_MB=N      memory the node advertises (default 80% of MemTotal)
 #   SLURM_LOCAL_KEEP_STATE=1  keep old jobs and node state across a restart
 #                             (default: slurmctld -c, a clean controller)
+#   SLURM_LOCAL_MIN_JOB_AGE=S seconds a finished job stays in squeue (default 300;
+#                             a small value lets tests see jobs leave the queue)
 #   SLURM_LOCAL_PROBE=1       after start, also wait for one tiny job to finish
 #   SLURM_LOCAL_ACCOUNTING=1  also run slurmdbd with a local MariaDB, so that
 #                             sacct works (installs slurmdbd and mariadb-server)
@@ -241,6 +243,8 @@ render_conf() {
   local cpus mem
   cpus=$(node_cpus)
   mem=$(node_mem_mb)
+  local age=${SLURM_LOCAL_MIN_JOB_AGE:-300}
+  [[ "$age" =~ ^[1-9][0-9]*$ ]] || die "SLURM_LOCAL_MIN_JOB_AGE must be a positive number of seconds, got '$age'"
   [[ "$cpus" =~ ^[1-9][0-9]*$ ]] || die "SLURM_LOCAL_CPUS must be a positive integer, got '$cpus'"
   [[ "$mem" =~ ^[1-9][0-9]*$ ]] || die "node memory must be a positive integer of MiB, got '$mem'"
   cat <<EOF
@@ -264,7 +268,7 @@ SchedulerParameters=batch_sched_delay=0
 SlurmdParameters=config_overrides
 ReturnToService=2
 KillWait=5
-MinJobAge=300
+MinJobAge=$age
 SlurmctldPidFile=$CTLD_PID
 SlurmdPidFile=$SLURMD_PID
 StateSaveLocation=$STATE_DIR
