@@ -63,20 +63,24 @@ type Runner struct {
 	// SnapshotEvery is how often status.json is rewritten while points
 	// run; 0: every 2 s.
 	SnapshotEvery time.Duration
+	// FlushEvery is the shortest interval between store transactions
+	// while points stream in; 0: 20 ms.
+	FlushEvery time.Duration
 	// CPUs to share between concurrent points; 0: runtime.NumCPU().
 	CPUs int
 
-	fp       string
-	recs     map[string]*PointRecord
-	dirty    map[string]bool
-	rounds   map[int]*RoundRecord
-	dirtyR   map[int]bool
-	events   []Event
-	start    time.Time
-	computed int
-	reused   int
-	round    int
-	lastPlan planner.RefinePlan
+	fp        string
+	lastFlush time.Time
+	recs      map[string]*PointRecord
+	dirty     map[string]bool
+	rounds    map[int]*RoundRecord
+	dirtyR    map[int]bool
+	events    []Event
+	start     time.Time
+	computed  int
+	reused    int
+	round     int
+	lastPlan  planner.RefinePlan
 }
 
 // Summary is the outcome of Run.
@@ -108,6 +112,9 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 	}
 	if r.SnapshotEvery == 0 {
 		r.SnapshotEvery = 2 * time.Second
+	}
+	if r.FlushEvery == 0 {
+		r.FlushEvery = 20 * time.Millisecond
 	}
 	if r.CPUs == 0 {
 		r.CPUs = runtime.NumCPU()
@@ -319,6 +326,7 @@ func (r *Runner) flush() error {
 	if err := r.Store.Commit(recs, rounds, evs); err != nil {
 		return err
 	}
+	r.lastFlush = r.Now()
 	clear(r.dirty)
 	clear(r.dirtyR)
 	r.events = nil
@@ -330,6 +338,10 @@ func (r *Runner) flush() error {
 		}
 	}
 	return nil
+}
+
+func (r *Runner) pendingChanges() bool {
+	return len(r.dirty) > 0 || len(r.dirtyR) > 0 || len(r.events) > 0
 }
 
 func (r *Runner) counts() map[State]int {
@@ -423,10 +435,25 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 			continue
 		default:
 		}
-		if err := r.flush(); err != nil {
-			return err
+		// Commit at most every FlushEvery while points stream in: one
+		// transaction then holds many transitions. Nothing is lost by the
+		// wait — a point is proven done by its result file, which the
+		// worker made durable before reporting.
+		var flushC <-chan time.Time
+		if r.pendingChanges() {
+			if wait := r.FlushEvery - r.Now().Sub(r.lastFlush); wait > 0 {
+				ft := time.NewTimer(wait)
+				defer ft.Stop()
+				flushC = ft.C
+			} else if err := r.flush(); err != nil {
+				return err
+			}
 		}
 		select {
+		case <-flushC:
+			if err := r.flush(); err != nil {
+				return err
+			}
 		case send <- nv:
 			dispatched()
 		case c := <-out:

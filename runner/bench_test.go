@@ -1,0 +1,72 @@
+package runner_test
+
+import (
+	"fmt"
+	"strings"
+	"testing"
+	"time"
+
+	"wellscan/runner"
+)
+
+// BenchmarkStore_Commit measures point transitions per second: each
+// transition is a record write plus its event, batch of them per
+// transaction (the runner coalesces what happens in one loop cycle).
+func BenchmarkStore_Commit(b *testing.B) {
+	for _, batch := range []int{1, 10, 100} {
+		b.Run(fmt.Sprintf("batch=%d", batch), func(b *testing.B) {
+			dir := b.TempDir()
+			st, err := runner.Open(dir, runner.OpenOptions{})
+			if err != nil {
+				b.Fatal(err)
+			}
+			defer st.Close()
+			e := -112.7
+			recs := make([]runner.PointRecord, batch)
+			evs := make([]runner.Event, batch)
+			n := 0
+			b.ReportAllocs()
+			start := time.Now()
+			for b.Loop() {
+				for i := range recs {
+					recs[i] = runner.PointRecord{Key: fmt.Sprintf("r=%.5f", float64(n%500)/100), Values: []float64{float64(n)}, State: runner.Done, Energy: &e, Attempts: 1, Round: 1}
+					evs[i] = runner.Event{Kind: "done", Key: recs[i].Key}
+					n++
+				}
+				if err := st.Commit(recs, nil, evs); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(n)/time.Since(start).Seconds(), "transitions/s")
+		})
+	}
+}
+
+// BenchmarkRunner_OverheadPerPoint runs whole model scans with no delay
+// and reports wall time per point: everything the orchestration does
+// (store transactions, result file with fsync and rename, geometry,
+// guess lookup, status snapshot), since the model's own work is a few
+// microseconds.
+func BenchmarkRunner_OverheadPerPoint(b *testing.B) {
+	const n = 200
+	text := strings.Replace(morseSpec, "from = 1.00\nto = 1.30\nstep = 0.05", fmt.Sprintf("from = 0.90\nto = 2.89\ncount = %d", n), 1)
+	text = strings.Replace(text, "[refine]", "[refine]\nadaptive = false", 1)
+	b.ReportAllocs()
+	var per time.Duration
+	for b.Loop() {
+		b.StopTimer()
+		dir, spec := scanDir(b, text)
+		b.StartTimer()
+		start := time.Now()
+		sum, err := runScan(b, b.Context(), dir, spec, 2)
+		if err != nil {
+			b.Fatal(err)
+		}
+		if sum.Counts[runner.Done] != n {
+			b.Fatalf("%d points done, want %d", sum.Counts[runner.Done], n)
+		}
+		per = time.Since(start) / n
+	}
+	_ = per
+	b.ReportMetric(float64(b.Elapsed().Microseconds())/1000/float64(b.N*n), "ms/point")
+}
