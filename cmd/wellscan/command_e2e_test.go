@@ -147,3 +147,91 @@ energy = { label = "energy", unit = "hartree" }`).Replace(e2eSpec)
 		t.Errorf("bad template: exit %d, stderr %q; want exit 1 naming point.tmpl:2", code, errs)
 	}
 }
+
+// TestCommandBackend_MorseScript scans a toy program of our own
+// (runner/command/testdata/morse.awk: a Morse curve in eV, invented
+// constants De = 4.6 eV, a = 2.1 Å⁻¹, r_e = 1.13 Å) through a template,
+// fits the scan, and compares with the analytic Morse constants:
+// ω_e = a·sqrt(2 D_e/μ), ω_e x_e = ω_e²/(4 D_e) (P. M. Morse, Phys. Rev. 34,
+// 57 (1929)).
+func TestCommandBackend_MorseScript(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a scan through awk")
+	}
+	if _, err := exec.LookPath("awk"); err != nil {
+		t.Skip("no awk")
+	}
+	awk, err := filepath.Abs("../../runner/command/testdata/morse.awk")
+	if err != nil {
+		t.Fatal(err)
+	}
+	tmpl, err := os.ReadFile("../../runner/command/testdata/morse.tmpl")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	spec := `title = "toy Morse well through awk"
+[molecule]
+geometry = """
+C 0 0 0
+O 0 0 1.13
+"""
+[[scan]]
+name = "r"
+bond = [1, 2]
+from = 0.95
+to = 1.60
+step = 0.05
+[engine]
+kind = "command"
+[engine.command]
+template = "morse.tmpl"
+input = "point.inp"
+command = ["awk", "-f", "` + awk + `", "point.inp"]
+timeout = "30s"
+energy = { label = "well energy / eV", unit = "eV" }
+`
+	for name, text := range map[string][]byte{"scan.toml": []byte(spec), "morse.tmpl": tmpl} {
+		if err := os.WriteFile(filepath.Join(dir, name), text, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if code, out, errs := runCLI(t, "", "run", dir, "-q"); code != 0 {
+		t.Fatalf("run: exit %d\n%s%s", code, out, errs)
+	}
+	code, out, errs := runCLI(t, "", "fit", dir, "--json")
+	if code != 0 {
+		t.Fatalf("fit: exit %d\n%s", code, errs)
+	}
+	var res struct {
+		Minima []struct {
+			RE     float64 `json:"r_e_angstrom"`
+			Omega  float64 `json:"omega_e_cm1"`
+			OmegaX float64 `json:"omega_e_x_e_cm1"`
+		} `json:"minima"`
+	}
+	if err := json.Unmarshal([]byte(out), &res); err != nil || len(res.Minima) != 1 {
+		t.Fatalf("fit JSON: %v, %d minima\n%s", err, len(res.Minima), out)
+	}
+	m := res.Minima[0]
+	const (
+		bohr    = 0.529177210903       // Å, CODATA 2018
+		hartree = 27.211386245988      // eV, CODATA 2018
+		cm1     = 219474.63136320      // cm⁻¹ per hartree, CODATA 2018
+		amu     = 1 / 5.48579909065e-4 // electron masses, CODATA 2018
+	)
+	mu := 12.0 * 15.99491461957 / (12.0 + 15.99491461957) * amu // 12C16O, AME2020
+	de := 4.6 / hartree
+	a := 2.1 * bohr
+	omega := a * math.Sqrt(2*de/mu) * cm1
+	omegaX := omega * omega / (4 * de * cm1)
+	if math.Abs(m.RE-1.13) > 1e-5 { // refinement tolerance 1e-4 Å; the fit does better on exact data
+		t.Errorf("r_e = %.6f Å, want 1.13", m.RE)
+	}
+	if math.Abs(m.Omega-omega) > 0.5 { // the refinement's frequency tolerance
+		t.Errorf("ω_e = %.3f cm⁻¹, want %.3f", m.Omega, omega)
+	}
+	if math.Abs(m.OmegaX-omegaX) > 0.01*omegaX { // quartic force constant from a local fit: 1 %
+		t.Errorf("ω_e x_e = %.4f cm⁻¹, want %.4f", m.OmegaX, omegaX)
+	}
+}
