@@ -238,7 +238,11 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 		s := float64(mol.Multiplicity-1) / 2
 		fmt.Fprintf(w, "<S^2>                 %20.6f          (exact %.4f)\n", *rep.SSquared, s*(s+1))
 	}
-	fmt.Fprintf(w, "dipole moment         %20.6f debye    (x %.6f, y %.6f, z %.6f e·bohr)\n\n", rep.DipoleDebye, rep.DipoleAU[0], rep.DipoleAU[1], rep.DipoleAU[2])
+	dipole := "dipole moment        "
+	if res.MP2 != nil {
+		dipole = "dipole moment (" + strings.ToUpper(string(res.MP2.Reference)) + ")  "
+	}
+	fmt.Fprintf(w, "%s %20.6f debye    (x %.6f, y %.6f, z %.6f e·bohr)\n\n", dipole, rep.DipoleDebye, rep.DipoleAU[0], rep.DipoleAU[1], rep.DipoleAU[2])
 	fmt.Fprintln(w, "atom  element  Mulliken charge (e)")
 	for i, q := range rep.MullikenCharges {
 		fmt.Fprintf(w, "%4d  %-7s  %+.6f\n", i+1, mol.Atoms[i].Element.Symbol, q)

@@ -57,8 +57,8 @@ func BenchmarkMP2(b *testing.B) {
 		atoms []planner.Atom
 		basis string
 	}{
-		{"water/cc-pVTZ", water, "cc-pVTZ"},
-		{"benzene/6-31G*", benzeneAtoms(b), "6-31G*"},
+		{"water-cc-pVTZ", water, "cc-pVTZ"},
+		{"benzene-6-31Gs", benzeneAtoms(b), "6-31G*"},
 	}
 	for _, tc := range cases {
 		mol, err := planner.NewMolecule(tc.atoms, 0, 1)
