@@ -71,7 +71,9 @@ type Options struct {
 	// closed shell and UHF otherwise; UHF forces UMP2 on a closed shell.
 	MP2Reference Method
 	// MP2Memory is the transformation's memory budget in bytes (0:
-	// DefaultMP2Memory).
+	// DefaultMP2Memory), on top of the in-core integrals (Memory) that
+	// MP2 reuses when the SCF kept them; with direct integrals each
+	// batch of occupied orbitals recomputes them once.
 	MP2Memory int64
 }
 

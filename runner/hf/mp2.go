@@ -234,6 +234,8 @@ func splitSpin(o *Orbitals, beta bool, frozen int) (spinOrbs, error) {
 // opts.Workers goroutines and is batched over occupied orbitals to keep
 // within opts.Memory. It checks ctx between blocks. The summation order
 // does not depend on the number of workers, so results are reproducible.
+// RunMP2 only reads scf and src; calls with different inputs may run
+// concurrently.
 func RunMP2(ctx context.Context, scf *SCFResult, src PairBlockSource, opts MP2Options) (*MP2Result, error) {
 	start := time.Now()
 	if scf == nil || scf.Orbitals == nil {
