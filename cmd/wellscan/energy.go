@@ -29,13 +29,17 @@ type energyOptions struct {
 	json         bool
 	workers      int
 	maxIter      int
+	frozenCore   int
+	allElectron  bool
 }
 
 func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.StringVar(&o.basis, "basis", "6-31G*", "basis set from the built-in library (see 'wellscan basis list'); case-insensitive")
 	fs.StringVar(&o.basisFile, "basis-file", "", "read the basis set from this file (wellscan basis format) instead of the library")
 	fs.StringVar(&o.convention, "convention", "as-set", "d/f functions: as-set, cartesian (6D/10F) or spherical (5D/7F)")
-	fs.StringVar(&o.method, "method", "", "rhf or uhf (default: rhf for singlets, uhf otherwise)")
+	fs.StringVar(&o.method, "method", "", "rhf, uhf or mp2 (default: rhf for singlets, uhf otherwise; mp2 runs on rhf for singlets, uhf otherwise)")
+	fs.IntVar(&o.frozenCore, "frozen-core", -1, "mp2: number of lowest occupied orbitals per spin left uncorrelated (default: the atoms' noble-gas cores, e.g. 1 for O)")
+	fs.BoolVar(&o.allElectron, "all-electron", false, "mp2: correlate all electrons (same as --frozen-core 0)")
 	fs.IntVar(&o.charge, "charge", 0, "total charge of the molecule")
 	fs.IntVar(&o.multiplicity, "multiplicity", 0, "spin multiplicity 2S+1 (default: the lowest consistent with the electron count)")
 	fs.StringVar(&o.units, "units", "angstrom", "units of the XYZ coordinates: angstrom or bohr")
@@ -48,14 +52,17 @@ func newEnergyCommand(a *app) *cobra.Command {
 	o := &energyOptions{}
 	cmd := &cobra.Command{
 		Use:   "energy FILE.xyz",
-		Short: "Single-point Hartree–Fock energy of one geometry with the built-in engine",
-		Long: `Compute the RHF or UHF energy of the molecule in an XYZ file with the
-built-in engine. Use "-" to read the XYZ from standard input. The exit
+		Short: "Single-point Hartree–Fock or MP2 energy of one geometry with the built-in engine",
+		Long: `Compute the RHF, UHF or MP2 energy of the molecule in an XYZ file with the
+built-in engine. MP2 freezes the atoms' noble-gas cores by default (O 1s,
+Si [Ne], …); --all-electron correlates every electron. Use "-" to read
+the XYZ from standard input. The exit
 status is 1 when the SCF does not converge (the last energy is still
 printed, marked as not converged).`,
 		Example: `  wellscan energy water.xyz --basis cc-pVDZ
   wellscan energy oh.xyz --basis 6-31G* --multiplicity 2 --json
-  wellscan energy h2.xyz --units bohr --basis-file mybasis.txt`,
+  wellscan energy h2.xyz --units bohr --basis-file mybasis.txt
+  wellscan energy water.xyz --basis cc-pVTZ --method mp2 --all-electron`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runEnergy(cmd, a, o, args[0])
@@ -86,6 +93,15 @@ type energyReport struct {
 	MullikenCharges         []float64  `json:"mulliken_charges"`
 	DipoleAU                [3]float64 `json:"dipole_e_bohr"`
 	DipoleDebye             float64    `json:"dipole_debye"`
+	// MP2 only (energy_hartree is then the MP2 total).
+	ReferenceMethod        string   `json:"reference_method,omitempty"`
+	ReferenceEnergyHartree *float64 `json:"reference_energy_hartree,omitempty"`
+	MP2CorrelationHartree  *float64 `json:"mp2_correlation_hartree,omitempty"`
+	MP2SameSpinHartree     *float64 `json:"mp2_same_spin_hartree,omitempty"`
+	MP2OppositeSpinHartree *float64 `json:"mp2_opposite_spin_hartree,omitempty"`
+	MP2TotalHartree        *float64 `json:"mp2_total_hartree,omitempty"`
+	FrozenCoreOrbitals     *int     `json:"frozen_core_orbitals,omitempty"`
+	FrozenCore             string   `json:"frozen_core,omitempty"`
 }
 
 func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error {
@@ -96,6 +112,20 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	method, err := hf.ParseMethod(o.method)
 	if err != nil {
 		return usageError{fmt.Errorf("--method: %w", err)}
+	}
+	fc := hf.FrozenCoreAuto
+	switch {
+	case o.allElectron && o.frozenCore > 0:
+		return usageError{fmt.Errorf("--all-electron and --frozen-core %d contradict each other", o.frozenCore)}
+	case o.allElectron || o.frozenCore == 0:
+		fc = hf.AllElectron
+	case o.frozenCore > 0:
+		fc = hf.FrozenCoreCount(o.frozenCore)
+	case o.frozenCore < -1:
+		return usageError{fmt.Errorf("--frozen-core: %d orbitals, expected a count ≥ 0", o.frozenCore)}
+	}
+	if method != hf.MP2 && (o.allElectron || o.frozenCore >= 0) {
+		return usageError{errors.New("--all-electron and --frozen-core apply to --method mp2 only")}
 	}
 	conv, err := basis.ParseConvention(o.convention)
 	if err != nil {
@@ -130,7 +160,7 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 		return err
 	}
 	res, err := hf.Energy(cmd.Context(), mol, hf.Options{Method: method, Basis: set, Convention: conv,
-		Workers: o.workers, SCF: hf.SCFOptions{MaxIterations: o.maxIter}})
+		Workers: o.workers, SCF: hf.SCFOptions{MaxIterations: o.maxIter}, FrozenCore: fc})
 	if res == nil {
 		return err
 	}
@@ -166,7 +196,13 @@ func newEnergyReport(res *hf.Result, mol planner.Molecule) energyReport {
 			rep.OrbitalEnergiesBeta = o.EnergiesBeta
 		}
 	}
-	if res.Method == hf.UHF {
+	if m := res.MP2; m != nil {
+		ref, corr, ss, os, tot, n := m.ReferenceEnergy, m.Correlation, m.SameSpin, m.OppositeSpin, m.Total, m.FrozenCore
+		rep.ReferenceMethod, rep.ReferenceEnergyHartree = string(m.Reference), &ref
+		rep.MP2CorrelationHartree, rep.MP2SameSpinHartree, rep.MP2OppositeSpinHartree, rep.MP2TotalHartree = &corr, &ss, &os, &tot
+		rep.FrozenCoreOrbitals, rep.FrozenCore = &n, frozenCoreText(m)
+	}
+	if res.Reference == hf.UHF {
 		s2 := res.S2
 		rep.SSquared = &s2
 	}
@@ -184,14 +220,29 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 	}
 	fmt.Fprintln(w, ")")
 	fmt.Fprintf(w, "SCF             %d iterations, %s\n\n", rep.Iterations, map[bool]string{true: "converged", false: "NOT converged"}[rep.Converged])
-	fmt.Fprintf(w, "total energy          %20.12f hartree  (%.6f eV)\n", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
-	fmt.Fprintf(w, "electronic energy     %20.12f hartree\n", rep.ElectronicEnergyHartree)
+	if m := res.MP2; m != nil {
+		fmt.Fprintf(w, "MP2             %s reference, %s; %d+%d occupied, %d+%d virtual orbitals (α+β) correlated\n\n",
+			strings.ToUpper(string(m.Reference)), frozenCoreText(m), m.OccupiedAlpha, m.OccupiedBeta, m.VirtualAlpha, m.VirtualBeta)
+		fmt.Fprintf(w, "total energy (MP2)    %20.12f hartree  (%.6f eV)\n", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
+		fmt.Fprintf(w, "reference (%s)       %20.12f hartree\n", strings.ToUpper(string(m.Reference)), m.ReferenceEnergy)
+		fmt.Fprintf(w, "MP2 correlation       %20.12f hartree\n", m.Correlation)
+		fmt.Fprintf(w, "  same spin           %20.12f hartree\n", m.SameSpin)
+		fmt.Fprintf(w, "  opposite spin       %20.12f hartree\n", m.OppositeSpin)
+		fmt.Fprintf(w, "electronic energy (%s) %19.12f hartree\n", strings.ToUpper(string(m.Reference)), rep.ElectronicEnergyHartree)
+	} else {
+		fmt.Fprintf(w, "total energy          %20.12f hartree  (%.6f eV)\n", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
+		fmt.Fprintf(w, "electronic energy     %20.12f hartree\n", rep.ElectronicEnergyHartree)
+	}
 	fmt.Fprintf(w, "nuclear repulsion     %20.12f hartree\n", rep.NuclearRepulsionHartree)
 	if rep.SSquared != nil {
 		s := float64(mol.Multiplicity-1) / 2
 		fmt.Fprintf(w, "<S^2>                 %20.6f          (exact %.4f)\n", *rep.SSquared, s*(s+1))
 	}
-	fmt.Fprintf(w, "dipole moment         %20.6f debye    (x %.6f, y %.6f, z %.6f e·bohr)\n\n", rep.DipoleDebye, rep.DipoleAU[0], rep.DipoleAU[1], rep.DipoleAU[2])
+	dipole := "dipole moment        "
+	if res.MP2 != nil {
+		dipole = "dipole moment (" + strings.ToUpper(string(res.MP2.Reference)) + ")  "
+	}
+	fmt.Fprintf(w, "%s %20.6f debye    (x %.6f, y %.6f, z %.6f e·bohr)\n\n", dipole, rep.DipoleDebye, rep.DipoleAU[0], rep.DipoleAU[1], rep.DipoleAU[2])
 	fmt.Fprintln(w, "atom  element  Mulliken charge (e)")
 	for i, q := range rep.MullikenCharges {
 		fmt.Fprintf(w, "%4d  %-7s  %+.6f\n", i+1, mol.Atoms[i].Element.Symbol, q)
@@ -202,6 +253,19 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 			printOrbitals(w, "beta orbital energies (hartree)", o.EnergiesBeta, o.OccBeta)
 		}
 	}
+}
+
+// frozenCoreText states what MP2 left uncorrelated, e.g. "frozen core:
+// 1 orbital (O 1s)" or "all electrons correlated".
+func frozenCoreText(m *hf.MP2Result) string {
+	if m.FrozenCore == 0 {
+		return "all electrons correlated"
+	}
+	unit := "orbitals"
+	if m.FrozenCore == 1 {
+		unit = "orbital"
+	}
+	return fmt.Sprintf("frozen core: %d %s per spin (%s)", m.FrozenCore, unit, m.FrozenCoreLabel)
 }
 
 func printOrbitals(w io.Writer, title string, e, occ []float64) {

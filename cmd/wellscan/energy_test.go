@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+
 	"fmt"
 	"math"
 	"os"
@@ -71,6 +72,10 @@ func TestEnergyCommand_BadInput(t *testing.T) {
 		{"bad coordinate", "1\n\nH 0 zero 0\n", nil, "water.xyz:3: coordinate y of H"},
 		{"bad units", "1\n\nH 0 0 0\n", []string{"--units", "furlong"}, `unknown unit "furlong"`},
 		{"bad method", "1\n\nH 0 0 0\n", []string{"--method", "ccsd"}, `unknown method "ccsd"`},
+		{"frozen core without mp2", "1\n\nH 0 0 0\n", []string{"--all-electron"}, "apply to --method mp2 only"},
+		{"contradicting mp2 flags", "1\n\nH 0 0 0\n", []string{"--method", "mp2", "--all-electron", "--frozen-core", "1"}, "contradict"},
+		{"negative frozen core", "1\n\nH 0 0 0\n", []string{"--method", "mp2", "--frozen-core", "-3"}, "expected a count ≥ 0"},
+		{"too many frozen", "1\n\nHe 0 0 0\n", []string{"--method", "mp2", "--frozen-core", "2"}, "only 1 β electrons"},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -91,6 +96,41 @@ func TestEnergyCommand_NotConverged(t *testing.T) {
 	code, out, _ := runCLI(t, "", "energy", p, "--max-iterations", "2")
 	if code != 1 || !strings.Contains(out, "NOT CONVERGED") {
 		t.Errorf("exit %d, output %q; want exit 1 and a NOT CONVERGED banner", code, out)
+	}
+}
+
+// workedWaterXYZ is the geometry of the published worked water example
+// (runner/hf/testdata/bases/h2o-geom.dat, bohr).
+const workedWaterXYZ = "3\nworked water\nO 0.000000000000 -0.143225816552 0.000000000000\n" +
+	"H 1.638036840407 1.136548822547 -0.000000000000\nH -1.638036840407 1.136548822547 -0.000000000000\n"
+
+func TestEnergyCommand_MP2(t *testing.T) {
+	code, out, errs := runCLI(t, workedWaterXYZ, "energy", "-", "--units", "bohr", "--basis", "STO-3G-v0", "--method", "mp2", "--all-electron", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var rep map[string]any
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	// MP2 correlation and total of the published worked example, STO-3G
+	// (CrawfordGroup ProgrammingProjects commit 297fda1, Project #4 output,
+	// tabulated in runner/hf/testdata/worked-water README); 1e-9 Eh as in
+	// the engine's own test.
+	for k, want := range map[string]float64{"mp2_correlation_hartree": -0.049149636120, "mp2_total_hartree": -74.991229564312,
+		"energy_hartree": -74.991229564312, "reference_energy_hartree": -74.942079928192, "frozen_core_orbitals": 0} {
+		got, ok := rep[k].(float64)
+		if !ok || math.Abs(got-want) > 1e-9 {
+			t.Errorf("%s = %v, want %v", k, rep[k], want)
+		}
+	}
+	ss, os := rep["mp2_same_spin_hartree"].(float64), rep["mp2_opposite_spin_hartree"].(float64)
+	if math.Abs(ss+os+0.049149636120) > 1e-9 {
+		t.Errorf("same %v + opposite %v ≠ correlation", ss, os)
+	}
+	code, out, errs = runCLI(t, workedWaterXYZ, "energy", "-", "--units", "bohr", "--basis", "STO-3G-v0", "--method", "mp2")
+	if code != 0 || !strings.Contains(out, "frozen core: 1 orbital per spin (O 1s)") || !strings.Contains(out, "MP2 correlation") {
+		t.Errorf("text output (exit %d, %s):\n%s", code, errs, out)
 	}
 }
 

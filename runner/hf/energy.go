@@ -24,14 +24,14 @@ const (
 	UHF Method = "uhf"
 )
 
-// ParseMethod reads "rhf" or "uhf" case-insensitively; "" means "choose
-// by spin": RHF for a singlet, UHF otherwise.
+// ParseMethod reads "rhf", "uhf" or "mp2" case-insensitively; "" means
+// "choose by spin": RHF for a singlet, UHF otherwise.
 func ParseMethod(s string) (Method, error) {
 	switch m := Method(strings.ToLower(strings.TrimSpace(s))); m {
-	case "", RHF, UHF:
+	case "", RHF, UHF, MP2:
 		return m, nil
 	}
-	return "", fmt.Errorf("hf: unknown method %q (expected rhf or uhf)", s)
+	return "", fmt.Errorf("hf: unknown method %q (expected rhf, uhf or mp2)", s)
 }
 
 // DefaultMemory is the default budget for in-core two-electron integrals
@@ -61,13 +61,41 @@ type Options struct {
 	// neighbouring scan point's); they must span the same basis.
 	Guess *Orbitals
 	SCF   SCFOptions
+
+	// MP2 settings, used when Method is MP2.
+	//
+	// FrozenCore: the zero value freezes the atoms' noble-gas cores (the
+	// default, see FrozenCoreOrbitals); AllElectron correlates everything.
+	FrozenCore FrozenCore
+	// MP2Reference is the determinant MP2 starts from: "" picks RHF for a
+	// closed shell and UHF otherwise; UHF forces UMP2 on a closed shell.
+	MP2Reference Method
+	// MP2Memory is the transformation's memory budget in bytes (0:
+	// DefaultMP2Memory), on top of the in-core integrals (Memory) that
+	// MP2 reuses when the SCF kept them; with direct integrals each
+	// batch of occupied orbitals recomputes them once.
+	MP2Memory int64
 }
 
 // Result is a converged (or explicitly unconverged) Hartree–Fock
 // calculation on one geometry.
 type Result struct {
 	*SCFResult
+	// Energy is the final total energy of Method in hartree: the SCF
+	// energy for rhf and uhf, the MP2 total (reference + correlation) for
+	// mp2. A scan that reads Result.Energy therefore gets the energies of
+	// the method asked for. It shadows SCFResult.Energy, which always holds
+	// the Hartree–Fock energy (reach it as r.SCFResult.Energy; for mp2 also
+	// r.MP2.ReferenceEnergy). ElectronicEnergy, Mulliken and Dipole stay
+	// Hartree–Fock quantities.
+	Energy float64
+	// MP2 holds the correlation energies when Method is MP2 and the SCF
+	// converged; nil otherwise.
+	MP2 *MP2Result
+	// Method is what was asked for (rhf, uhf or mp2); Reference is the
+	// SCF that ran (rhf or uhf).
 	Method         Method
+	Reference      Method
 	Basis          string
 	Convention     string
 	BasisFunctions int
@@ -98,7 +126,22 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		}
 	}
 	na, nb := mol.AlphaBeta()
-	if method == RHF && na != nb {
+	ref := method
+	if method == MP2 {
+		ref = opts.MP2Reference
+		if ref == "" {
+			ref = RHF
+			if mol.Multiplicity != 1 {
+				ref = UHF
+			}
+		}
+		if ref != RHF && ref != UHF {
+			return nil, fmt.Errorf("hf: mp2 reference %q (expected rhf or uhf)", ref)
+		}
+	} else if method != RHF && method != UHF {
+		return nil, fmt.Errorf("hf: unknown method %q (expected rhf, uhf or mp2)", method)
+	}
+	if ref == RHF && na != nb {
 		return nil, fmt.Errorf("hf: rhf needs a closed-shell molecule, but multiplicity %d gives %d α and %d β electrons; use uhf", mol.Multiplicity, na, nb)
 	}
 	shells, err := opts.Basis.Shells(mol, opts.Convention)
@@ -152,8 +195,8 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	intTime := time.Since(start)
 
 	in := SCFInput{S: s, Hcore: h, JK: jk, ENuc: mol.NuclearRepulsion(), NAlpha: na, NBeta: nb,
-		Restricted: method == RHF, Options: opts.SCF}
-	res := &Result{Method: method, Basis: opts.Basis.Name(), Convention: opts.Convention.String(),
+		Restricted: ref == RHF, Options: opts.SCF}
+	res := &Result{Method: method, Reference: ref, Basis: opts.Basis.Name(), Convention: opts.Convention.String(),
 		BasisFunctions: nbf, InCore: inCore, IntegralTime: intTime}
 	if g := opts.Guess; g != nil {
 		if g.NBasis != nbf {
@@ -169,6 +212,7 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		return nil, scfErr
 	}
 	res.SCFResult = scf
+	res.Energy = scf.Energy
 	atomOf := make([]int, 0, nbf)
 	for _, sh := range shells {
 		for range sh.NumFunctions() {
@@ -181,5 +225,33 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	if mu, err := DipoleMoment(scf, integral.Dipole(shells, opts.Norm, [3]float64{}), zs, pos, [3]float64{}); err == nil {
 		res.Dipole = mu
 	}
-	return res, scfErr
+	if method != MP2 || scfErr != nil {
+		return res, scfErr
+	}
+	src, ok := jk.(PairBlockSource)
+	if !ok {
+		return nil, fmt.Errorf("hf: mp2: integral builder %T gives no block access", jk)
+	}
+	frozen, label := 0, ""
+	switch fc := opts.FrozenCore; {
+	case fc == FrozenCoreAuto:
+		frozen, label = FrozenCoreOrbitals(mol)
+		if frozen > nb {
+			label = fmt.Sprintf("%s, capped at %d: only %d β electrons", label, nb, nb)
+			frozen = nb
+		}
+	case fc > 0:
+		frozen, label = int(fc), fmt.Sprintf("%d lowest, as requested", int(fc))
+		if frozen > nb {
+			return nil, fmt.Errorf("hf: mp2: %d frozen orbitals requested, but there are only %d β electrons", frozen, nb)
+		}
+	}
+	mp, err := RunMP2(ctx, scf, src, MP2Options{Frozen: frozen, Memory: opts.MP2Memory, Workers: workers})
+	if err != nil {
+		return nil, err
+	}
+	mp.FrozenCoreLabel = label
+	res.MP2 = mp
+	res.Energy = mp.Total
+	return res, nil
 }
