@@ -100,7 +100,8 @@ type EngineSpec struct {
 	Kind string `toml:"kind"` // "builtin", "model" or "command"
 
 	// Built-in Hartree–Fock settings.
-	Method        string   `toml:"method"`         // "rhf" or "uhf" (later "mp2")
+	Method        string   `toml:"method"`         // "rhf", "uhf" or "mp2" (RHF-MP2 for singlets, UMP2 otherwise)
+	FrozenCore    *bool    `toml:"frozen_core"`    // mp2: leave the atoms' noble-gas cores uncorrelated (default true)
 	Basis         string   `toml:"basis"`          // basis set name, e.g. "6-31G*"
 	Cartesian     *bool    `toml:"cartesian"`      // override the basis set's d/f convention
 	MaxIterations int      `toml:"max_iterations"` // SCF iteration limit, 0: engine default

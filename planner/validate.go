@@ -460,11 +460,14 @@ func (s *Spec) validateEngine() error {
 			if s.mol.Multiplicity != 1 {
 				return s.errAt("engine.method", "rhf needs a closed-shell molecule (multiplicity 1), this one has multiplicity %d; use method = \"uhf\"", s.mol.Multiplicity)
 			}
-		case "uhf":
+		case "uhf", "mp2":
 		case "":
-			return s.errAt("engine.method", "missing: give method = \"rhf\" or \"uhf\"")
+			return s.errAt("engine.method", "missing: give method = \"rhf\", \"uhf\" or \"mp2\"")
 		default:
-			return s.errAt("engine.method", "unknown method %q (the built-in engine does \"rhf\" and \"uhf\")", e.Method)
+			return s.errAt("engine.method", "unknown method %q (the built-in engine does \"rhf\", \"uhf\" and \"mp2\")", e.Method)
+		}
+		if e.FrozenCore != nil && strings.ToLower(e.Method) != "mp2" {
+			return s.errAt("engine.frozen_core", "only applies to method = \"mp2\"")
 		}
 		if strings.TrimSpace(e.Basis) == "" {
 			return s.errAt("engine.basis", "missing: give a basis set name, e.g. basis = \"6-31G*\"")

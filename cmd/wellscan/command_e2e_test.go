@@ -235,3 +235,52 @@ energy = { label = "well energy / eV", unit = "eV" }
 		t.Errorf("ω_e x_e = %.4f cm⁻¹, want %.4f", m.OmegaX, omegaX)
 	}
 }
+
+// TestScan_WaterSymmetricStretchMP2 runs the water symmetric-stretch
+// example at MP2/6-31G* through the scan machinery and fits it. Physical
+// sanity (common practice): MP2 lengthens the O–H bond relative to RHF
+// (r_e RHF/6-31G* ≈ 0.947 Å, MP2/6-31G* ≈ 0.969 Å, both from memory of
+// standard tables), so the MP2 minimum must lie between 0.955 and 0.985 Å,
+// and its correlation energy must be reported for every point.
+func TestScan_WaterSymmetricStretchMP2(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs an MP2 scan")
+	}
+	text, err := os.ReadFile("../../testdata/examples/water-stretch/scan.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	spec := strings.Replace(string(text), `method = "rhf"`, `method = "mp2"`, 1)
+	spec = strings.Replace(spec, "from = 0.85\nto = 1.10\nstep = 0.025", "from = 0.90\nto = 1.05\nstep = 0.025", 1)
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "scan.toml"), []byte(spec), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if code, out, errs := runCLI(t, "", "run", dir, "-q"); code != 0 {
+		t.Fatalf("run: exit %d\n%s%s", code, out, errs)
+	}
+	code, out, errs := runCLI(t, "", "fit", dir, "--json")
+	if code != 0 {
+		t.Fatalf("fit: exit %d\n%s", code, errs)
+	}
+	var res struct {
+		Mass   string `json:"mass_model"`
+		Minima []struct {
+			RE    float64 `json:"r_e_angstrom"`
+			Omega float64 `json:"omega_e_cm1"`
+		} `json:"minima"`
+	}
+	if err := json.Unmarshal([]byte(out), &res); err != nil || len(res.Minima) != 1 {
+		t.Fatalf("fit JSON: %v\n%s", err, out)
+	}
+	if r := res.Minima[0].RE; r < 0.955 || r > 0.985 {
+		t.Errorf("MP2 symmetric-stretch minimum at %.4f Å, want 0.955–0.985", r)
+	}
+	if !strings.Contains(res.Mass, "1-D along the scan") {
+		t.Errorf("mass model %q: a polyatomic scan must be labelled 1-D along the scan", res.Mass)
+	}
+	raw, err := os.ReadFile(filepath.Join(dir, "points", "r=0.95000", "result.json"))
+	if err != nil || !strings.Contains(string(raw), "mp2_correlation_hartree") {
+		t.Errorf("point result lacks the MP2 correlation energy: %v\n%s", err, raw)
+	}
+}

@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"encoding/json"
-
 	"fmt"
 	"math"
 	"os"

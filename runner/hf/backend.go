@@ -63,6 +63,9 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	if _, err := set.NumFunctions(mol, o.Convention); err != nil {
 		return nil, fmt.Errorf("%s: engine.basis: %w", spec.File(), err)
 	}
+	if e.FrozenCore != nil && !*e.FrozenCore {
+		o.FrozenCore = AllElectron
+	}
 	if method == RHF && mol.Multiplicity != 1 {
 		return nil, fmt.Errorf("%s: engine.method = \"rhf\" needs a singlet, but the molecule has multiplicity %d; use \"uhf\"", spec.File(), mol.Multiplicity)
 	}
@@ -110,10 +113,17 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			"dipole_z_e_bohr":           res.Dipole[2],
 		},
 	}
+	if m := res.MP2; m != nil {
+		out.Extra["reference_energy_hartree"] = m.ReferenceEnergy
+		out.Extra["mp2_correlation_hartree"] = m.Correlation
+		out.Extra["mp2_same_spin_hartree"] = m.SameSpin
+		out.Extra["mp2_opposite_spin_hartree"] = m.OppositeSpin
+		out.Extra["frozen_core_orbitals"] = float64(m.FrozenCore)
+	}
 	if res.GuessRejected != "" {
 		out.Extra["guess_from_neighbour"] = -1
 	}
-	if res.Method == UHF {
+	if res.Reference == UHF || res.Method == UHF {
 		s2 := res.S2
 		out.SSquared = &s2
 	}
