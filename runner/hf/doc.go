@@ -33,6 +33,10 @@
 //
 // The citations and DOIs above are given from memory.
 //
+// [Energy] with Method MP2 adds second-order Møller–Plesset perturbation
+// theory on top of the converged RHF (closed shell) or UHF (open shell)
+// determinant ([RunMP2]); by default the atoms' noble-gas cores are frozen.
+//
 // # Units
 //
 // Atomic units throughout: energies in hartree (Eh), lengths in bohr,
