@@ -158,7 +158,7 @@ func TestInit_WritesValidSpecOnce(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if s.Engine.Kind != "builtin" || len(s.InitialPoints()) != 7 {
+	if s.Engine.Kind != "builtin" || len(s.InitialPoints()) != 15 { // 0.75–1.45 Å in steps of 0.05
 		t.Errorf("init spec: engine %q, %d points", s.Engine.Kind, len(s.InitialPoints()))
 	}
 	if code, _, errs := wellscan(t, "init", dir); code != 1 || !strings.Contains(errs, "already exists") {
