@@ -149,7 +149,9 @@ func (e *ERI) NumFunctions() int { return e.n }
 // ComputeERI computes all unique two-electron integrals in core, in
 // parallel with workers goroutines (workers ≤ 0 means runtime.NumCPU()).
 // Shell quartets whose Schwarz bound is below 1e-15 are stored as zero.
-// It returns an error for malformed shells or when ctx ends.
+// It allocates InCoreBytes(NumFunctions(shells)) bytes; callers choose
+// between ComputeERI and NewDirect by that figure. It returns an error for
+// malformed shells or when ctx ends.
 func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int) (*ERI, error) {
 	workers = resolveWorkers(workers)
 	eb, err := newERIBasis(ctx, shells, norm, workers)

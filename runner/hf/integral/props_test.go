@@ -527,3 +527,24 @@ func TestJK_BadArguments(t *testing.T) {
 		t.Error("NewDirect(threshold −1): no error")
 	}
 }
+
+func TestDipole_OriginShift(t *testing.T) {
+	// ⟨μ|r−O|ν⟩ = ⟨μ|r|ν⟩ − O·S_μν (linearity; definition).
+	sh := testShells(true)
+	O := [3]float64{0.7, -1.2, 2.5}
+	d0 := Dipole(sh, NormPerComponent, [3]float64{})
+	dO := Dipole(sh, NormPerComponent, O)
+	S := Overlap(sh, NormPerComponent)
+	n := S.SymmetricDim()
+	for k := range 3 {
+		for i := range n {
+			for j := 0; j <= i; j++ {
+				want := d0[k].At(i, j) - O[k]*S.At(i, j)
+				// 1e-13: rounding of O(1) values.
+				if !scalar.EqualWithinAbs(dO[k].At(i, j), want, 1e-13) {
+					t.Errorf("dipole %d [%d,%d] = %.15g, want %.15g", k, i, j, dO[k].At(i, j), want)
+				}
+			}
+		}
+	}
+}
