@@ -91,10 +91,11 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 				ac.b[x] = make([]float64, n*n)
 			}
 			for ctx.Err() == nil {
-				P := int(next.Add(-1))
-				if P < 0 {
+				t := int(next.Add(-1))
+				if t < 0 {
 					break
 				}
+				P := eb.order[len(eb.order)-1-t]
 				bp := &eb.pairs[P]
 				for Q := 0; Q <= P; Q++ {
 					kp := &eb.pairs[Q]

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"sort"
 	"sync"
 	"sync/atomic"
 
@@ -20,6 +21,7 @@ const incoreScreen = 1e-15
 type eriBasis struct {
 	ps    []prepShell
 	pairs []shellPair // index a(a+1)/2 + b for shells a ≥ b
+	order []int       // bra pairs, most expensive task first
 	nbf   int
 	maxl  int
 }
@@ -63,7 +65,30 @@ func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int
 	if err != nil {
 		return nil, fmt.Errorf("integral: Schwarz factors: %w", err)
 	}
+	eb.buildOrder()
 	return eb, nil
+}
+
+// buildOrder sorts the bra shell pairs by an estimate of the work of the
+// task "all ket pairs Q ≤ P" (primitive pairs × Cartesian components of
+// P times the same summed over Q ≤ P), most expensive first, so that the
+// last tasks handed out are short and the workers finish together.
+func (eb *eriBasis) buildOrder() {
+	n := len(eb.pairs)
+	w := make([]float64, n)
+	cost := make([]float64, n)
+	var cum float64
+	for P := range eb.pairs {
+		sp := &eb.pairs[P]
+		w[P] = float64(len(sp.prims)) * float64(ncart(sp.l1)*ncart(sp.l2))
+		cum += w[P]
+		cost[P] = w[P] * cum
+	}
+	eb.order = make([]int, n)
+	for i := range eb.order {
+		eb.order[i] = i
+	}
+	sort.SliceStable(eb.order, func(a, b int) bool { return cost[eb.order[a]] > cost[eb.order[b]] })
 }
 
 // parallelFor runs body(w, i) for i = n−1 … 0 on workers goroutines, each
@@ -124,7 +149,9 @@ func (e *ERI) NumFunctions() int { return e.n }
 // ComputeERI computes all unique two-electron integrals in core, in
 // parallel with workers goroutines (workers ≤ 0 means runtime.NumCPU()).
 // Shell quartets whose Schwarz bound is below 1e-15 are stored as zero.
-// It returns an error for malformed shells or when ctx ends.
+// It allocates InCoreBytes(NumFunctions(shells)) bytes; callers choose
+// between ComputeERI and NewDirect by that figure. It returns an error for
+// malformed shells or when ctx ends.
 func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int) (*ERI, error) {
 	workers = resolveWorkers(workers)
 	eb, err := newERIBasis(ctx, shells, norm, workers)
@@ -147,7 +174,8 @@ func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int)
 		}
 	}
 	data := e.data
-	err = parallelFor(ctx, workers, len(eb.pairs), func(w *eriWork, P int) {
+	err = parallelFor(ctx, workers, len(eb.pairs), func(w *eriWork, t int) {
+		P := eb.order[len(eb.order)-1-t]
 		bp := &eb.pairs[P]
 		for Q := 0; Q <= P; Q++ {
 			kp := &eb.pairs[Q]

@@ -527,3 +527,61 @@ func TestJK_BadArguments(t *testing.T) {
 		t.Error("NewDirect(threshold −1): no error")
 	}
 }
+
+func TestDipole_OriginShift(t *testing.T) {
+	// ⟨μ|r−O|ν⟩ = ⟨μ|r|ν⟩ − O·S_μν (linearity; definition).
+	sh := testShells(true)
+	O := [3]float64{0.7, -1.2, 2.5}
+	d0 := Dipole(sh, NormPerComponent, [3]float64{})
+	dO := Dipole(sh, NormPerComponent, O)
+	S := Overlap(sh, NormPerComponent)
+	n := S.SymmetricDim()
+	for k := range 3 {
+		for i := range n {
+			for j := 0; j <= i; j++ {
+				want := d0[k].At(i, j) - O[k]*S.At(i, j)
+				// 1e-13: rounding of O(1) values.
+				if !scalar.EqualWithinAbs(dO[k].At(i, j), want, 1e-13) {
+					t.Errorf("dipole %d [%d,%d] = %.15g, want %.15g", k, i, j, dO[k].At(i, j), want)
+				}
+			}
+		}
+	}
+}
+
+func TestC2S_DAndFRows(t *testing.T) {
+	// Real solid harmonics over axially normalised Cartesians, order
+	// m = −l…l. d: √3 xy, √3 yz, z² − ½(x²+y²), √3 xz, (√3/2)(x²−y²);
+	// f m = −3: √(5/8)(3x²y − y³), m = 0: z³ − (3/2)(x²z + y²z). From memory
+	// of Helgaker, Jørgensen & Olsen (2000), Table 6.3 (solid harmonics).
+	s3, s58 := math.Sqrt(3), math.Sqrt(5.0/8)
+	want := map[int][][]float64{
+		2: {
+			{0, s3, 0, 0, 0, 0},
+			{0, 0, 0, 0, s3, 0},
+			{-0.5, 0, 0, -0.5, 0, 1},
+			{0, 0, s3, 0, 0, 0},
+			{s3 / 2, 0, 0, -s3 / 2, 0, 0},
+		},
+	}
+	for l, rows := range want {
+		nc := ncart(l)
+		for m, row := range rows {
+			for c, w := range row {
+				if got := c2sTables[l][m*nc+c]; !scalar.EqualWithinAbs(got, w, 1e-14) {
+					t.Errorf("l=%d m=%d comp %d: %.16g, want %.16g", l, m-l, c, got, w)
+				}
+			}
+		}
+	}
+	f := c2sTables[3]
+	// f order: xxx,xxy,xxz,xyy,xyz,xzz,yyy,yyz,yzz,zzz
+	for _, c := range []struct {
+		m, comp int
+		want    float64
+	}{{-3, 1, 3 * s58}, {-3, 6, -s58}, {0, 9, 1}, {0, 2, -1.5}, {0, 7, -1.5}} {
+		if got := f[(c.m+3)*10+c.comp]; !scalar.EqualWithinAbs(got, c.want, 1e-14) {
+			t.Errorf("f m=%d comp %d: %.16g, want %.16g", c.m, c.comp, got, c.want)
+		}
+	}
+}
