@@ -117,7 +117,9 @@ func (g edge) taylor(r float64, order int) float64 {
 // The model continues the reference form (plus the residual at the edge) or,
 // without a reference, the second-order Taylor expansion; the alternative
 // is the second-order Taylor expansion with a reference and the tangent line
-// without one. Both agree with the interpolant inside the data.
+// without one. Both agree with the interpolant inside the data. The fit's
+// continuation is kept from falling below the edge value, so that a fitted
+// form that turns over far out cannot open a false well past the data.
 func (p *levelPotential) continuations() (model, alt func(float64) float64) {
 	n := len(p.x)
 	left, right := p.edgeAt(0, 1), p.edgeAt(n-1, -1)
@@ -127,12 +129,12 @@ func (p *levelPotential) continuations() (model, alt func(float64) float64) {
 			switch {
 			case r < a:
 				if useRef {
-					return p.ref(r) + p.resid.Predict(a)
+					return math.Max(p.ref(r)+p.resid.Predict(a), left.v)
 				}
 				return left.taylor(r, order)
 			case r > b:
 				if useRef {
-					return p.ref(r) + p.resid.Predict(b)
+					return math.Max(p.ref(r)+p.resid.Predict(b), right.v)
 				}
 				return right.taylor(r, order)
 			}
