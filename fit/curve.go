@@ -8,7 +8,6 @@ import (
 	"slices"
 	"sort"
 
-	"gonum.org/v1/gonum/interp"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -150,9 +149,11 @@ type Minimum struct {
 // unless the key says otherwise. Rotational constants are given only for a
 // diatomic; for a polyatomic the block is labelled one-dimensional along the
 // scan. levels_cm1 are G(v) above the minimum from the grid calculation;
-// levels_wall_shift_cm1 is, per level, how far it moves when the grid loses
-// a point at each end: an estimate of its error from where the data stop
-// (levels moving more than 0.1 cm⁻¹ are not listed).
+// levels_wall_shift_cm1 is, per level, how far it moves with the way the
+// curve is continued past the data ends (two continuations that agree with
+// the data, see the package doc), or when the grid loses a point at each
+// end, whichever is larger: a measure of how much the level depends on where
+// the data stop. Levels moving more than 1 cm⁻¹ are not listed.
 type Constants struct {
 	Name             string    `json:"name"`
 	Mass             float64   `json:"mass_amu"`
@@ -197,7 +198,8 @@ type massInfo struct {
 // Angle), e in hartree, in any order. For every well it fits a local
 // polynomial, reports the minimum, the force constants and, for each
 // isotopologue in opt, the spectroscopic constants and the vibrational
-// levels on a grid through a spline of all points. Problems with the data
+// levels on a grid through an interpolant of all points, continued past the
+// data ends. Problems with the data
 // are reported in the Warnings of the result and of each minimum; an error
 // is returned only when nothing can be fitted.
 //
@@ -282,8 +284,24 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 	if len(wells) == 0 {
 		return nil, errors.New("fit: the curve has no minimum (energies only rise or only fall)")
 	}
-	var spline interp.NotAKnotCubic
-	splineOK := len(xs) >= 4 && spline.Fit(xs, es) == nil
+	// The global fits come first: the level grid uses the better of them as
+	// the shape of the curve between and beyond the points.
+	if !opt.NoGlobal && opt.Kind == Distance && len(wells) == 1 {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		if mf, err := Morse(xs, es); err == nil {
+			res.Morse = mf
+		} else {
+			res.Warnings = append(res.Warnings, "Morse fit: "+err.Error())
+		}
+		if mf, err := ExtendedMorse(xs, es, 2); err == nil {
+			res.ExtendedMorse = mf
+		} else {
+			res.Warnings = append(res.Warnings, "extended Morse fit: "+err.Error())
+		}
+	}
+	lp, lpOK := newLevelPotential(xs, es, res.Morse, res.ExtendedMorse)
 
 	asym, asymNote := asymptote(xs, es, opt)
 	for wi, w := range wells {
@@ -296,14 +314,14 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 			continue
 		}
 		m.Label = fmt.Sprintf("well %d", wi+1)
-		if !opt.NoLevels && splineOK && len(masses) > 0 {
-			m.LevelPotential = "not-a-knot cubic spline through all points"
+		if !opt.NoLevels && lpOK && len(masses) > 0 {
+			m.LevelPotential = lp.label
 			for k := range masses {
 				if err := ctx.Err(); err != nil {
 					return nil, err
 				}
 				c := &m.Isotopologues[k]
-				gridLevels(c, &spline, xs, es, w, m, masses[k], opt)
+				gridLevels(c, lp, xs, es, w, m, masses[k], opt)
 			}
 		}
 		if asym != nil && opt.Kind == Distance {
@@ -336,21 +354,6 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 	}
 	if len(res.Minima) == 0 {
 		return nil, fmt.Errorf("fit: no well could be fitted: %v", res.Warnings)
-	}
-	if !opt.NoGlobal && opt.Kind == Distance && len(wells) == 1 {
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
-		if mf, err := Morse(xs, es); err == nil {
-			res.Morse = mf
-		} else {
-			res.Warnings = append(res.Warnings, "Morse fit: "+err.Error())
-		}
-		if mf, err := ExtendedMorse(xs, es, 2); err == nil {
-			res.ExtendedMorse = mf
-		} else {
-			res.Warnings = append(res.Warnings, "extended Morse fit: "+err.Error())
-		}
 	}
 	sanitize(res)
 	return res, nil
@@ -815,15 +818,57 @@ func threePoint(x, e []float64, w well) float64 {
 	return 2 * (h1*e[i+1] - (h1+h2)*e[i] + h2*e[i-1]) / (h1 * h2 * (h1 + h2))
 }
 
-// wallTol is the largest shift (hartree) of a level, when the grid loses one
-// point at each end, for which the level is still reported: 0.1 cm⁻¹. The
-// shift is of the same size as the level's error from where the data stop
-// (checked against analytic Morse levels), and is reported beside each level.
-const wallTol = 0.1 / HartreeInCm1
+// edgeTol is the largest dependence of a level on where the data stop for
+// which it is still reported: 1 cm⁻¹ (common practice for "spectroscopic
+// accuracy"). The dependence is the larger of two shifts: between the model
+// and the alternative continuation of the curve past the data ends (see
+// [levelPotential.continuations]), and when the grid loses one point at
+// each end (a box state feels the grid's own walls). On the sparse CO test
+// scan the interpolation itself is uncertain by a few tenths of a cm⁻¹
+// (observed), so a tighter cut at the edges would be cosmetic.
+const edgeTol = 1 / HartreeInCm1
+
+// tailDecay is the WKB decay, ∫κ dr with κ = √(2μ(V − E)), that the level
+// grid covers past a data end at the energy of the top of the sampled well:
+// e^{−2·12} ≈ 4e-11 of the probability density is left at the grid's end,
+// so its hard wall moves no reported level measurably (WKB tunnelling
+// estimate, common practice). Observed on the CO test scan: a grid ending
+// where the tangent line had risen one well depth (∫κ ≈ 4) still shifted
+// v = 3 by 0.7 cm⁻¹, though losing one grid point there moved it by only
+// 0.1 cm⁻¹.
+const tailDecay = 12
+
+// extension returns how far the level grid reaches past the data end at
+// edge (dir −1: the low end, +1: the high end): until the softer of the two
+// continuations has taken tailDecay of WKB decay at energy top, at most one
+// sampled well width span, and for a distance never below half the first
+// coordinate.
+func extension(model, alt func(float64) float64, at float64, dir int, top, mu, span float64, kind Kind) float64 {
+	m := mu * AmuInElectronMass
+	const steps = 4000
+	h := span / steps
+	sum := 0.0
+	for k := 1; k <= steps; k++ {
+		r := at + float64(dir*k)*h
+		if kind == Distance && r <= at/2 {
+			return float64(k-1) * h
+		}
+		v := math.Min(model(r), alt(r))
+		if v > top {
+			sum += math.Sqrt(2*m*(v-top)) * h
+		}
+		if sum >= tailDecay {
+			return float64(k) * h
+		}
+	}
+	return span
+}
 
 // gridLevels fills the level results of one isotopologue from a DVR on the
-// spline over the well.
-func gridLevels(c *Constants, sp interp.Predictor, x, e []float64, w well, m *Minimum, mi massInfo, opt Options) {
+// level potential over the well. At a data end the grid runs on past the
+// data (the curve continued as in [levelPotential.continuations]); at an
+// interior barrier it stops there, a hard wall.
+func gridLevels(c *Constants, lp *levelPotential, x, e []float64, w well, m *Minimum, mi massInfo, opt Options) {
 	rlo, rhi := x[w.lo], x[w.hi]
 	top := math.Min(e[w.lo], e[w.hi])
 	depth := top - m.EMin
@@ -831,38 +876,69 @@ func gridLevels(c *Constants, sp interp.Predictor, x, e []float64, w well, m *Mi
 		c.ConstantWarnings = append(c.ConstantWarnings, "no vibrational levels: the well does not rise on both sides within the data")
 		return
 	}
+	span := rhi - rlo
+	model, alt := lp.continuations()
+	glo, ghi := rlo, rhi
+	if w.lo == 0 {
+		if g := lp.edgeAt(0, 1); g.d1 < 0 {
+			glo = rlo - extension(model, alt, rlo, -1, top, mi.mu, span, opt.Kind)
+		}
+	}
+	if w.hi == len(x)-1 {
+		if g := lp.edgeAt(len(x)-1, -1); g.d1 > 0 {
+			ghi = rhi + extension(model, alt, rhi, 1, top, mi.mu, span, opt.Kind)
+		}
+	}
 	n := opt.GridPoints
 	if n == 0 {
 		// About 2.5 points per de Broglie half-wavelength at the top of the
 		// well (the sinc DVR converges exponentially past ~2, Colbert & Miller
 		// 1992).
 		kmax := math.Sqrt(2 * mi.mu * AmuInElectronMass * depth)
-		n = int(math.Ceil(2.5 * (rhi - rlo) * kmax / math.Pi))
+		n = int(math.Ceil(2.5 * (ghi - glo) * kmax / math.Pi))
 		n = min(max(n, 120), 600)
 	}
-	V := func(r float64) float64 { return sp.Predict(r) }
-	ls, err := Levels(V, mi.mu, rlo, rhi, n, 0)
+	ls, err := Levels(model, mi.mu, glo, ghi, n, 0)
 	if err != nil {
 		c.ConstantWarnings = append(c.ConstantWarnings, "grid levels: "+err.Error())
 		return
 	}
-	nb := ls.Below(top)
-	// Discard states that touch the grid ends (box states).
-	for nb > 0 && ls.WallShift != nil && ls.WallShift[nb-1] > wallTol {
-		nb--
+	shift := make([]float64, len(ls.Energies))
+	if ls.WallShift != nil {
+		copy(shift, ls.WallShift)
+	}
+	if glo < rlo || ghi > rhi {
+		ea, err := levelValues(alt, mi.mu, glo, ghi, n)
+		if err != nil {
+			c.ConstantWarnings = append(c.ConstantWarnings, "grid levels: "+err.Error())
+			return
+		}
+		for k := range shift {
+			shift[k] = math.Max(shift[k], math.Abs(ea[k]-ls.Energies[k]))
+		}
+	}
+	below := ls.Below(top)
+	nb := 0
+	for nb < below && shift[nb] <= edgeTol {
+		nb++
+	}
+	if below == 0 {
+		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("no vibrational level is determined by the data: the sampled well reaches only %.4g cm⁻¹ above the minimum, below v = 0 (%.4g cm⁻¹ on the grid); extend the scan", depth*HartreeInCm1, (ls.Energies[0]-m.EMin)*HartreeInCm1))
+		return
 	}
 	if nb == 0 {
-		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("no vibrational level is determined by the data: the sampled well reaches only %.4g cm⁻¹ above the minimum and even v = 0 feels where the data stop; extend the scan", depth*HartreeInCm1))
+		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("no vibrational level is determined by the data: the sampled well reaches %.4g cm⁻¹ above the minimum, and even v = 0 moves by %.3g cm⁻¹ with the way the curve is continued past the data; extend the scan", depth*HartreeInCm1, shift[0]*HartreeInCm1))
 		return
+	}
+	if nb < below {
+		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("level v = %d (%.1f cm⁻¹) and those above it move by more than %.3g cm⁻¹ with the way the curve is continued past the data (v = %d: %.3g cm⁻¹) and are omitted; extend the scan", nb, (ls.Energies[nb]-m.EMin)*HartreeInCm1, edgeTol*HartreeInCm1, nb, shift[nb]*HartreeInCm1))
 	}
 	g0 := ls.Energies[0]
 	c.ZPEGrid = (g0 - m.EMin) * HartreeInCm1
 	c.Levels = make([]float64, nb)
 	for v := range nb {
 		c.Levels[v] = (ls.Energies[v] - m.EMin) * HartreeInCm1
-		if ls.WallShift != nil {
-			c.LevelsWallShift = append(c.LevelsWallShift, ls.WallShift[v]*HartreeInCm1)
-		}
+		c.LevelsWallShift = append(c.LevelsWallShift, shift[v]*HartreeInCm1)
 		if mi.diatomic {
 			c.Bv = append(c.Bv, BFromInvR2(ls.InvR2[v], mi.mu))
 		}

@@ -13,8 +13,17 @@
 // chosen by energy above the minimum or by point count; the minimum is the
 // root of the fitted polynomial's derivative. Force constants f2, f3, f4 at
 // the minimum give the perturbative constants ([AnharmonicConstants],
-// [RotationalConstants]); a not-a-knot cubic spline through all points
-// gives the levels by a sinc discrete variable representation ([Levels]).
+// [RotationalConstants]). The vibrational levels come from a sinc discrete
+// variable representation ([Levels]) on an interpolant through all points:
+// the better of the Morse and extended Morse fits plus a not-a-knot cubic
+// spline of its residuals (or, without a global fit, the spline of the
+// energies). At a data end where the curve still rises, the grid runs on
+// past the data until the tail of the top level has decayed (WKB), so the
+// end of the data is not a hard wall. Past the data the curve is continued
+// twice: by the fit (or the spline's second-order Taylor expansion) and by
+// the spline's second-order Taylor expansion (or its tangent line); a level
+// is listed only while the two continuations, and dropping one grid point
+// at each end, move it by at most 1 cm⁻¹.
 // [Morse] and [ExtendedMorse] are global nonlinear least-squares forms.
 // [Surface2D] fits a two-coordinate scan around its minimum and solves the
 // 2×2 GF problem; [GElement] and the B-matrix row helpers give the

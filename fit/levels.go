@@ -125,6 +125,23 @@ func Levels(potential func(r float64) float64, mu, rmin, rmax float64, n, J int)
 	return ls, nil
 }
 
+// levelValues returns only the eigenvalues (hartree) of the grid
+// Hamiltonian of [Levels] for J = 0: one diagonalisation.
+func levelValues(potential func(r float64) float64, mu, rmin, rmax float64, n int) ([]float64, error) {
+	m := mu * AmuInElectronMass
+	dx := (rmax - rmin) / float64(n-1)
+	r := make([]float64, n)
+	v := make([]float64, n)
+	for i := range n {
+		r[i] = rmin + float64(i)*dx
+		v[i] = potential(r[i])
+		if math.IsNaN(v[i]) || math.IsInf(v[i], 0) {
+			return nil, fmt.Errorf("fit: levels: potential is not finite at r = %g bohr", r[i])
+		}
+	}
+	return dvrValues(r, v, m, dx, 0, 0, n)
+}
+
 // dvrValues returns the ascending eigenvalues of the sinc-DVR Hamiltonian on
 // grid points lo ≤ i < hi, with centrifugal factor jj = J(J+1).
 func dvrValues(r, v []float64, m, dx, jj float64, lo, hi int) ([]float64, error) {
