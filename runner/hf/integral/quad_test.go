@@ -12,7 +12,7 @@ import (
 // single-primitive Cartesian Gaussians, by product Gauss–Hermite
 // quadrature (gonum integrate/quad.Hermite; exact for polynomial ×
 // Gaussian with enough nodes) and, for 1/|r−C|, the Gaussian transform
-// 1/r = (2/√π) ∫₀^∞ exp(−t²r²) dt (Abramowitz & Stegun 7.4.2 rewritten)
+// 1/r = (2/√π) ∫₀^∞ exp(−t²r²) dt (the Gaussian transform; common practice)
 // with the t integral by Gauss–Legendre (gonum quad.Legendre) after
 // t = u/(1−u).
 
