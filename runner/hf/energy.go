@@ -148,6 +148,9 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	if err != nil {
 		return nil, err
 	}
+	if err := integral.Validate(shells); err != nil {
+		return nil, fmt.Errorf("hf: basis %s: %w", opts.Basis.Name(), err)
+	}
 	workers := opts.Workers
 	if workers <= 0 {
 		workers = runtime.NumCPU()
