@@ -323,6 +323,9 @@ func newCurve(in Input) (*Figure, error) {
 			return nil, fmt.Errorf("report: points: %w", err)
 		}
 		s.GlyphStyle = draw.GlyphStyle{Color: g.col, Shape: g.shape, Radius: vg.Points(2.6)}
+		if st != "done" {
+			s.GlyphStyle.Radius = vg.Points(4.5) // a missing point must catch the eye
+		}
 		top.Add(s)
 		top.Legend.Add(fmt.Sprintf("%s (%d)", g.label, len(g.xy)), s)
 		if len(g.res) > 0 {
