@@ -7,6 +7,7 @@ import (
 	"io"
 	"math"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/gonum/interp"
 	"gonum.org/v1/plot"
@@ -104,10 +105,13 @@ func heading(c Conditions) string {
 	if m := methodLabel(c); m != "" {
 		s += " · " + m
 	}
-	if c.Title != "" {
-		s += " — " + c.Title
+	switch {
+	case c.Title == "":
+		return s
+	case strings.Contains(c.Title, methodLabel(c)) && strings.Contains(c.Title, c.Formula):
+		return c.Title
 	}
-	return s
+	return c.Title + " (" + s + ")"
 }
 
 func methodLabel(c Conditions) string {
@@ -244,8 +248,18 @@ func newCurve(in Input) (*Figure, error) {
 	if in.Curve != nil && len(in.Curve.Minima) > 0 && model.v != nil {
 		m := lowestMinimum(in.Curve)
 		xe := fromInternal(a, m.XE)
+		levels, what := m.Levels, "vibrational levels G(v) (grid), "+m.Name
+		if len(levels) == 0 && m.OmegaE > 0 {
+			// The grid levels were not trusted (the data stop too low);
+			// the Dunham-type series still says where they lie.
+			what = "vibrational levels G(v) from ω_e, ω_e x_e, " + m.Name
+			for v := range 40 {
+				h := float64(v) + 0.5
+				levels = append(levels, m.OmegaE*h-m.OmegaExe*h*h)
+			}
+		}
 		drawn := 0
-		for v, g := range m.Levels {
+		for v, g := range levels {
 			if drawn == 40 {
 				break
 			}
@@ -262,7 +276,7 @@ func newCurve(in Input) (*Figure, error) {
 			line.Color, line.Width = colLevel, vg.Points(0.8)
 			top.Add(line)
 			if v == 0 {
-				top.Legend.Add(fmt.Sprintf("vibrational levels G(v), %s", m.Name), line)
+				top.Legend.Add(what, line)
 			}
 			if v == 0 || (v+1)%5 == 0 {
 				lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: r, Y: cm(e)}}, Labels: []string{fmt.Sprintf(" v=%d", v)}})

@@ -207,7 +207,8 @@ func curveSections(in Input, cr *fit.Result) []section {
 		g.Rows = append(g.Rows, []string{mf.Form, fmt.Sprintf("%.6f", mf.REAngstrom), fmt.Sprintf("%.4f", mf.De*planner.HartreeInEV), fmt.Sprint(mf.Points), fmt.Sprintf("%.2f", mf.RMSResidual*planner.HartreeInCm1)})
 	}
 	if len(g.Rows) > 0 {
-		out = append(out, section{Title: "Global fits", Tables: []table{g}})
+		out = append(out, section{Title: "Global fits", Tables: []table{g}, Paras: []string{
+			"Fits of one analytic form to all points. Their D_e is an extrapolation unless the scan reaches the dissociation limit."}})
 	}
 	return out
 }
