@@ -7,6 +7,7 @@ import (
 	"io"
 	"math"
 	"sort"
+	"strconv"
 	"strings"
 
 	"gonum.org/v1/gonum/interp"
@@ -391,6 +392,7 @@ func newCurve(in Input) (*Figure, error) {
 	bottom.Title.TextStyle.Font.Size = vg.Points(9)
 	for _, p := range []*plot.Plot{top, bottom} {
 		p.X.Min, p.X.Max = lo-pad, hi+pad
+		p.X.Tick.Marker = preciseTicks{}
 	}
 	top.Y.Min = math.Min(top.Y.Min, -0.03*ymax)
 	// Headroom for the legend above the data.
@@ -544,6 +546,21 @@ func newMap(in Input) (*Figure, error) {
 		p.Add(f)
 		p.Legend.Add(fmt.Sprintf("points without an energy (%d)", len(failed)), f)
 	}
+	if in.Surface == nil && len(pz) > 0 {
+		k := 0
+		for i := range pz {
+			if pz[i] < pz[k] {
+				k = i
+			}
+		}
+		m, err := plotter.NewScatter(plotter.XYs{{X: px[k], Y: py[k]}})
+		if err != nil {
+			return nil, fmt.Errorf("report: minimum: %w", err)
+		}
+		m.GlyphStyle = draw.GlyphStyle{Color: colMinimum, Shape: draw.RingGlyph{}, Radius: vg.Points(6)}
+		p.Add(m)
+		p.Legend.Add(fmt.Sprintf("lowest computed point (no surface fit): %s = %.*f %s, %s = %.*f %s", ax.Name, ax.Digits, px[k], unitSymbol(ax.Unit), ay.Name, ay.Digits, py[k], unitSymbol(ay.Unit)), m)
+	}
 	if sr := in.Surface; sr != nil {
 		m, err := plotter.NewScatter(plotter.XYs{{X: fromInternal(ax, sr.X), Y: fromInternal(ay, sr.Y)}})
 		if err != nil {
@@ -554,7 +571,43 @@ func newMap(in Input) (*Figure, error) {
 		p.Legend.Add(fmt.Sprintf("fitted stationary point (%s = %.4f %s, %s = %.4f %s)", ax.Name, fromInternal(ax, sr.X), unitSymbol(ax.Unit), ay.Name, fromInternal(ay, sr.Y), unitSymbol(ay.Unit)), m)
 	}
 	p.Legend.Top = true
+	// Room around the grid, and above it for the legend.
+	dx, dy := p.X.Max-p.X.Min, p.Y.Max-p.Y.Min
+	p.X.Min, p.X.Max = p.X.Min-0.04*dx, p.X.Max+0.04*dx
+	p.Y.Min, p.Y.Max = p.Y.Min-0.04*dy, p.Y.Max+0.22*dy
+	p.X.Tick.Marker, p.Y.Tick.Marker = preciseTicks{}, preciseTicks{}
 	return fig, nil
+}
+
+// preciseTicks places ticks as plot.DefaultTicks does but labels them with
+// as many decimals as it takes to tell them apart (DefaultTicks may label
+// 1.05 as "1.1").
+type preciseTicks struct{}
+
+func (preciseTicks) Ticks(lo, hi float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(lo, hi)
+	var major []int
+	for i, t := range ts {
+		if t.Label != "" {
+			major = append(major, i)
+		}
+	}
+	for d := 0; d <= 8; d++ {
+		ok := true
+		for _, i := range major {
+			if math.Abs(roundTo(ts[i].Value, d)-ts[i].Value) > 1e-9*math.Max(1, math.Abs(hi-lo)) {
+				ok = false
+				break
+			}
+		}
+		if ok || d == 8 {
+			for _, i := range major {
+				ts[i].Label = strconv.FormatFloat(ts[i].Value, 'f', d, 64)
+			}
+			break
+		}
+	}
+	return ts
 }
 
 // smallerLegend sets the legend font (the default 12 pt crowds the
