@@ -77,7 +77,7 @@ stopped part-way; what is missing is said loudly in the summary.`,
 			if err := report.Write(cmd.Context(), out, in); err != nil {
 				return err
 			}
-			for _, f := range report.Files {
+			for _, f := range report.Files() {
 				fmt.Fprintln(a.stdout, filepath.Join(out, f))
 			}
 			return nil

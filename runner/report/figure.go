@@ -642,7 +642,9 @@ func (f *Figure) draw(c draw.Canvas) {
 
 // WriteSVG writes the figure as SVG.
 func (f *Figure) WriteSVG(w io.Writer) error {
-	c := vgsvg.New(FigureWidth, FigureHeight)
+	// The fonts are embedded: a browser that substitutes its own wider
+	// font lets the legend run off the figure.
+	c := vgsvg.NewWith(vgsvg.UseWH(FigureWidth, FigureHeight), vgsvg.EmbedFonts(true))
 	f.draw(draw.New(c))
 	if _, err := c.WriteTo(w); err != nil {
 		return fmt.Errorf("report: svg: %w", err)

@@ -81,8 +81,11 @@ type Input struct {
 	Notes []string
 }
 
-// Files names the files Write wrote, relative to the report directory.
-var Files = []string{"curve.csv", "fit.json", "curve.svg", "curve.png", "summary.md", "summary.html"}
+// Files returns the names of the files [Write] writes, relative to the
+// report directory.
+func Files() []string {
+	return []string{"curve.csv", "fit.json", "curve.svg", "curve.png", "summary.md", "summary.html"}
+}
 
 // Write writes every report file into dir (created if needed), each
 // through a temporary file and a rename so that a reader never sees half a

@@ -113,7 +113,7 @@ func TestWrite_Surface2D_Map(t *testing.T) {
 	if err := Write(context.Background(), dir, in); err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range Files {
+	for _, f := range Files() {
 		if st, err := os.Stat(filepath.Join(dir, f)); err != nil || st.Size() == 0 {
 			t.Errorf("%s: %v", f, err)
 		}

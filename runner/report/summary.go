@@ -105,7 +105,7 @@ func (in Input) sections() []section {
 	for _, a := range in.Axes {
 		coords = append(coords, fmt.Sprintf("%s (%s, %s)", a.Name, a.Kind, unitSymbol(a.Unit)))
 	}
-	cond := table{Head: []string{"", ""}, Rows: [][]string{
+	cond := table{Head: []string{"condition", "value"}, Rows: [][]string{
 		{"molecule", fmt.Sprintf("%s, charge %d, multiplicity %d", c.Formula, c.Charge, c.Multiplicity)},
 		{"method", methodLabel(c)},
 		{"basis", orDash(c.Basis)},
@@ -317,7 +317,7 @@ figure svg { width: 100%; height: auto; }
 {{range .Paras}}<p>{{if call $.Bold .}}<strong>{{.}}</strong>{{else}}{{.}}{{end}}</p>
 {{end}}{{if .Figure}}<figure id="curve">{{$.SVG}}</figure>
 {{end}}{{range .Tables}}<table>
-<tr>{{range .Head}}<th>{{.}}</th>{{end}}</tr>
+{{if call $.HasHead .Head}}<tr>{{range .Head}}<th>{{.}}</th>{{end}}</tr>{{end}}
 {{range .Rows}}<tr>{{range .}}<td>{{.}}</td>{{end}}</tr>
 {{end}}</table>
 {{end}}{{if .List}}<ul>
@@ -354,7 +354,8 @@ func WriteHTML(w io.Writer, in Input, svg []byte) error {
 		Sections []section
 		SVG      template.HTML
 		Bold     func(string) bool
-	}{title, secs, template.HTML(s), func(p string) bool { return alert[p] }} // #nosec: the SVG is our own output
+		HasHead  func([]string) bool
+	}{title, secs, template.HTML(s), func(p string) bool { return alert[p] }, func(h []string) bool { return strings.Join(h, "") != "" }} // #nosec: the SVG is our own output
 	if err := htmlPage.Execute(w, data); err != nil {
 		return fmt.Errorf("report: summary.html: %w", err)
 	}
