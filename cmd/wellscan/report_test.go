@@ -20,6 +20,7 @@ import (
 
 	"wellscan/parsers"
 	"wellscan/planner"
+	"wellscan/runner"
 	"wellscan/runner/report"
 )
 
@@ -352,5 +353,31 @@ func TestReport_BadInput_Errors(t *testing.T) {
 				t.Errorf("exit %d, stderr %q; want failure mentioning %q", code, errs, tc.want)
 			}
 		})
+	}
+}
+
+// While a run holds the store, report works from status.json and says so.
+func TestReport_WhileRunning_UsesSnapshot(t *testing.T) {
+	dir := runReportScan(t)
+	spec, err := planner.Load(filepath.Join(dir, "scan.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	st, err := runner.OpenScan(dir, spec, runner.OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer st.Close()
+	out := filepath.Join(t.TempDir(), "rep")
+	if code, o, errs := wellscan(t, "report", "--out", out, "--date", "2026-12-01", dir); code != 0 {
+		t.Fatalf("report exit %d\n%s%s", code, o, errs)
+	}
+	md := string(readFile(t, filepath.Join(out, "summary.md")))
+	if !strings.Contains(md, "the scan is still running") {
+		t.Errorf("summary.md does not say the scan is running:\n%s", md)
+	}
+	// The points and energies are the same as from the store.
+	if got, want := readFile(t, filepath.Join(out, "curve.csv")), readFile(t, filepath.Join(dir, "report", "curve.csv")); !bytes.Equal(got, want) {
+		t.Errorf("curve.csv from the snapshot differs from the store's:\n%s\nwant\n%s", got, want)
 	}
 }
