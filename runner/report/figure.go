@@ -455,6 +455,61 @@ func (g grid) extreme(f func(a, b float64) float64, m float64) float64 {
 	return m
 }
 
+// smooth resamples the grid on n × n points by a tensor-product spline
+// (not-a-knot cubic along each axis with at least 4 values, linear
+// otherwise), so that the contours follow the surface rather than the
+// grid's cells.
+func (g grid) smooth(n int) grid {
+	fx, fy := linspace(g.xs[0], g.xs[len(g.xs)-1], n), linspace(g.ys[0], g.ys[len(g.ys)-1], n)
+	// Along x for every sampled row, then along y for every fine column.
+	rows := make([][]float64, len(g.ys)) // rows[r][i] at fx[i]
+	for r := range g.ys {
+		z := make([]float64, len(g.xs))
+		for c := range g.xs {
+			z[c] = g.z[c][r]
+		}
+		rows[r] = resample(g.xs, z, fx)
+	}
+	out := grid{xs: fx, ys: fy, z: make([][]float64, n)}
+	for i := range fx {
+		z := make([]float64, len(g.ys))
+		for r := range g.ys {
+			z[r] = rows[r][i]
+		}
+		out.z[i] = resample(g.ys, z, fy)
+	}
+	return out
+}
+
+func linspace(a, b float64, n int) []float64 {
+	v := make([]float64, n)
+	for i := range v {
+		v[i] = a + (b-a)*float64(i)/float64(n-1)
+	}
+	v[n-1] = b
+	return v
+}
+
+// resample evaluates the curve through (x, y) at xs.
+func resample(x, y, xs []float64) []float64 {
+	var p interp.Predictor
+	var s interp.NotAKnotCubic
+	var l interp.PiecewiseLinear
+	switch {
+	case len(x) >= 4 && s.Fit(x, y) == nil:
+		p = &s
+	case l.Fit(x, y) == nil:
+		p = &l
+	default:
+		return make([]float64, len(xs))
+	}
+	out := make([]float64, len(xs))
+	for i, v := range xs {
+		out[i] = p.Predict(v)
+	}
+	return out
+}
+
 func distinctValues(v []float64, digits int) []float64 {
 	seen := map[float64]bool{}
 	var out []float64
@@ -514,6 +569,7 @@ func newMap(in Input) (*Figure, error) {
 				g.z[c][r] = best
 			}
 		}
+		g = g.smooth(60)
 		zmax := g.Max()
 		// Contours every 1/12 of the range, denser near the bottom: the
 		// well is what the map is for.
