@@ -11,6 +11,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"sort"
 	"strconv"
 	"time"
@@ -90,7 +91,17 @@ func Files() []string {
 // Write writes every report file into dir (created if needed), each
 // through a temporary file and a rename so that a reader never sees half a
 // file.
-func Write(ctx context.Context, dir string, in Input) error {
+func Write(ctx context.Context, dir string, in Input) (err error) {
+	// The plotting library reports some impossible requests by panicking;
+	// turn those into an error, keep runtime errors (our bugs) as panics.
+	defer func() {
+		if r := recover(); r != nil {
+			if re, ok := r.(runtime.Error); ok {
+				panic(re)
+			}
+			err = fmt.Errorf("report: drawing the figure: %v", r)
+		}
+	}()
 	if err := in.check(); err != nil {
 		return err
 	}

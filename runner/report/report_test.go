@@ -156,3 +156,45 @@ func TestWrite_BadInput_Errors(t *testing.T) {
 		})
 	}
 }
+
+// Degenerate scans still give a figure (no panic, no error): too few
+// points for a spline, a flat curve, a 2-D scan with one value of one
+// coordinate, a flat surface.
+func TestWrite_DegenerateScans_NoPanic(t *testing.T) {
+	r := Axis{Name: "r", Kind: "distance", Unit: "angstrom", Digits: 3}
+	th := Axis{Name: "theta", Kind: "angle", Unit: "degree", Digits: 1}
+	pts := func(n, m int, e func(i, j int) float64) []Point {
+		var ps []Point
+		for i := range n {
+			for j := range m {
+				v := []float64{1 + 0.1*float64(i)}
+				if m > 1 {
+					v = append(v, 100+float64(j))
+				}
+				ps = append(ps, Point{Key: strconv.Itoa(i*m + j), Values: v, State: "done", Energy: ptr(e(i, j))})
+			}
+		}
+		return ps
+	}
+	tests := []struct {
+		name string
+		in   Input
+	}{
+		{"two points", Input{Axes: []Axis{r}, Points: pts(2, 1, func(i, _ int) float64 { return -1 + 0.1*float64(i) })}},
+		{"flat curve", Input{Axes: []Axis{r}, Points: pts(6, 1, func(int, int) float64 { return -1 })}},
+		{"one row", Input{Axes: []Axis{r, th}, Points: pts(5, 1, func(i, _ int) float64 { return -1 + 0.01*float64(i*i) })}},
+		{"flat surface", Input{Axes: []Axis{r, th}, Points: pts(4, 4, func(int, int) float64 { return -1 })}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			if tc.name == "one row" {
+				for i := range tc.in.Points {
+					tc.in.Points[i].Values = append(tc.in.Points[i].Values, 104.5)
+				}
+			}
+			if err := Write(context.Background(), t.TempDir(), tc.in); err != nil {
+				t.Errorf("Write: %v", err)
+			}
+		})
+	}
+}
