@@ -40,6 +40,7 @@ external program, and turned into spectroscopic constants.
 		SilenceErrors: true,
 	}
 	root.AddCommand(newVersionCommand(a))
+	root.AddCommand(newReportCommand(a), newExportCommand(a))
 	root.AddCommand(newEnergyCommand(a))
 	root.AddCommand(newBasisCommand(a))
 	root.AddCommand(newFitCommand(a))

@@ -1,0 +1,205 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"path/filepath"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
+
+	"wellscan/planner"
+	"wellscan/runner"
+	"wellscan/runner/report"
+)
+
+type reportOptions struct {
+	out    string
+	date   string
+	limit  float64
+	window float64
+}
+
+func (o *reportOptions) AddFlags(fs *pflag.FlagSet) {
+	fs.StringVar(&o.out, "out", "", "directory to write the report into (default DIR/report)")
+	fs.StringVar(&o.date, "date", "", "date printed in the summary, YYYY-MM-DD (default today, UTC; set it for reproducible reports)")
+	fs.Float64Var(&o.limit, "limit-hartree", math.NaN(), "dissociation limit in hartree, for D_e and D_0")
+	fs.Float64Var(&o.window, "window-hartree", 0, "energy window above the minimum for the local polynomial fit (default 0.02)")
+}
+
+func newReportCommand(a *app) *cobra.Command {
+	var o reportOptions
+	cmd := &cobra.Command{
+		Use:   "report DIR",
+		Short: "Write tables, the fit, a figure and a summary of the scan in DIR",
+		Long: `Write DIR/report/ (or --out):
+
+  curve.csv      every point: coordinate in the spec's unit and in the other
+                 unit (bohr/Å, or radian), energy in hartree and above the
+                 fitted minimum in cm-1 and kJ/mol, state
+  fit.json       the fit, as wellscan fit DIR --json prints it
+  curve.svg/png  the curve with the points by state, the fitted curve, the
+                 minimum, the vibrational levels and a residual panel (a
+                 contour map for a 2-D scan)
+  summary.md     one page: conditions, constants per isotopologue with
+  summary.html   uncertainties, every warning and every failed point (the
+                 HTML embeds the figure)
+
+The report can be written while the scan is still running or after it
+stopped part-way; what is missing is said loudly in the summary.`,
+		Example: `  wellscan report myscan
+  wellscan report myscan --out /tmp/talk --date 2026-12-01`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			date := time.Now().UTC()
+			if o.date != "" {
+				d, err := time.Parse("2006-01-02", o.date)
+				if err != nil {
+					return usageError{fmt.Errorf("report: --date %q: expected YYYY-MM-DD", o.date)}
+				}
+				date = d
+			}
+			dir := args[0]
+			in, err := buildReportInput(cmd.Context(), dir, &fitOptions{limit: o.limit, window: o.window})
+			if err != nil {
+				return err
+			}
+			in.Conditions.Date = date
+			out := o.out
+			if out == "" {
+				out = filepath.Join(dir, "report")
+			}
+			if err := report.Write(cmd.Context(), out, in); err != nil {
+				return err
+			}
+			for _, f := range report.Files() {
+				fmt.Fprintln(a.stdout, filepath.Join(out, f))
+			}
+			return nil
+		},
+	}
+	o.AddFlags(cmd.Flags())
+	return cmd
+}
+
+// buildReportInput gathers what a report of the scan in dir shows: the
+// spec's conditions, every point (from the store, or from status.json
+// while a run holds the store) and the fit. A fit that cannot be made is
+// recorded in FitError, not returned: the report still shows the points.
+func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.Input, error) {
+	var in report.Input
+	spec, err := planner.Load(scanSpecPath(dir))
+	if err != nil {
+		return in, err
+	}
+	mol, err := spec.Molecule()
+	if err != nil {
+		return in, err
+	}
+	abs, err := filepath.Abs(dir)
+	if err != nil {
+		abs = dir
+	}
+	in.Conditions = report.Conditions{Title: spec.Title, Dir: filepath.Base(abs), Formula: mol.Formula(), Charge: mol.Charge, Multiplicity: mol.Multiplicity,
+		Engine: spec.Engine.Kind, Method: strings.ToUpper(spec.Engine.Method), Basis: spec.Engine.Basis, Version: version}
+	for _, c := range spec.Coordinates() {
+		u := "degree"
+		if c.Kind == planner.KindDistance {
+			u = string(spec.Units())
+		}
+		in.Axes = append(in.Axes, report.Axis{Name: c.Name, Kind: c.Kind.String(), Unit: u, Digits: c.Digits})
+	}
+	backends := map[string]bool{}
+	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true, Timeout: 300 * time.Millisecond})
+	switch {
+	case err == nil:
+		recs, rerr := st.Points()
+		rounds, rrerr := st.Rounds()
+		st.Close()
+		if err := errors.Join(rerr, rrerr); err != nil {
+			return in, err
+		}
+		for _, r := range recs {
+			in.Points = append(in.Points, report.Point{Key: r.Key, Values: spec.DisplayValues(planner.Point{Values: r.Values}),
+				State: string(r.State), Energy: r.Energy, Attempts: r.Attempts, Error: r.LastError})
+			if r.Backend != "" {
+				backends[r.Backend] = true
+			}
+		}
+		sort.Slice(rounds, func(i, j int) bool { return rounds[i].Round < rounds[j].Round })
+		for i := len(rounds) - 1; i >= 0; i-- {
+			if rounds[i].Status != "" {
+				if rounds[i].Status != string(planner.RefineConverged) && rounds[i].Status != string(planner.RefineOff) {
+					in.Notes = append(in.Notes, fmt.Sprintf("refinement after round %d: %s — %s", rounds[i].Round, rounds[i].Status, rounds[i].Reason))
+				}
+				break
+			}
+		}
+	case errors.Is(err, runner.ErrLocked):
+		snap, serr := runner.ReadSnapshot(dir)
+		if serr != nil {
+			return in, fmt.Errorf("%w (and no snapshot: %w)", err, serr)
+		}
+		in.Notes = append(in.Notes, fmt.Sprintf("the scan is still running (PID %d on %s): this report shows the snapshot of %s", snap.PID, snap.Host, snap.Updated.UTC().Format(time.RFC3339)))
+		errs := map[string]string{}
+		for _, e := range snap.LastErrors {
+			errs[e.Key] = e.Error
+		}
+		for _, p := range snap.Points {
+			v := make([]float64, len(in.Axes))
+			for i, a := range in.Axes {
+				v[i] = p.Coordinates[a.Name]
+			}
+			in.Points = append(in.Points, report.Point{Key: p.Key, Values: v, State: string(p.State), Energy: p.EnergyHartree, Attempts: p.Attempts, Error: errs[p.Key]})
+		}
+	case errors.Is(err, runner.ErrNoStore):
+		return in, fmt.Errorf("report: %s has not been run yet (wellscan run %s)", dir, dir)
+	default:
+		return in, err
+	}
+	var bs []string
+	for b := range backends {
+		bs = append(bs, b)
+	}
+	sort.Strings(bs)
+	in.Conditions.Backend = strings.Join(bs, ", ")
+	if in.Conditions.Backend == "" {
+		in.Conditions.Backend = spec.Engine.Kind + " engine"
+	}
+	in.Conditions.Backend += ", queue " + orDefault(spec.Queue.Kind, "local")
+	if n := countNotFinished(in.Points); n > 0 {
+		in.Notes = append(in.Notes, fmt.Sprintf("%d point(s) not computed yet (planned, submitted or running)", n))
+	}
+	res, err := fitScanDir(ctx, dir, spec, o)
+	switch {
+	case err != nil && ctx.Err() != nil:
+		return in, ctx.Err()
+	case err != nil:
+		in.FitError = err.Error()
+	default:
+		in.Fit, in.Curve, in.Surface, in.MassModel = res, res.Curve, res.Surface, res.Mass
+	}
+	return in, nil
+}
+
+func orDefault(s, d string) string {
+	if s == "" {
+		return d
+	}
+	return s
+}
+
+func countNotFinished(ps []report.Point) int {
+	n := 0
+	for _, p := range ps {
+		if p.State != string(runner.Done) && p.State != string(runner.Failed) {
+			n++
+		}
+	}
+	return n
+}
