@@ -231,4 +231,5 @@ func printEndFit(ctx context.Context, w io.Writer, dir string, spec *planner.Spe
 	}
 	fmt.Fprintln(w, "== spectroscopic constants (wellscan fit "+dir+" --json for all numbers) ==")
 	printScanFit(w, res)
+	fmt.Fprintf(w, "\nfigures and tables: wellscan report %s\n", dir)
 }
