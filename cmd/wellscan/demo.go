@@ -46,6 +46,8 @@ func newDemoCommand(a *app) *cobra.Command {
 		Long: `Run an embedded scan — the carbon monoxide bond stretch, refined
 adaptively around its minimum — in a temporary directory (or --dir), and
 print the located minimum. Rerunning with the same --dir resumes.`,
+		Example: `  wellscan demo
+  wellscan demo --dir co-demo && wellscan report co-demo`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			dir := o.dir

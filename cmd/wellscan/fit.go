@@ -60,6 +60,8 @@ kcal/mol), the units named in the header, e.g.
     1.10, -112.7071, true
 
 Optional columns "converged" (true/false or 1/0) and "weight".`,
+		Example: `  wellscan fit co-stretch
+  wellscan fit --table curve.csv --atoms C,O --isotopes 13C,16O --json`,
 		Args: cobra.MaximumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if len(args) == 1 && o.table != "" {

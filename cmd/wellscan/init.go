@@ -21,6 +21,8 @@ func newInitCommand(a *app) *cobra.Command {
 commented spec of an invented scenario — the H–F stretch at RHF/6-31G* —
 that runs in well under a minute. An existing scan.toml is never
 overwritten.`,
+		Example: `  wellscan init co-stretch
+  $EDITOR co-stretch/scan.toml && wellscan plan co-stretch`,
 		Args: cobra.MaximumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			dir := "."

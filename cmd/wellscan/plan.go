@@ -26,7 +26,8 @@ estimate of the cost. Nothing is computed and the store is not touched.
 With an external program (engine.kind = "command") every input of round 1
 is rendered into DIR/plan-inputs/ and the first template error stops the
 plan with the template's file and line.`,
-		Args: cobra.ExactArgs(1),
+		Example: `  wellscan plan co-stretch`,
+		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			spec, err := planner.Load(filepath.Join(args[0], "scan.toml"))
 			if err != nil {

@@ -50,9 +50,10 @@ external program, and turned into spectroscopic constants.
 
 func newVersionCommand(a *app) *cobra.Command {
 	return &cobra.Command{
-		Use:   "version",
-		Short: "Print the wellscan version",
-		Args:  cobra.NoArgs,
+		Use:     "version",
+		Short:   "Print the wellscan version",
+		Example: "  wellscan version",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			fmt.Fprintf(a.stdout, "wellscan %s\n", version)
 			return nil

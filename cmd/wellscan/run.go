@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -21,11 +22,13 @@ import (
 type runOptions struct {
 	workers int
 	quiet   bool
+	json    bool
 }
 
 func (o *runOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.IntVar(&o.workers, "workers", 0, "points computed at once (default: queue.workers, or all CPUs)")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress on stderr")
+	fs.BoolVar(&o.json, "json", false, "print one JSON object per event on stdout (for scripts), ending with a \"summary\" event, instead of the text summary")
 }
 
 func newRunCommand(a *app) *cobra.Command {
@@ -42,6 +45,9 @@ Changes to the grid, [refine] or [queue] are applied; changes to the
 molecule, coordinates or [engine] are refused.
 
 ` + exitCodeTable,
+		Example: `  wellscan run co-stretch
+  wellscan run co-stretch --workers 1 --json > events.jsonl
+  nohup wellscan run co-stretch > run.log 2>&1 &   # resume later with the same command`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if o.workers < 0 {
@@ -52,6 +58,10 @@ molecule, coordinates or [engine] are refused.
 				return err
 			}
 			sum, err := runScan(cmd.Context(), a, args[0], spec, o)
+			if sum != nil && o.json {
+				_ = json.NewEncoder(a.stdout).Encode(summaryEvent(spec, *sum, err))
+				return err
+			}
 			if sum != nil {
 				printSummary(a.stdout, spec, args[0], *sum)
 				printEndFit(cmd.Context(), a.stdout, args[0], spec)
@@ -82,7 +92,11 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	}
 	defer st.Close()
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue}
-	if !o.quiet {
+	switch {
+	case o.json:
+		enc := json.NewEncoder(a.stdout)
+		r.OnEvent = func(e runner.Event) { _ = enc.Encode(jsonEvent(e)) }
+	case !o.quiet:
 		r.OnEvent = newProgressPrinter(a.stderr, spec).event
 	}
 	sum, err := r.Run(ctx)
@@ -125,7 +139,7 @@ func (p *progressPrinter) event(e runner.Event) {
 		if e.Key != "" {
 			msg = e.Key + ": " + msg
 		}
-		fmt.Fprintf(p.w, "%s\n", msg)
+		fmt.Fprintf(p.w, "%s%s\n", p.stamp(), msg)
 		return
 	case string(runner.Done):
 	default:
@@ -148,7 +162,7 @@ func (p *progressPrinter) event(e runner.Event) {
 	if p.tty {
 		fmt.Fprintf(p.w, "\r\033[K%s", line)
 	} else {
-		fmt.Fprintln(p.w, line)
+		fmt.Fprintln(p.w, p.stamp()+line)
 	}
 }
 
@@ -179,4 +193,73 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 		}
 		fmt.Fprintf(w, "failed: %s (%s, %d attempts): %s\n", f.Key, f.Class, f.Attempts, strings.TrimSpace(f.LastError))
 	}
+}
+
+// eventJSON is one line of `run --json`.
+type eventJSON struct {
+	Seq     uint64         `json:"seq"`
+	Time    time.Time      `json:"time"`
+	Kind    string         `json:"kind"`
+	Key     string         `json:"key,omitempty"`
+	Round   int            `json:"round,omitempty"`
+	Message string         `json:"message,omitempty"`
+	Counts  map[string]int `json:"counts,omitempty"`
+	Total   int            `json:"total,omitempty"`
+	ETASecs float64        `json:"eta_seconds,omitempty"`
+	Status  string         `json:"refinement,omitempty"`
+	Extrema []extremumJSON `json:"extrema,omitempty"`
+	Error   string         `json:"error,omitempty"`
+}
+
+type extremumJSON struct {
+	Kind          string             `json:"kind"`
+	Coordinates   map[string]float64 `json:"coordinates"`
+	EnergyHartree float64            `json:"energy_hartree"`
+	HarmonicCm1   *float64           `json:"harmonic_cm1,omitempty"`
+}
+
+func jsonEvent(e runner.Event) eventJSON {
+	out := eventJSON{Seq: e.Seq, Time: e.Time, Kind: e.Kind, Key: e.Key, Round: e.Round, Message: e.Message}
+	if p := e.Progress; p != nil {
+		out.Counts = map[string]int{}
+		for st, n := range p.Counts {
+			out.Counts[string(st)] = n
+		}
+		out.Total = p.Total
+		out.ETASecs = p.ETA.Seconds()
+	}
+	return out
+}
+
+func summaryEvent(spec *planner.Spec, s runner.Summary, err error) eventJSON {
+	out := eventJSON{Time: time.Now(), Kind: "summary", Round: s.Rounds, Counts: map[string]int{}, Status: string(s.Status), Message: s.Reason}
+	for st, n := range s.Counts {
+		out.Counts[string(st)] = n
+		out.Total += n
+	}
+	coords := spec.Coordinates()
+	for _, e := range s.Extrema {
+		x := extremumJSON{Kind: e.Kind, Coordinates: map[string]float64{}, EnergyHartree: e.Energy}
+		for i, c := range coords {
+			x.Coordinates[c.Name] = c.Display(e.Values[i], spec.Units())
+		}
+		if !math.IsNaN(e.Frequency) {
+			f := e.Frequency
+			x.HarmonicCm1 = &f
+		}
+		out.Extrema = append(out.Extrema, x)
+	}
+	if err != nil {
+		out.Error = err.Error()
+	}
+	return out
+}
+
+// stamp prefixes log lines with the time when stderr is not a terminal
+// (batch logs); a terminal gets the live line without it.
+func (p *progressPrinter) stamp() string {
+	if p.tty {
+		return ""
+	}
+	return time.Now().Format("2006-01-02 15:04:05 ")
 }

@@ -34,6 +34,8 @@ func newStatusCommand(a *app) *cobra.Command {
 minimum, the refinement status and the last errors. While a run holds the
 store, status reads the snapshot (status.json) that the run rewrites every
 few seconds.`,
+		Example: `  wellscan status co-stretch
+  wellscan status co-stretch --json | jq .counts`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			dir := args[0]
