@@ -7,6 +7,7 @@ import (
 	"math"
 	"path/filepath"
 	"sort"
+	"strings"
 
 	"wellscan/fit"
 	"wellscan/planner"
@@ -16,14 +17,16 @@ import (
 // scanFit is the analysis of a scan directory: a 1-D curve fit or a 2-D
 // surface fit.
 type scanFit struct {
-	Curve   *fit.Result         `json:"curve,omitempty"`
-	Surface *fit.SurfaceResult  `json:"surface,omitempty"`
-	Mass    string              `json:"mass_model"`
-	Minima  []fit.Minimum       `json:"minima,omitempty"`
-	Points  int                 `json:"points_done"`
-	Skipped map[string]int      `json:"points_not_used,omitempty"`
-	Units   map[string]string   `json:"coordinate_units"`
-	Coords  []planner.CoordKind `json:"-"`
+	Curve   *fit.Result        `json:"curve,omitempty"`
+	Surface *fit.SurfaceResult `json:"surface,omitempty"`
+	Mass    string             `json:"mass_model"`
+	Minima  []fit.Minimum      `json:"minima,omitempty"`
+	Points  int                `json:"points_done"`
+	Skipped map[string]int     `json:"points_not_used,omitempty"`
+	Units   map[string]string  `json:"coordinate_units"`
+	// Stationary is the 2-D stationary point in the spec's units (Å or
+	// bohr, degrees), with the unit in the key, e.g. "r_angstrom".
+	Stationary map[string]float64 `json:"stationary_point,omitempty"`
 }
 
 // fitScanDir fits the done points of the scan in dir. Masses come from the
@@ -102,6 +105,25 @@ func fitScanDir(ctx context.Context, dir string, spec *planner.Spec, o *fitOptio
 			x[k], y[k] = xs[k][0], xs[k][1]
 		}
 		out.Surface, err = fit.Surface2D(x, y, es, fit.SurfaceOptions{G: g, WindowEnergy: o.window})
+		if err != nil {
+			// A quartic needs five distinct values per coordinate; a
+			// coarser grid still supports the quadratic surface.
+			quartErr := err
+			if out.Surface, err = fit.Surface2D(x, y, es, fit.SurfaceOptions{G: g, WindowEnergy: o.window, Degree: 2}); err == nil {
+				out.Surface.Warnings = append(out.Surface.Warnings, fmt.Sprintf("quartic surface not determined by the grid (%v); QUADRATIC surface used: no anharmonic coupling, frequencies less reliable", quartErr))
+			}
+		}
+		if out.Surface != nil {
+			out.Stationary = map[string]float64{}
+			for i, v := range []float64{out.Surface.X, out.Surface.Y} {
+				c := coords[i]
+				unit := "degree"
+				if c.Kind == planner.KindDistance {
+					unit = string(spec.Units())
+				}
+				out.Stationary[c.Name+"_"+unit] = c.Display(v, spec.Units())
+			}
+		}
 		out.Mass = "2-D: Wilson G matrix of the two scanned coordinates at the lowest point (masses from the spec)"
 		return out, err
 	}
@@ -205,8 +227,13 @@ func printScanFit(w io.Writer, f *scanFit) {
 		for _, wn := range s.Warnings {
 			fmt.Fprintf(w, "WARNING: %s\n", wn)
 		}
-		fmt.Fprintf(w, "stationary point: x = %.6f, y = %.6f (bohr or radian)  E = %.9f E_h  (degree-%d surface, %d points, rms residual %.2g E_h)\n",
-			s.X, s.Y, s.E, s.Degree, s.Points, s.RMSResidual)
+		var at []string
+		for k, v := range f.Stationary {
+			at = append(at, fmt.Sprintf("%s = %.5f", k, v))
+		}
+		sort.Strings(at)
+		fmt.Fprintf(w, "stationary point: %s  E = %.9f E_h  (degree-%d surface, %d points, rms residual %.2g E_h)\n",
+			strings.Join(at, ", "), s.E, s.Degree, s.Points, s.RMSResidual)
 		for i, nu := range s.Frequencies {
 			fmt.Fprintf(w, "  harmonic mode %d: %.1f cm⁻¹ (2-D GF along the two scanned coordinates)\n", i+1, nu)
 		}
