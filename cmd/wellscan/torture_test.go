@@ -22,8 +22,8 @@ import (
 // moments, restarted each time, and the store must end as an
 // uninterrupted run's would. The kill times come from a seeded RNG; the
 // seed is logged and can be fixed with WELLSCAN_TORTURE_SEED. Under -short
-// the kill counts drop (8 and 2); WELLSCAN_TORTURE=long multiplies them
-// by five.
+// the kill counts drop (8 and 2); WELLSCAN_TORTURE=long repeats each
+// torture on five fresh scans (100 and 25 kills in all).
 
 // tortureModelSpec: a model scan whose points take 70 ms each on one
 // worker, about 2 s uninterrupted (invented Morse constants, atomic units).
@@ -55,8 +55,8 @@ center = 2.135
 workers = 1
 `
 
-// tortureRHFSpec: a real RHF/6-31G* scan of CO, 15 grid points plus
-// refinement, about 1.3 s uninterrupted on one worker.
+// tortureRHFSpec: a real RHF/6-31G* scan of CO, 22 grid points plus
+// refinement, 0.5–1.5 s uninterrupted on one worker.
 const tortureRHFSpec = `title = "torture RHF"
 [molecule]
 units = "angstrom"
@@ -69,7 +69,7 @@ name = "r"
 bond = [1, 2]
 from = 0.95
 to = 1.37
-step = 0.03
+step = 0.02
 [engine]
 kind = "builtin"
 method = "rhf"
@@ -91,15 +91,21 @@ func tortureSeed(t *testing.T) uint64 {
 	return uint64(time.Now().UnixNano())
 }
 
-// killCount scales the default kill count for -short and the long variant.
+// killCount is the kill count per scan: n, or short under -short.
 func killCount(n, short int) int {
 	if testing.Short() {
 		return short
 	}
-	if os.Getenv("WELLSCAN_TORTURE") == "long" {
-		return 5 * n
-	}
 	return n
+}
+
+// tortureReps is how many fresh scans each torture runs: 5 under
+// WELLSCAN_TORTURE=long, else 1.
+func tortureReps() int {
+	if os.Getenv("WELLSCAN_TORTURE") == "long" {
+		return 5
+	}
+	return 1
 }
 
 // checkBolt opens the store read-only with bbolt directly and runs its
@@ -215,22 +221,25 @@ func TestRun_CrashTorture_Model(t *testing.T) {
 	runToEnd(t, bin, ref)
 	want, _ := storeState(t, ref)
 
-	dir := t.TempDir()
-	writeSpec(t, dir, tortureModelSpec)
-	n := killCount(20, 8)
-	// 10–200 ms: from before the store is open (a run needs ~50 ms to
-	// start) to two points in; 20 runs get about two thirds of the scan
-	// done, so later kills land in refinement rounds.
-	killed := killLoop(t, bin, dir, rng, n, 10*time.Millisecond, 200*time.Millisecond)
-	t.Logf("survived %d SIGKILLs", killed)
-	if killed < n {
-		t.Fatalf("only %d of %d kills landed before the scan finished; the test did not exercise resume", killed, n)
+	for rep := range tortureReps() {
+		t.Logf("scan %d", rep+1)
+		dir := t.TempDir()
+		writeSpec(t, dir, tortureModelSpec)
+		n := killCount(20, 8)
+		// 10–200 ms: from before the store is open (a run needs ~50 ms to
+		// start) to two points in; 20 runs get about two thirds of the scan
+		// done, so later kills land in refinement rounds.
+		killed := killLoop(t, bin, dir, rng, n, 10*time.Millisecond, 200*time.Millisecond)
+		t.Logf("survived %d SIGKILLs", killed)
+		if killed < n {
+			t.Fatalf("only %d of %d kills landed before the scan finished; the test did not exercise resume", killed, n)
+		}
+		runToEnd(t, bin, dir)
+		checkBolt(t, dir)
+		// The model is deterministic: energies equal bit for bit (tolerance 0).
+		assertNoLossNoDup(t, dir, want, 0)
+		sameStore(t, func() map[string]pointState { g, _ := storeState(t, dir); return g }(), want)
 	}
-	runToEnd(t, bin, dir)
-	checkBolt(t, dir)
-	// The model is deterministic: energies equal bit for bit (tolerance 0).
-	assertNoLossNoDup(t, dir, want, 0)
-	sameStore(t, func() map[string]pointState { g, _ := storeState(t, dir); return g }(), want)
 }
 
 func TestRun_CrashTorture_RHF(t *testing.T) {
@@ -244,29 +253,38 @@ func TestRun_CrashTorture_RHF(t *testing.T) {
 
 	ref := t.TempDir()
 	writeSpec(t, ref, tortureRHFSpec)
+	start := time.Now()
 	runToEnd(t, bin, ref)
+	wall := time.Since(start)
 	want, _ := storeState(t, ref)
 	if len(want) < 15 {
 		t.Fatalf("reference RHF scan has %d points, want ≥ 15", len(want))
 	}
 
-	dir := t.TempDir()
-	writeSpec(t, dir, tortureRHFSpec)
-	n := killCount(5, 2)
-	// 30–250 ms: a whole scan takes about 1.3 s, so each run gets a few
-	// points done and is killed inside the next.
-	killed := killLoop(t, bin, dir, rng, n, 30*time.Millisecond, 250*time.Millisecond)
-	t.Logf("survived %d SIGKILLs", killed)
-	if killed < n {
-		t.Fatalf("only %d of %d kills landed before the scan finished", killed, n)
+	for rep := range tortureReps() {
+		t.Logf("scan %d", rep+1)
+		dir := t.TempDir()
+		writeSpec(t, dir, tortureRHFSpec)
+		n := killCount(5, 2)
+		// The SCF time depends on the machine's load, so the kill window is
+		// scaled to the uninterrupted run's time per point: a run needs ~50 ms
+		// to start, and one killed uniformly in [30 ms, 50 ms + 3 points) gets
+		// about 1.5 points done, so 5 runs cover a third of the scan.
+		hi := 50*time.Millisecond + 3*wall/time.Duration(len(want))
+		t.Logf("uninterrupted run %v; kills in [30ms, %v)", wall.Round(time.Millisecond), hi.Round(time.Millisecond))
+		killed := killLoop(t, bin, dir, rng, n, 30*time.Millisecond, hi)
+		t.Logf("survived %d SIGKILLs", killed)
+		if killed < n {
+			t.Fatalf("only %d of %d kills landed before the scan finished", killed, n)
+		}
+		runToEnd(t, bin, dir)
+		checkBolt(t, dir)
+		// A resumed point may start from a different continuation guess than
+		// in the uninterrupted run; both converge to the same SCF solution to
+		// within the convergence threshold (1e-8 hartree, common practice for
+		// energies from a density converged to ~1e-6).
+		assertNoLossNoDup(t, dir, want, 1e-8)
 	}
-	runToEnd(t, bin, dir)
-	checkBolt(t, dir)
-	// A resumed point may start from a different continuation guess than
-	// in the uninterrupted run; both converge to the same SCF solution to
-	// within the convergence threshold (1e-8 hartree, common practice for
-	// energies from a density converged to ~1e-6).
-	assertNoLossNoDup(t, dir, want, 1e-8)
 }
 
 // TestRun_PowerCut_TruncatedResultIgnored simulates a power cut while a
