@@ -107,6 +107,8 @@ type badInput struct {
 	args  []string          // the command; DIR is replaced by the scan directory; default run -q DIR
 	code  int
 	want  []string // every one must appear in stdout+stderr
+	// setup runs after the files are written (symlinks, files outside).
+	setup func(t *testing.T, dir string)
 	// grows: the row adds points, so the store may change, but every
 	// point record of the first run must stay as it was.
 	grows bool
@@ -206,6 +208,25 @@ func badInputs() []badInput {
 			want: []string{"tb.csv: fit: two points at the same coordinate"}},
 		{name: "table/file missing", base: "model", args: fit(), code: 1,
 			want: []string{"fit: open ", "tb.csv: no such file or directory"}},
+		// paths that leave the scan directory, and size limits
+		{name: "security/molecule file above the scan", base: "model", edits: [][2]string{{"geometry = \"\"\"\nC 0 0 0\nO 0 0 1.13\n\"\"\"", `file = "../outside.xyz"`}},
+			setup: outside("outside.xyz", "2\nCO\nC 0 0 0\nO 0 0 1.13\n"), code: 1,
+			want: []string{"scan.toml:3: molecule.file: ", "outside.xyz is outside the scan directory"}},
+		{name: "security/molecule file absolute", base: "model", edits: [][2]string{{"geometry = \"\"\"\nC 0 0 0\nO 0 0 1.13\n\"\"\"", `file = "/etc/hostname"`}}, code: 1,
+			want: []string{"scan.toml:3: molecule.file: /etc/hostname is outside the scan directory"}},
+		{name: "security/molecule file symlink out", base: "model", edits: [][2]string{{"geometry = \"\"\"\nC 0 0 0\nO 0 0 1.13\n\"\"\"", `file = "mol.xyz"`}},
+			setup: symlinkOut("mol.xyz", "2\nCO\nC 0 0 0\nO 0 0 1.13\n"), code: 1,
+			want: []string{"scan.toml:3: molecule.file: ", "mol.xyz leads outside the scan directory", "through a symbolic link"}},
+		{name: "security/template above the scan", base: "command", edits: [][2]string{{`template = "point.tmpl"`, `template = "../point.tmpl"`}},
+			setup: outside("point.tmpl", "energy = -1.0\n"), code: 1,
+			want: []string{"scan.toml: engine.command.template: planner: ", "point.tmpl is outside the scan directory"}},
+		{name: "security/template symlink out", base: "command", edits: [][2]string{{`template = "point.tmpl"`, `template = "link.tmpl"`}},
+			setup: symlinkOut("link.tmpl", "energy = -1.0\n"), code: 1,
+			want: []string{"engine.command.template: ", "link.tmpl leads outside the scan directory"}},
+		{name: "security/script absolute", base: "command", edits: [][2]string{{`command = ["cat", "point.in"]`, "shell = true\nscript = \"/bin/true\""}}, code: 1,
+			want: []string{"scan.toml: engine.command.script: planner: /bin/true is outside the scan directory"}},
+		{name: "security/spec over 1 MiB", base: "model", edits: [][2]string{{"[queue]", "# " + strings.Repeat("x", 1<<20) + "\n[queue]"}}, code: 1,
+			want: []string{"scan.toml is larger than the 1048576 bytes a spec may have"}},
 		// command
 		{name: "command/program not found", base: "command", edits: [][2]string{{`command = ["cat", "point.in"]`, `command = ["no-such-prog-xyz", "point.in"]`}}, code: 1,
 			want: []string{"engine.command", `program "no-such-prog-xyz": exec: "no-such-prog-xyz": executable file not found in $PATH`}},
@@ -223,6 +244,31 @@ func badInputs() []badInput {
 			want: []string{`[engine.command] energy: parsers: unknown energy unit "kcal/fortnight"`}},
 		{name: "command/no energy at a new point", base: "command", edits: [][2]string{extend}, files: tmpl("nothing"), code: 3, grows: true,
 			want: []string{"failed: r=1.00000 (energy-missing", `no line matches label "energy"`, "| nothing"}},
+	}
+}
+
+// outside writes name with body next to the scan directory (outside it).
+func outside(name, body string) func(t *testing.T, dir string) {
+	return func(t *testing.T, dir string) {
+		t.Helper()
+		if err := os.WriteFile(filepath.Join(filepath.Dir(dir), name), []byte(body), 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+}
+
+// symlinkOut makes dir/name a symbolic link to a file with body outside
+// the scan directory.
+func symlinkOut(name, body string) func(t *testing.T, dir string) {
+	return func(t *testing.T, dir string) {
+		t.Helper()
+		target := filepath.Join(t.TempDir(), "target-"+name)
+		if err := os.WriteFile(target, []byte(body), 0o600); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.Symlink(target, filepath.Join(dir, name)); err != nil {
+			t.Skipf("no symlinks here: %v", err)
+		}
 	}
 }
 
@@ -317,6 +363,9 @@ func TestCLI_BadInputMatrix(t *testing.T) {
 				if err := os.WriteFile(filepath.Join(dir, name), []byte(body), 0o600); err != nil {
 					t.Fatal(err)
 				}
+			}
+			if tc.setup != nil {
+				tc.setup(t, dir)
 			}
 			db := filepath.Join(dir, runner.DBFile)
 			before := hashFile(t, db)
