@@ -7,7 +7,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"os"
 	"path/filepath"
 	"regexp"
 	"sort"
@@ -197,9 +196,9 @@ func (e *SpecError) Is(target error) bool { return target == ErrSpec }
 
 // Load reads and decodes the spec at path.
 func Load(path string) (*Spec, error) {
-	data, err := os.ReadFile(path)
+	data, err := readCapped(path, MaxSpecBytes, "a spec")
 	if err != nil {
-		return nil, fmt.Errorf("planner: %w", err)
+		return nil, err
 	}
 	return decode(data, path, filepath.Dir(path))
 }
@@ -207,6 +206,9 @@ func Load(path string) (*Spec, error) {
 // Decode decodes and validates a spec. filename labels errors and is the
 // base for relative paths (an XYZ file); it need not exist.
 func Decode(data []byte, filename string) (*Spec, error) {
+	if len(data) > MaxSpecBytes {
+		return nil, fmt.Errorf("planner: %s: %d bytes, more than the %d a spec may have", filename, len(data), MaxSpecBytes)
+	}
 	return decode(data, filename, filepath.Dir(filename))
 }
 

@@ -1,10 +1,9 @@
 package planner
 
 import (
+	"bytes"
 	"fmt"
 	"math"
-	"os"
-	"path/filepath"
 	"regexp"
 	"sort"
 	"strconv"
@@ -102,16 +101,15 @@ func (s *Spec) buildMolecule() error {
 		}
 		frame = f
 	case ms.File != "":
-		path := ms.File
-		if !filepath.IsAbs(path) {
-			path = filepath.Join(s.dir, path)
-		}
-		fh, err := os.Open(path)
+		path, err := WithinDir(s.dir, ms.File)
 		if err != nil {
-			return s.errAt("molecule.file", "%v", err)
+			return s.errAt("molecule.file", "%s", strings.TrimPrefix(err.Error(), "planner: "))
 		}
-		defer fh.Close()
-		frames, err := parsers.ReadXYZ(fh, path)
+		data, err := readCapped(path, MaxMoleculeBytes, "an XYZ file")
+		if err != nil {
+			return s.errAt("molecule.file", "%s", strings.TrimPrefix(err.Error(), "planner: "))
+		}
+		frames, err := parsers.ReadXYZ(bytes.NewReader(data), path)
 		if err != nil {
 			return s.errAt("molecule.file", "%s", strings.TrimPrefix(err.Error(), "parsers: "))
 		}

@@ -75,7 +75,7 @@ func WriteFileAtomic(path string, data []byte) error {
 	dir := filepath.Dir(path)
 	host, _ := os.Hostname()
 	tmp := fmt.Sprintf("%s.tmp.%s.%d", path, strings.ReplaceAll(host, "/", "_"), os.Getpid())
-	f, err := os.OpenFile(tmp, os.O_WRONLY|os.O_CREATE|os.O_TRUNC, 0o644)
+	f, err := os.OpenFile(tmp, os.O_WRONLY|os.O_CREATE|os.O_TRUNC, 0o600)
 	if err != nil {
 		return fmt.Errorf("runner: %w", err)
 	}

@@ -519,7 +519,7 @@ func (r *Runner) work(ctx context.Context, t Task) Completion {
 	if res, ok := ReadResult(r.Dir, t.Key, r.fp); ok && res.Status == "done" {
 		return Completion{Task: t, Result: res, Reused: true}
 	}
-	if err := os.MkdirAll(t.Dir, 0o755); err != nil {
+	if err := os.MkdirAll(t.Dir, 0o700); err != nil {
 		return Completion{Task: t, Result: r.failure(t, r.Now(), "io", err)}
 	}
 	cctx := ctx

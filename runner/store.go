@@ -63,8 +63,15 @@ func (e *LockedError) Error() string {
 	if e.Info == nil {
 		return fmt.Sprintf("runner: %s is being run by another process (no readable %s)", e.Dir, LockFile)
 	}
-	return fmt.Sprintf("runner: this scan is being run by PID %d on %s since %s",
+	msg := fmt.Sprintf("runner: this scan is being run by PID %d on %s since %s",
 		e.Info.PID, e.Info.Host, e.Info.Started.Local().Format("2006-01-02 15:04:05 MST"))
+	if e.Info.Liveness() == LiveDead {
+		// The record is stale, yet something holds the database: most
+		// likely a status reader for a moment, or a run that has not yet
+		// rewritten the record.
+		msg += fmt.Sprintf(" according to %s, but that process is no longer running; another process holds the database right now, retry in a moment", LockFile)
+	}
+	return msg
 }
 
 // Is makes errors.Is(err, ErrLocked) true.
@@ -77,6 +84,7 @@ type Store struct {
 	dir      string
 	readOnly bool
 	seq      uint64
+	stale    *LockInfo // lock record of a run that died, found by Open
 }
 
 // OpenOptions tune Open.
@@ -137,6 +145,8 @@ func Open(dir string, opts OpenOptions) (*Store, error) {
 		}
 	}
 	if !opts.ReadOnly {
+		// We hold bbolt's lock, so whoever wrote a leftover record is gone.
+		s.stale = readLock(dir)
 		host, _ := os.Hostname()
 		boot, _ := os.ReadFile("/proc/sys/kernel/random/boot_id")
 		info := LockInfo{PID: os.Getpid(), Host: host, Started: opts.Now(), BootID: string(trimNL(boot))}

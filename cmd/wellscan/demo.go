@@ -65,10 +65,10 @@ print the located minimum. Rerunning with the same --dir resumes.`,
 					return fmt.Errorf("%s exists and is not the demo spec; use another --dir", path)
 				}
 			} else {
-				if err := os.MkdirAll(dir, 0o755); err != nil {
+				if err := os.MkdirAll(dir, 0o700); err != nil {
 					return err
 				}
-				if err := os.WriteFile(path, text, 0o644); err != nil {
+				if err := os.WriteFile(path, text, 0o600); err != nil {
 					return err
 				}
 			}

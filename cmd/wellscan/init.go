@@ -29,11 +29,11 @@ overwritten.`,
 			if len(args) == 1 {
 				dir = args[0]
 			}
-			if err := os.MkdirAll(dir, 0o755); err != nil {
+			if err := os.MkdirAll(dir, 0o700); err != nil {
 				return err
 			}
 			path := filepath.Join(dir, "scan.toml")
-			f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
+			f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o600)
 			if errors.Is(err, os.ErrExist) {
 				return fmt.Errorf("%s already exists; not overwriting it", path)
 			}

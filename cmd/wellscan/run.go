@@ -83,7 +83,9 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	if err != nil {
 		return nil, err
 	}
-	st, err := runner.OpenScan(dir, spec, runner.OpenOptions{})
+	// A held scan is reported within a second: bbolt's lock is not
+	// waited for longer than half of that.
+	st, err := runner.OpenScan(dir, spec, runner.OpenOptions{Timeout: 500 * time.Millisecond})
 	if err != nil {
 		if errors.Is(err, runner.ErrLocked) {
 			return nil, fmt.Errorf("%w: %w", errScanLocked, err)
@@ -91,6 +93,9 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 		return nil, err
 	}
 	defer st.Close()
+	if li := st.StaleLock(); li != nil {
+		fmt.Fprintf(a.stderr, "wellscan: note: %s; resuming\n", runner.StaleLockMessage(dir, li))
+	}
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue}
 	switch {
 	case o.json:

@@ -67,7 +67,11 @@ func readStatus(dir string, spec *planner.Spec) (runner.Snapshot, string, error)
 	case err == nil:
 		defer st.Close()
 		snap, err := runner.StoreSnapshot(spec, st, time.Now())
-		return snap, "store", err
+		source := "store"
+		if li := runner.ReadLockInfo(dir); li != nil {
+			source += "; note: " + runner.StaleLockMessage(dir, li) + " (wellscan run resumes it)"
+		}
+		return snap, source, err
 	case errors.Is(err, runner.ErrLocked):
 		snap, serr := runner.ReadSnapshot(dir)
 		if serr != nil {

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"path/filepath"
 
 	"wellscan/planner"
 	"wellscan/runner"
@@ -36,6 +37,16 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	cfg, err := DecodeConfig(m, spec.File(), "engine.command")
 	if err != nil {
 		return nil, err
+	}
+	// The template and the script come from the scan directory only: a
+	// spec cannot make a scan read or run files elsewhere through them.
+	for _, f := range []struct{ key, path string }{{"template", cfg.Template}, {"script", cfg.Script}} {
+		if f.path == "" {
+			continue
+		}
+		if _, err := planner.WithinDir(filepath.Dir(spec.File()), f.path); err != nil {
+			return nil, fmt.Errorf("%s: engine.command.%s: %w", spec.File(), f.key, err)
+		}
 	}
 	if err := cfg.Validate(); err != nil {
 		return nil, fmt.Errorf("%s: engine.command: %w", spec.File(), err)

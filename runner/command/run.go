@@ -136,7 +136,7 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(SetupFailed, err)
 	}
 	x, _ := c.Energy.Compile() // Validate compiled it already
-	if err := os.MkdirAll(dir, 0o755); err != nil {
+	if err := os.MkdirAll(dir, 0o700); err != nil {
 		dir = ""
 		return fail(SetupFailed, err)
 	}
@@ -159,7 +159,7 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
-	if err := os.WriteFile(out.Input, input, 0o644); err != nil {
+	if err := os.WriteFile(out.Input, input, 0o600); err != nil {
 		return fail(SetupFailed, err)
 	}
 	if err := writeGeometry(filepath.Join(dir, GeometryFile), job); err != nil {
@@ -174,12 +174,12 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(ProgramMissing, err)
 	}
 
-	stdout, err := os.Create(out.Stdout)
+	stdout, err := createPrivate(out.Stdout)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
 	defer stdout.Close()
-	stderr, err := os.Create(out.Stderr)
+	stderr, err := createPrivate(out.Stderr)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
@@ -427,7 +427,7 @@ func writeGeometry(path string, job Job) error {
 			return err
 		}
 	}
-	return os.WriteFile(path, buf.Bytes(), 0o644)
+	return os.WriteFile(path, buf.Bytes(), 0o600)
 }
 
 func describeExit(ps *os.ProcessState) string {
@@ -491,5 +491,10 @@ func writeStatus(dir string, out Outcome, err error) {
 		first, _, _ := strings.Cut(err.Error(), "\n")
 		fmt.Fprintf(&b, "error = %s\n", first)
 	}
-	_ = os.WriteFile(filepath.Join(dir, ExitStatusFile), []byte(b.String()), 0o644)
+	_ = os.WriteFile(filepath.Join(dir, ExitStatusFile), []byte(b.String()), 0o600)
+}
+
+// createPrivate creates (or truncates) a file only its owner can read.
+func createPrivate(path string) (*os.File, error) {
+	return os.OpenFile(path, os.O_RDWR|os.O_CREATE|os.O_TRUNC, 0o600)
 }

@@ -245,7 +245,13 @@ func (c Config) Render(job Job) ([]byte, error) {
 	return buf.Bytes(), nil
 }
 
+// maxTemplateBytes caps the input template read (1 MiB).
+const maxTemplateBytes = 1 << 20
+
 func (c Config) parseTemplate() (*template.Template, error) {
+	if st, err := os.Stat(c.Template); err == nil && st.Size() > maxTemplateBytes {
+		return nil, fmt.Errorf("command: template %s is %d bytes, more than the %d an input template may have", c.Template, st.Size(), maxTemplateBytes)
+	}
 	text, err := os.ReadFile(c.Template)
 	if err != nil {
 		return nil, fmt.Errorf("command: input template: %w", err)

@@ -150,7 +150,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	path := filepath.Join(t.Dir, "model-state.json")
 	// A plain write: the state file is a convenience for the next point,
 	// not proof of work (that is result.json, which the runner writes).
-	if err := os.WriteFile(path, raw, 0o644); err != nil {
+	if err := os.WriteFile(path, raw, 0o600); err != nil {
 		return runner.Outcome{}, fmt.Errorf("model: %w", err)
 	}
 	return runner.Outcome{Energy: b.Energy(t.Values), Converged: true, Iterations: 1,
