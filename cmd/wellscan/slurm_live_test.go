@@ -16,6 +16,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"syscall"
 	"testing"
@@ -265,4 +266,218 @@ func TestSlurm_KillOrchestrator_RerunComputesEachPointOnce(t *testing.T) {
 		t.Errorf("%d submissions before the rerun, %d after; the rerun should adopt, not resubmit", len(jobsBefore), len(jobsAfter))
 	}
 	t.Logf("rerun output:\n%s", out)
+}
+
+// slowSlurmSpec is a 6-point model scan (invented Morse constants, atomic
+// units) whose points take 1.5 s each, 3 per array task, so that a test
+// can act on the scheduler or the node while a task runs.
+const slowSlurmSpec = `title = "slow model scan on the local Slurm"
+[molecule]
+geometry = """
+C 0 0 0
+O 0 0 1.13
+"""
+[[scan]]
+name = "r"
+bond = [1, 2]
+from = 1.00
+to = 1.25
+step = 0.05
+[refine]
+adaptive = false
+[engine]
+kind = "model"
+[engine.model]
+offset = -112.7
+delay = "1500ms"
+[[engine.model.term]]
+shape = "morse"
+depth = 0.41
+width = 1.22
+center = 2.135
+[queue]
+kind = "slurm"
+[queue.slurm]
+points_per_task = 3
+throttle = THROTTLE
+time = "5m"
+memory_mb = 200
+poll_interval = "300ms"
+fast_poll = true
+lost_after = "5s"
+`
+
+func waitResults(t *testing.T, dir string, n int) {
+	t.Helper()
+	deadline := time.Now().Add(60 * time.Second)
+	for resultFiles(dir) < n {
+		if time.Now().After(deadline) {
+			t.Fatalf("no %d result files within 60 s", n)
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+}
+
+func TestSlurm_ExternalScancel_ReportedCancelledNotRetried(t *testing.T) {
+	needSlurm(t)
+	bin := buildWellscan(t)
+	dir := slurmScanDir(t, strings.Replace(slowSlurmSpec, "THROTTLE", "1", 1))
+	cmd := exec.Command(bin, "run", "-q", dir)
+	var out strings.Builder
+	cmd.Stdout, cmd.Stderr = &out, &out
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	waitResults(t, dir, 1)
+	if b, err := exec.Command("scancel", "--me", "--name="+slurm.JobNameFor(dir)).CombinedOutput(); err != nil {
+		t.Fatalf("scancel: %v %s", err, b)
+	}
+	_ = cmd.Wait()
+	if code := cmd.ProcessState.ExitCode(); code != 3 {
+		t.Fatalf("exit %d after an external scancel, want 3 (some points failed)\n%s", code, out.String())
+	}
+	got, _ := storeState(t, dir)
+	spec, err := planner.Load(filepath.Join(dir, "scan.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	recs, err := st.Points()
+	st.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	cancelled := 0
+	for _, r := range recs {
+		switch {
+		case r.State == runner.Failed && r.Class == "cancelled" && r.Attempts == 1:
+			cancelled++
+		case r.State == runner.Done:
+		default:
+			t.Errorf("%s: %s, class %q, %d attempts; want done, or failed as cancelled after 1 attempt", r.Key, r.State, r.Class, r.Attempts)
+		}
+	}
+	// Task 1 (three points) was still pending when it was cancelled.
+	if cancelled < 3 || len(got) != len(spec.InitialPoints()) {
+		t.Errorf("%d points cancelled of %d, want at least 3", cancelled, len(got))
+	}
+	if jobs, _ := filepath.Glob(filepath.Join(dir, slurm.JobsDir, "*")); len(jobs) != 1 {
+		t.Errorf("%d submissions, want 1: cancelled tasks are not retried", len(jobs))
+	}
+}
+
+// nodePID finds the node-task process working in dir, by its command line.
+func nodePID(t *testing.T, dir string) int {
+	t.Helper()
+	deadline := time.Now().Add(30 * time.Second)
+	for time.Now().Before(deadline) {
+		ents, _ := os.ReadDir("/proc")
+		for _, e := range ents {
+			pid, err := strconv.Atoi(e.Name())
+			if err != nil {
+				continue
+			}
+			b, err := os.ReadFile(filepath.Join("/proc", e.Name(), "cmdline"))
+			if err != nil {
+				continue
+			}
+			args := strings.Split(string(b), "\x00")
+			if len(args) > 3 && args[1] == slurm.NodeSubcommand && strings.HasPrefix(args[3], dir+string(filepath.Separator)) {
+				return pid
+			}
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	t.Fatal("no node-task process found within 30 s")
+	return 0
+}
+
+func TestSlurm_NodeProcessKilled_PointsRetried(t *testing.T) {
+	needSlurm(t)
+	bin := buildWellscan(t)
+	dir := slurmScanDir(t, strings.Replace(slowSlurmSpec, "THROTTLE", "1", 1))
+	cmd := exec.Command(bin, "run", "-q", dir)
+	var out strings.Builder
+	cmd.Stdout, cmd.Stderr = &out, &out
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	pid := nodePID(t, dir)
+	waitResults(t, dir, 1)
+	if err := syscall.Kill(pid, syscall.SIGKILL); err != nil {
+		t.Fatal(err)
+	}
+	if err := cmd.Wait(); err != nil {
+		t.Fatalf("run: %v\n%s", err, out.String())
+	}
+	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	recs, err := st.Points()
+	st.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	retried := 0
+	computed := computedLines(t, dir)
+	for _, r := range recs {
+		if r.State != runner.Done {
+			t.Errorf("%s: %s (%s)", r.Key, r.State, r.LastError)
+		}
+		if r.Attempts > 1 {
+			retried++
+		}
+		if computed[r.Key] != 1 {
+			t.Errorf("%s computed %d times, want once", r.Key, computed[r.Key])
+		}
+	}
+	// The killed task had finished one point; its other two were retried.
+	if retried != 2 {
+		t.Errorf("%d points retried, want 2 (the killed task's unfinished points)", retried)
+	}
+	if jobs, _ := filepath.Glob(filepath.Join(dir, slurm.JobsDir, "*")); len(jobs) != 2 {
+		t.Errorf("%d submissions, want 2 (the retry is a new array)", len(jobs))
+	}
+	t.Logf("output:\n%s", out.String())
+}
+
+func TestSlurm_SIGINT_DetachesJobsKeepRunning(t *testing.T) {
+	needSlurm(t)
+	bin := buildWellscan(t)
+	dir := slurmScanDir(t, strings.Replace(slowSlurmSpec, "THROTTLE", "2", 1))
+	cmd := exec.Command(bin, "run", "-q", dir)
+	var stderr strings.Builder
+	cmd.Stderr = &stderr
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	waitResults(t, dir, 1)
+	if err := cmd.Process.Signal(os.Interrupt); err != nil {
+		t.Fatal(err)
+	}
+	_ = cmd.Wait()
+	if code := cmd.ProcessState.ExitCode(); code != 130 || !strings.Contains(stderr.String(), "detached from Slurm") {
+		t.Fatalf("exit %d, want 130 and a note that the jobs keep running:\n%s", code, stderr.String())
+	}
+	live, err := exec.Command("squeue", "--me", "-h", "-r", "-t", "PD,R", "--name="+slurm.JobNameFor(dir), "-o", "%i").Output()
+	if err != nil || strings.TrimSpace(string(live)) == "" {
+		t.Fatalf("no live task after Ctrl-C (%v); the interrupt must leave the jobs running", err)
+	}
+	if out, err := exec.Command(bin, "run", "-q", dir).CombinedOutput(); err != nil {
+		t.Fatalf("rerun: %v\n%s", err, out)
+	}
+	got, done := storeState(t, dir)
+	computed := computedLines(t, dir)
+	for k, p := range got {
+		if p.State != runner.Done || done[k] != 1 || computed[k] != 1 {
+			t.Errorf("%s: %s, done %d times, computed %d times; want once each", k, p.State, done[k], computed[k])
+		}
+	}
+	if jobs, _ := filepath.Glob(filepath.Join(dir, slurm.JobsDir, "*")); len(jobs) != 1 {
+		t.Errorf("%d submissions, want 1 (the rerun adopts)", len(jobs))
+	}
 }

@@ -94,8 +94,9 @@ type Queue struct {
 	// Now is the clock; nil means time.Now.
 	Now func() time.Time
 
-	mu    sync.Mutex
-	stats QueueStats
+	mu      sync.Mutex
+	stats   QueueStats
+	jobName string
 }
 
 // NewQueue builds the queue of spec: [queue.slurm] decoded, the Slurm
@@ -326,6 +327,9 @@ func (r *run) arrive(t runner.Task) error {
 		}
 		r.scanDir = dir
 		r.jobName = JobNameFor(dir)
+		r.q.mu.Lock()
+		r.q.jobName = r.jobName
+		r.q.mu.Unlock()
 		p, err := NewPoller(r.q.Client, r.jobName, r.now)
 		if err != nil {
 			return err
@@ -646,4 +650,16 @@ func nonEmpty(a, b string) string {
 		return a
 	}
 	return b
+}
+
+// DetachNote says what an interrupted attached run leaves behind: the
+// jobs keep running, and how to cancel them. "" before Run has started.
+func (q *Queue) DetachNote() string {
+	q.mu.Lock()
+	name := q.jobName
+	q.mu.Unlock()
+	if name == "" {
+		return "detached from Slurm; no job was submitted"
+	}
+	return fmt.Sprintf("detached from Slurm: the scan's jobs (name %s) keep running and a later run picks up their results; cancel them with: scancel --me --name=%s", name, name)
 }
