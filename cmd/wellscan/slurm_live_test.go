@@ -481,3 +481,50 @@ func TestSlurm_SIGINT_DetachesJobsKeepRunning(t *testing.T) {
 		t.Errorf("%d submissions, want 1 (the rerun adopts)", len(jobs))
 	}
 }
+
+// BenchmarkSlurm_Scan40 runs a 40-point RHF/STO-3G H2 scan (8 points per
+// task, throttle 4) on the local Slurm, and the same scan on the local
+// queue, and reports both wall-clock times per scan:
+//
+//	go test -tags slurm -run '^$' -bench Slurm_Scan40 -benchtime=1x ./cmd/wellscan/
+func BenchmarkSlurm_Scan40(b *testing.B) {
+	bin := buildWellscanB(b)
+	spec := strings.NewReplacer("count = 20", "count = 40", "points_per_task = 4", "points_per_task = 8").Replace(h2SlurmSpec)
+	localSpec := strings.Replace(spec, `kind = "slurm"`, `kind = "local"`, 1)
+	var slurmTime, localTime time.Duration
+	subs := 0
+	b.ReportAllocs()
+	for b.Loop() {
+		for _, s := range []struct {
+			text string
+			d    *time.Duration
+		}{{localSpec, &localTime}, {spec, &slurmTime}} {
+			dir := b.TempDir()
+			if err := os.WriteFile(filepath.Join(dir, "scan.toml"), []byte(s.text), 0o644); err != nil {
+				b.Fatal(err)
+			}
+			start := time.Now()
+			if out, err := exec.Command(bin, "run", "-q", dir).CombinedOutput(); err != nil {
+				b.Fatalf("run: %v\n%s", err, out)
+			}
+			*s.d += time.Since(start)
+			if s.d == &slurmTime {
+				jobs, _ := filepath.Glob(filepath.Join(dir, slurm.JobsDir, "*"))
+				subs += len(jobs)
+			}
+		}
+	}
+	n := float64(b.N)
+	b.ReportMetric(slurmTime.Seconds()/n, "s-slurm/scan")
+	b.ReportMetric(localTime.Seconds()/n, "s-local/scan")
+	b.ReportMetric(float64(subs)/n/40, "submissions/point")
+}
+
+func buildWellscanB(b *testing.B) string {
+	b.Helper()
+	bin := filepath.Join(b.TempDir(), "wellscan")
+	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
+		b.Fatalf("go build: %v\n%s", err, out)
+	}
+	return bin
+}
