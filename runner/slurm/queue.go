@@ -496,6 +496,14 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 			fail("submit-rejected", true, err)
 			return
 		}
+		if r.ctx.Err() != nil {
+			// Interrupted while sbatch ran: the job may exist; a later run
+			// finds it by its token and adopts it.
+			for _, t := range ts {
+				r.out <- runner.Completion{Task: t, Interrupted: true}
+			}
+			return
+		}
 		// The job may exist although sbatch did not say so: look for the
 		// token once before giving up on this submission.
 		id = r.findToken(token)
