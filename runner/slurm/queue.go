@@ -357,6 +357,12 @@ func (r *run) arrive(t runner.Task) error {
 		r.byRef[ref] = append(r.byRef[ref], t.Key)
 		return nil
 	}
+	// A task of an earlier run may have finished the point since the first
+	// look (for example while the listing ran).
+	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == "done" {
+		r.out <- runner.Completion{Task: t, Result: res, Reused: true}
+		return nil
+	}
 	r.batch = append(r.batch, t)
 	return nil
 }

@@ -2,6 +2,7 @@ package slurm
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -26,7 +27,10 @@ type fakeSlurm struct {
 	t    *testing.T
 	fate func(sub, index int) string
 
-	mu    sync.Mutex
+	mu sync.Mutex
+	// hold keeps tasks PENDING (the node does nothing) while true.
+	hold  bool
+	polls int
 	subs  int
 	tasks []*fakeTask
 	calls map[string]int
@@ -80,9 +84,14 @@ func (f *fakeSlurm) Run(ctx context.Context, c Cmd) (Output, error) {
 		// As Slurm answers without accounting (localhost notes §4).
 		return Output{ExitCode: 1, Stderr: []byte("sacct: error: Slurm accounting storage is disabled\n")}, nil
 	case "squeue":
+		f.polls++
 		var b strings.Builder
 		for _, t := range f.tasks {
-			if t.state == "PENDING" {
+			switch {
+			case t.state == "PENDING" && !f.hold:
+				// It starts; the next listing shows its end.
+				t.state = "RUNNING"
+			case t.state == "RUNNING":
 				// The task runs now and ends with its fate.
 				t.state = t.fate
 				switch t.fate {
@@ -314,5 +323,98 @@ func TestDecodeConfig_Defaults(t *testing.T) {
 	}
 	if c.Grace() != 3*time.Minute {
 		t.Errorf("grace %s, want 3 poll intervals (3m)", c.Grace())
+	}
+}
+
+func (f *fakeSlurm) locked(fn func()) {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	fn()
+}
+
+// newFakeQueue returns a queue for spec that talks to fake.
+func newFakeQueue(t *testing.T, spec *planner.Spec, fake *fakeSlurm) *Queue {
+	t.Helper()
+	q, err := NewQueue(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	q.Client = mustClient(t, Slurm(), fake)
+	q.Binary = "/nonexistent/wellscan"
+	q.Gather = 20 * time.Millisecond
+	return q
+}
+
+func TestQueue_Run_InterruptedThenAdopted(t *testing.T) {
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "scan.toml"), []byte(fakeSpec), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	spec, err := planner.Load(filepath.Join(dir, "scan.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	backend, err := model.New(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fake := &fakeSlurm{t: t, fate: func(int, int) string { return "COMPLETED" }, hold: true}
+	runOnce := func(ctx context.Context) (*Queue, error) {
+		st, err := runner.OpenScan(dir, spec, runner.OpenOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer st.Close()
+		q := newFakeQueue(t, spec, fake)
+		_, err = (&runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: q}).Run(ctx)
+		return q, err
+	}
+
+	// Run 1 submits, polls while every task waits, and is interrupted.
+	ctx, cancel := context.WithCancel(t.Context())
+	done := make(chan error, 1)
+	go func() { _, err := runOnce(ctx); done <- err }()
+	deadline := time.Now().Add(10 * time.Second)
+	for {
+		var polls int
+		fake.locked(func() { polls = fake.polls })
+		if polls >= 3 {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatal("run 1 did not poll within 10 s")
+		}
+		time.Sleep(10 * time.Millisecond)
+	}
+	cancel()
+	if err := <-done; !errors.Is(err, context.Canceled) {
+		t.Fatalf("run 1: %v, want an error wrapping context.Canceled", err)
+	}
+
+	// Run 2 finds the waiting tasks by their token and adopts them.
+	fake.locked(func() { fake.hold = false })
+	q, err := runOnce(t.Context())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if fake.subs != 1 {
+		t.Errorf("%d submissions, want 1: the second run must adopt, not resubmit", fake.subs)
+	}
+	if s := q.Stats(); s.Adopted != 4 || s.Submissions != 0 {
+		t.Errorf("run 2 stats %+v, want 4 adopted tasks and no submission", s)
+	}
+	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer st.Close()
+	recs, err := st.Points()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range recs {
+		if r.State != runner.Done || r.Attempts != 1 {
+			t.Errorf("%s: %s after %d attempts, want done after 1", r.Key, r.State, r.Attempts)
+		}
 	}
 }
