@@ -72,6 +72,9 @@ func (n NodeTask) Run(ctx context.Context) error {
 		return err
 	}
 	fp := runner.SpecFingerprint(spec)
+	if meta.Fingerprint != "" && meta.Fingerprint != fp {
+		return fmt.Errorf("slurm: %s changed the molecule, coordinates or [engine] since this job was submitted; its results would not belong to the scan", spec.File())
+	}
 	threads := spec.Queue.Threads
 	if threads == 0 {
 		threads, _ = strconv.Atoi(os.Getenv("SLURM_CPUS_PER_TASK"))

@@ -36,6 +36,9 @@ const JobsDir = "jobs"
 type JobMeta struct {
 	Token   string `json:"token"`
 	ScanDir string `json:"scan_dir"`
+	// Fingerprint is the spec fingerprint at submission; a node refuses to
+	// compute when scan.toml changed the energy-defining settings since.
+	Fingerprint string `json:"fingerprint"`
 	// Attempts maps point key to the attempt number the node writes into
 	// its result file.
 	Attempts map[string]int `json:"attempts"`
@@ -467,7 +470,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 	token := fmt.Sprintf("%s-%s-%d", scan8, strconv.FormatInt(r.now().UnixMilli(), 36), r.seq)
 	jobDir := filepath.Join(r.scanDir, JobsDir, token)
 	m := &Manifest{First: Slurm().FirstIndex}
-	meta := JobMeta{Token: token, ScanDir: r.scanDir, Attempts: map[string]int{}}
+	meta := JobMeta{Token: token, ScanDir: r.scanDir, Fingerprint: r.fp, Attempts: map[string]int{}}
 	for i := 0; i < len(ts); i += k {
 		var keys []string
 		for _, t := range ts[i:min(i+k, len(ts))] {
