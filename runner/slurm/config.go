@@ -23,7 +23,7 @@ type Config struct {
 	CPUsPerTask int `toml:"cpus_per_task"`
 	MemoryMB    int `toml:"memory_mb"`
 	// PointsPerTask is how many points one array task computes in turn;
-	// 0 means DefaultPointsPerTask.
+	// 0 means sized by [PackSize] from measured point times.
 	PointsPerTask int `toml:"points_per_task"`
 	// Throttle caps the array tasks running at once (%N); 0 means
 	// DefaultThrottle.

@@ -61,7 +61,8 @@ type QueueStats struct {
 //
 // Each batch of tasks the round loop hands over (tasks arriving within
 // Gather of each other) becomes one array (split at MaxArraySize) whose
-// tasks each compute Config.PointsPerTask points in turn. The queue polls
+// tasks each compute [PackSize] points in turn (Config.PointsPerTask when
+// set, else sized from the point times measured so far). The queue polls
 // with one batched status command per cycle, hands every point whose
 // result file appears back as a Completion, and turns tasks that ended
 // without a result into failures by class:
@@ -131,7 +132,8 @@ func NewQueue(spec *planner.Spec) (*Queue, error) {
 // Name implements runner.Queue.
 func (q *Queue) Name() string { return "slurm" }
 
-// Slots implements runner.Queue: the array throttle times the packing.
+// Slots implements runner.Queue: the array throttle times the packing
+// (the configured one, or the default before anything is measured).
 func (q *Queue) Slots() int {
 	return q.throttle() * q.pointsPerTask()
 }
@@ -196,6 +198,7 @@ type run struct {
 	batch     []runner.Task
 	seq       int
 	policy    PollPolicy
+	measured  []time.Duration // compute time of points finished in this run
 }
 
 // Run implements runner.Queue.
@@ -455,7 +458,7 @@ func (r *run) submitBatch() {
 		}
 		return batch[a].Key < batch[b].Key
 	})
-	k := r.q.pointsPerTask()
+	k := PackSize(r.q.Config.PointsPerTask, r.measured, r.resources(batch).Time)
 	per := k * r.maxArr
 	for start := 0; start < len(batch); start += per {
 		r.submitArray(batch[start:min(start+per, len(batch))], k)
@@ -584,6 +587,9 @@ func (r *run) cycle() bool {
 				continue // not (or no longer) ours in this task
 			}
 			if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && (res.Status == "done" || res.Attempt == p.task.Attempt) {
+				if res.Status == "done" && res.Finished.After(res.Started) {
+					r.measured = append(r.measured, res.Finished.Sub(res.Started))
+				}
 				delete(r.pending, k)
 				r.out <- runner.Completion{Task: p.task, Result: res}
 				changed = true
@@ -679,4 +685,39 @@ func (q *Queue) DetachNote() string {
 		return "detached from Slurm; no job was submitted"
 	}
 	return fmt.Sprintf("detached from Slurm: the scan's jobs (name %s) keep running and a later run picks up their results; cancel them with: scancel --me --name=%s", name, name)
+}
+
+// Packing from measured point times (lessons memo §2; the numbers are
+// ours): a task should run about packTarget, at most packMax points, and
+// k·p90 must stay under packHeadroom of the walltime.
+const (
+	packTarget   = 30 * time.Minute
+	packMax      = 64
+	packHeadroom = 0.8
+	packSamples  = 3
+)
+
+// PackSize returns the points per array task: configured (> 0) wins;
+// with at least three measured point durations, ceil(30 min / p50)
+// clamped to [1, 64] and lowered until k·p90 ≤ 0.8·limit (limit 0: no
+// walltime known); otherwise DefaultPointsPerTask.
+func PackSize(configured int, measured []time.Duration, limit time.Duration) int {
+	if configured > 0 {
+		return configured
+	}
+	if len(measured) < packSamples {
+		return DefaultPointsPerTask
+	}
+	d := append([]time.Duration(nil), measured...)
+	sort.Slice(d, func(a, b int) bool { return d[a] < d[b] })
+	p50 := max(d[len(d)/2], time.Millisecond)
+	p90 := max(d[min(len(d)-1, len(d)*9/10)], time.Millisecond)
+	k := int((packTarget + p50 - 1) / p50)
+	k = min(max(k, 1), packMax)
+	if limit > 0 {
+		for k > 1 && float64(time.Duration(k)*p90) > packHeadroom*float64(limit) {
+			k--
+		}
+	}
+	return k
 }

@@ -418,3 +418,34 @@ func TestQueue_Run_InterruptedThenAdopted(t *testing.T) {
 		}
 	}
 }
+
+func TestPackSize_Cases(t *testing.T) {
+	ms := func(v ...int) []time.Duration {
+		var d []time.Duration
+		for _, x := range v {
+			d = append(d, time.Duration(x)*time.Minute)
+		}
+		return d
+	}
+	tests := []struct {
+		name       string
+		configured int
+		measured   []time.Duration
+		limit      time.Duration
+		want       int
+	}{
+		{"configured wins", 5, ms(1, 1, 1), time.Hour, 5},
+		{"nothing measured", 0, ms(1, 1), time.Hour, DefaultPointsPerTask},
+		{"30 min of 4-min points", 0, ms(4, 4, 4), 0, 8},                   // ceil(30/4)
+		{"long points: one per task", 0, ms(50, 60, 70), 0, 1},             // ceil(30/60) = 1
+		{"fast points: capped", 0, ms(0, 0, 0), 0, packMax},                // 1 ms floor → cap
+		{"walltime bounds k·p90", 0, ms(2, 2, 2, 10), 40 * time.Minute, 3}, // 15 by p50, 3·10 ≤ 32
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := PackSize(tc.configured, tc.measured, tc.limit); got != tc.want {
+				t.Errorf("PackSize = %d, want %d", got, tc.want)
+			}
+		})
+	}
+}
