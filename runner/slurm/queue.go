@@ -225,7 +225,6 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 	var gatherC, pollC <-chan time.Time
 	var firstInBatch time.Time
 	var wait time.Duration
-	var runErr error
 	armPoll := func(changed bool) {
 		if pollT != nil {
 			return
@@ -244,7 +243,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 	}()
 	for {
 		if in == nil && len(r.pending) == 0 && len(r.batch) == 0 {
-			return runErr
+			return nil
 		}
 		select {
 		case t, ok := <-in:
@@ -253,7 +252,9 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 				continue
 			}
 			if err := r.arrive(t); err != nil {
-				runErr = errors.Join(runErr, err)
+				// Nothing was submitted for t: it fails (and is retried
+				// while attempts last); the run goes on.
+				out <- runner.Completion{Task: t, Result: r.failure(t, "submit", false, err.Error())}
 			}
 			if len(r.pending) > 0 {
 				armPoll(true)
@@ -300,7 +301,12 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 			}
 			r.batch = nil
 			for _, k := range sortedKeys(r.pending) {
-				out <- runner.Completion{Task: r.pending[k].task, Interrupted: true}
+				t := r.pending[k].task
+				if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && res.Status == "done" {
+					out <- runner.Completion{Task: t, Result: res} // finished meanwhile
+					continue
+				}
+				out <- runner.Completion{Task: t, Interrupted: true}
 			}
 			r.pending = nil
 			if in != nil {
@@ -308,7 +314,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 					out <- runner.Completion{Task: t, Interrupted: true}
 				}
 			}
-			return runErr
+			return nil
 		}
 	}
 }
@@ -331,16 +337,15 @@ func (r *run) arrive(t runner.Task) error {
 		if err != nil {
 			return fmt.Errorf("slurm: scan directory of %s: %w", t.Dir, err)
 		}
-		r.scanDir = dir
-		r.jobName = JobNameFor(dir)
-		r.q.mu.Lock()
-		r.q.jobName = r.jobName
-		r.q.mu.Unlock()
-		p, err := NewPoller(r.q.Client, r.jobName, r.now)
+		name := JobNameFor(dir)
+		p, err := NewPoller(r.q.Client, name, r.now)
 		if err != nil {
 			return err
 		}
-		r.poller = p
+		r.scanDir, r.jobName, r.poller = dir, name, p
+		r.q.mu.Lock()
+		r.q.jobName = name
+		r.q.mu.Unlock()
 		if lim, err := ReadSlurmLimits(r.ctx, r.q.Client.runner); err == nil {
 			r.maxArr = min(1000, max(1, lim.MaxArraySize-1))
 			r.policy = r.policy.WithoutAccounting(lim.MinJobAge)
