@@ -449,3 +449,33 @@ func TestPackSize_Cases(t *testing.T) {
 		})
 	}
 }
+
+// The example spec in README.md is complete and valid.
+func TestDecodeConfig_READMEExample(t *testing.T) {
+	b, err := os.ReadFile("README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, rest, ok := strings.Cut(string(b), "```toml\n")
+	body, _, ok2 := strings.Cut(rest, "```")
+	if !ok || !ok2 {
+		t.Fatal("README.md has no ```toml block")
+	}
+	spec, err := planner.Decode([]byte(body), "README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := DecodeConfig(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if spec.Queue.Kind != "slurm" || c.Partition != "short" || c.PointsPerTask != 8 || len(c.Setup) != 2 || c.Time.Duration != 30*time.Minute {
+		t.Errorf("decoded %+v", c)
+	}
+	// The script it renders passes the profile's checks.
+	ss := ScriptSpec{JobName: "ws-00000000", Token: "t-1", Tasks: 2, JobDir: "/scratch/scan/jobs/t-1",
+		Worker: []string{c.Binary, NodeSubcommand}, Resources: c.Resources()}
+	if _, err := Render(Slurm(), ss); err != nil {
+		t.Errorf("render: %v", err)
+	}
+}
