@@ -516,19 +516,48 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 // result file. A point whose result file already says done is not
 // computed again.
 func (r *Runner) work(ctx context.Context, t Task) Completion {
-	if res, ok := ReadResult(r.Dir, t.Key, r.fp); ok && res.Status == "done" {
+	return pointComputer{spec: r.Spec, dir: r.Dir, fp: r.fp, backend: r.Backend, now: r.Now}.work(ctx, t)
+}
+
+// ComputePoint computes task t of the scan in dir with backend b, exactly
+// as a run's own workers do, and writes points/<key>/result.json (temporary
+// file, fsync, rename). A point whose result file already says done is not
+// computed again (Reused is set). It never opens the store, so the
+// compute-node side of a batch queue can call it. On cancellation it
+// returns a Completion with Interrupted set and writes nothing.
+func ComputePoint(ctx context.Context, spec *planner.Spec, dir string, b Backend, t Task) Completion {
+	return pointComputer{spec: spec, dir: dir, fp: SpecFingerprint(spec), backend: b, now: time.Now}.work(ctx, t)
+}
+
+// SpecFingerprint is the fingerprint text result files carry for spec
+// (ReadResult's fingerprint argument).
+func SpecFingerprint(spec *planner.Spec) string {
+	fp, _ := json.Marshal(spec.Fingerprint())
+	return string(fp)
+}
+
+// pointComputer runs one point in process and writes its result file.
+type pointComputer struct {
+	spec    *planner.Spec
+	dir, fp string
+	backend Backend
+	now     func() time.Time
+}
+
+func (r pointComputer) work(ctx context.Context, t Task) Completion {
+	if res, ok := ReadResult(r.dir, t.Key, r.fp); ok && res.Status == "done" {
 		return Completion{Task: t, Result: res, Reused: true}
 	}
 	if err := os.MkdirAll(t.Dir, 0o700); err != nil {
-		return Completion{Task: t, Result: r.failure(t, r.Now(), "io", err)}
+		return Completion{Task: t, Result: r.failure(t, r.now(), "io", err)}
 	}
 	cctx := ctx
-	if to := r.Spec.Queue.Timeout.Duration; to > 0 {
+	if to := r.spec.Queue.Timeout.Duration; to > 0 {
 		var cancel context.CancelFunc
 		cctx, cancel = context.WithTimeout(ctx, to)
 		defer cancel()
 	}
-	start := r.Now()
+	start := r.now()
 	out, err := r.computeSafely(cctx, t)
 	if ctx.Err() != nil {
 		return Completion{Task: t, Interrupted: true}
@@ -536,13 +565,13 @@ func (r *Runner) work(ctx context.Context, t Task) Completion {
 	var res Result
 	switch {
 	case err != nil && errors.Is(cctx.Err(), context.DeadlineExceeded):
-		res = r.failure(t, start, "timeout", fmt.Errorf("no result within %s: %w", r.Spec.Queue.Timeout.Duration, err))
+		res = r.failure(t, start, "timeout", fmt.Errorf("no result within %s: %w", r.spec.Queue.Timeout.Duration, err))
 	case err != nil:
 		res = r.failure(t, start, "error", err)
 	default:
 		res = r.resultOf(t, start, out)
 	}
-	if err := WriteResult(r.Dir, res); err != nil {
+	if err := WriteResult(r.dir, res); err != nil {
 		return Completion{Task: t, Result: r.failure(t, start, "io", err)}
 	}
 	return Completion{Task: t, Result: res}
@@ -550,31 +579,31 @@ func (r *Runner) work(ctx context.Context, t Task) Completion {
 
 // computeSafely turns a backend panic into an error for that point; a
 // runtime error is a bug and panics on.
-func (r *Runner) computeSafely(ctx context.Context, t Task) (out Outcome, err error) {
+func (r pointComputer) computeSafely(ctx context.Context, t Task) (out Outcome, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			if re, ok := p.(runtime.Error); ok {
 				panic(re)
 			}
-			err = fmt.Errorf("runner: backend %s panicked: %v", r.Backend.Name(), p)
+			err = fmt.Errorf("runner: backend %s panicked: %v", r.backend.Name(), p)
 		}
 	}()
-	return r.Backend.Compute(ctx, t)
+	return r.backend.Compute(ctx, t)
 }
 
-func (r *Runner) base(t Task, start time.Time) Result {
+func (r pointComputer) base(t Task, start time.Time) Result {
 	host, _ := os.Hostname()
-	return Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Backend: r.Backend.Name(),
-		Host: host, PID: os.Getpid(), Started: start, Finished: r.Now()}
+	return Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Backend: r.backend.Name(),
+		Host: host, PID: os.Getpid(), Started: start, Finished: r.now()}
 }
 
-func (r *Runner) failure(t Task, start time.Time, class string, err error) Result {
+func (r pointComputer) failure(t Task, start time.Time, class string, err error) Result {
 	res := r.base(t, start)
 	res.Status, res.Class, res.Error = "failed", class, err.Error()
 	return res
 }
 
-func (r *Runner) resultOf(t Task, start time.Time, o Outcome) Result {
+func (r pointComputer) resultOf(t Task, start time.Time, o Outcome) Result {
 	res := r.base(t, start)
 	res.Energy, res.Converged, res.Iterations, res.SSquared, res.Extra = o.Energy, o.Converged, o.Iterations, o.SSquared, o.Extra
 	if o.OrbitalsPath != "" {
@@ -593,7 +622,7 @@ func (r *Runner) resultOf(t Task, start time.Time, o Outcome) Result {
 		if res.Class == "" {
 			res.Class = "not-converged"
 		}
-		res.Error = fmt.Sprintf("backend %s: %s", r.Backend.Name(), res.Class)
+		res.Error = fmt.Sprintf("backend %s: %s", r.backend.Name(), res.Class)
 		if o.Detail != "" {
 			res.Error += ": " + o.Detail
 		}

@@ -9,6 +9,7 @@ import (
 	"wellscan/runner/hf"
 	"wellscan/runner/local"
 	"wellscan/runner/model"
+	"wellscan/runner/slurm"
 )
 
 // newBackend builds the backend a spec's [engine] asks for. It is the one
@@ -34,7 +35,7 @@ func newQueue(spec *planner.Spec, workers int) (runner.Queue, error) {
 		}
 		return local.New(workers), nil
 	case "slurm":
-		return nil, fmt.Errorf("%s: queue.kind = \"slurm\": the Slurm queue is not part of this build yet", spec.File())
+		return slurm.NewQueue(spec)
 	}
 	return nil, fmt.Errorf("%s: unknown queue kind %q", spec.File(), spec.Queue.Kind)
 }

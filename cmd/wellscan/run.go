@@ -111,6 +111,9 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 		err = fmt.Errorf("%w: %w", errSomePointsFailed, err)
 	case ctx.Err() != nil:
 		fmt.Fprintf(a.stderr, "wellscan: interrupted; the store is intact, rerun `wellscan run %s` to resume\n", dir)
+		if d, ok := queue.(interface{ DetachNote() string }); ok {
+			fmt.Fprintf(a.stderr, "wellscan: %s\n", d.DetachNote())
+		}
 	}
 	return &sum, err
 }

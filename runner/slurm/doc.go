@@ -36,8 +36,16 @@
 //     halves of the result-file protocol: a result file decides success,
 //     whatever the scheduler says.
 //
-// This package does not import package runner: the round loop adapts these
-// types to its own Queue interface.
+// On top of these, [Queue] is the round loop's [runner.Queue] for
+// `[queue] kind = "slurm"`: it packs the points it receives into job
+// arrays ([Config.PointsPerTask] per task), writes jobs/<token>/ (script,
+// manifest, job.json) before sbatch runs, polls with one batched status
+// command per cycle, hands back every point whose result file appears,
+// and turns tasks that ended without a result into completions by class.
+// [NodeTask] is the compute-node side that the job scripts run (through
+// the `wellscan node-task` subcommand): it computes a task's points with
+// [runner.ComputePoint] and never opens the store. [DecodeConfig] reads
+// [queue.slurm].
 //
 // # Units
 //
@@ -58,4 +66,6 @@
 //
 // [Client] and [Profile] values are safe for concurrent use once built. A
 // [Poller] keeps state between cycles and must be used by one goroutine.
+// [Queue.Run] runs in one goroutine (no goroutines of its own); call it
+// once at a time per Queue. [Queue.Stats] may be called at any time.
 package slurm

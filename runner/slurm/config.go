@@ -1,0 +1,143 @@
+package slurm
+
+import (
+	"fmt"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"wellscan/planner"
+)
+
+// Config is the [queue.slurm] table of a scan spec. Every key is optional.
+type Config struct {
+	// Partition, Account and QOS are passed to Slurm as they are, after
+	// [ValidateValue].
+	Partition string `toml:"partition"`
+	Account   string `toml:"account"`
+	QOS       string `toml:"qos"`
+	// Time is the walltime of one array task ("30m", "2h"); 0 leaves the
+	// partition default (and a TIMEOUT cannot then be retried with more).
+	Time planner.Duration `toml:"time"`
+	// CPUsPerTask and MemoryMB (MiB per node) of each array task.
+	CPUsPerTask int `toml:"cpus_per_task"`
+	MemoryMB    int `toml:"memory_mb"`
+	// PointsPerTask is how many points one array task computes in turn;
+	// 0 means sized by [PackSize] from measured point times.
+	PointsPerTask int `toml:"points_per_task"`
+	// Throttle caps the array tasks running at once (%N); 0 means
+	// DefaultThrottle.
+	Throttle int `toml:"throttle"`
+	// Setup lines run in the job script before the worker, e.g.
+	// "module load gcc/12".
+	Setup []string `toml:"setup"`
+	// Extra directives in Slurm's own syntax, e.g. "--constraint=avx2".
+	Extra []string `toml:"extra"`
+	// Binary is the wellscan executable as the compute nodes see it
+	// (absolute); "" means this process's own executable.
+	Binary string `toml:"binary"`
+	// Export is the value of --export; "" means NONE.
+	Export string `toml:"export"`
+	// PollInterval is the poll interval while tasks change (default 60 s;
+	// the first poll comes after min(30 s, PollInterval), the interval
+	// backs off ×1.5 up to 5× PollInterval, at most 300 s). Values below
+	// 15 s are refused unless FastPoll is set (tests, single-user nodes).
+	PollInterval planner.Duration `toml:"poll_interval"`
+	FastPoll     bool             `toml:"fast_poll"`
+	// LostAfter is the grace period before a task that left the queue, or
+	// ended, without a result for some point counts as lost; default 3 poll
+	// intervals.
+	LostAfter planner.Duration `toml:"lost_after"`
+}
+
+// DefaultPointsPerTask is the packing used when the spec gives none: a
+// task then runs several points, which keeps submissions per point at
+// 0.125 and spreads the job start-up cost (ours).
+const DefaultPointsPerTask = 8
+
+// fastPollFloor is the lowest poll interval even with fast_poll.
+const fastPollFloor = 100 * time.Millisecond
+
+// DecodeConfig decodes and checks [queue.slurm] of spec. Errors name the
+// spec file and the key.
+func DecodeConfig(spec *planner.Spec) (Config, error) {
+	var c Config
+	if spec.IsDefined("queue", "slurm") {
+		if err := spec.DecodePrimitive(spec.Queue.Slurm, "queue.slurm", &c); err != nil {
+			return Config{}, err
+		}
+	}
+	bad := func(key, format string, args ...any) error {
+		return fmt.Errorf("slurm: %s: queue.slurm.%s: %s", spec.File(), key, fmt.Sprintf(format, args...))
+	}
+	for key, v := range map[string]string{"partition": c.Partition, "account": c.Account, "qos": c.QOS, "export": c.Export} {
+		if v == "" {
+			continue
+		}
+		if err := ValidateValue(key, v); err != nil {
+			return Config{}, bad(key, "%v", strings.TrimPrefix(err.Error(), "slurm: "))
+		}
+	}
+	for key, v := range map[string]int{"cpus_per_task": c.CPUsPerTask, "memory_mb": c.MemoryMB, "points_per_task": c.PointsPerTask, "throttle": c.Throttle} {
+		if v < 0 {
+			return Config{}, bad(key, "must not be negative, got %d", v)
+		}
+	}
+	if c.PointsPerTask > 10000 {
+		return Config{}, bad("points_per_task", "%d is more than 10000", c.PointsPerTask)
+	}
+	for i, l := range c.Setup {
+		if strings.ContainsAny(l, "\n\r\x00") {
+			return Config{}, bad("setup", "line %d contains a newline; give one line per list entry", i+1)
+		}
+	}
+	p := Slurm()
+	for _, x := range c.Extra {
+		if err := p.CheckExtra(x); err != nil {
+			return Config{}, bad("extra", "%v", strings.TrimPrefix(err.Error(), "slurm: "))
+		}
+	}
+	if c.Binary != "" && !filepath.IsAbs(c.Binary) {
+		return Config{}, bad("binary", "%q is not an absolute path", c.Binary)
+	}
+	if iv := c.PollInterval.Duration; iv > 0 {
+		floor := DefaultPollPolicy().Floor
+		if c.FastPoll {
+			floor = fastPollFloor
+		}
+		if iv < floor {
+			return Config{}, bad("poll_interval", "%s is below %s (set fast_poll = true only on a scheduler you own)", iv, floor)
+		}
+	}
+	return c, nil
+}
+
+// Resources returns the per-task resources the config asks for.
+func (c Config) Resources() Resources {
+	return Resources{Partition: c.Partition, Account: c.Account, QOS: c.QOS, Time: c.Time.Duration,
+		CPUsPerTask: c.CPUsPerTask, MemMB: c.MemoryMB, Export: c.Export, Extra: c.Extra, Setup: c.Setup}
+}
+
+// Policy returns the poll policy: the lessons memo defaults, or ones
+// scaled from PollInterval.
+func (c Config) Policy() PollPolicy {
+	p := DefaultPollPolicy()
+	if iv := c.PollInterval.Duration; iv > 0 {
+		p.Interval = iv
+		p.FirstDelay = min(p.FirstDelay, iv)
+		p.Max = min(5*iv, 300*time.Second)
+		p.Max = max(p.Max, iv)
+		if c.FastPoll {
+			p.Floor = fastPollFloor
+		}
+	}
+	return p
+}
+
+// Grace returns LostAfter, or three poll intervals.
+func (c Config) Grace() time.Duration {
+	if c.LostAfter.Duration > 0 {
+		return c.LostAfter.Duration
+	}
+	return 3 * c.Policy().Interval
+}

@@ -1,0 +1,728 @@
+package slurm
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"wellscan/planner"
+	"wellscan/runner"
+)
+
+// NodeSubcommand is the wellscan subcommand a job script runs on the
+// compute node; the script appends --job-dir DIR --task N.
+const NodeSubcommand = "node-task"
+
+// JobMetaFile is written into jobs/<token>/ before sbatch runs: the
+// submission token, the scan directory and each point's attempt number.
+const JobMetaFile = "job.json"
+
+// JobIDFile holds the job id once sbatch has answered.
+const JobIDFile = "jobid"
+
+// JobsDir is the directory of a scan that holds one directory per
+// submission, named by its token.
+const JobsDir = "jobs"
+
+// JobMeta is the content of jobs/<token>/job.json.
+type JobMeta struct {
+	Token   string `json:"token"`
+	ScanDir string `json:"scan_dir"`
+	// Fingerprint is the spec fingerprint at submission; a node refuses to
+	// compute when scan.toml changed the energy-defining settings since.
+	Fingerprint string `json:"fingerprint"`
+	// Attempts maps point key to the attempt number the node writes into
+	// its result file.
+	Attempts map[string]int `json:"attempts"`
+}
+
+// QueueStats counts what a Queue did; read it after Run returns (or at
+// any time: it is guarded).
+type QueueStats struct {
+	Submissions  int // sbatch calls that created a job
+	Adopted      int // array tasks taken over from an earlier run
+	Points       int // points submitted (not counting adopted or reused ones)
+	Cycles       int // poll cycles
+	Commands     int // scheduler commands run by poll cycles
+	MaxPerCycle  int // most commands in one cycle
+	InfraRetries int // points sent back without using an attempt
+}
+
+// Queue runs a scan's points as Slurm job arrays. It implements
+// [runner.Queue]. It never opens the scan's store: the result files decide.
+//
+// Each batch of tasks the round loop hands over (tasks arriving within
+// Gather of each other) becomes one array (split at MaxArraySize) whose
+// tasks each compute [PackSize] points in turn (Config.PointsPerTask when
+// set, else sized from the point times measured so far). The queue polls
+// with one batched status command per cycle, hands every point whose
+// result file appears back as a Completion, and turns tasks that ended
+// without a result into failures by class:
+//
+//   - NODE_FAIL, BOOT_FAIL, PREEMPTED, lost (vanished, or COMPLETED without
+//     a result, after the grace period): the point goes back to planned
+//     without using an attempt (a Completion with Interrupted set), at most
+//     RetryPolicy.Infra times per point and run; after that a failure of
+//     class "lost" that uses an attempt.
+//   - TIMEOUT / OUT_OF_MEMORY: with escalation budget left, back to planned
+//     without using an attempt, and the point's later tasks ask for more
+//     time / memory; otherwise a permanent failure.
+//   - FAILED, DEADLINE: a failure of class "task-failed" (uses an attempt).
+//   - CANCELLED: a permanent failure of class "cancelled" (not retried).
+//
+// On cancellation it stops polling, leaves the jobs running and returns
+// every point in flight as interrupted. A later Run adopts the live tasks
+// of earlier submissions (found by their token in one status listing)
+// instead of submitting their points again.
+type Queue struct {
+	Spec   *planner.Spec
+	Config Config
+	Client *Client
+	// Binary is the wellscan executable for the job scripts (absolute).
+	Binary string
+	// Policy is the poll schedule; Grace the lost grace period.
+	Policy PollPolicy
+	Grace  time.Duration
+	Retry  RetryPolicy
+	// Gather is how long the queue waits for more tasks before it submits
+	// a batch; 0 means 200 ms.
+	Gather time.Duration
+	// Now is the clock; nil means time.Now.
+	Now func() time.Time
+
+	mu      sync.Mutex
+	stats   QueueStats
+	jobName string
+}
+
+// NewQueue builds the queue of spec: [queue.slurm] decoded, the Slurm
+// profile, scheduler commands run with os/exec.
+func NewQueue(spec *planner.Spec) (*Queue, error) {
+	cfg, err := DecodeConfig(spec)
+	if err != nil {
+		return nil, err
+	}
+	bin := cfg.Binary
+	if bin == "" {
+		exe, err := os.Executable()
+		if err != nil {
+			return nil, fmt.Errorf("slurm: find the wellscan binary for the job scripts: %w (set queue.slurm.binary)", err)
+		}
+		bin, err = filepath.Abs(exe)
+		if err != nil {
+			return nil, fmt.Errorf("slurm: %w", err)
+		}
+	}
+	client, err := NewClient(Slurm(), ExecRunner{})
+	if err != nil {
+		return nil, err
+	}
+	retry := DefaultRetryPolicy()
+	return &Queue{Spec: spec, Config: cfg, Client: client, Binary: bin, Policy: cfg.Policy(), Grace: cfg.Grace(), Retry: retry}, nil
+}
+
+// Name implements runner.Queue.
+func (q *Queue) Name() string { return "slurm" }
+
+// Slots implements runner.Queue: the array throttle times the packing
+// (the configured one, or the default before anything is measured).
+func (q *Queue) Slots() int {
+	return q.throttle() * q.pointsPerTask()
+}
+
+func (q *Queue) throttle() int {
+	if q.Config.Throttle > 0 {
+		return q.Config.Throttle
+	}
+	return DefaultThrottle
+}
+
+func (q *Queue) pointsPerTask() int {
+	if q.Config.PointsPerTask > 0 {
+		return q.Config.PointsPerTask
+	}
+	return DefaultPointsPerTask
+}
+
+// Stats returns a copy of the counters.
+func (q *Queue) Stats() QueueStats {
+	q.mu.Lock()
+	defer q.mu.Unlock()
+	return q.stats
+}
+
+func (q *Queue) count(f func(*QueueStats)) {
+	q.mu.Lock()
+	f(&q.stats)
+	q.mu.Unlock()
+}
+
+// inflight is one point handed to Slurm.
+type inflight struct {
+	task runner.Task
+	ref  TaskRef
+}
+
+// keyState is what one Run remembers per point across its tries.
+type keyState struct {
+	budget Budget
+	res    Resources // escalated resources; zero: the config's
+}
+
+// run is the state of one Queue.Run.
+type run struct {
+	q       *Queue
+	ctx     context.Context
+	out     chan<- runner.Completion
+	now     func() time.Time
+	scanDir string
+	fp      string
+	jobName string
+	poller  *Poller
+	maxArr  int
+
+	listed    bool
+	adoptable map[string]TaskRef // key → live task of an earlier submission
+	byRef     map[TaskRef][]string
+	pending   map[string]*inflight
+	ended     map[TaskRef]time.Time // when a task was first seen final (or lost)
+	keys      map[string]*keyState
+	batch     []runner.Task
+	seq       int
+	policy    PollPolicy
+	measured  []time.Duration // compute time of points finished in this run
+}
+
+// Run implements runner.Queue.
+func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task, out chan<- runner.Completion) error {
+	if q.Spec == nil || q.Client == nil || q.Binary == "" {
+		return errors.New("slurm: Queue needs Spec, Client and Binary (use NewQueue)")
+	}
+	if err := q.Policy.Validate(); err != nil {
+		return err
+	}
+	now := q.Now
+	if now == nil {
+		now = time.Now
+	}
+	gather := q.Gather
+	if gather == 0 {
+		gather = 200 * time.Millisecond
+	}
+	r := &run{q: q, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.Spec),
+		adoptable: map[string]TaskRef{}, byRef: map[TaskRef][]string{}, pending: map[string]*inflight{},
+		ended: map[TaskRef]time.Time{}, keys: map[string]*keyState{}, maxArr: 1000, policy: q.Policy}
+
+	var gatherT, pollT *time.Timer
+	var gatherC, pollC <-chan time.Time
+	var firstInBatch time.Time
+	var wait time.Duration
+	armPoll := func(changed bool) {
+		if pollT != nil {
+			return
+		}
+		wait = r.policy.Next(wait, changed)
+		pollT = time.NewTimer(wait)
+		pollC = pollT.C
+	}
+	defer func() {
+		if gatherT != nil {
+			gatherT.Stop()
+		}
+		if pollT != nil {
+			pollT.Stop()
+		}
+	}()
+	for {
+		if in == nil && len(r.pending) == 0 && len(r.batch) == 0 {
+			return nil
+		}
+		select {
+		case t, ok := <-in:
+			if !ok {
+				in = nil
+				continue
+			}
+			if err := r.arrive(t); err != nil {
+				// Nothing was submitted for t: it fails (and is retried
+				// while attempts last); the run goes on.
+				out <- runner.Completion{Task: t, Result: r.failure(t, "submit", false, err.Error())}
+			}
+			if len(r.pending) > 0 {
+				armPoll(true)
+			}
+			if len(r.batch) == 0 {
+				continue
+			}
+			if len(r.batch) == 1 {
+				firstInBatch = now()
+			}
+			d := gather
+			if left := 5*gather - now().Sub(firstInBatch); left < d {
+				d = max(left, 0)
+			}
+			if gatherT != nil {
+				gatherT.Stop()
+			}
+			gatherT = time.NewTimer(d)
+			gatherC = gatherT.C
+		case <-gatherC:
+			gatherT, gatherC = nil, nil
+			r.submitBatch()
+			if len(r.pending) > 0 {
+				if pollT != nil {
+					pollT.Stop()
+					pollT, pollC = nil, nil
+				}
+				wait = 0 // first poll after a submit
+				armPoll(true)
+			}
+		case <-pollC:
+			pollT, pollC = nil, nil
+			changed := r.cycle()
+			if len(r.pending) > 0 {
+				armPoll(changed)
+			} else {
+				wait = 0
+			}
+		case <-ctx.Done():
+			// Leave the jobs running; every point in flight returns to
+			// planned and a later run adopts its task.
+			for _, t := range r.batch {
+				out <- runner.Completion{Task: t, Interrupted: true}
+			}
+			r.batch = nil
+			for _, k := range sortedKeys(r.pending) {
+				t := r.pending[k].task
+				if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && res.Status == "done" {
+					out <- runner.Completion{Task: t, Result: res} // finished meanwhile
+					continue
+				}
+				out <- runner.Completion{Task: t, Interrupted: true}
+			}
+			r.pending = nil
+			if in != nil {
+				for t := range in {
+					out <- runner.Completion{Task: t, Interrupted: true}
+				}
+			}
+			return nil
+		}
+	}
+}
+
+func sortedKeys[V any](m map[string]V) []string {
+	ks := make([]string, 0, len(m))
+	for k := range m {
+		ks = append(ks, k)
+	}
+	sort.Strings(ks)
+	return ks
+}
+
+// arrive takes one task: a point that is already done is reused, one that
+// a live task of an earlier submission runs is adopted, the rest wait for
+// the next batch.
+func (r *run) arrive(t runner.Task) error {
+	if r.scanDir == "" {
+		dir, err := filepath.Abs(filepath.Dir(filepath.Dir(t.Dir)))
+		if err != nil {
+			return fmt.Errorf("slurm: scan directory of %s: %w", t.Dir, err)
+		}
+		name := JobNameFor(dir)
+		p, err := NewPoller(r.q.Client, name, r.now)
+		if err != nil {
+			return err
+		}
+		r.scanDir, r.jobName, r.poller = dir, name, p
+		r.q.mu.Lock()
+		r.q.jobName = name
+		r.q.mu.Unlock()
+		if lim, err := ReadSlurmLimits(r.ctx, r.q.Client.runner); err == nil {
+			r.maxArr = min(1000, max(1, lim.MaxArraySize-1))
+			r.policy = r.policy.WithoutAccounting(lim.MinJobAge)
+		}
+	}
+	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == "done" {
+		r.out <- runner.Completion{Task: t, Result: res, Reused: true}
+		return nil
+	}
+	if !r.listed {
+		r.listed = true
+		r.listLive()
+	}
+	if ref, ok := r.adoptable[t.Key]; ok {
+		delete(r.adoptable, t.Key)
+		r.pending[t.Key] = &inflight{task: t, ref: ref}
+		if len(r.byRef[ref]) == 0 {
+			r.q.count(func(s *QueueStats) { s.Adopted++ })
+		}
+		r.byRef[ref] = append(r.byRef[ref], t.Key)
+		return nil
+	}
+	// A task of an earlier run may have finished the point since the first
+	// look (for example while the listing ran).
+	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == "done" {
+		r.out <- runner.Completion{Task: t, Result: res, Reused: true}
+		return nil
+	}
+	r.batch = append(r.batch, t)
+	return nil
+}
+
+// listLive runs one status listing and records, for every live task of an
+// earlier submission of this scan, the points it will compute. A failed
+// listing adopts nothing (points are then submitted again; the node side
+// skips points already done, so at worst work is repeated).
+func (r *run) listLive() {
+	tasks, err := r.q.Client.Status(r.ctx, r.jobName)
+	if err != nil {
+		return
+	}
+	manifests := map[string]*Manifest{}
+	for _, t := range tasks {
+		c := Classify(t.State)
+		if c.Terminal() || c == ClassUnknown {
+			continue
+		}
+		tok, ok := t.Token()
+		if !ok || ValidateValue("token", tok) != nil {
+			continue
+		}
+		m, seen := manifests[tok]
+		if !seen {
+			m, _ = ReadManifest(filepath.Join(r.scanDir, JobsDir, tok))
+			manifests[tok] = m
+			if m != nil {
+				_ = os.WriteFile(filepath.Join(r.scanDir, JobsDir, tok, JobIDFile), []byte(t.Array+"\n"), 0o644)
+			}
+		}
+		if m == nil {
+			continue
+		}
+		idx := []int{t.Index}
+		if t.Index == NoTask {
+			idx = nil
+			for i := range m.Tasks {
+				idx = append(idx, m.First+i)
+			}
+		}
+		for _, i := range idx {
+			keys, err := m.Task(i)
+			if err != nil {
+				continue
+			}
+			ref := TaskRef{Array: t.Array, Index: i}
+			r.poller.Track(t.Array, i, 1, r.now().Add(-48*time.Hour))
+			for _, k := range keys {
+				r.adoptable[k] = ref
+			}
+		}
+	}
+}
+
+// resources returns the resources for a set of points: the config's, with
+// time and memory raised to the largest escalation among them.
+func (r *run) resources(ts []runner.Task) Resources {
+	res := r.q.Config.Resources()
+	for _, t := range ts {
+		if ks := r.keys[t.Key]; ks != nil {
+			res.Time = max(res.Time, ks.res.Time)
+			res.MemMB = max(res.MemMB, ks.res.MemMB)
+		}
+	}
+	return res
+}
+
+func (r *run) key(k string) *keyState {
+	ks := r.keys[k]
+	if ks == nil {
+		ks = &keyState{}
+		r.keys[k] = ks
+	}
+	return ks
+}
+
+// submitBatch packs the batch into arrays and submits them.
+func (r *run) submitBatch() {
+	batch := r.batch
+	r.batch = nil
+	sort.SliceStable(batch, func(a, b int) bool {
+		for i := range batch[a].Values {
+			if batch[a].Values[i] != batch[b].Values[i] {
+				return batch[a].Values[i] < batch[b].Values[i]
+			}
+		}
+		return batch[a].Key < batch[b].Key
+	})
+	k := PackSize(r.q.Config.PointsPerTask, r.measured, r.resources(batch).Time)
+	per := k * r.maxArr
+	for start := 0; start < len(batch); start += per {
+		r.submitArray(batch[start:min(start+per, len(batch))], k)
+	}
+}
+
+// submitArray writes jobs/<token>/ (manifest, script, job.json: the
+// token is on disk before sbatch runs) and submits one array.
+func (r *run) submitArray(ts []runner.Task, k int) {
+	r.seq++
+	scan8 := strings.TrimPrefix(r.jobName, "ws-")
+	token := fmt.Sprintf("%s-%s-%d", scan8, strconv.FormatInt(r.now().UnixMilli(), 36), r.seq)
+	jobDir := filepath.Join(r.scanDir, JobsDir, token)
+	m := &Manifest{First: Slurm().FirstIndex}
+	meta := JobMeta{Token: token, ScanDir: r.scanDir, Fingerprint: r.fp, Attempts: map[string]int{}}
+	for i := 0; i < len(ts); i += k {
+		var keys []string
+		for _, t := range ts[i:min(i+k, len(ts))] {
+			keys = append(keys, t.Key)
+			meta.Attempts[t.Key] = t.Attempt
+		}
+		m.Tasks = append(m.Tasks, keys)
+	}
+	res := r.resources(ts)
+	spec := ScriptSpec{JobName: r.jobName, Token: token, Tasks: len(m.Tasks), Throttle: r.q.throttle(),
+		JobDir: jobDir, Worker: []string{r.q.Binary, NodeSubcommand}, Resources: res}
+	fail := func(class string, permanent bool, err error) {
+		for _, t := range ts {
+			r.out <- runner.Completion{Task: t, Result: r.failure(t, class, permanent, err.Error())}
+		}
+	}
+	script, err := PrepareJob(Slurm(), spec, m)
+	if err != nil {
+		fail("submit", true, err)
+		return
+	}
+	mb, _ := json.MarshalIndent(meta, "", "  ")
+	if err := WriteResultAtomic(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
+		fail("io", false, err)
+		return
+	}
+	submitted := r.now()
+	id, err := r.q.Client.Submit(r.ctx, script)
+	if err != nil {
+		var se *SubmitError
+		if errors.As(err, &se) && se.Kind == SubmitRejected {
+			fail("submit-rejected", true, err)
+			return
+		}
+		if r.ctx.Err() != nil {
+			// Interrupted while sbatch ran: the job may exist; a later run
+			// finds it by its token and adopts it.
+			for _, t := range ts {
+				r.out <- runner.Completion{Task: t, Interrupted: true}
+			}
+			return
+		}
+		// The job may exist although sbatch did not say so: look for the
+		// token once before giving up on this submission.
+		id = r.findToken(token)
+		if id == "" {
+			fail("submit", false, err)
+			return
+		}
+	}
+	_ = os.WriteFile(filepath.Join(jobDir, JobIDFile), []byte(id+"\n"), 0o644)
+	r.poller.Track(id, m.First, len(m.Tasks), submitted)
+	for i, keys := range m.Tasks {
+		ref := TaskRef{Array: id, Index: m.First + i}
+		r.byRef[ref] = keys
+	}
+	for j, t := range ts {
+		r.pending[t.Key] = &inflight{task: t, ref: TaskRef{Array: id, Index: m.First + j/k}}
+	}
+	r.q.count(func(s *QueueStats) { s.Submissions++; s.Points += len(ts) })
+}
+
+func (r *run) findToken(token string) string {
+	tasks, err := r.q.Client.Status(r.ctx, r.jobName)
+	if err != nil {
+		return ""
+	}
+	for _, t := range tasks {
+		if tok, ok := t.Token(); ok && tok == token {
+			return t.Array
+		}
+	}
+	return ""
+}
+
+// failure is a failed Result for t made by the queue (not by the node).
+func (r *run) failure(t runner.Task, class string, permanent bool, msg string) runner.Result {
+	now := r.now()
+	host, _ := os.Hostname()
+	return runner.Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Status: "failed", Class: class,
+		Error: msg, Permanent: permanent, Backend: "slurm", Host: host, PID: os.Getpid(), Started: now, Finished: now}
+}
+
+// cycle runs one poll: one status command, then the result files of every
+// point in flight, then decisions for tasks that ended without results.
+// It reports whether anything changed.
+func (r *run) cycle() bool {
+	snap, err := r.poller.Poll(r.ctx)
+	r.q.count(func(s *QueueStats) {
+		s.Cycles++
+		s.Commands += snap.Commands
+		s.MaxPerCycle = max(s.MaxPerCycle, snap.Commands)
+	})
+	changed := snap.Changed
+	now := r.now()
+	refs := make([]TaskRef, 0, len(r.byRef))
+	for ref := range r.byRef {
+		refs = append(refs, ref)
+	}
+	sort.Slice(refs, func(a, b int) bool {
+		if refs[a].Array != refs[b].Array {
+			return refs[a].Array < refs[b].Array
+		}
+		return refs[a].Index < refs[b].Index
+	})
+	for _, ref := range refs {
+		var left []string
+		for _, k := range r.byRef[ref] {
+			p := r.pending[k]
+			if p == nil || p.ref != ref {
+				continue // not (or no longer) ours in this task
+			}
+			if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && (res.Status == "done" || res.Attempt == p.task.Attempt) {
+				if res.Status == "done" && res.Finished.After(res.Started) {
+					r.measured = append(r.measured, res.Finished.Sub(res.Started))
+				}
+				delete(r.pending, k)
+				r.out <- runner.Completion{Task: p.task, Result: res}
+				changed = true
+				continue
+			}
+			left = append(left, k)
+		}
+		if len(left) == 0 {
+			delete(r.byRef, ref)
+			delete(r.ended, ref)
+			r.poller.Forget(ref)
+			continue
+		}
+		r.byRef[ref] = left
+		if err != nil {
+			continue // no scheduler data this cycle: result files only
+		}
+		st, ok := snap.Tasks[ref]
+		if !ok {
+			continue
+		}
+		class := st.Class()
+		switch {
+		case class.Terminal():
+		case st.Lost(now, r.q.Grace):
+			class = ClassLost
+		default:
+			delete(r.ended, ref)
+			continue
+		}
+		since, seen := r.ended[ref]
+		if !seen {
+			r.ended[ref] = now
+			continue
+		}
+		if class != ClassLost && now.Sub(since) < r.q.Grace {
+			continue // results may not be visible yet on a shared filesystem
+		}
+		for _, k := range left {
+			p := r.pending[k]
+			delete(r.pending, k)
+			r.out <- r.decide(p.task, class, st, ref)
+		}
+		changed = true
+		delete(r.byRef, ref)
+		delete(r.ended, ref)
+		r.poller.Forget(ref)
+	}
+	return changed
+}
+
+// decide turns a task that ended without a result for t into a Completion.
+func (r *run) decide(t runner.Task, class Class, st TaskStatus, ref TaskRef) runner.Completion {
+	ks := r.key(t.Key)
+	res := r.resources([]runner.Task{t})
+	d := r.q.Retry.Decide(class, res, ks.budget)
+	logs := filepath.Join(r.scanDir, JobsDir, "*", fmt.Sprintf("slurm-%s_%d.err", ref.Array, ref.Index))
+	msg := fmt.Sprintf("array task %s ended %s without a result for this point (%s; log %s)", ref, nonEmpty(st.Native, class.String()), d.Reason, logs)
+	switch class {
+	case ClassInfra, ClassPreempted, ClassLost, ClassCompleted:
+		if d.Retry {
+			ks.budget = d.Used
+			r.q.count(func(s *QueueStats) { s.InfraRetries++ })
+			return runner.Completion{Task: t, Interrupted: true}
+		}
+		return runner.Completion{Task: t, Result: r.failure(t, "lost", false, msg)}
+	case ClassTimeout, ClassOutOfMemory:
+		if d.Retry {
+			ks.budget, ks.res = d.Used, d.Resources
+			return runner.Completion{Task: t, Interrupted: true}
+		}
+		return runner.Completion{Task: t, Result: r.failure(t, map[Class]string{ClassTimeout: "timeout", ClassOutOfMemory: "out-of-memory"}[class], true, msg)}
+	case ClassCancelled:
+		return runner.Completion{Task: t, Result: r.failure(t, "cancelled", true, msg)}
+	}
+	return runner.Completion{Task: t, Result: r.failure(t, "task-failed", false, msg)}
+}
+
+func nonEmpty(a, b string) string {
+	if a != "" {
+		return a
+	}
+	return b
+}
+
+// DetachNote says what an interrupted attached run leaves behind: the
+// jobs keep running, and how to cancel them. "" before Run has started.
+func (q *Queue) DetachNote() string {
+	q.mu.Lock()
+	name := q.jobName
+	q.mu.Unlock()
+	if name == "" {
+		return "detached from Slurm; no job was submitted"
+	}
+	return fmt.Sprintf("detached from Slurm: the scan's jobs (name %s) keep running and a later run picks up their results; cancel them with: scancel --me --name=%s", name, name)
+}
+
+// Packing from measured point times (lessons memo §2; the numbers are
+// ours): a task should run about packTarget, at most packMax points, and
+// k·p90 must stay under packHeadroom of the walltime.
+const (
+	packTarget   = 30 * time.Minute
+	packMax      = 64
+	packHeadroom = 0.8
+	packSamples  = 3
+)
+
+// PackSize returns the points per array task: configured (> 0) wins;
+// with at least three measured point durations, ceil(30 min / p50)
+// clamped to [1, 64] and lowered until k·p90 ≤ 0.8·limit (limit 0: no
+// walltime known); otherwise DefaultPointsPerTask.
+func PackSize(configured int, measured []time.Duration, limit time.Duration) int {
+	if configured > 0 {
+		return configured
+	}
+	if len(measured) < packSamples {
+		return DefaultPointsPerTask
+	}
+	d := append([]time.Duration(nil), measured...)
+	sort.Slice(d, func(a, b int) bool { return d[a] < d[b] })
+	p50 := max(d[len(d)/2], time.Millisecond)
+	p90 := max(d[min(len(d)-1, len(d)*9/10)], time.Millisecond)
+	k := int((packTarget + p50 - 1) / p50)
+	k = min(max(k, 1), packMax)
+	if limit > 0 {
+		for k > 1 && float64(time.Duration(k)*p90) > packHeadroom*float64(limit) {
+			k--
+		}
+	}
+	return k
+}
