@@ -528,3 +528,48 @@ func buildWellscanB(b *testing.B) string {
 	}
 	return bin
 }
+
+// TestSlurm_Timeout_RetriedWithMoreTime needs about three minutes (Slurm
+// enforces time limits with minute resolution, checked every 30 s), so it
+// runs only with WELLSCAN_SLURM_SLOW=1.
+func TestSlurm_Timeout_RetriedWithMoreTime(t *testing.T) {
+	if os.Getenv("WELLSCAN_SLURM_SLOW") != "1" {
+		t.Skip("set WELLSCAN_SLURM_SLOW=1 for the TIMEOUT test (about three minutes)")
+	}
+	needSlurm(t)
+	bin := buildWellscan(t)
+	// Two points of 55 s in one task with a 1-minute limit: the first
+	// finishes, the second is cut off by TIMEOUT.
+	spec := strings.NewReplacer(`delay = "1500ms"`, `delay = "55s"`, "to = 1.25", "to = 1.05",
+		"THROTTLE", "1", `time = "5m"`, `time = "1m"`).Replace(slowSlurmSpec)
+	dir := slurmScanDir(t, spec)
+	out, err := exec.Command(bin, "run", "-q", dir).CombinedOutput()
+	if err != nil {
+		t.Fatalf("run: %v\n%s", err, out)
+	}
+	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	recs, err := st.Points()
+	st.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range recs {
+		// A TIMEOUT uses the escalation budget, not an attempt.
+		if r.State != runner.Done || r.Attempts != 1 {
+			t.Errorf("%s: %s after %d attempts, want done after 1", r.Key, r.State, r.Attempts)
+		}
+	}
+	jobs, _ := filepath.Glob(filepath.Join(dir, slurm.JobsDir, "*", "submit.sh"))
+	longer := 0
+	for _, j := range jobs {
+		if b, err := os.ReadFile(j); err == nil && strings.Contains(string(b), "--time=0-00:02:00") {
+			longer++
+		}
+	}
+	if len(jobs) != 2 || longer != 1 {
+		t.Errorf("%d submissions, %d with 2 minutes; want the retry to ask for twice the time", len(jobs), longer)
+	}
+}
