@@ -573,3 +573,32 @@ func TestSlurm_Timeout_RetriedWithMoreTime(t *testing.T) {
 		t.Errorf("%d submissions, %d with 2 minutes; want the retry to ask for twice the time", len(jobs), longer)
 	}
 }
+
+// TestSlurm_Cancel_StopsTheScansJobs: after Ctrl-C detaches a run,
+// `wellscan cancel DIR` cancels the scan's jobs by name and confirms that
+// none is pending or running; a rerun then computes what is missing.
+func TestSlurm_Cancel_StopsTheScansJobs(t *testing.T) {
+	needSlurm(t)
+	bin := buildWellscan(t)
+	dir := slurmScanDir(t, strings.Replace(slowSlurmSpec, "THROTTLE", "2", 1))
+	cmd := exec.Command(bin, "run", "-q", dir)
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	waitResults(t, dir, 1)
+	if err := cmd.Process.Signal(os.Interrupt); err != nil {
+		t.Fatal(err)
+	}
+	_ = cmd.Wait()
+	out, err := exec.Command(bin, "cancel", dir).CombinedOutput()
+	if err != nil || !strings.Contains(string(out), "cancelled the Slurm jobs") {
+		t.Fatalf("cancel: %v\n%s", err, out)
+	}
+	live, err := exec.Command("squeue", "--me", "-h", "-r", "-t", "PD,R", "--name="+slurm.JobNameFor(dir), "-o", "%i").Output()
+	if err != nil || strings.TrimSpace(string(live)) != "" {
+		t.Fatalf("after cancel, squeue still lists live tasks %q (%v)", live, err)
+	}
+	if out, err := exec.Command(bin, "run", "-q", dir).CombinedOutput(); err != nil {
+		t.Logf("rerun after cancel: %v\n%s", err, out)
+	}
+}
