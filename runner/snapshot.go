@@ -30,6 +30,9 @@ type Snapshot struct {
 	Points     []PointJSON       `json:"points"`
 	LastErrors []PointErrorJSON  `json:"last_errors"`
 	Units      map[string]string `json:"units"` // coordinate name → unit of its values
+	// Suspects are done points that break with their neighbours (see
+	// [FindDiscontinuities]).
+	Suspects []Suspect `json:"suspects,omitempty"`
 }
 
 // RefineJSON is a round's refinement status.
@@ -73,7 +76,8 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	host, _ := os.Hostname()
 	snap := Snapshot{V: 1, Title: spec.Title, State: state, Updated: now, PID: os.Getpid(), Host: host,
 		Counts: map[string]int{}, Total: len(recs), Units: map[string]string{},
-		Extrema: []ExtremumJSON{}, Points: []PointJSON{}, LastErrors: []PointErrorJSON{}}
+		Extrema: []ExtremumJSON{}, Points: []PointJSON{}, LastErrors: []PointErrorJSON{},
+		Suspects: FindDiscontinuities(recs, DiscontinuityOptions{})}
 	for _, c := range spec.Coordinates() {
 		snap.Units[c.Name] = c.UnitLabel(spec.Units())
 	}
