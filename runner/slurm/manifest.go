@@ -145,7 +145,7 @@ func PrepareJob(p *Profile, spec ScriptSpec, m *Manifest) (string, error) {
 	if err != nil {
 		return "", err
 	}
-	if err := os.MkdirAll(spec.JobDir, 0o755); err != nil {
+	if err := os.MkdirAll(spec.JobDir, 0o700); err != nil {
 		return "", fmt.Errorf("slurm: create job directory: %w", err)
 	}
 	if err := WriteManifest(spec.JobDir, m); err != nil {

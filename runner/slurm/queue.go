@@ -402,7 +402,7 @@ func (r *run) listLive() {
 			m, _ = ReadManifest(filepath.Join(r.scanDir, JobsDir, tok))
 			manifests[tok] = m
 			if m != nil {
-				_ = os.WriteFile(filepath.Join(r.scanDir, JobsDir, tok, JobIDFile), []byte(t.Array+"\n"), 0o644)
+				_ = os.WriteFile(filepath.Join(r.scanDir, JobsDir, tok, JobIDFile), []byte(t.Array+"\n"), 0o600)
 			}
 		}
 		if m == nil {
@@ -529,7 +529,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 			return
 		}
 	}
-	_ = os.WriteFile(filepath.Join(jobDir, JobIDFile), []byte(id+"\n"), 0o644)
+	_ = os.WriteFile(filepath.Join(jobDir, JobIDFile), []byte(id+"\n"), 0o600)
 	r.poller.Track(id, m.First, len(m.Tasks), submitted)
 	for i, keys := range m.Tasks {
 		ref := TaskRef{Array: id, Index: m.First + i}

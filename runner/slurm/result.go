@@ -47,7 +47,7 @@ func WriteResultAtomic(dir, name string, data []byte) (err error) {
 	if err = f.Close(); err != nil {
 		return fmt.Errorf("slurm: close %s: %w", tmp, err)
 	}
-	if err = os.Chmod(tmp, 0o644); err != nil {
+	if err = os.Chmod(tmp, 0o600); err != nil {
 		return fmt.Errorf("slurm: chmod %s: %w", tmp, err)
 	}
 	final := filepath.Join(dir, name)
