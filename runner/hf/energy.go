@@ -106,6 +106,9 @@ type Result struct {
 	Dipole   [3]float64
 	// Wall-clock time spent on integrals and on the SCF iterations.
 	IntegralTime, SCFTime time.Duration
+	// GuessesTried is 2 when an open-shell UHF from a cold start was run
+	// from both the core and the GWH guess and the lower energy kept.
+	GuessesTried int
 	// GuessRejected is set when Options.Guess could not be used (other
 	// basis dimension) and the core guess was used instead.
 	GuessRejected string
@@ -210,6 +213,24 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	}
 	start = time.Now()
 	scf, scfErr := RunSCF(ctx, in)
+	// An open-shell UHF started cold can settle on an excited
+	// determinant (OH from the core guess lies 0.155 Eh above the GWH
+	// solution in 6-31G; runner/hf/robust_test.go). Try the other cold
+	// guess as well and keep the lower converged energy.
+	if !in.Restricted && in.GuessOrbitals == nil && in.NAlpha != in.NBeta && ctx.Err() == nil {
+		alt := in
+		alt.Options.Guess = GuessGWH
+		if in.Options.Guess == GuessGWH {
+			alt.Options.Guess = GuessCore
+		}
+		if scf2, err2 := RunSCF(ctx, alt); scf2 != nil && scf2.Converged &&
+			(scf == nil || !scf.Converged || scf2.Energy < scf.Energy-1e-9) {
+			scf, scfErr = scf2, err2
+			res.GuessesTried = 2
+		} else {
+			res.GuessesTried = 2
+		}
+	}
 	res.SCFTime = time.Since(start)
 	if scf == nil {
 		return nil, scfErr
