@@ -21,30 +21,8 @@ import (
 
 // badModelSpec, badHFSpec and badCommandSpec are the three scans the rows
 // damage (invented Morse constants for the model, atomic units).
-const badModelSpec = `title = "bad input model"
-[molecule]
-geometry = """
-C 0 0 0
-O 0 0 1.13
-"""
-[[scan]]
-name = "r"
-bond = [1, 2]
-from = 1.00
-to = 1.30
-step = 0.05
-[engine]
-kind = "model"
-[engine.model]
-offset = -112.7
-[[engine.model.term]]
-shape = "morse"
-depth = 0.41
-width = 1.22
-center = 2.135
-[queue]
-workers = 2
-`
+// badModelSpec is cmd_test.go's model scan under another title.
+var badModelSpec = strings.Replace(modelSpec, `title = "cmd test"`, `title = "bad input model"`, 1)
 
 const badHFSpec = `title = "bad input hf"
 [molecule]
