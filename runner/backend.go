@@ -61,6 +61,12 @@ type Completion struct {
 	Interrupted bool
 	// Reused means the result file already existed; nothing was computed.
 	Reused bool
+	// LeftRunning means the task is still with a batch system that keeps
+	// running it after this process stops (a detached or interrupted
+	// cluster run): the point stays submitted, its attempt counted, and a
+	// later run takes its result file (or finds out from the scheduler
+	// what became of it).
+	LeftRunning bool
 }
 
 // Worker runs one task to completion, writing its result file. Queues

@@ -68,6 +68,13 @@ type Runner struct {
 	FlushEvery time.Duration
 	// CPUs to share between concurrent points; 0: runtime.NumCPU().
 	CPUs int
+	// Detach makes Run return as soon as every planned point of the
+	// current round has been handed to the queue, instead of waiting for
+	// them: a queue whose tasks outlive this process (a batch scheduler)
+	// returns them as LeftRunning, the store keeps them submitted, and a
+	// later Run picks up their results and goes on with refinement. Run
+	// then reports Summary.Detached.
+	Detach bool
 
 	fp        string
 	lastFlush time.Time
@@ -94,7 +101,13 @@ type Summary struct {
 	Computed int // points computed by this run
 	Reused   int // results taken from result files left by an earlier run
 	Elapsed  time.Duration
+	// Detached is true when Run returned with points left running on the
+	// queue (Runner.Detach); Status then describes the last finished round.
+	Detached bool
 }
+
+// errDetach ends a round early in detached mode (Runner.Detach).
+var errDetach = errors.New("runner: detached")
 
 // ErrPointsFailed is returned (wrapped) by Run when the scan finished but
 // some points failed for good.
@@ -158,6 +171,16 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 
 	for {
 		err := r.runRound(ctx, in, out)
+		if errors.Is(err, errDetach) {
+			qe := stopQueue()
+			left := r.counts()[Submitted]
+			r.emit(Event{Kind: "detach", Round: r.round, Message: fmt.Sprintf("detached: %d points left with the %s queue", left, r.Queue.Name())})
+			ferr := r.flush()
+			r.snapshot("detached")
+			sum := r.summary()
+			sum.Detached = true
+			return sum, errors.Join(qe, ferr)
+		}
 		if err != nil {
 			qe := stopQueue()
 			ferr := r.flush()
@@ -245,12 +268,18 @@ func (r *Runner) reconcile() error {
 			continue
 		}
 		if inFlight {
-			// Lost with the process that ran it: back to planned, without
-			// using up an attempt.
+			// Lost with the process that ran it, or still with a batch
+			// queue: back to planned without using up an attempt; the
+			// queue adopts a task that still runs it instead of running it
+			// again.
+			msg := "in flight when the last run stopped; planned again"
+			if rec.State == Submitted {
+				msg = "left with the queue by an earlier run; asking the queue about it"
+			}
 			rec.State = Planned
 			rec.Attempts = max(0, rec.Attempts-1)
 			r.touch(rec)
-			r.emit(Event{Kind: string(Planned), Key: k, Round: rec.Round, Message: "in flight when the last run stopped; planned again"})
+			r.emit(Event{Kind: string(Planned), Key: k, Round: rec.Round, Message: msg})
 			resumed++
 		}
 	}
@@ -400,6 +429,12 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 		}
 		if next == nil && inflight == 0 {
 			return r.flush()
+		}
+		if next == nil && len(queue) == 0 && r.Detach {
+			if err := r.flush(); err != nil {
+				return err
+			}
+			return errDetach
 		}
 		var send chan<- Task
 		var nv Task // the send expression is evaluated even when send is nil
@@ -649,6 +684,12 @@ func (r *Runner) ingest(c Completion) *PointRecord {
 	rec := r.recs[c.Task.Key]
 	if rec == nil {
 		return nil
+	}
+	if c.LeftRunning {
+		rec.State = Submitted
+		r.touch(rec)
+		r.emit(Event{Kind: string(Submitted), Key: rec.Key, Round: rec.Round, Message: "left running with the " + r.Queue.Name() + " queue"})
+		return rec
 	}
 	if c.Interrupted {
 		rec.State = Planned

@@ -26,6 +26,12 @@ func newBackend(spec *planner.Spec) (runner.Backend, error) {
 	return nil, fmt.Errorf("%s: unknown engine kind %q", spec.File(), spec.Engine.Kind)
 }
 
+// isBatchQueue reports whether the spec's points run as batch jobs that
+// outlive this process.
+func isBatchQueue(spec *planner.Spec) bool {
+	return spec.Queue.Kind == "slurm" || spec.Queue.Kind == "batch"
+}
+
 // newQueue builds the queue of [queue]; workers > 0 overrides queue.workers.
 func newQueue(spec *planner.Spec, workers int) (runner.Queue, error) {
 	switch spec.Queue.Kind {

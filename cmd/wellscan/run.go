@@ -23,11 +23,13 @@ type runOptions struct {
 	workers int
 	quiet   bool
 	json    bool
+	detach  bool
 }
 
 func (o *runOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.IntVar(&o.workers, "workers", 0, "points computed at once (default: queue.workers, or all CPUs)")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress on stderr")
+	fs.BoolVar(&o.detach, "detach", false, "batch queues: submit the round's points, record them and exit without waiting; run again (with or without --detach) to collect results and go on")
 	fs.BoolVar(&o.json, "json", false, "print one JSON object per event on stdout (for scripts), ending with a \"summary\" event, instead of the text summary")
 }
 
@@ -41,13 +43,19 @@ refine around each minimum, round after round, until refinement converges
 or a budget stops it. Progress goes to stderr, the summary to stdout.
 
 A scan that was killed resumes where it stopped: rerun the same command.
+On a batch queue, --detach submits the current round and exits; every later
+'wellscan run DIR --detach' collects what finished, refines and submits the
+next round, so a scan can advance from cron or a login shell without a
+process waiting on the login node. Ctrl-C in an attached batch run also
+detaches: the jobs keep running.
 Changes to the grid, [refine] or [queue] are applied; changes to the
 molecule, coordinates or [engine] are refused.
 
 ` + exitCodeTable,
 		Example: `  wellscan run co-stretch
   wellscan run co-stretch --workers 1 --json > events.jsonl
-  nohup wellscan run co-stretch > run.log 2>&1 &   # resume later with the same command`,
+  nohup wellscan run co-stretch > run.log 2>&1 &   # resume later with the same command
+  wellscan run hf-cluster --detach && wellscan status hf-cluster   # batch queue: submit and return`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if o.workers < 0 {
@@ -57,6 +65,10 @@ molecule, coordinates or [engine] are refused.
 			if err != nil {
 				return err
 			}
+			if o.detach && !isBatchQueue(spec) {
+				return usageError{fmt.Errorf("--detach needs a batch queue: %s has queue.kind = %q, whose points run inside this process", filepath.Join(args[0], "scan.toml"), spec.Queue.Kind)}
+			}
+			queueName := spec.Queue.Kind
 			sum, err := runScan(cmd.Context(), a, args[0], spec, o)
 			if sum != nil && o.json {
 				_ = json.NewEncoder(a.stdout).Encode(summaryEvent(spec, *sum, err))
@@ -64,6 +76,10 @@ molecule, coordinates or [engine] are refused.
 			}
 			if sum != nil {
 				printSummary(a.stdout, spec, args[0], *sum)
+				if sum.Detached {
+					printDetached(a.stdout, args[0], *sum, queueName)
+					return err
+				}
 				printEndFit(cmd.Context(), a.stdout, args[0], spec)
 			}
 			return err
@@ -96,7 +112,10 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	if li := st.StaleLock(); li != nil {
 		fmt.Fprintf(a.stderr, "wellscan: note: %s; resuming\n", runner.StaleLockMessage(dir, li))
 	}
-	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue}
+	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue, Detach: o.detach}
+	if d, ok := queue.(interface{ SetDetach(bool) }); ok {
+		d.SetDetach(o.detach)
+	}
 	switch {
 	case o.json:
 		enc := json.NewEncoder(a.stdout)
@@ -116,6 +135,15 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 		}
 	}
 	return &sum, err
+}
+
+// printDetached says what a detached run left behind and how to go on.
+func printDetached(w io.Writer, dir string, s runner.Summary, queue string) {
+	left := s.Counts[runner.Submitted] + s.Counts[runner.Running]
+	fmt.Fprintf(w, "detached: %d point(s) left with the %s queue (round %d); nothing waits on this machine\n", left, queue, s.Rounds)
+	fmt.Fprintf(w, "  check:    wellscan status %s\n", dir)
+	fmt.Fprintf(w, "  continue: wellscan run %s --detach   (collects results, refines, submits the next round; without --detach it waits to the end)\n", dir)
+	fmt.Fprintf(w, "  cancel:   wellscan cancel %s\n", dir)
 }
 
 // progressPrinter renders runner events as progress lines on stderr; on a
@@ -139,7 +167,7 @@ func newProgressPrinter(w io.Writer, spec *planner.Spec) *progressPrinter {
 
 func (p *progressPrinter) event(e runner.Event) {
 	switch e.Kind {
-	case "round", "refine", "resume", "interrupt", "retry", string(runner.Failed):
+	case "round", "refine", "resume", "interrupt", "detach", "retry", string(runner.Failed):
 		if p.tty {
 			fmt.Fprint(p.w, "\r\033[K")
 		}
@@ -217,6 +245,9 @@ type eventJSON struct {
 	Status  string         `json:"refinement,omitempty"`
 	Extrema []extremumJSON `json:"extrema,omitempty"`
 	Error   string         `json:"error,omitempty"`
+	// Detached is set on the summary of a `run --detach` that left points
+	// with the batch queue.
+	Detached bool `json:"detached,omitempty"`
 }
 
 type extremumJSON struct {
@@ -240,7 +271,7 @@ func jsonEvent(e runner.Event) eventJSON {
 }
 
 func summaryEvent(spec *planner.Spec, s runner.Summary, err error) eventJSON {
-	out := eventJSON{Time: time.Now(), Kind: "summary", Round: s.Rounds, Counts: map[string]int{}, Status: string(s.Status), Message: s.Reason}
+	out := eventJSON{Time: time.Now(), Kind: "summary", Round: s.Rounds, Counts: map[string]int{}, Status: string(s.Status), Message: s.Reason, Detached: s.Detached}
 	for st, n := range s.Counts {
 		out.Counts[string(st)] = n
 		out.Total += n

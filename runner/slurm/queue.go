@@ -97,6 +97,10 @@ type Queue struct {
 	Gather time.Duration
 	// Now is the clock; nil means time.Now.
 	Now func() time.Time
+	// Detach: once the round loop has handed over its tasks (closed in),
+	// submit what is gathered and return at once, every point in flight
+	// as LeftRunning, instead of polling until the tasks end.
+	Detach bool
 
 	mu      sync.Mutex
 	stats   QueueStats
@@ -131,6 +135,9 @@ func NewQueue(spec *planner.Spec) (*Queue, error) {
 
 // Name implements runner.Queue.
 func (q *Queue) Name() string { return "slurm" }
+
+// SetDetach sets Detach (see there) before Run starts.
+func (q *Queue) SetDetach(on bool) { q.Detach = on }
 
 // Slots implements runner.Queue: the array throttle times the packing
 // (the configured one, or the default before anything is measured).
@@ -191,14 +198,17 @@ type run struct {
 
 	listed    bool
 	adoptable map[string]TaskRef // key → live task of an earlier submission
-	byRef     map[TaskRef][]string
-	pending   map[string]*inflight
-	ended     map[TaskRef]time.Time // when a task was first seen final (or lost)
-	keys      map[string]*keyState
-	batch     []runner.Task
-	seq       int
-	policy    PollPolicy
-	measured  []time.Duration // compute time of points finished in this run
+	// endedEarlier: key → the final state of its latest task, which ended
+	// while no run watched it (a detached scan, a killed orchestrator).
+	endedEarlier map[string]PointTask
+	byRef        map[TaskRef][]string
+	pending      map[string]*inflight
+	ended        map[TaskRef]time.Time // when a task was first seen final (or lost)
+	keys         map[string]*keyState
+	batch        []runner.Task
+	seq          int
+	policy       PollPolicy
+	measured     []time.Duration // compute time of points finished in this run
 }
 
 // Run implements runner.Queue.
@@ -218,7 +228,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 		gather = 200 * time.Millisecond
 	}
 	r := &run{q: q, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.Spec),
-		adoptable: map[string]TaskRef{}, byRef: map[TaskRef][]string{}, pending: map[string]*inflight{},
+		adoptable: map[string]TaskRef{}, endedEarlier: map[string]PointTask{}, byRef: map[TaskRef][]string{}, pending: map[string]*inflight{},
 		ended: map[TaskRef]time.Time{}, keys: map[string]*keyState{}, maxArr: 1000, policy: q.Policy}
 
 	var gatherT, pollT *time.Timer
@@ -249,6 +259,17 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 		case t, ok := <-in:
 			if !ok {
 				in = nil
+				if q.Detach {
+					if gatherT != nil {
+						gatherT.Stop()
+						gatherT, gatherC = nil, nil
+					}
+					if len(r.batch) > 0 {
+						r.submitBatch()
+					}
+					r.leave()
+					return nil
+				}
 				continue
 			}
 			if err := r.arrive(t); err != nil {
@@ -294,21 +315,14 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 				wait = 0
 			}
 		case <-ctx.Done():
-			// Leave the jobs running; every point in flight returns to
-			// planned and a later run adopts its task.
+			// Leave the jobs running; points not yet submitted return to
+			// planned, submitted ones stay submitted and a later run adopts
+			// their task.
 			for _, t := range r.batch {
 				out <- runner.Completion{Task: t, Interrupted: true}
 			}
 			r.batch = nil
-			for _, k := range sortedKeys(r.pending) {
-				t := r.pending[k].task
-				if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && res.Status == "done" {
-					out <- runner.Completion{Task: t, Result: res} // finished meanwhile
-					continue
-				}
-				out <- runner.Completion{Task: t, Interrupted: true}
-			}
-			r.pending = nil
+			r.leave()
 			if in != nil {
 				for t := range in {
 					out <- runner.Completion{Task: t, Interrupted: true}
@@ -317,6 +331,20 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 			return nil
 		}
 	}
+}
+
+// leave hands every point in flight back as LeftRunning (or with its
+// result, if it finished meanwhile) and forgets them.
+func (r *run) leave() {
+	for _, k := range sortedKeys(r.pending) {
+		t := r.pending[k].task
+		if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && res.Status == "done" {
+			r.out <- runner.Completion{Task: t, Result: res} // finished meanwhile
+			continue
+		}
+		r.out <- runner.Completion{Task: t, LeftRunning: true}
+	}
+	r.pending = nil
 }
 
 func sortedKeys[V any](m map[string]V) []string {
@@ -374,58 +402,43 @@ func (r *run) arrive(t runner.Task) error {
 		r.out <- runner.Completion{Task: t, Result: res, Reused: true}
 		return nil
 	}
+	if pt, ok := r.endedEarlier[t.Key]; ok {
+		// Its task ended without a result while no run watched: decide as
+		// if this run had seen it end. A retry goes into this batch (with
+		// more time or memory where the class asks for it).
+		delete(r.endedEarlier, t.Key)
+		st := TaskStatus{TaskState: pt.State, Seen: true}
+		if c := r.decide(t, pt.Class(), st, pt.Ref); !c.Interrupted {
+			r.out <- c
+			return nil
+		}
+	}
 	r.batch = append(r.batch, t)
 	return nil
 }
 
-// listLive runs one status listing and records, for every live task of an
-// earlier submission of this scan, the points it will compute. A failed
-// listing adopts nothing (points are then submitted again; the node side
-// skips points already done, so at worst work is repeated).
+// listLive runs one status listing and records, for every point whose
+// latest task (see [LatestTasks]) is still live, that task, to adopt it;
+// for points whose latest task ended while no run watched it, its final
+// state, to decide on when the point arrives. A failed listing adopts
+// nothing (points are then submitted again; the node side skips points
+// already done, so at worst work is repeated).
 func (r *run) listLive() {
 	tasks, err := r.q.Client.Status(r.ctx, r.jobName)
 	if err != nil {
 		return
 	}
-	manifests := map[string]*Manifest{}
-	for _, t := range tasks {
-		c := Classify(t.State)
-		if c.Terminal() || c == ClassUnknown {
+	tracked := map[TaskRef]bool{}
+	for k, pt := range LatestTasks(r.scanDir, tasks, true) {
+		if pt.Class().Terminal() {
+			r.endedEarlier[k] = pt
 			continue
 		}
-		tok, ok := t.Token()
-		if !ok || ValidateValue("token", tok) != nil {
-			continue
+		if !tracked[pt.Ref] {
+			tracked[pt.Ref] = true
+			r.poller.Track(pt.Ref.Array, pt.Ref.Index, 1, r.now().Add(-48*time.Hour))
 		}
-		m, seen := manifests[tok]
-		if !seen {
-			m, _ = ReadManifest(filepath.Join(r.scanDir, JobsDir, tok))
-			manifests[tok] = m
-			if m != nil {
-				_ = os.WriteFile(filepath.Join(r.scanDir, JobsDir, tok, JobIDFile), []byte(t.Array+"\n"), 0o600)
-			}
-		}
-		if m == nil {
-			continue
-		}
-		idx := []int{t.Index}
-		if t.Index == NoTask {
-			idx = nil
-			for i := range m.Tasks {
-				idx = append(idx, m.First+i)
-			}
-		}
-		for _, i := range idx {
-			keys, err := m.Task(i)
-			if err != nil {
-				continue
-			}
-			ref := TaskRef{Array: t.Array, Index: i}
-			r.poller.Track(t.Array, i, 1, r.now().Add(-48*time.Hour))
-			for _, k := range keys {
-				r.adoptable[k] = ref
-			}
-		}
+		r.adoptable[k] = pt.Ref
 	}
 }
 

@@ -160,10 +160,23 @@ type fakeRun struct {
 
 func runFake(t *testing.T, fate func(sub, index int) string) fakeRun {
 	t.Helper()
+	return runFakeIn(t, fakeScanDir(t), &fakeSlurm{t: t, fate: fate}, false)
+}
+
+// fakeScanDir is a scan directory holding fakeSpec.
+func fakeScanDir(t *testing.T) string {
+	t.Helper()
 	dir := t.TempDir()
 	if err := os.WriteFile(filepath.Join(dir, "scan.toml"), []byte(fakeSpec), 0o644); err != nil {
 		t.Fatal(err)
 	}
+	return dir
+}
+
+// runFakeIn runs (or resumes) the scan in dir against fake, attached or
+// detached.
+func runFakeIn(t *testing.T, dir string, fake *fakeSlurm, detach bool) fakeRun {
+	t.Helper()
 	spec, err := planner.Load(filepath.Join(dir, "scan.toml"))
 	if err != nil {
 		t.Fatal(err)
@@ -172,10 +185,10 @@ func runFake(t *testing.T, fate func(sub, index int) string) fakeRun {
 	if err != nil {
 		t.Fatal(err)
 	}
-	fake := &fakeSlurm{t: t, fate: fate}
 	q.Client = mustClient(t, Slurm(), fake)
 	q.Binary = "/nonexistent/wellscan" // the fake runs the node side in process
 	q.Gather = 20 * time.Millisecond
+	q.Detach = detach
 	backend, err := model.New(spec)
 	if err != nil {
 		t.Fatal(err)
@@ -187,7 +200,7 @@ func runFake(t *testing.T, fate func(sub, index int) string) fakeRun {
 	defer st.Close()
 	ctx, cancel := context.WithTimeout(t.Context(), 30*time.Second)
 	defer cancel()
-	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: q}
+	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: q, Detach: detach}
 	fr := fakeRun{fake: fake}
 	fr.sum, fr.err = r.Run(ctx)
 	recs, err := st.Points()
@@ -477,5 +490,128 @@ func TestDecodeConfig_READMEExample(t *testing.T) {
 		Worker: []string{c.Binary, NodeSubcommand}, Resources: c.Resources()}
 	if _, err := Render(Slurm(), ss); err != nil {
 		t.Errorf("render: %v", err)
+	}
+}
+
+func countStates(recs map[string]runner.PointRecord) map[runner.State]int {
+	c := map[runner.State]int{}
+	for _, r := range recs {
+		c[r.State]++
+	}
+	return c
+}
+
+// Detached: the first run submits and returns with every point submitted;
+// a second detached run adopts the live tasks (no new sbatch); an attached
+// run then collects every result. Each point is computed once.
+func TestQueue_Detach_SubmitAdoptCollect(t *testing.T) {
+	dir := fakeScanDir(t)
+	fake := &fakeSlurm{t: t, fate: func(int, int) string { return "COMPLETED" }, hold: true}
+	fr := runFakeIn(t, dir, fake, true)
+	if fr.err != nil || !fr.sum.Detached {
+		t.Fatalf("detached run: err %v, detached %v", fr.err, fr.sum.Detached)
+	}
+	if c := countStates(fr.recs); c[runner.Submitted] != 10 {
+		t.Fatalf("after the detached run: %v, want 10 submitted", c)
+	}
+	if fake.calls["sbatch"] != 1 {
+		t.Fatalf("%d sbatch calls, want 1", fake.calls["sbatch"])
+	}
+	for k, rec := range fr.recs {
+		if rec.Attempts != 1 {
+			t.Errorf("%s: %d attempts recorded, want 1", k, rec.Attempts)
+		}
+	}
+
+	// Still pending: a second detached run adopts and submits nothing.
+	fr = runFakeIn(t, dir, fake, true)
+	if fr.err != nil || !fr.sum.Detached || fake.calls["sbatch"] != 1 || fr.stats.Adopted != 4 {
+		t.Fatalf("second detached run: err %v, detached %v, %d sbatch, %d adopted (want 1 sbatch, 4 adopted)", fr.err, fr.sum.Detached, fake.calls["sbatch"], fr.stats.Adopted)
+	}
+	if c := countStates(fr.recs); c[runner.Submitted] != 10 {
+		t.Fatalf("after the second detached run: %v", c)
+	}
+
+	fake.mu.Lock()
+	fake.hold = false
+	fake.mu.Unlock()
+	fr = runFakeIn(t, dir, fake, false)
+	if fr.err != nil || fr.sum.Detached {
+		t.Fatalf("attached run: %v (detached %v)", fr.err, fr.sum.Detached)
+	}
+	for k, rec := range fr.recs {
+		if rec.State != runner.Done || rec.Attempts != 1 {
+			t.Errorf("%s: %s after %d attempts, want done after 1", k, rec.State, rec.Attempts)
+		}
+	}
+	if fake.calls["sbatch"] != 1 {
+		t.Errorf("%d sbatch calls in all, want 1", fake.calls["sbatch"])
+	}
+}
+
+// Tasks that end while no run watches are decided when a later run lists
+// them: a CANCELLED task's points fail as cancelled (not resubmitted), a
+// TIMEOUT task's points are resubmitted with twice the time, without
+// using an attempt.
+func TestQueue_Detach_EndedWhileDetached(t *testing.T) {
+	dir := fakeScanDir(t)
+	fake := &fakeSlurm{t: t, hold: true, fate: func(sub, index int) string {
+		switch {
+		case sub == 1 && index == 0:
+			return "CANCELLED"
+		case sub == 1 && index == 1:
+			return "TIMEOUT"
+		}
+		return "COMPLETED"
+	}}
+	if fr := runFakeIn(t, dir, fake, true); fr.err != nil || !fr.sum.Detached {
+		t.Fatalf("detached run: %v", fr.err)
+	}
+	// The tasks run to their ends with no orchestrator watching: two
+	// listings move each task PENDING → RUNNING → its fate.
+	fake.mu.Lock()
+	fake.hold = false
+	fake.mu.Unlock()
+	for range 2 {
+		if _, err := fake.Run(t.Context(), Cmd{Argv: []string{"squeue"}}); err != nil {
+			t.Fatal(err)
+		}
+	}
+	fr := runFakeIn(t, dir, fake, false)
+	if !errors.Is(fr.err, runner.ErrPointsFailed) {
+		t.Fatalf("run: %v, want some points failed (the cancelled ones)", fr.err)
+	}
+	c := countStates(fr.recs)
+	if c[runner.Failed] != 3 || c[runner.Done] != 7 {
+		t.Fatalf("states %v, want 3 failed (cancelled task) and 7 done", c)
+	}
+	for _, rec := range fr.recs {
+		if rec.State == runner.Failed && rec.Class != "cancelled" {
+			t.Errorf("%s: failed as %q, want cancelled", rec.Key, rec.Class)
+		}
+		if rec.Attempts != 1 {
+			t.Errorf("%s: %d attempts, want 1 (neither class uses one)", rec.Key, rec.Attempts)
+		}
+	}
+	// The timed-out task's 3 points were submitted again, with 20 min.
+	if fake.subs != 2 {
+		t.Fatalf("%d submissions, want 2", fake.subs)
+	}
+	var jobs []string
+	ents, _ := os.ReadDir(filepath.Join(dir, JobsDir))
+	for _, e := range ents {
+		b, err := os.ReadFile(filepath.Join(dir, JobsDir, e.Name(), "submit.sh"))
+		if err == nil {
+			jobs = append(jobs, string(b))
+		}
+	}
+	n := 0
+	for _, j := range jobs {
+		if strings.Contains(j, "--time=0-00:20:00") {
+			n++
+		}
+	}
+	if n != 1 {
+		t.Errorf("%d scripts ask for 20 min, want 1 (the resubmission); scripts:\n%s", n, strings.Join(jobs, "\n---\n"))
 	}
 }
