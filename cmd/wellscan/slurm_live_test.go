@@ -13,6 +13,7 @@ package main
 import (
 	"bufio"
 	"context"
+	"encoding/json"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -600,5 +601,84 @@ func TestSlurm_Cancel_StopsTheScansJobs(t *testing.T) {
 	}
 	if out, err := exec.Command(bin, "run", "-q", dir).CombinedOutput(); err != nil {
 		t.Logf("rerun after cancel: %v\n%s", err, out)
+	}
+}
+
+// Detached: `run --detach` submits round 1 and exits at once; `status`
+// reconciles the submitted points with squeue and the result files while no
+// orchestrator runs; repeated `run --detach` calls collect results, refine
+// and submit the next rounds until the scan ends. Every point is computed
+// once on a node.
+func TestSlurm_Detach_StatusReconciles_RunsFinish(t *testing.T) {
+	needSlurm(t)
+	bin := buildWellscan(t)
+	spec := strings.Replace(h2SlurmSpec, "adaptive = false", "adaptive = true", 1)
+	dir := slurmScanDir(t, spec)
+
+	start := time.Now()
+	out, err := exec.Command(bin, "run", "-q", "--detach", dir).CombinedOutput()
+	if err != nil || !strings.Contains(string(out), "detached: 20 point(s) left with the slurm queue") {
+		t.Fatalf("run --detach: %v\n%s", err, out)
+	}
+	t.Logf("run --detach returned after %s", time.Since(start).Round(time.Millisecond))
+	got, _ := storeState(t, dir)
+	for k, p := range got {
+		if p.State != runner.Submitted {
+			t.Errorf("%s: %s after the detached run, want submitted", k, p.State)
+		}
+	}
+
+	// status while nothing runs on the login node: one squeue, verdicts.
+	out, err = exec.Command(bin, "status", dir).CombinedOutput()
+	if err != nil || !strings.Contains(string(out), "queue: slurm jobs named "+slurm.JobNameFor(dir)) || !strings.Contains(string(out), "in flight (20 points)") {
+		t.Fatalf("status: %v\n%s", err, out)
+	}
+	waitResults(t, dir, 20)
+	var view struct {
+		Counts map[string]int `json:"counts"`
+		Queue  *slurm.View    `json:"queue"`
+	}
+	js, err := exec.Command(bin, "status", "--json", dir).Output()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(js, &view); err != nil {
+		t.Fatal(err)
+	}
+	if view.Queue == nil || view.Queue.Verdicts[slurm.VerdictFinished] != 20 || view.Counts["submitted"] != 20 {
+		t.Fatalf("status --json after the tasks wrote their results: counts %v, queue %+v; want 20 submitted in the store, 20 finished", view.Counts, view.Queue)
+	}
+	if view.Queue.Commands != 1 {
+		t.Errorf("status ran %d scheduler commands, want 1", view.Queue.Commands)
+	}
+
+	// Advance with detached runs until the scan ends.
+	var last string
+	for i := 0; ; i++ {
+		if i == 40 {
+			t.Fatalf("scan not finished after 40 detached runs; last output:\n%s", last)
+		}
+		out, err := exec.Command(bin, "run", "-q", "--detach", dir).CombinedOutput()
+		last = string(out)
+		if err != nil {
+			t.Fatalf("run --detach #%d: %v\n%s", i+2, err, out)
+		}
+		if !strings.Contains(last, "detached:") {
+			break
+		}
+		time.Sleep(500 * time.Millisecond)
+	}
+	if !strings.Contains(last, "refinement: converged") {
+		t.Errorf("last run did not report converged refinement:\n%s", last)
+	}
+	got, done := storeState(t, dir)
+	computed := computedLines(t, dir)
+	if len(got) <= 20 {
+		t.Errorf("%d points: refinement added none", len(got))
+	}
+	for k, p := range got {
+		if p.State != runner.Done || done[k] != 1 || computed[k] != 1 {
+			t.Errorf("%s: %s, done %d times, computed %d times; want once each", k, p.State, done[k], computed[k])
+		}
 	}
 }

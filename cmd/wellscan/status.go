@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -15,13 +16,16 @@ import (
 
 	"wellscan/planner"
 	"wellscan/runner"
+	"wellscan/runner/slurm"
 )
 
 type statusOptions struct {
-	json bool
+	json    bool
+	noQueue bool
 }
 
 func (o *statusOptions) AddFlags(fs *pflag.FlagSet) {
+	fs.BoolVar(&o.noQueue, "no-queue", false, "batch queues: do not ask the scheduler about points in flight (store and snapshot only)")
 	fs.BoolVar(&o.json, "json", false, "print the status as JSON (counts keyed by state, points with coordinates and energy_hartree)")
 }
 
@@ -33,7 +37,14 @@ func newStatusCommand(a *app) *cobra.Command {
 		Long: `Show how many points are in each state, the current estimate of each
 minimum, the refinement status and the last errors. While a run holds the
 store, status reads the snapshot (status.json) that the run rewrites every
-few seconds.`,
+few seconds.
+
+For a scan on a batch queue with points in flight (a detached run, or one
+that was stopped), status also asks the scheduler once (one status command
+for all of the scan's jobs) and reads the points' result files, and says for
+each point in flight whether it finished on a node (the next run records
+it), waits, runs, or ended without a result (the next run resubmits it or
+fails it by the scheduler's verdict). It never changes the store.`,
 		Example: `  wellscan status co-stretch
   wellscan status co-stretch --json | jq .counts`,
 		Args: cobra.ExactArgs(1),
@@ -47,17 +58,103 @@ few seconds.`,
 			if err != nil {
 				return err
 			}
+			var view *slurm.View
+			if isBatchQueue(spec) && !o.noQueue {
+				view, err = inspectQueue(cmd.Context(), dir, spec, snap)
+				if err != nil {
+					return err
+				}
+			}
 			if o.json {
 				enc := json.NewEncoder(a.stdout)
 				enc.SetIndent("", "  ")
-				return enc.Encode(snap)
+				return enc.Encode(statusJSON{Snapshot: snap, Queue: view})
 			}
 			printStatus(a.stdout, spec, snap, source)
+			if view != nil {
+				printQueueView(a.stdout, dir, *view)
+			}
 			return nil
 		},
 	}
 	o.AddFlags(cmd.Flags())
 	return cmd
+}
+
+// statusJSON is `status --json`: the snapshot, plus the queue check.
+type statusJSON struct {
+	runner.Snapshot
+	Queue *slurm.View `json:"queue,omitempty"`
+}
+
+// inspectQueue reconciles the points in flight with the scheduler and the
+// result files; nil when no point is in flight.
+func inspectQueue(ctx context.Context, dir string, spec *planner.Spec, snap runner.Snapshot) (*slurm.View, error) {
+	var keys []string
+	for _, p := range snap.Points {
+		if p.State == runner.Submitted || p.State == runner.Running {
+			keys = append(keys, p.Key)
+		}
+	}
+	if len(keys) == 0 {
+		return nil, nil
+	}
+	abs, err := filepath.Abs(dir)
+	if err != nil {
+		return nil, err
+	}
+	client, err := slurm.ClientFor(spec)
+	if err != nil {
+		return nil, err
+	}
+	v := slurm.Inspect(ctx, client, abs, runner.SpecFingerprint(spec), keys)
+	return &v, nil
+}
+
+func printQueueView(w io.Writer, dir string, v slurm.View) {
+	var tasks []string
+	for _, c := range sortedCounts(v.Tasks) {
+		tasks = append(tasks, fmt.Sprintf("%d %s", v.Tasks[c], c))
+	}
+	if len(tasks) == 0 {
+		tasks = []string{"none listed"}
+	}
+	fmt.Fprintf(w, "queue: %s jobs named %s, asked at %s: array tasks %s\n", v.Scheduler, v.JobName, v.Checked.Local().Format("15:04:05"), strings.Join(tasks, ", "))
+	if v.Error != "" {
+		fmt.Fprintf(w, "WARNING: the scheduler did not answer (%s); the points below are judged by their result files only\n", v.Error)
+	}
+	fmt.Fprintf(w, "in flight (%d points): %s\n", len(v.Points), v.Summary())
+	ended := map[string]int{}
+	for _, p := range v.Points {
+		switch p.Verdict {
+		case slurm.VerdictEnded:
+			ended[p.State]++
+		case slurm.VerdictUnlisted:
+			ended["not listed"]++
+		case slurm.VerdictHeld:
+			fmt.Fprintf(w, "WARNING: %s: task %s is held (%s); release or cancel it with the scheduler's own commands\n", p.Key, p.Task, p.State)
+		}
+	}
+	if len(ended) > 0 {
+		var parts []string
+		for _, s := range sortedCounts(ended) {
+			parts = append(parts, fmt.Sprintf("%s %d", s, ended[s]))
+		}
+		fmt.Fprintf(w, "WARNING: %d point(s) have no live task and no result (%s): the next 'wellscan run %s' resubmits them, or fails them where the scheduler says cancelled\n",
+			v.Verdicts[slurm.VerdictEnded]+v.Verdicts[slurm.VerdictUnlisted], strings.Join(parts, ", "), dir)
+	}
+	if n := v.Verdicts[slurm.VerdictFinished] + v.Verdicts[slurm.VerdictFailedOnNode]; n > 0 {
+		fmt.Fprintf(w, "%d result(s) wait to be recorded: 'wellscan run %s --detach' records them and goes on\n", n, dir)
+	}
+}
+
+func sortedCounts(m map[string]int) []string {
+	ks := make([]string, 0, len(m))
+	for k := range m {
+		ks = append(ks, k)
+	}
+	sort.Strings(ks)
+	return ks
 }
 
 // readStatus reads the store if no run holds it, else the snapshot.

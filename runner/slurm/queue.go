@@ -739,3 +739,9 @@ func PackSize(configured int, measured []time.Duration, limit time.Duration) int
 	}
 	return k
 }
+
+// ClientFor returns a client for the scheduler spec's [queue] names,
+// running commands with os/exec.
+func ClientFor(spec *planner.Spec) (*Client, error) {
+	return NewClient(Slurm(), ExecRunner{})
+}
