@@ -140,13 +140,16 @@ type ModelTerm struct {
 
 // QueueSpec is the [queue] table.
 type QueueSpec struct {
-	Kind     string   `toml:"kind"`     // "local" (default); "slurm" later
+	Kind     string   `toml:"kind"`     // "local" (default), "slurm", or "batch" (another scheduler through a profile)
 	Workers  int      `toml:"workers"`  // concurrent points, 0: all CPUs
 	Threads  int      `toml:"threads"`  // engine threads per point, 0: split the CPUs
 	Attempts int      `toml:"attempts"` // tries per point, default 3
 	Timeout  Duration `toml:"timeout"`  // per point, 0: none
-	// Slurm is the [queue.slurm] table, decoded by the Slurm queue.
+	// Slurm is the [queue.slurm] table, decoded by the batch queue.
 	Slurm toml.Primitive `toml:"slurm"`
+	// Batch is the [queue.batch] table (kind "batch"): the same keys plus
+	// scheduler and profile.
+	Batch toml.Primitive `toml:"batch"`
 }
 
 // Duration is a time.Duration written as text in a spec ("90s", "2h").
@@ -231,7 +234,7 @@ func decode(data []byte, filename, dir string) (*Spec, error) {
 	s.meta = md
 	for _, k := range md.Undecoded() {
 		// Sub-tables owned by other backends are decoded later.
-		if len(k) >= 2 && ((k[0] == "engine" && k[1] == "command") || (k[0] == "queue" && k[1] == "slurm")) {
+		if len(k) >= 2 && ((k[0] == "engine" && k[1] == "command") || (k[0] == "queue" && (k[1] == "slurm" || k[1] == "batch"))) {
 			continue
 		}
 		return nil, &SpecError{File: filename, Line: keyLine(data, k), Key: k.String(), Msg: "unknown key" + suggest(k)}

@@ -546,9 +546,9 @@ func (s *Spec) validateQueue() error {
 	switch q.Kind {
 	case "":
 		q.Kind = "local"
-	case "local", "slurm":
+	case "local", "slurm", "batch":
 	default:
-		return s.errAt("queue.kind", "unknown queue %q (use \"local\" or \"slurm\")", q.Kind)
+		return s.errAt("queue.kind", "unknown queue %q (use \"local\", \"slurm\", or \"batch\" with [queue.batch] scheduler = \"torque\", \"lsf\" or \"sge\")", q.Kind)
 	}
 	if q.Workers < 0 || q.Workers > 4096 {
 		return s.errAt("queue.workers", "must be between 0 (all CPUs) and 4096, got %d", q.Workers)

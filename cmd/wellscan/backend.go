@@ -40,7 +40,7 @@ func newQueue(spec *planner.Spec, workers int) (runner.Queue, error) {
 			workers = spec.Queue.Workers
 		}
 		return local.New(workers), nil
-	case "slurm":
+	case "slurm", "batch":
 		return slurm.NewQueue(spec)
 	}
 	return nil, fmt.Errorf("%s: unknown queue kind %q", spec.File(), spec.Queue.Kind)

@@ -17,10 +17,11 @@ func newCancelCommand(a *app) *cobra.Command {
 	var wait time.Duration
 	cmd := &cobra.Command{
 		Use:   "cancel DIR",
-		Short: "Cancel the batch jobs of the scan in DIR (Slurm)",
-		Long: `Cancel every Slurm job of the scan in DIR by the scan's own job name
-(one scancel for all of them), then wait until squeue lists none of them as
-pending or running. Points already written stay done; the points of the
+		Short: "Cancel the batch jobs of the scan in DIR (Slurm, or the [queue.batch] scheduler)",
+		Long: `Cancel every batch job of the scan in DIR by the scan's own job name
+(one scancel for all of them on Slurm; by id, in batches, where the scheduler
+cannot cancel by name), then wait until the status command lists none of them
+as pending or running. Points already written stay done; the points of the
 cancelled tasks are computed again by the next 'wellscan run DIR'.`,
 		Example: "  wellscan cancel co-stretch\n  wellscan cancel co-stretch --wait 2m",
 		Args:    cobra.ExactArgs(1),
@@ -30,7 +31,7 @@ cancelled tasks are computed again by the next 'wellscan run DIR'.`,
 			if err != nil {
 				return err
 			}
-			if spec.Queue.Kind != "slurm" {
+			if !isBatchQueue(spec) {
 				return fmt.Errorf("cancel: %s runs on the %q queue, which has no batch jobs to cancel (stop a local run with Ctrl-C)", dir, spec.Queue.Kind)
 			}
 			abs, err := filepath.Abs(dir)
@@ -41,7 +42,7 @@ cancelled tasks are computed again by the next 'wellscan run DIR'.`,
 				return err
 			}
 			name := slurm.JobNameFor(abs)
-			client, err := slurm.NewClient(slurm.Slurm(), slurm.ExecRunner{})
+			client, err := slurm.ClientFor(spec)
 			if err != nil {
 				return err
 			}
@@ -58,9 +59,9 @@ cancelled tasks are computed again by the next 'wellscan run DIR'.`,
 				}
 			}
 			if err != nil || live > 0 {
-				return fmt.Errorf("cancel: asked Slurm to cancel the jobs named %s, but %d task(s) are still listed as live after %s (check with: squeue --me --name=%s): %v", name, live, wait, name, err)
+				return fmt.Errorf("cancel: asked %s to cancel the jobs named %s, but %d task(s) are still listed as live after %s: %v", client.Profile().Name, name, live, wait, err)
 			}
-			fmt.Fprintf(a.stdout, "cancelled the Slurm jobs of %s (job name %s); 'wellscan run %s' computes what is missing\n", dir, name, dir)
+			fmt.Fprintf(a.stdout, "cancelled the %s jobs of %s (job name %s); 'wellscan run %s' computes what is missing\n", client.Profile().Name, dir, name, dir)
 			return nil
 		},
 	}

@@ -3,14 +3,25 @@ package slurm
 import (
 	"fmt"
 	"path/filepath"
+	"sort"
 	"strings"
 	"time"
 
 	"wellscan/planner"
 )
 
-// Config is the [queue.slurm] table of a scan spec. Every key is optional.
+// Config is the [queue.slurm] table of a scan spec ([queue] kind =
+// "slurm"), or the [queue.batch] table ([queue] kind = "batch"), which
+// adds scheduler (a preset: slurm, torque, lsf, sge) and an optional
+// [queue.batch.profile] table that replaces fields of the preset. Every
+// other key is optional and means the same under both.
 type Config struct {
+	// Scheduler names the preset profile ([Presets]); required in
+	// [queue.batch], "slurm" (or absent) in [queue.slurm].
+	Scheduler string `toml:"scheduler"`
+	// Profile replaces fields of the preset.
+	Profile *ProfileConfig `toml:"profile"`
+
 	// Partition, Account and QOS are passed to Slurm as they are, after
 	// [ValidateValue].
 	Partition string `toml:"partition"`
@@ -48,6 +59,17 @@ type Config struct {
 	// ended, without a result for some point counts as lost; default 3 poll
 	// intervals.
 	LostAfter planner.Duration `toml:"lost_after"`
+
+	profile *Profile
+}
+
+// SchedulerProfile is the profile the config resolved to (the Slurm preset
+// for a zero Config).
+func (c Config) SchedulerProfile() *Profile {
+	if c.profile == nil {
+		return Slurm()
+	}
+	return c.profile
 }
 
 // DefaultPointsPerTask is the packing used when the spec gives none: a
@@ -62,13 +84,43 @@ const fastPollFloor = 100 * time.Millisecond
 // spec file and the key.
 func DecodeConfig(spec *planner.Spec) (Config, error) {
 	var c Config
-	if spec.IsDefined("queue", "slurm") {
-		if err := spec.DecodePrimitive(spec.Queue.Slurm, "queue.slurm", &c); err != nil {
+	table, prim := "queue.slurm", spec.Queue.Slurm
+	if spec.Queue.Kind == "batch" {
+		table, prim = "queue.batch", spec.Queue.Batch
+	}
+	if spec.IsDefined(strings.Split(table, ".")...) {
+		if err := spec.DecodePrimitive(prim, table, &c); err != nil {
 			return Config{}, err
 		}
 	}
 	bad := func(key, format string, args ...any) error {
-		return fmt.Errorf("slurm: %s: queue.slurm.%s: %s", spec.File(), key, fmt.Sprintf(format, args...))
+		return fmt.Errorf("slurm: %s: %s.%s: %s", spec.File(), table, key, fmt.Sprintf(format, args...))
+	}
+	presets := Presets()
+	names := make([]string, 0, len(presets))
+	for n := range presets {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	switch {
+	case table == "queue.batch" && c.Scheduler == "":
+		return Config{}, bad("scheduler", "missing: name the batch system (%s)", strings.Join(names, ", "))
+	case table == "queue.slurm" && c.Scheduler != "" && c.Scheduler != "slurm":
+		return Config{}, bad("scheduler", "%q under [queue.slurm]; for another batch system use [queue] kind = \"batch\" and a [queue.batch] table", c.Scheduler)
+	case c.Scheduler == "":
+		c.Scheduler = "slurm"
+	}
+	base, ok := presets[strings.ToLower(c.Scheduler)]
+	if !ok {
+		return Config{}, bad("scheduler", "unknown batch system %q (use one of %s, and a [%s.profile] table for the differences of your site)", c.Scheduler, strings.Join(names, ", "), table)
+	}
+	c.profile = base
+	if c.Profile != nil {
+		p, err := c.Profile.Apply(base, table+".profile")
+		if err != nil {
+			return Config{}, fmt.Errorf("slurm: %s: %w", spec.File(), err)
+		}
+		c.profile = p
 	}
 	for key, v := range map[string]string{"partition": c.Partition, "account": c.Account, "qos": c.QOS, "export": c.Export} {
 		if v == "" {
@@ -91,7 +143,7 @@ func DecodeConfig(spec *planner.Spec) (Config, error) {
 			return Config{}, bad("setup", "line %d contains a newline; give one line per list entry", i+1)
 		}
 	}
-	p := Slurm()
+	p := c.profile
 	for _, x := range c.Extra {
 		if err := p.CheckExtra(x); err != nil {
 			return Config{}, bad("extra", "%v", strings.TrimPrefix(err.Error(), "slurm: "))

@@ -125,7 +125,7 @@ func NewQueue(spec *planner.Spec) (*Queue, error) {
 			return nil, fmt.Errorf("slurm: %w", err)
 		}
 	}
-	client, err := NewClient(Slurm(), ExecRunner{})
+	client, err := NewClient(cfg.SchedulerProfile(), ExecRunner{})
 	if err != nil {
 		return nil, err
 	}
@@ -133,8 +133,13 @@ func NewQueue(spec *planner.Spec) (*Queue, error) {
 	return &Queue{Spec: spec, Config: cfg, Client: client, Binary: bin, Policy: cfg.Policy(), Grace: cfg.Grace(), Retry: retry}, nil
 }
 
-// Name implements runner.Queue.
-func (q *Queue) Name() string { return "slurm" }
+// Name implements runner.Queue: the scheduler profile's name ("slurm").
+func (q *Queue) Name() string {
+	if q.Client != nil {
+		return q.Client.Profile().Name
+	}
+	return "slurm"
+}
 
 // SetDetach sets Detach (see there) before Run starts.
 func (q *Queue) SetDetach(on bool) { q.Detach = on }
@@ -374,7 +379,9 @@ func (r *run) arrive(t runner.Task) error {
 		r.q.mu.Lock()
 		r.q.jobName = name
 		r.q.mu.Unlock()
-		if lim, err := ReadSlurmLimits(r.ctx, r.q.Client.runner); err == nil {
+		if r.q.Client.Profile().Name != "slurm" {
+			// No limits query for other schedulers: keep the defaults.
+		} else if lim, err := ReadSlurmLimits(r.ctx, r.q.Client.runner); err == nil {
 			r.maxArr = min(1000, max(1, lim.MaxArraySize-1))
 			r.policy = r.policy.WithoutAccounting(lim.MinJobAge)
 		}
@@ -490,7 +497,8 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 	scan8 := strings.TrimPrefix(r.jobName, "ws-")
 	token := fmt.Sprintf("%s-%s-%d", scan8, strconv.FormatInt(r.now().UnixMilli(), 36), r.seq)
 	jobDir := filepath.Join(r.scanDir, JobsDir, token)
-	m := &Manifest{First: Slurm().FirstIndex}
+	prof := r.q.Client.Profile()
+	m := &Manifest{First: prof.FirstIndex}
 	meta := JobMeta{Token: token, ScanDir: r.scanDir, Fingerprint: r.fp, Attempts: map[string]int{}}
 	for i := 0; i < len(ts); i += k {
 		var keys []string
@@ -508,7 +516,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 			r.out <- runner.Completion{Task: t, Result: r.failure(t, class, permanent, err.Error())}
 		}
 	}
-	script, err := PrepareJob(Slurm(), spec, m)
+	script, err := PrepareJob(prof, spec, m)
 	if err != nil {
 		fail("submit", true, err)
 		return
@@ -699,10 +707,11 @@ func (q *Queue) DetachNote() string {
 	q.mu.Lock()
 	name := q.jobName
 	q.mu.Unlock()
+	sched := q.Name()
 	if name == "" {
-		return "detached from Slurm; no job was submitted"
+		return fmt.Sprintf("detached from %s; no job was submitted", sched)
 	}
-	return fmt.Sprintf("detached from Slurm: the scan's jobs (name %s) keep running and a later run picks up their results; cancel them with: scancel --me --name=%s", name, name)
+	return fmt.Sprintf("detached from %s: the scan's jobs (name %s) keep running and a later run picks up their results; see them with 'wellscan status DIR', cancel them with 'wellscan cancel DIR'", sched, name)
 }
 
 // Packing from measured point times (lessons memo §2; the numbers are
@@ -743,5 +752,9 @@ func PackSize(configured int, measured []time.Duration, limit time.Duration) int
 // ClientFor returns a client for the scheduler spec's [queue] names,
 // running commands with os/exec.
 func ClientFor(spec *planner.Spec) (*Client, error) {
-	return NewClient(Slurm(), ExecRunner{})
+	cfg, err := DecodeConfig(spec)
+	if err != nil {
+		return nil, err
+	}
+	return NewClient(cfg.SchedulerProfile(), ExecRunner{})
 }

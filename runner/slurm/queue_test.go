@@ -175,7 +175,7 @@ func fakeScanDir(t *testing.T) string {
 
 // runFakeIn runs (or resumes) the scan in dir against fake, attached or
 // detached.
-func runFakeIn(t *testing.T, dir string, fake *fakeSlurm, detach bool) fakeRun {
+func runFakeIn(t *testing.T, dir string, fake Runner, detach bool) fakeRun {
 	t.Helper()
 	spec, err := planner.Load(filepath.Join(dir, "scan.toml"))
 	if err != nil {
@@ -185,7 +185,7 @@ func runFakeIn(t *testing.T, dir string, fake *fakeSlurm, detach bool) fakeRun {
 	if err != nil {
 		t.Fatal(err)
 	}
-	q.Client = mustClient(t, Slurm(), fake)
+	q.Client = mustClient(t, q.Client.Profile(), fake)
 	q.Binary = "/nonexistent/wellscan" // the fake runs the node side in process
 	q.Gather = 20 * time.Millisecond
 	q.Detach = detach
@@ -201,7 +201,8 @@ func runFakeIn(t *testing.T, dir string, fake *fakeSlurm, detach bool) fakeRun {
 	ctx, cancel := context.WithTimeout(t.Context(), 30*time.Second)
 	defer cancel()
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: q, Detach: detach}
-	fr := fakeRun{fake: fake}
+	fr := fakeRun{}
+	fr.fake, _ = fake.(*fakeSlurm)
 	fr.sum, fr.err = r.Run(ctx)
 	recs, err := st.Points()
 	if err != nil {
