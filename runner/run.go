@@ -166,6 +166,9 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 			r.snapshot("interrupted")
 			return r.summary(), errors.Join(fmt.Errorf("runner: %w", err), qe, ferr)
 		}
+		if r.checkJumps() > 0 {
+			continue // recompute the rejected points before refining
+		}
 		plan := planner.Refine(r.Spec, r.samples(), r.round)
 		r.lastPlan = plan
 		rr := r.roundRec(r.round)
@@ -489,7 +492,9 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 		return Task{}, err
 	}
 	t := Task{Key: rec.Key, Values: rec.Values, Mol: mol, Dir: PointDir(r.Dir, rec.Key), Attempt: rec.Attempts + 1}
-	if r.Spec.Engine.Guess != "fresh" {
+	// A point whose energy jumped is recomputed from a cold start: its
+	// continuation guess may be what carried it onto another state.
+	if r.Spec.Engine.Guess != "fresh" && rec.Jumps == 0 {
 		best, bestKey := math.Inf(1), ""
 		for _, o := range r.recs {
 			if o.State != Done || o.Orbitals == "" || o.Key == rec.Key {
@@ -695,6 +700,63 @@ func (r *Runner) apply(rec *PointRecord, res Result) {
 	rec.State = Failed
 	r.touch(rec)
 	r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%s after %d attempts: %s", res.Class, rec.Attempts, res.Error)})
+}
+
+// checkJumps applies the energy-jump rule ([FindJumps], threshold
+// [checks] max_jump_hartree) to the done points. A point rejected for the
+// first time goes back to planned for one more try from a fresh guess,
+// whatever its attempts; a point rejected again fails for good. Either
+// way its result file is moved aside (kept as evidence), so neither a
+// worker nor a resumed run takes the rejected energy back. It returns how
+// many points were planned again.
+func (r *Runner) checkJumps() int {
+	limit := r.Spec.MaxJump()
+	if !(limit > 0) {
+		return 0
+	}
+	recs := make([]PointRecord, 0, len(r.recs))
+	for _, k := range r.keys() {
+		recs = append(recs, *r.recs[k])
+	}
+	replanned := 0
+	for _, j := range FindJumps(recs, limit) {
+		rec := r.recs[j.Key]
+		rec.Jumps++
+		msg := JumpMessage(r.Spec, rec, j, limit)
+		res := filepath.Join(PointDir(r.Dir, rec.Key), ResultFile)
+		aside := filepath.Join(PointDir(r.Dir, rec.Key), fmt.Sprintf("result.%s-%d.json", ClassEnergyJump, rec.Jumps))
+		if err := os.Rename(res, aside); err != nil && !errors.Is(err, os.ErrNotExist) {
+			msg += fmt.Sprintf(" (could not move %s aside: %v)", res, err)
+		}
+		rec.Energy, rec.Converged, rec.Class = nil, false, ClassEnergyJump
+		r.touch(rec)
+		if rec.Jumps == 1 {
+			rec.State, rec.LastError = Planned, msg
+			r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: msg + "; computing it once more from a fresh guess"})
+			replanned++
+			continue
+		}
+		rec.State = Failed
+		rec.LastError = msg + "; it jumped again when recomputed from a fresh guess, so it stays failed"
+		r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: rec.LastError})
+	}
+	return replanned
+}
+
+// JumpMessage is the error text of an energy-jump failure: the point, its
+// coordinates, its energy, both neighbours' energies and the threshold,
+// all labelled.
+func JumpMessage(spec *planner.Spec, rec *PointRecord, j Jump, limit float64) string {
+	where := ""
+	if cs := spec.Coordinates(); j.Coordinate < len(cs) && len(cs) > 1 {
+		where = " along " + cs[j.Coordinate].Name
+	}
+	dir := "above"
+	if j.Energy < j.PrevEnergy {
+		dir = "below"
+	}
+	return fmt.Sprintf("energy jump at %s (%s): E = %.10f hartree is %s both neighbours%s, %s with E = %.10f hartree (%+.6f) and %s with E = %.10f hartree (%+.6f), and %.6f hartree off the curve through its neighbours; [checks] max_jump_hartree = %g hartree",
+		rec.Key, spec.Describe(rec.Values), j.Energy, dir, where, j.Prev, j.PrevEnergy, j.Energy-j.PrevEnergy, j.Next, j.NextEnergy, j.Energy-j.NextEnergy, math.Abs(j.Energy-j.Curve), limit)
 }
 
 // samples turns records into refinement input.
