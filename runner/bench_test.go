@@ -2,6 +2,8 @@ package runner_test
 
 import (
 	"fmt"
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 	"time"
@@ -90,4 +92,28 @@ func benchOverhead(b *testing.B, n, workers int) {
 		}
 	}
 	b.ReportMetric(float64(total.Microseconds())/1000/float64(b.N*n), "ms/point")
+}
+
+// BenchmarkPointFiles_Floor measures what the filesystem charges for the
+// files every point needs whatever the orchestration does: its directory
+// and one new file in it (a scan point on the model backend creates three:
+// the directory, the model's state file and the result file). It puts the
+// overhead benchmark's ms/point in proportion.
+func BenchmarkPointFiles_Floor(b *testing.B) {
+	dir := filepath.Join(b.TempDir(), runner.PointsDir)
+	if err := os.Mkdir(dir, 0o700); err != nil {
+		b.Fatal(err)
+	}
+	data := make([]byte, 600) // about a result file
+	n := 0
+	for b.Loop() {
+		d := filepath.Join(dir, fmt.Sprintf("r=%.5f", float64(n)/1000))
+		n++
+		if err := os.Mkdir(d, 0o700); err != nil {
+			b.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(d, "f"), data, 0o600); err != nil {
+			b.Fatal(err)
+		}
+	}
 }
