@@ -779,7 +779,7 @@ func (r *Runner) checkJumps() int {
 	for _, j := range FindJumps(recs, limit) {
 		rec := r.recs[j.Key]
 		rec.Jumps++
-		msg := JumpMessage(r.Spec, rec, j, limit)
+		msg := jumpMessage(r.Spec, rec, j, limit)
 		res := filepath.Join(PointDir(r.Dir, rec.Key), ResultFile)
 		aside := filepath.Join(PointDir(r.Dir, rec.Key), fmt.Sprintf("result.%s-%d.json", ClassEnergyJump, rec.Jumps))
 		if err := os.Rename(res, aside); err != nil && !errors.Is(err, os.ErrNotExist) {
@@ -800,10 +800,10 @@ func (r *Runner) checkJumps() int {
 	return replanned
 }
 
-// JumpMessage is the error text of an energy-jump failure: the point, its
+// jumpMessage is the error text of an energy-jump failure: the point, its
 // coordinates, its energy, both neighbours' energies and the threshold,
 // all labelled.
-func JumpMessage(spec *planner.Spec, rec *PointRecord, j Jump, limit float64) string {
+func jumpMessage(spec *planner.Spec, rec *PointRecord, j Jump, limit float64) string {
 	where := ""
 	if cs := spec.Coordinates(); j.Coordinate < len(cs) && len(cs) > 1 {
 		where = " along " + cs[j.Coordinate].Name
