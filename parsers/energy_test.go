@@ -290,6 +290,10 @@ func TestPlausibility_Spikes(t *testing.T) {
 		// A step: far from one neighbour, near the other; a change of
 		// state is possible there, so it is not flagged.
 		{"step", []float64{-1.0, -1.1, -2.0, -2.01, -2.02}, nil},
+		// A steep wall: 1 hartree down on each side of the middle point,
+		// above one neighbour and below the other; not a spike.
+		{"steep monotonic wall", []float64{1.0, 0.0, -1.0, -1.9, -2.5}, nil},
+		{"just inside the limit", []float64{-1.0, -1.1, -1.59, -1.1, -1.0}, nil},
 		{"end point never", []float64{-5.0, -1.1, -1.15}, nil},
 		{"NaN neighbour skipped", []float64{-1.0, math.NaN(), -3.0, -1.1}, nil},
 		{"short", []float64{-1}, nil},

@@ -14,11 +14,13 @@ type Plausibility struct {
 	// energy of a bound molecule is negative (common practice); set this
 	// when the extracted quantity is a relative or interaction energy.
 	AllowPositive bool
-	// MaxJump (hartree) flags a point whose energy differs by more than
-	// MaxJump from both of its neighbours along the scan (a spike: another
-	// electronic state, a collapsed SCF). Zero or negative turns the check
-	// off. A step — far from one neighbour, near the other — is not
-	// flagged, because a real curve can change state there.
+	// MaxJump (hartree) flags a point whose energy lies more than MaxJump
+	// above both of its neighbours along the scan, or more than MaxJump
+	// below both (a spike: another electronic state, a collapsed SCF).
+	// Zero or negative turns the check off. A step — far from one
+	// neighbour, near the other — is not flagged, because a real curve can
+	// change state there; nor is a steep monotonic stretch (a repulsive
+	// wall), where the point is above one neighbour and below the other.
 	MaxJump float64
 }
 
@@ -34,16 +36,17 @@ func (p Plausibility) Check(e float64) error {
 	return nil
 }
 
-// CheckNeighbours rejects e when it differs by more than MaxJump from both
-// prev and next (all in hartree). It does nothing when MaxJump ≤ 0 or a
-// neighbour is not finite. The error wraps [ErrEnergyInvalid].
+// CheckNeighbours rejects e when it lies more than MaxJump above both prev
+// and next, or more than MaxJump below both (all in hartree). It does
+// nothing when MaxJump ≤ 0 or a value is not finite. The error wraps
+// [ErrEnergyInvalid].
 func (p Plausibility) CheckNeighbours(prev, e, next float64) error {
 	if !(p.MaxJump > 0) || !finite(prev) || !finite(next) || !finite(e) {
 		return nil
 	}
-	dp, dn := math.Abs(e-prev), math.Abs(e-next)
-	if dp > p.MaxJump && dn > p.MaxJump {
-		return fmt.Errorf("%w: energy %.10g hartree jumps by %.3g and %.3g hartree from its two neighbours (allowed: %.3g)", ErrEnergyInvalid, e, e-prev, e-next, p.MaxJump)
+	dp, dn := e-prev, e-next
+	if (dp > p.MaxJump && dn > p.MaxJump) || (dp < -p.MaxJump && dn < -p.MaxJump) {
+		return fmt.Errorf("%w: energy %.10g hartree jumps by %+.3g and %+.3g hartree from its two neighbours (allowed: %.3g)", ErrEnergyInvalid, e, dp, dn, p.MaxJump)
 	}
 	return nil
 }

@@ -27,6 +27,7 @@ type Spec struct {
 	Refine        RefineSpec   `toml:"refine"`
 	Engine        EngineSpec   `toml:"engine"`
 	Queue         QueueSpec    `toml:"queue"`
+	Checks        ChecksSpec   `toml:"checks"`
 
 	// Filled by Decode.
 	file   string // file name used in messages
@@ -119,10 +120,13 @@ type EngineSpec struct {
 // pipeline checks. All constants are in atomic units: hartree, bohr,
 // radians.
 type ModelSpec struct {
-	Offset float64     `toml:"offset"` // hartree, added to every energy
-	Delay  Duration    `toml:"delay"`  // sleep per point, to make tests and demos observable
-	Fail   []string    `toml:"fail"`   // point keys that always fail (for tests of failure handling)
-	Terms  []ModelTerm `toml:"term"`   // one or more [[engine.model.term]]
+	Offset float64  `toml:"offset"` // hartree, added to every energy
+	Delay  Duration `toml:"delay"`  // sleep per point, to make tests and demos observable
+	Fail   []string `toml:"fail"`   // point keys that always fail (for tests of failure handling)
+	// Spikes adds an energy (hartree) to the listed point keys, for tests
+	// and demos of the energy-jump check: a point on "another state".
+	Spikes map[string]float64 `toml:"spikes"`
+	Terms  []ModelTerm        `toml:"term"` // one or more [[engine.model.term]]
 }
 
 // ModelTerm is one [[engine.model.term]]: a potential in one scanned
@@ -136,6 +140,16 @@ type ModelTerm struct {
 	Sigma      float64 `toml:"sigma"`      // lennard-jones σ (bohr)
 	Force      float64 `toml:"force"`      // harmonic force constant k (hartree/bohr² or /rad²), E = k/2 (q−c)²
 	Tilt       float64 `toml:"tilt"`       // double-well linear tilt (hartree per bohr or rad)
+}
+
+// ChecksSpec is the [checks] table: plausibility rules the runner applies
+// to the finished points of a scan.
+type ChecksSpec struct {
+	// MaxJumpHartree: a done interior point of a scan line whose energy is
+	// more than this above (or below) both of its neighbours, and this far
+	// from the curve interpolated through its neighbours, is marked failed
+	// ("energy-jump"). nil: DefaultMaxJump; 0 turns the check off.
+	MaxJumpHartree *float64 `toml:"max_jump_hartree"`
 }
 
 // QueueSpec is the [queue] table.
@@ -248,14 +262,15 @@ func decode(data []byte, filename, dir string) (*Spec, error) {
 // suggest names the keys allowed where an unknown key appeared.
 func suggest(k toml.Key) string {
 	allowed := map[string]string{
-		"":                  "title, molecule, scan, refine, engine, queue",
+		"":                  "title, molecule, scan, refine, engine, queue, checks",
 		"molecule":          "charge, multiplicity, units, geometry, file, isotopes",
 		"scan":              "name, bond, angle, torsion, bonds, angles, torsions, moving, from, to, step, count, values, growth",
 		"refine":            "adaptive, target_step, tolerance, frequency_tolerance, max_rounds, max_points, max_extensions, maxima",
 		"engine":            "kind, method, basis, cartesian, max_iterations, convergence, guess, model, command",
-		"engine.model":      "offset, delay, fail, term",
+		"engine.model":      "offset, delay, fail, spikes, term",
 		"engine.model.term": "coordinate, shape, depth, center, width, sigma, force, tilt",
 		"queue":             "kind, workers, threads, attempts, timeout, slurm",
+		"checks":            "max_jump_hartree",
 	}
 	parent := strings.Join(k[:len(k)-1], ".")
 	if a, ok := allowed[parent]; ok {

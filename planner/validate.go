@@ -38,6 +38,15 @@ const (
 	DefaultMaxPoints          = 400
 	DefaultMaxExtensions      = 6
 	DefaultAttempts           = 3
+	// DefaultMaxJump (hartree) for [checks] max_jump_hartree: far above
+	// the point-to-point change of a bound curve at the steps scans use
+	// near a minimum (a stiff bond, k ≈ 1.2 hartree/bohr², changes by
+	// about 0.02 hartree over 0.1 Å), far below the gap to another SCF
+	// solution that makes a point jump (a few tenths of a hartree).
+	// Common practice; the numbers are order-of-magnitude estimates.
+	DefaultMaxJump = 0.05
+	// maxMaxJump bounds the setting: anything larger is not a check.
+	maxMaxJump = 100.0
 )
 
 var nameRE = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9_]{0,15}$`)
@@ -56,6 +65,9 @@ func (s *Spec) validate() error {
 		return err
 	}
 	if err := s.validateQueue(); err != nil {
+		return err
+	}
+	if err := s.validateChecks(); err != nil {
 		return err
 	}
 	// Every initial point must give a sensible geometry.
@@ -521,6 +533,14 @@ func (s *Spec) validateEngine() error {
 				return err
 			}
 		}
+		for _, k := range sortedKeys(e.Model.Spikes) {
+			if _, err := s.ParseKey(k); err != nil {
+				return s.errAt("engine.model.spikes", "%q: %s", k, strings.TrimPrefix(err.Error(), "planner: "))
+			}
+			if v := e.Model.Spikes[k]; math.IsNaN(v) || math.IsInf(v, 0) {
+				return s.errAt("engine.model.spikes", "%q: expected a finite energy in hartree, got %g", k, v)
+			}
+		}
 		for i, k := range e.Model.Fail {
 			if _, err := s.ParseKey(k); err != nil {
 				return s.errAt("engine.model.fail", "entry %d: %s", i+1, strings.TrimPrefix(err.Error(), "planner: "))
@@ -563,6 +583,22 @@ func (s *Spec) validateQueue() error {
 		return s.errAt("queue.attempts", "must be between 1 and 100, got %d", q.Attempts)
 	}
 	return nil
+}
+
+func (s *Spec) validateChecks() error {
+	if v := s.Checks.MaxJumpHartree; v != nil && !(*v >= 0 && *v <= maxMaxJump) {
+		return s.errAt("checks.max_jump_hartree", "must be between 0 (off) and %g hartree, got %g", maxMaxJump, *v)
+	}
+	return nil
+}
+
+// MaxJump is the energy-jump threshold in hartree ([checks]
+// max_jump_hartree, default DefaultMaxJump); 0 means the check is off.
+func (s *Spec) MaxJump() float64 {
+	if v := s.Checks.MaxJumpHartree; v != nil {
+		return *v
+	}
+	return DefaultMaxJump
 }
 
 // CoordinateIndex returns the index of the coordinate named name, or −1.

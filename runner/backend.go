@@ -14,7 +14,9 @@ type Task struct {
 	Dir     string // points/<key>/, created before Compute is called; the backend may write there
 	Attempt int    // 1 for the first try
 	// GuessPath is the orbitals file of the nearest done neighbour, "" if
-	// none (or if the spec turns the continuation guess off).
+	// none, if the spec turns the continuation guess off, or if the point
+	// is recomputed after an energy jump (a cold start: the neighbour's
+	// orbitals may be what led it onto another state).
 	GuessPath string
 	Threads   int // engine threads this point may use
 }

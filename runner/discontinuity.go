@@ -6,6 +6,8 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+
+	"wellscan/parsers"
 )
 
 // Suspect is a done point whose energy or ⟨S²⟩ breaks with its
@@ -139,4 +141,186 @@ func lagrange(xs, ys []float64, x float64) float64 {
 		s += l * ys[i]
 	}
 	return s
+}
+
+// ClassEnergyJump is the failure class of a point that the energy-jump
+// rule rejected (see [FindJumps]).
+const ClassEnergyJump = "energy-jump"
+
+// Jump is a done point that breaks away from both of its neighbours along
+// one scan line. Energies are hartree.
+type Jump struct {
+	Key string
+	// Coordinate is the index (in [[scan]] order) of the line's coordinate.
+	Coordinate int
+	Prev, Next string // the neighbours' keys
+	Energy     float64
+	PrevEnergy float64
+	NextEnergy float64
+	// Curve is the energy, interpolated through the neighbours, that comes
+	// closest to Energy: the point is off the curve by Energy − Curve.
+	Curve float64
+}
+
+// FindJumps applies the energy-jump rule to the done points of recs with
+// threshold maxJump (hartree; ≤ 0: off). Along each scan line (points
+// whose other coordinates agree, in coordinate order) an interior point is
+// a jump when
+//
+//   - its energy lies more than maxJump above both neighbours, or more
+//     than maxJump below both ([parsers.Plausibility.CheckNeighbours]), and
+//   - every low-order polynomial through its neighbours (the cubic through
+//     two on each side, the quadratics through two on one side and one on
+//     the other, whichever exist) misses it by more than maxJump, and
+//   - the curve bends the other way at its neighbours than at the point
+//     (second differences of opposite sign), as a spike makes it do; a
+//     coarsely sampled well or barrier bends the same way at the point
+//     and at least one neighbour.
+//
+// The first condition alone would flag a real minimum on a coarse grid
+// (the curve rises on both sides); the other two ask whether the curve
+// through the neighbours explains the point, which it does at a minimum.
+// A steep repulsive wall never meets the first condition: it falls
+// monotonically. A point with only one neighbour on each
+// side and none further out cannot be told from an extremum and is never
+// flagged; nor are the ends of a line.
+//
+// Within a line the worst jump is taken out first and the line looked at
+// again, so a spike does not drag its neighbours in. The result is
+// sorted by key, one entry per key; the same records always give the
+// same result.
+func FindJumps(recs []PointRecord, maxJump float64) []Jump {
+	if !(maxJump > 0) {
+		return nil
+	}
+	plaus := parsers.Plausibility{MaxJump: maxJump, AllowPositive: true}
+	var done []PointRecord
+	for _, r := range recs {
+		if r.State == Done && r.Energy != nil && len(r.Values) > 0 {
+			done = append(done, r)
+		}
+	}
+	if len(done) == 0 {
+		return nil
+	}
+	found := map[string]Jump{}
+	dim := len(done[0].Values)
+	for d := range dim {
+		for _, line := range scanLines(done, d) {
+			for len(line) >= 4 {
+				worst, wj, wdev := -1, Jump{}, 0.0
+				for i := 1; i+1 < len(line); i++ {
+					e, ep, en := *line[i].Energy, *line[i-1].Energy, *line[i+1].Energy
+					if plaus.CheckNeighbours(ep, e, en) == nil {
+						continue
+					}
+					curve, ok := closestCurve(line, i, d)
+					if !ok || math.Abs(e-curve) <= maxJump || smoothExtremum(line, i, d) {
+						continue
+					}
+					if dev := math.Abs(e - curve); worst < 0 || dev > wdev {
+						worst, wdev = i, dev
+						wj = Jump{Key: line[i].Key, Coordinate: d, Prev: line[i-1].Key, Next: line[i+1].Key,
+							Energy: e, PrevEnergy: ep, NextEnergy: en, Curve: curve}
+					}
+				}
+				if worst < 0 {
+					break
+				}
+				if _, ok := found[wj.Key]; !ok {
+					found[wj.Key] = wj
+				}
+				line = append(line[:worst:worst], line[worst+1:]...)
+			}
+		}
+	}
+	out := make([]Jump, 0, len(found))
+	for _, j := range found {
+		out = append(out, j)
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i].Key < out[j].Key })
+	return out
+}
+
+// scanLines groups records (all of the same dimension) into the lines
+// along coordinate d, each sorted along d; lines come in a fixed order.
+func scanLines(recs []PointRecord, d int) [][]PointRecord {
+	dim := len(recs[0].Values)
+	lines := map[string][]PointRecord{}
+	for _, r := range recs {
+		if len(r.Values) != dim {
+			continue
+		}
+		var other []string
+		for k, v := range r.Values {
+			if k != d {
+				other = append(other, strconv.FormatFloat(v, 'g', 9, 64))
+			}
+		}
+		id := strings.Join(other, ",")
+		lines[id] = append(lines[id], r)
+	}
+	ids := make([]string, 0, len(lines))
+	for id := range lines {
+		ids = append(ids, id)
+	}
+	sort.Strings(ids)
+	out := make([][]PointRecord, 0, len(ids))
+	for _, id := range ids {
+		line := lines[id]
+		sort.Slice(line, func(i, j int) bool { return line[i].Values[d] < line[j].Values[d] })
+		out = append(out, line)
+	}
+	return out
+}
+
+// smoothExtremum reports whether line[i] (above or below both
+// neighbours) sits where the sampled curve bends the same way at i and at
+// one of its neighbours (one that has two neighbours of its own): a well
+// or a barrier the grid resolves coarsely. A spike bends the curve the
+// other way at both neighbours: a point pushed down by s makes the second
+// difference at i−1 and i+1 smaller by s, negative once s exceeds the
+// curve's own second difference there (for a well, about k·h² at step h).
+// One neighbour is enough to explain the point because on a very coarse
+// grid the far side of a well is already past its inflection (for a
+// Morse well, ln 2/a beyond the minimum) and bends the other way there.
+// So a downward jump smaller than the curve's change over a step is not
+// told apart from a minimum — it cannot be, from the energies alone.
+func smoothExtremum(line []PointRecord, i, d int) bool {
+	bend := func(j int) float64 {
+		x0, x1, x2 := line[j-1].Values[d], line[j].Values[d], line[j+1].Values[d]
+		e0, e1, e2 := *line[j-1].Energy, *line[j].Energy, *line[j+1].Energy
+		return (e2-e1)/(x2-x1) - (e1-e0)/(x1-x0)
+	}
+	b := bend(i)
+	for _, j := range []int{i - 1, i + 1} {
+		if j >= 1 && j+1 < len(line) && bend(j)*b > 0 {
+			return true
+		}
+	}
+	return false
+}
+
+// closestCurve interpolates the energy at line[i] from its neighbours
+// with every stencil that exists — {i−2, i−1, i+1, i+2} (cubic),
+// {i−2, i−1, i+1} and {i−1, i+1, i+2} (quadratics) — and returns the value
+// nearest the point's own energy; ok is false when no stencil exists.
+func closestCurve(line []PointRecord, i, d int) (float64, bool) {
+	e := *line[i].Energy
+	best, ok := 0.0, false
+	for _, st := range [][]int{{i - 2, i - 1, i + 1, i + 2}, {i - 2, i - 1, i + 1}, {i - 1, i + 1, i + 2}} {
+		if st[0] < 0 || st[len(st)-1] >= len(line) {
+			continue
+		}
+		var xs, ys []float64
+		for _, j := range st {
+			xs = append(xs, line[j].Values[d])
+			ys = append(ys, *line[j].Energy)
+		}
+		v := lagrange(xs, ys, line[i].Values[d])
+		if !ok || math.Abs(e-v) < math.Abs(e-best) {
+			best, ok = v, true
+		}
+	}
+	return best, ok
 }

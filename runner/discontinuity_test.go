@@ -62,3 +62,125 @@ func TestFindDiscontinuities_Line(t *testing.T) {
 		})
 	}
 }
+
+// morseAt is the invented Morse curve of morseLine (hartree, r in bohr).
+func morseAt(r float64) float64 { return -112.7 + 0.41*math.Pow(1-math.Exp(-1.22*(r-2.135)), 2) }
+
+func gridAround(center, step float64, lo, hi int, offset float64) []float64 {
+	var rs []float64
+	for i := lo; i <= hi; i++ {
+		rs = append(rs, center+(float64(i)+offset)*step)
+	}
+	return rs
+}
+
+func TestFindJumps_NoFalsePositives(t *testing.T) {
+	const bohrPerAngstrom = 1 / 0.529177210544 // CODATA 2018 Bohr radius
+	tests := []struct {
+		name string
+		rs   []float64
+	}{
+		// The repulsive wall from 0.6 to 2.0 bohr in 0.2 bohr steps: the
+		// energy falls from 12.4 to 0.013 hartree above the minimum, by up
+		// to 5.5 hartree per step — far more than the threshold from both
+		// neighbours, but monotonically.
+		{"steep repulsive wall, coarse", gridAround(0.6, 0.2, 0, 7, 0)},
+		{"wall into the well, 0.3 bohr steps", gridAround(0.5, 0.3, 0, 10, 0)},
+	}
+	// Coarse grids across the minimum, shifted so the minimum falls
+	// anywhere between two points: at 0.2 Å a grid point on the minimum
+	// lies 0.056 and 0.14 hartree below its neighbours, beyond the
+	// 0.05 hartree default on both sides.
+	for _, stepA := range []float64{0.05, 0.1, 0.2, 0.3, 0.5} {
+		for _, off := range []float64{0, 0.25, 0.5, 0.75} {
+			tests = append(tests, struct {
+				name string
+				rs   []float64
+			}{fmt.Sprintf("minimum, step %.2f Å, offset %.2f", stepA, off), gridAround(2.135, stepA*bohrPerAngstrom, -4, 6, off)})
+		}
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			for _, limit := range []float64{0.01, 0.05} {
+				if got := FindJumps(morseLine(tc.rs, nil), limit); len(got) != 0 {
+					t.Errorf("limit %g hartree: flagged %+v on a smooth Morse curve", limit, got)
+				}
+			}
+		})
+	}
+}
+
+func TestFindJumps_Spikes(t *testing.T) {
+	rs := gridAround(1.7, 0.094, 0, 12, 0) // 0.05 Å steps across the well
+	tests := []struct {
+		name  string
+		at    int
+		shift float64 // hartree added to point at
+		limit float64
+		want  []string
+	}{
+		{"spike up", 6, 0.2, 0.05, []string{"r=2.26400"}},
+		{"spike down", 6, -0.2, 0.05, []string{"r=2.26400"}},
+		{"spike up next to the end", 1, 0.2, 0.05, []string{"r=1.79400"}},
+		{"below the threshold", 6, 0.04, 0.05, nil},
+		{"check off", 6, 0.2, 0, nil},
+		{"end point is never judged", 0, 0.2, 0.05, nil},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			recs := morseLine(rs, nil)
+			*recs[tc.at].Energy += tc.shift
+			got := FindJumps(recs, tc.limit)
+			var keys []string
+			for _, j := range got {
+				keys = append(keys, j.Key)
+				i := tc.at
+				if j.Prev != recs[i-1].Key || j.Next != recs[i+1].Key || j.Energy != *recs[i].Energy ||
+					j.PrevEnergy != *recs[i-1].Energy || j.NextEnergy != *recs[i+1].Energy {
+					t.Errorf("jump %+v does not name the point's neighbours and energies", j)
+				}
+				// The curve through the neighbours is the Morse value to
+				// well within the 0.2 hartree spike.
+				if math.Abs(j.Curve-morseAt(recs[i].Values[0])) > 0.01 {
+					t.Errorf("curve %.6f, Morse %.6f", j.Curve, morseAt(recs[i].Values[0]))
+				}
+			}
+			if fmt.Sprint(keys) != fmt.Sprint(tc.want) {
+				t.Errorf("FindJumps = %v, want %v", keys, tc.want)
+			}
+		})
+	}
+}
+
+func TestFindJumps_TwoSpikesOnOneLine(t *testing.T) {
+	recs := morseLine(gridAround(1.7, 0.094, 0, 12, 0), nil)
+	*recs[3].Energy += 0.3
+	*recs[8].Energy -= 0.25
+	got := FindJumps(recs, 0.05)
+	if len(got) != 2 || got[0].Key != recs[3].Key || got[1].Key != recs[8].Key {
+		t.Errorf("FindJumps = %+v, want %s and %s only", got, recs[3].Key, recs[8].Key)
+	}
+}
+
+func TestFindJumps_Grid2D(t *testing.T) {
+	// Morse in r plus a harmonic bend (k = 0.2 hartree/rad², invented) on
+	// a 9 × 7 grid; one point spiked by 0.15 hartree.
+	var recs []PointRecord
+	for i := range 9 {
+		r := 1.8 + 0.1*float64(i)
+		for j := range 7 {
+			th := 1.6 + 0.1*float64(j)
+			e := morseAt(r) + 0.1*(th-1.9)*(th-1.9)
+			recs = append(recs, PointRecord{Key: fmt.Sprintf("r=%.5f,a=%.3f", r, th), Values: []float64{r, th}, State: Done, Energy: &e})
+		}
+	}
+	if got := FindJumps(recs, 0.05); len(got) != 0 {
+		t.Fatalf("smooth grid: flagged %+v", got)
+	}
+	spiked := recs[4*7+3]
+	*spiked.Energy += 0.15
+	got := FindJumps(recs, 0.05)
+	if len(got) != 1 || got[0].Key != spiked.Key {
+		t.Fatalf("FindJumps = %+v, want only %s", got, spiked.Key)
+	}
+}

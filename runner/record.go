@@ -47,6 +47,10 @@ type PointRecord struct {
 	Started    time.Time          `json:"started,omitzero"`
 	Finished   time.Time          `json:"finished,omitzero"`
 	Seconds    float64            `json:"seconds,omitempty"` // compute time of the successful attempt
+	// Jumps counts how often the energy-jump rule rejected the point's
+	// energy (see FindJumps): 1 = recomputed once from a fresh guess,
+	// 2 = failed for good.
+	Jumps int `json:"energy_jumps,omitempty"`
 }
 
 // Event is one entry of the store's append-only event log, and what

@@ -40,14 +40,25 @@ type Result struct {
 // PointDir is the work directory of the point with key in scan dir.
 func PointDir(dir, key string) string { return filepath.Join(dir, PointsDir, key) }
 
-// WriteResult writes r to points/<key>/result.json atomically.
+// WriteResult writes r to points/<key>/result.json atomically and
+// durably (temporary file, fsync, rename, fsync of the directory): the
+// file is the proof of work of a point computed where the store is not
+// open, as on a compute node.
 func WriteResult(dir string, r Result) error {
+	return writeResult(dir, r, tmpSuffix(), true)
+}
+
+// writeResult writes r's result file through a temporary file named with
+// suffix and a rename; durable adds the fsyncs. Without them a crash of
+// the machine (not of the process: the page cache survives that) can
+// leave the file missing or empty, which ReadResult treats as absent.
+func writeResult(dir string, r Result, suffix string, durable bool) error {
 	r.V = resultVersion
 	b, err := json.MarshalIndent(r, "", "  ")
 	if err != nil {
 		return fmt.Errorf("runner: result %s: %w", r.Key, err)
 	}
-	return WriteFileAtomic(filepath.Join(PointDir(dir, r.Key), ResultFile), append(b, '\n'))
+	return writeFileAtomic(filepath.Join(PointDir(dir, r.Key), ResultFile), append(b, '\n'), suffix, durable)
 }
 
 // ReadResult reads the result file of key. ok is false when the file is
@@ -72,9 +83,21 @@ func ReadResult(dir, key, fingerprint string) (Result, bool) {
 // same directory: write, fsync, close, rename, fsync the directory. A
 // reader sees the old file or the new one, never a mix.
 func WriteFileAtomic(path string, data []byte) error {
-	dir := filepath.Dir(path)
+	return writeFileAtomic(path, data, tmpSuffix(), true)
+}
+
+// tmpSuffix names this process's temporary files: host and PID, so that
+// writers on several machines sharing a filesystem never collide.
+func tmpSuffix() string {
 	host, _ := os.Hostname()
-	tmp := fmt.Sprintf("%s.tmp.%s.%d", path, strings.ReplaceAll(host, "/", "_"), os.Getpid())
+	return fmt.Sprintf("%s.%d", strings.ReplaceAll(host, "/", "_"), os.Getpid())
+}
+
+// writeFileAtomic is WriteFileAtomic with the temporary file's suffix
+// given; durable false leaves out both fsyncs (atomic against a crash of
+// the process, not of the machine).
+func writeFileAtomic(path string, data []byte, suffix string, durable bool) error {
+	tmp := path + ".tmp." + suffix
 	f, err := os.OpenFile(tmp, os.O_WRONLY|os.O_CREATE|os.O_TRUNC, 0o600)
 	if err != nil {
 		return fmt.Errorf("runner: %w", err)
@@ -84,10 +107,12 @@ func WriteFileAtomic(path string, data []byte) error {
 		os.Remove(tmp)
 		return fmt.Errorf("runner: write %s: %w", tmp, err)
 	}
-	if err := f.Sync(); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return fmt.Errorf("runner: sync %s: %w", tmp, err)
+	if durable {
+		if err := f.Sync(); err != nil {
+			f.Close()
+			os.Remove(tmp)
+			return fmt.Errorf("runner: sync %s: %w", tmp, err)
+		}
 	}
 	if err := f.Close(); err != nil {
 		os.Remove(tmp)
@@ -99,6 +124,10 @@ func WriteFileAtomic(path string, data []byte) error {
 			return fmt.Errorf("runner: rename %s: %w", tmp, err)
 		}
 	}
+	if !durable {
+		return nil
+	}
+	dir := filepath.Dir(path)
 	d, err := os.Open(dir)
 	if err != nil {
 		return fmt.Errorf("runner: %w", err)

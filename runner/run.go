@@ -88,6 +88,8 @@ type Runner struct {
 	reused    int
 	round     int
 	lastPlan  planner.RefinePlan
+	host      string // this machine, for result files
+	suffix    string // temporary-file suffix of this process
 }
 
 // Summary is the outcome of Run.
@@ -133,6 +135,8 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 		r.CPUs = runtime.NumCPU()
 	}
 	r.start = r.Now()
+	r.host, _ = os.Hostname()
+	r.suffix = tmpSuffix()
 	fp, _ := json.Marshal(r.Spec.Fingerprint())
 	r.fp = string(fp)
 	r.dirty, r.dirtyR = map[string]bool{}, map[int]bool{}
@@ -188,6 +192,9 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 			_ = r.flush()
 			r.snapshot("interrupted")
 			return r.summary(), errors.Join(fmt.Errorf("runner: %w", err), qe, ferr)
+		}
+		if r.checkJumps() > 0 {
+			continue // recompute the rejected points before refining
 		}
 		plan := planner.Refine(r.Spec, r.samples(), r.round)
 		r.lastPlan = plan
@@ -257,7 +264,11 @@ func (r *Runner) reconcile() error {
 	resumed := 0
 	for _, k := range r.keys() {
 		rec := r.recs[k]
-		if rec.State == Done || rec.State == Failed {
+		if rec.State == Done {
+			r.restoreResult(rec)
+			continue
+		}
+		if rec.State == Failed {
 			continue
 		}
 		inFlight := rec.State == Submitted || rec.State == Running
@@ -302,6 +313,33 @@ func (r *Runner) reconcile() error {
 		r.emit(Event{Kind: "resume", Round: r.round, Message: fmt.Sprintf("resumed: %d points reconciled with their result files", resumed)})
 	}
 	return r.flush()
+}
+
+// restoreResult rewrites the result file of a done point when it is
+// missing or unreadable. Points computed in this process are recorded by
+// the store; their result files are written without fsync and a machine
+// crash can lose them. They are a copy for people and for compute nodes
+// (which read their neighbours' result files for continuation guesses),
+// so they are rebuilt from the record.
+func (r *Runner) restoreResult(rec *PointRecord) {
+	if _, ok := ReadResult(r.Dir, rec.Key, r.fp); ok || rec.Energy == nil {
+		return
+	}
+	res := Result{Key: rec.Key, Fingerprint: r.fp, Attempt: rec.Attempts, Status: "done", Energy: *rec.Energy,
+		Converged: rec.Converged, Iterations: rec.Iterations, SSquared: rec.SSquared, Extra: rec.Extra,
+		Backend: rec.Backend, Host: r.host, PID: os.Getpid(), Started: rec.Started, Finished: rec.Finished}
+	if rec.Orbitals != "" {
+		if rel, err := filepath.Rel(PointDir(r.Dir, rec.Key), filepath.Join(r.Dir, filepath.FromSlash(rec.Orbitals))); err == nil {
+			res.Orbitals = rel
+		}
+	}
+	if err := os.MkdirAll(PointDir(r.Dir, rec.Key), 0o700); err != nil {
+		return
+	}
+	if err := writeResult(r.Dir, res, r.suffix, false); err != nil {
+		return // a convenience copy; the store has the result
+	}
+	r.emit(Event{Kind: "resume", Key: rec.Key, Round: rec.Round, Message: "result file was missing or unreadable; rewritten from the store"})
 }
 
 func (r *Runner) keys() []string {
@@ -471,9 +509,11 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 		default:
 		}
 		// Commit at most every FlushEvery while points stream in: one
-		// transaction then holds many transitions. Nothing is lost by the
-		// wait — a point is proven done by its result file, which the
-		// worker made durable before reporting.
+		// transaction then holds many transitions, and bbolt's fsync makes
+		// them durable together. Nothing is lost by the wait: if this
+		// process dies first, the result files the workers wrote (in the
+		// page cache, which outlives the process) are taken on resume; if
+		// the machine dies, a point not yet committed is computed again.
 		var flushC <-chan time.Time
 		if r.pendingChanges() {
 			if wait := r.FlushEvery - r.Now().Sub(r.lastFlush); wait > 0 {
@@ -524,7 +564,9 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 		return Task{}, err
 	}
 	t := Task{Key: rec.Key, Values: rec.Values, Mol: mol, Dir: PointDir(r.Dir, rec.Key), Attempt: rec.Attempts + 1}
-	if r.Spec.Engine.Guess != "fresh" {
+	// A point whose energy jumped is recomputed from a cold start: its
+	// continuation guess may be what carried it onto another state.
+	if r.Spec.Engine.Guess != "fresh" && rec.Jumps == 0 {
 		best, bestKey := math.Inf(1), ""
 		for _, o := range r.recs {
 			if o.State != Done || o.Orbitals == "" || o.Key == rec.Key {
@@ -549,9 +591,11 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 
 // work is the Worker: it runs one task in this process and writes its
 // result file. A point whose result file already says done is not
-// computed again.
+// computed again. The result reaches the store through this process, whose
+// commit makes it durable, so the result file is written atomically but
+// without fsync: two fewer disk flushes per point.
 func (r *Runner) work(ctx context.Context, t Task) Completion {
-	return pointComputer{spec: r.Spec, dir: r.Dir, fp: r.fp, backend: r.Backend, now: r.Now}.work(ctx, t)
+	return pointComputer{spec: r.Spec, dir: r.Dir, fp: r.fp, backend: r.Backend, now: r.Now, host: r.host, suffix: r.suffix}.work(ctx, t)
 }
 
 // ComputePoint computes task t of the scan in dir with backend b, exactly
@@ -561,7 +605,9 @@ func (r *Runner) work(ctx context.Context, t Task) Completion {
 // compute-node side of a batch queue can call it. On cancellation it
 // returns a Completion with Interrupted set and writes nothing.
 func ComputePoint(ctx context.Context, spec *planner.Spec, dir string, b Backend, t Task) Completion {
-	return pointComputer{spec: spec, dir: dir, fp: SpecFingerprint(spec), backend: b, now: time.Now}.work(ctx, t)
+	host, _ := os.Hostname()
+	return pointComputer{spec: spec, dir: dir, fp: SpecFingerprint(spec), backend: b, now: time.Now,
+		host: host, suffix: tmpSuffix(), durable: true}.work(ctx, t)
 }
 
 // SpecFingerprint is the fingerprint text result files carry for spec
@@ -573,17 +619,21 @@ func SpecFingerprint(spec *planner.Spec) string {
 
 // pointComputer runs one point in process and writes its result file.
 type pointComputer struct {
-	spec    *planner.Spec
-	dir, fp string
-	backend Backend
-	now     func() time.Time
+	spec         *planner.Spec
+	dir, fp      string
+	backend      Backend
+	now          func() time.Time
+	host, suffix string
+	// durable: fsync the result file (it is the only record of the work,
+	// as on a compute node).
+	durable bool
 }
 
 func (r pointComputer) work(ctx context.Context, t Task) Completion {
 	if res, ok := ReadResult(r.dir, t.Key, r.fp); ok && res.Status == "done" {
 		return Completion{Task: t, Result: res, Reused: true}
 	}
-	if err := os.MkdirAll(t.Dir, 0o700); err != nil {
+	if err := mkdirPoint(t.Dir); err != nil {
 		return Completion{Task: t, Result: r.failure(t, r.now(), "io", err)}
 	}
 	cctx := ctx
@@ -606,10 +656,23 @@ func (r pointComputer) work(ctx context.Context, t Task) Completion {
 	default:
 		res = r.resultOf(t, start, out)
 	}
-	if err := WriteResult(r.dir, res); err != nil {
+	if err := writeResult(r.dir, res, r.suffix, r.durable); err != nil {
 		return Completion{Task: t, Result: r.failure(t, start, "io", err)}
 	}
 	return Completion{Task: t, Result: res}
+}
+
+// mkdirPoint creates a point directory: one mkdir when points/ exists
+// (the common case), MkdirAll otherwise.
+func mkdirPoint(dir string) error {
+	err := os.Mkdir(dir, 0o700)
+	switch {
+	case err == nil, errors.Is(err, os.ErrExist):
+		return nil
+	case errors.Is(err, os.ErrNotExist):
+		return os.MkdirAll(dir, 0o700)
+	}
+	return err
 }
 
 // computeSafely turns a backend panic into an error for that point; a
@@ -627,9 +690,8 @@ func (r pointComputer) computeSafely(ctx context.Context, t Task) (out Outcome, 
 }
 
 func (r pointComputer) base(t Task, start time.Time) Result {
-	host, _ := os.Hostname()
 	return Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Backend: r.backend.Name(),
-		Host: host, PID: os.Getpid(), Started: start, Finished: r.now()}
+		Host: r.host, PID: os.Getpid(), Started: start, Finished: r.now()}
 }
 
 func (r pointComputer) failure(t Task, start time.Time, class string, err error) Result {
@@ -736,6 +798,63 @@ func (r *Runner) apply(rec *PointRecord, res Result) {
 	rec.State = Failed
 	r.touch(rec)
 	r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%s after %d attempts: %s", res.Class, rec.Attempts, res.Error)})
+}
+
+// checkJumps applies the energy-jump rule ([FindJumps], threshold
+// [checks] max_jump_hartree) to the done points. A point rejected for the
+// first time goes back to planned for one more try from a fresh guess,
+// whatever its attempts; a point rejected again fails for good. Either
+// way its result file is moved aside (kept as evidence), so neither a
+// worker nor a resumed run takes the rejected energy back. It returns how
+// many points were planned again.
+func (r *Runner) checkJumps() int {
+	limit := r.Spec.MaxJump()
+	if !(limit > 0) {
+		return 0
+	}
+	recs := make([]PointRecord, 0, len(r.recs))
+	for _, k := range r.keys() {
+		recs = append(recs, *r.recs[k])
+	}
+	replanned := 0
+	for _, j := range FindJumps(recs, limit) {
+		rec := r.recs[j.Key]
+		rec.Jumps++
+		msg := jumpMessage(r.Spec, rec, j, limit)
+		res := filepath.Join(PointDir(r.Dir, rec.Key), ResultFile)
+		aside := filepath.Join(PointDir(r.Dir, rec.Key), fmt.Sprintf("result.%s-%d.json", ClassEnergyJump, rec.Jumps))
+		if err := os.Rename(res, aside); err != nil && !errors.Is(err, os.ErrNotExist) {
+			msg += fmt.Sprintf(" (could not move %s aside: %v)", res, err)
+		}
+		rec.Energy, rec.Converged, rec.Class = nil, false, ClassEnergyJump
+		r.touch(rec)
+		if rec.Jumps == 1 {
+			rec.State, rec.LastError = Planned, msg
+			r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: msg + "; computing it once more from a fresh guess"})
+			replanned++
+			continue
+		}
+		rec.State = Failed
+		rec.LastError = msg + "; it jumped again when recomputed from a fresh guess, so it stays failed"
+		r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: rec.LastError})
+	}
+	return replanned
+}
+
+// jumpMessage is the error text of an energy-jump failure: the point, its
+// coordinates, its energy, both neighbours' energies and the threshold,
+// all labelled.
+func jumpMessage(spec *planner.Spec, rec *PointRecord, j Jump, limit float64) string {
+	where := ""
+	if cs := spec.Coordinates(); j.Coordinate < len(cs) && len(cs) > 1 {
+		where = " along " + cs[j.Coordinate].Name
+	}
+	dir := "above"
+	if j.Energy < j.PrevEnergy {
+		dir = "below"
+	}
+	return fmt.Sprintf("energy jump at %s (%s): E = %.10f hartree is %s both neighbours%s, %s with E = %.10f hartree (%+.6f) and %s with E = %.10f hartree (%+.6f), and %.6f hartree off the curve through its neighbours; [checks] max_jump_hartree = %g hartree",
+		rec.Key, spec.Describe(rec.Values), j.Energy, dir, where, j.Prev, j.PrevEnergy, j.Energy-j.PrevEnergy, j.Next, j.NextEnergy, j.Energy-j.NextEnergy, math.Abs(j.Energy-j.Curve), limit)
 }
 
 // samples turns records into refinement input.

@@ -294,3 +294,43 @@ func TestRunner_Run_CancelLeavesStoreConsistent(t *testing.T) {
 		t.Errorf("resume computed %d after %d done, total done %d: a done point was recomputed", sum.Computed, done, sum.Counts[runner.Done])
 	}
 }
+
+// Result files of points computed in process are a copy of the store
+// (written without fsync); a resume rebuilds a missing or damaged one
+// from the record and computes nothing.
+func TestRunner_Run_RebuildsLostResultFiles(t *testing.T) {
+	dir, spec := scanDir(t, morseSpec)
+	if _, err := runScan(t, t.Context(), dir, spec, 2); err != nil {
+		t.Fatal(err)
+	}
+	fp := runner.SpecFingerprint(spec)
+	want := map[string]runner.Result{}
+	for _, k := range []string{"r=1.05000", "r=1.20000"} {
+		res, ok := runner.ReadResult(dir, k, fp)
+		if !ok {
+			t.Fatalf("%s: no result file after the run", k)
+		}
+		want[k] = res
+	}
+	// A machine crash can leave a file missing or empty.
+	if err := os.Remove(filepath.Join(runner.PointDir(dir, "r=1.05000"), runner.ResultFile)); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(runner.PointDir(dir, "r=1.20000"), runner.ResultFile), nil, 0o600); err != nil {
+		t.Fatal(err)
+	}
+	sum, err := runScan(t, t.Context(), dir, spec, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sum.Computed != 0 {
+		t.Errorf("resume computed %d points, want 0", sum.Computed)
+	}
+	for k, w := range want {
+		got, ok := runner.ReadResult(dir, k, fp)
+		if !ok || got.Status != "done" || got.Energy != w.Energy || got.Attempt != w.Attempt || got.Orbitals != w.Orbitals ||
+			got.Extra["guess_distance"] != w.Extra["guess_distance"] {
+			t.Errorf("%s: rebuilt result %+v (ok %v), want the energy, attempt and orbitals of %+v", k, got, ok, w)
+		}
+	}
+}

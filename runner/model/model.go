@@ -41,6 +41,7 @@ type Backend struct {
 	offset float64
 	delay  time.Duration
 	fail   map[string]bool
+	spikes map[string]float64
 	terms  []term
 }
 
@@ -56,7 +57,7 @@ func New(spec *planner.Spec) (*Backend, error) {
 		return nil, fmt.Errorf("model: engine kind is %q, not \"model\"", spec.Engine.Kind)
 	}
 	m := spec.Engine.Model
-	b := &Backend{offset: m.Offset, delay: m.Delay.Duration, fail: map[string]bool{}}
+	b := &Backend{offset: m.Offset, delay: m.Delay.Duration, fail: map[string]bool{}, spikes: m.Spikes}
 	for _, k := range m.Fail {
 		b.fail[k] = true
 	}
@@ -153,6 +154,8 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if err := os.WriteFile(path, raw, 0o600); err != nil {
 		return runner.Outcome{}, fmt.Errorf("model: %w", err)
 	}
-	return runner.Outcome{Energy: b.Energy(t.Values), Converged: true, Iterations: 1,
+	// A spike (engine.model.spikes) stands for a point that lands on
+	// another state whatever its starting guess.
+	return runner.Outcome{Energy: b.Energy(t.Values) + b.spikes[t.Key], Converged: true, Iterations: 1,
 		OrbitalsPath: "model-state.json", Extra: map[string]float64{"guess_distance": gd}}, nil
 }
