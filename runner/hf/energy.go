@@ -60,7 +60,19 @@ type Options struct {
 	// Guess, if non-nil, starts the SCF from these orbitals (for example a
 	// neighbouring scan point's); they must span the same basis.
 	Guess *Orbitals
-	SCF   SCFOptions
+	// ColdGuesses, when Guess is nil, lists the starting guesses to run;
+	// the lowest converged energy is kept. Empty means the default set:
+	// for RHF the single guess SCF.Guess, or GuessAtoms when SCF.Guess is
+	// left at its zero value (measured to converge in fewer iterations than
+	// the core guess; runner/hf/sad_test.go); for UHF SCF.Guess first, then
+	// core, GWH, atoms, and atoms-spin when at least two atoms have
+	// unpaired electrons in their ground state (a UHF started cold can
+	// settle on an excited or symmetric determinant: OH from the core
+	// guess lies 0.155 Eh above the GWH solution in 6-31G, stretched N2
+	// from core or GWH 0.52 Eh above the broken-symmetry state;
+	// runner/hf/robust_test.go, runner/hf/sad_test.go).
+	ColdGuesses []GuessKind
+	SCF         SCFOptions
 
 	// MP2 settings, used when Method is MP2.
 	//
@@ -106,9 +118,15 @@ type Result struct {
 	Dipole   [3]float64
 	// Wall-clock time spent on integrals and on the SCF iterations.
 	IntegralTime, SCFTime time.Duration
-	// GuessesTried is 2 when an open-shell UHF from a cold start was run
-	// from both the core and the GWH guess and the lower energy kept.
+	// GuessesTried is the number of cold-start guesses run (1 when the
+	// SCF started from Options.Guess orbitals); Trials has one entry per
+	// guess, in the order run. SCFResult.Guess is the one kept.
 	GuessesTried int
+	Trials       []GuessTrial
+	// GuessNotes explains guesses that were skipped or changed (a
+	// spin-polarised guess that fell back to the plain one, a basis too
+	// small for an atom's configuration).
+	GuessNotes []string
 	// GuessRejected is set when Options.Guess could not be used (other
 	// basis dimension) and the core guess was used instead.
 	GuessRejected string
@@ -212,25 +230,7 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		}
 	}
 	start = time.Now()
-	scf, scfErr := RunSCF(ctx, in)
-	// An open-shell UHF started cold can settle on an excited
-	// determinant (OH from the core guess lies 0.155 Eh above the GWH
-	// solution in 6-31G; runner/hf/robust_test.go). Try the other cold
-	// guess as well and keep the lower converged energy.
-	if !in.Restricted && in.GuessOrbitals == nil && in.NAlpha != in.NBeta && ctx.Err() == nil {
-		alt := in
-		alt.Options.Guess = GuessGWH
-		if in.Options.Guess == GuessGWH {
-			alt.Options.Guess = GuessCore
-		}
-		if scf2, err2 := RunSCF(ctx, alt); scf2 != nil && scf2.Converged &&
-			(scf == nil || !scf.Converged || scf2.Energy < scf.Energy-1e-9) {
-			scf, scfErr = scf2, err2
-			res.GuessesTried = 2
-		} else {
-			res.GuessesTried = 2
-		}
-	}
+	scf, scfErr := runGuesses(ctx, mol, opts, &in, res, workers)
 	res.SCFTime = time.Since(start)
 	if scf == nil {
 		return nil, scfErr
@@ -278,4 +278,123 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	res.MP2 = mp
 	res.Energy = mp.Total
 	return res, nil
+}
+
+// GuessTrial is one cold-start SCF run by [Energy].
+type GuessTrial struct {
+	Guess      GuessKind `json:"guess"`
+	Energy     float64   `json:"energy_hartree"`
+	Converged  bool      `json:"converged"`
+	Iterations int       `json:"iterations"`
+	S2         float64   `json:"s_squared"`
+	// Error is set when the run failed before producing a result.
+	Error string `json:"error,omitempty"`
+}
+
+// defaultRHFGuess is the RHF cold start when SCFOptions.Guess is zero.
+const defaultRHFGuess = GuessAtoms
+
+// coldGuesses is the list of guesses Energy runs from a cold start.
+func coldGuesses(mol planner.Molecule, opts Options, restricted bool) []GuessKind {
+	if len(opts.ColdGuesses) > 0 {
+		return opts.ColdGuesses
+	}
+	first := opts.SCF.Guess
+	if restricted {
+		if first == GuessCore {
+			first = defaultRHFGuess
+		}
+		return []GuessKind{first}
+	}
+	list := []GuessKind{first}
+	cands := []GuessKind{GuessCore, GuessGWH, GuessAtoms}
+	if OpenShellAtoms(mol) >= 2 {
+		cands = append(cands, GuessAtomsSpin)
+	}
+	for _, g := range cands {
+		if g != first {
+			list = append(list, g)
+		}
+	}
+	return list
+}
+
+// runGuesses runs the SCF from in.GuessOrbitals, or from every cold guess
+// in turn, and returns the lowest converged result (the first guess's
+// result when none converged).
+func runGuesses(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInput, res *Result, workers int) (*SCFResult, error) {
+	if in.GuessOrbitals != nil {
+		res.GuessesTried = 1
+		return RunSCF(ctx, *in)
+	}
+	list := coldGuesses(mol, opts, in.Restricted)
+	var sad *AtomicGuess
+	var best *SCFResult
+	var bestErr, firstErr error
+	for i, g := range list {
+		if ctx.Err() != nil {
+			break
+		}
+		run := *in
+		run.Options.Guess = g
+		if g == GuessAtoms || g == GuessAtomsSpin {
+			if sad == nil {
+				sad = NewAtomicGuess(opts.Basis, opts.Convention, opts.Norm, workers)
+			}
+			d, err := sad.Density(ctx, mol, g == GuessAtomsSpin)
+			if err != nil {
+				res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("%s guess skipped: %v", g, err))
+				res.Trials = append(res.Trials, GuessTrial{Guess: g, Error: err.Error()})
+				if len(list) == 1 {
+					return nil, err
+				}
+				continue
+			}
+			if d.Note != "" {
+				if len(list) > 1 {
+					// The plain superposition is (or will be) run anyway.
+					res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("%s guess skipped: %s", g, d.Note))
+					continue
+				}
+				res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("%s guess: %s; the plain atoms guess was used", g, d.Note))
+			}
+			run.GuessDensity = d
+		}
+		r, err := RunSCF(ctx, run)
+		res.GuessesTried++
+		tr := GuessTrial{Guess: g}
+		if r != nil {
+			tr.Energy, tr.Converged, tr.Iterations, tr.S2 = r.Energy, r.Converged, r.Iterations, r.S2
+		} else if err != nil {
+			tr.Error = err.Error()
+		}
+		res.Trials = append(res.Trials, tr)
+		if i == 0 {
+			firstErr = err
+		}
+		if r == nil {
+			if ctx.Err() != nil {
+				return nil, err
+			}
+			continue
+		}
+		// Keep the lowest converged state; an earlier guess wins ties
+		// (1e-9 Eh is ten times the default energy tolerance).
+		switch {
+		case best == nil:
+			best, bestErr = r, err
+		case r.Converged && (!best.Converged || r.Energy < best.Energy-1e-9):
+			best, bestErr = r, err
+		}
+	}
+	if best == nil {
+		if firstErr == nil {
+			firstErr = errors.New("hf: no starting guess could be run")
+			if err := ctx.Err(); err != nil {
+				firstErr = fmt.Errorf("hf: scf cancelled: %w", err)
+			}
+		}
+		return nil, firstErr
+	}
+	return best, bestErr
 }
