@@ -23,6 +23,38 @@ type Backend struct {
 	opts      Options
 	useGuess  bool
 	basisName string
+	check     ColdCheck
+}
+
+// ColdCheck selects when a UHF point that started from a neighbour's
+// orbitals is also run from cold guesses, keeping the lower state. A UHF
+// continuation guess with equal α and β orbitals can never break spin
+// symmetry (the α and β Fock matrices stay equal), so a scan that starts
+// on the closed-shell side of a Coulson–Fischer point would otherwise
+// carry the closed-shell solution on into the region where a broken-
+// symmetry state lies lower.
+type ColdCheck int
+
+const (
+	// ColdCheckBrokenSymmetry (the default) runs the atoms-spin guess at
+	// every UHF point of a molecule with at least two open-shell-capable
+	// atoms (one extra SCF per point), and every cold guess wherever the
+	// continuation did not converge. A test of only spin-pure
+	// continuations is not enough: on a 2-D water scan a continuation
+	// chain carried a broken-symmetry state localised on the wrong bond
+	// 0.29 Eh above the lowest state (runner/hf/statechange_test.go).
+	ColdCheckBrokenSymmetry ColdCheck = iota
+	// ColdCheckAlways runs every cold guess at every UHF point.
+	ColdCheckAlways
+	// ColdCheckNever trusts the continuation guess.
+	ColdCheckNever
+)
+
+// WithColdCheck returns a copy of b with the given cold-check policy.
+func (b *Backend) WithColdCheck(c ColdCheck) *Backend {
+	nb := *b
+	nb.check = c
+	return &nb
 }
 
 // NewBackend builds the built-in backend from a validated spec whose
@@ -99,6 +131,37 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if err != nil && !errors.Is(err, ErrNotConverged) {
 		return runner.Outcome{}, err
 	}
+	iterations := 0 // every SCF run for this point, kept or not
+	for _, tr := range res.Trials {
+		iterations += tr.Iterations
+	}
+	checked, replaced := 0.0, 0.0
+	if opts.Guess != nil && res.GuessRejected == "" && res.Reference == UHF && b.needsColdCheck(t.Mol, res) {
+		cold := opts
+		cold.Guess = nil
+		if b.check == ColdCheckBrokenSymmetry && res.Converged {
+			cold.ColdGuesses = []GuessKind{GuessAtomsSpin}
+		}
+		r2, err2 := Energy(ctx, t.Mol, cold)
+		if r2 == nil && ctx.Err() != nil {
+			return runner.Outcome{}, ctx.Err()
+		}
+		if r2 != nil {
+			checked = float64(r2.GuessesTried)
+			for _, tr := range r2.Trials {
+				iterations += tr.Iterations
+			}
+			// Keep the cold state only when it is clearly lower (1e-6 Eh:
+			// a hundred times the SCF energy tolerance) or the continuation
+			// did not converge. Compare Hartree–Fock energies: for MP2 the
+			// reference is what the guess decides.
+			if r2.Converged && (!res.Converged || r2.SCFResult.Energy < res.SCFResult.Energy-1e-6) {
+				res, err = r2, err2
+				replaced = 1
+				guessNote = -1
+			}
+		}
+	}
 	out := runner.Outcome{
 		Energy:     res.Energy,
 		Converged:  res.Converged,
@@ -108,6 +171,9 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			"nuclear_repulsion_hartree": res.NuclearRepulsion,
 			"basis_functions":           float64(res.BasisFunctions),
 			"guess_from_neighbour":      guessNote,
+			"cold_check_guesses":        checked,
+			"cold_check_replaced":       replaced,
+			"scf_iterations_all_runs":   float64(iterations),
 			"dipole_x_e_bohr":           res.Dipole[0],
 			"dipole_y_e_bohr":           res.Dipole[1],
 			"dipole_z_e_bohr":           res.Dipole[2],
@@ -129,6 +195,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	}
 	if !res.Converged {
 		out.Class = "scf-not-converged"
+		out.Detail = res.Reason
 		return out, nil
 	}
 	if res.Orbitals != nil && t.Dir != "" {
@@ -137,6 +204,17 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		}
 	}
 	return out, nil
+}
+
+// needsColdCheck applies the cold-check policy to a continuation result.
+func (b *Backend) needsColdCheck(mol planner.Molecule, res *Result) bool {
+	switch b.check {
+	case ColdCheckNever:
+		return false
+	case ColdCheckAlways:
+		return true
+	}
+	return !res.Converged || OpenShellAtoms(mol) >= 2
 }
 
 func readOrbitalsFile(path string) (*Orbitals, error) {

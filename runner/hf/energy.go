@@ -230,7 +230,7 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		}
 	}
 	start = time.Now()
-	scf, scfErr := runGuesses(ctx, mol, opts, &in, res, workers)
+	scf, scfErr := runGuesses(ctx, mol, opts, &in, res)
 	res.SCFTime = time.Since(start)
 	if scf == nil {
 		return nil, scfErr
@@ -322,10 +322,18 @@ func coldGuesses(mol planner.Molecule, opts Options, restricted bool) []GuessKin
 // runGuesses runs the SCF from in.GuessOrbitals, or from every cold guess
 // in turn, and returns the lowest converged result (the first guess's
 // result when none converged).
-func runGuesses(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInput, res *Result, workers int) (*SCFResult, error) {
+func runGuesses(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInput, res *Result) (*SCFResult, error) {
 	if in.GuessOrbitals != nil {
 		res.GuessesTried = 1
-		return RunSCF(ctx, *in)
+		r, err := RunSCF(ctx, *in)
+		tr := GuessTrial{Guess: GuessFromOrbitals}
+		if r != nil {
+			tr.Energy, tr.Converged, tr.Iterations, tr.S2 = r.Energy, r.Converged, r.Iterations, r.S2
+		} else if err != nil {
+			tr.Error = err.Error()
+		}
+		res.Trials = append(res.Trials, tr)
+		return r, err
 	}
 	list := coldGuesses(mol, opts, in.Restricted)
 	var sad *AtomicGuess
@@ -339,7 +347,7 @@ func runGuesses(ctx context.Context, mol planner.Molecule, opts Options, in *SCF
 		run.Options.Guess = g
 		if g == GuessAtoms || g == GuessAtomsSpin {
 			if sad == nil {
-				sad = NewAtomicGuess(opts.Basis, opts.Convention, opts.Norm, workers)
+				sad = NewAtomicGuess(opts.Basis, opts.Convention, opts.Norm)
 			}
 			d, err := sad.Density(ctx, mol, g == GuessAtomsSpin)
 			if err != nil {

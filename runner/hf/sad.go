@@ -42,11 +42,10 @@ type SpinDensity struct {
 // practice for SAD guesses). Orbitals are assigned to l by their
 // population on the basis functions of each angular momentum.
 type AtomicGuess struct {
-	set     *basis.Set
-	conv    basis.Convention
-	norm    integral.CartNorm
-	workers int
-	cache   map[int]*atomBlock
+	set   *basis.Set
+	conv  basis.Convention
+	norm  integral.CartNorm
+	cache map[int]*atomBlock
 }
 
 // atomBlock is the result of one atomic calculation: spherically averaged
@@ -62,8 +61,10 @@ type atomBlock struct {
 
 // NewAtomicGuess prepares SAD densities in basis set (with convention conv
 // and normalisation norm, as the molecule's own calculation uses them).
-func NewAtomicGuess(set *basis.Set, conv basis.Convention, norm integral.CartNorm, workers int) *AtomicGuess {
-	return &AtomicGuess{set: set, conv: conv, norm: norm, workers: max(1, workers), cache: map[int]*atomBlock{}}
+// The atomic calculations run on one goroutine: they are small, and a
+// serial Fock build makes the guess bit-for-bit reproducible.
+func NewAtomicGuess(set *basis.Set, conv basis.Convention, norm integral.CartNorm) *AtomicGuess {
+	return &AtomicGuess{set: set, conv: conv, norm: norm, cache: map[int]*atomBlock{}}
 }
 
 // Density returns the SAD starting density of mol, whose electron count
@@ -192,7 +193,7 @@ func (g *AtomicGuess) atom(ctx context.Context, el planner.Element) (*atomBlock,
 	if b, ok := g.cache[el.Z]; ok {
 		return b, nil
 	}
-	b, err := atomicDensity(ctx, g.set, g.conv, g.norm, g.workers, el)
+	b, err := atomicDensity(ctx, g.set, g.conv, g.norm, el)
 	if err != nil {
 		return nil, fmt.Errorf("hf: atomic density guess for %s: %w", el.Symbol, err)
 	}
@@ -232,7 +233,7 @@ func groundConfig(z int) (occ [4][]float64, unpaired int, err error) {
 
 // atomicDensity runs the spherically averaged fractional-occupation SCF
 // of one neutral atom of element el in basis set.
-func atomicDensity(ctx context.Context, set *basis.Set, conv basis.Convention, norm integral.CartNorm, workers int, el planner.Element) (*atomBlock, error) {
+func atomicDensity(ctx context.Context, set *basis.Set, conv basis.Convention, norm integral.CartNorm, el planner.Element) (*atomBlock, error) {
 	occ, unpaired, err := groundConfig(el.Z)
 	if err != nil {
 		return nil, err
@@ -254,7 +255,7 @@ func atomicDensity(ctx context.Context, set *basis.Set, conv basis.Convention, n
 	s := integral.Overlap(shells, norm)
 	h := mat.NewSymDense(s.SymmetricDim(), nil)
 	h.AddSym(integral.Kinetic(shells, norm), integral.Nuclear(shells, norm, []integral.PointCharge{{Z: float64(el.Z)}}))
-	eri, err := integral.ComputeERI(ctx, shells, norm, workers)
+	eri, err := integral.ComputeERI(ctx, shells, norm, 1)
 	if err != nil {
 		return nil, err
 	}

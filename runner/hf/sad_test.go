@@ -150,7 +150,7 @@ func TestAtomicGuess_TracesAndSpins(t *testing.T) {
 	}
 	for _, bs := range []string{"STO-3G", "6-31G*", "cc-pVDZ"} {
 		set := testBasis(t, bs)
-		g := hf.NewAtomicGuess(set, basis.ConventionAsSet, integral.NormPerComponent, 1)
+		g := hf.NewAtomicGuess(set, basis.ConventionAsSet, integral.NormPerComponent)
 		for _, tc := range cases {
 			mol := mustMol(t, tc.atoms, tc.charge, tc.mult)
 			d, err := g.Density(t.Context(), mol, tc.polarised)
@@ -179,7 +179,8 @@ func TestAtomicGuess_TracesAndSpins(t *testing.T) {
 }
 
 // TestAtomicGuess_Deterministic: the same molecule gives bit-identical
-// densities from two independent builders, and hf.Energy the same energy
+// densities from two independent builders (run several times with
+// -count to catch scheduling effects), and hf.Energy the same energy
 // and iteration count twice (no map-order dependence). The SCF runs on one
 // worker: parallel Fock builds may add in another order and change the
 // last bits, which is not the guess's doing.
@@ -188,7 +189,7 @@ func TestAtomicGuess_Deterministic(t *testing.T) {
 	mol := mustMol(t, []planner.Atom{atom(t, "C", 0, 0, 0), atom(t, "O", 0, 0, 2.13), atom(t, "H", 1.8, 0, -1), atom(t, "H", -1.8, 0, -1)}, 0, 1)
 	var prev *hf.SpinDensity
 	for range 2 {
-		d, err := hf.NewAtomicGuess(set, basis.ConventionAsSet, integral.NormPerComponent, 2).Density(t.Context(), mol, true)
+		d, err := hf.NewAtomicGuess(set, basis.ConventionAsSet, integral.NormPerComponent).Density(t.Context(), mol, true)
 		if err != nil {
 			t.Fatal(err)
 		}
