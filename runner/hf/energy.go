@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"runtime"
 	"strings"
 	"time"
@@ -60,6 +61,19 @@ type Options struct {
 	// Guess, if non-nil, starts the SCF from these orbitals (for example a
 	// neighbouring scan point's); they must span the same basis.
 	Guess *Orbitals
+	// GuessPrevious, with Guess, asks for an extrapolated start: the
+	// densities of Guess (D_1) and of GuessPrevious (D_2, D_3, …: the
+	// orbitals of earlier points on a line through this one, nearest
+	// first, same basis) are combined with Lagrange weights,
+	// D = Σ_i w_i D_i, w_i = Π_{j≠i} (x − x_j)/(x_i − x_j), so that the
+	// density is extrapolated along the line to this point's position x
+	// (linear with one previous point, quadratic with two). GuessPositions
+	// holds x and then x_1, x_2, … (any unit); nil means a uniform grid
+	// (x = 0, x_i = −i). The SCF starts from the Fock matrix of D
+	// (SCFResult.Guess "extrapolated"). Previous orbitals in another
+	// basis are ignored.
+	GuessPrevious  []*Orbitals
+	GuessPositions []float64
 	// ColdGuesses, when Guess is nil, lists the starting guesses to run;
 	// the lowest converged energy is kept. Empty means the default set:
 	// for RHF the single guess SCF.Guess, or GuessAtoms when SCF.Guess is
@@ -225,6 +239,15 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	if g := opts.Guess; g != nil {
 		if g.NBasis != nbf {
 			res.GuessRejected = fmt.Sprintf("guess orbitals span %d functions, this basis has %d", g.NBasis, nbf)
+		} else if hist := usableHistory(g, opts.GuessPrevious); len(hist) > 1 {
+			d, err := extrapolatedDensity(hist, opts.GuessPositions, na, nb)
+			if err != nil {
+				res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("extrapolation skipped: %v", err))
+				in.GuessOrbitals = g
+			} else {
+				in.GuessDensity = d
+				in.Options.Guess = GuessExtrapolated
+			}
 		} else {
 			in.GuessOrbitals = g
 		}
@@ -323,10 +346,13 @@ func coldGuesses(mol planner.Molecule, opts Options, restricted bool) []GuessKin
 // in turn, and returns the lowest converged result (the first guess's
 // result when none converged).
 func runGuesses(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInput, res *Result) (*SCFResult, error) {
-	if in.GuessOrbitals != nil {
+	if in.GuessOrbitals != nil || in.Options.Guess == GuessExtrapolated {
 		res.GuessesTried = 1
 		r, err := RunSCF(ctx, *in)
 		tr := GuessTrial{Guess: GuessFromOrbitals}
+		if in.GuessOrbitals == nil {
+			tr.Guess = GuessExtrapolated
+		}
 		if r != nil {
 			tr.Energy, tr.Converged, tr.Iterations, tr.S2 = r.Energy, r.Converged, r.Iterations, r.S2
 		} else if err != nil {
@@ -405,4 +431,77 @@ func runGuesses(ctx context.Context, mol planner.Molecule, opts Options, in *SCF
 		return nil, firstErr
 	}
 	return best, bestErr
+}
+
+// usableHistory is Guess followed by the previous orbitals up to the
+// first one in another basis (or nil).
+func usableHistory(g *Orbitals, prev []*Orbitals) []*Orbitals {
+	h := []*Orbitals{g}
+	for _, p := range prev {
+		if p == nil || p.NBasis != g.NBasis {
+			break
+		}
+		h = append(h, p)
+	}
+	return h
+}
+
+// extrapolatedDensity combines the occupied-orbital densities (the lowest
+// na α and nb β columns) of hist with Lagrange weights for the position
+// pos[0] from pos[1:] (uniform grid when pos is nil).
+func extrapolatedDensity(hist []*Orbitals, pos []float64, na, nb int) (*SpinDensity, error) {
+	k := len(hist)
+	if pos == nil {
+		pos = make([]float64, k+1)
+		for i := range pos {
+			pos[i] = -float64(i)
+		}
+	}
+	if len(pos) < k+1 {
+		return nil, fmt.Errorf("%d positions for %d sets of orbitals and the new point", len(pos), k)
+	}
+	x := pos[0]
+	w := make([]float64, k)
+	for i := range k {
+		w[i] = 1
+		for j := range k {
+			if j == i {
+				continue
+			}
+			d := pos[i+1] - pos[j+1]
+			if d == 0 || math.IsNaN(d) {
+				return nil, fmt.Errorf("positions %g and %g coincide", pos[i+1], pos[j+1])
+			}
+			w[i] *= (x - pos[j+1]) / d
+		}
+		if math.IsNaN(w[i]) || math.IsInf(w[i], 0) {
+			return nil, fmt.Errorf("extrapolation weight %g is not finite", w[i])
+		}
+	}
+	for _, o := range hist {
+		if err := o.Validate(); err != nil {
+			return nil, err
+		}
+		if o.NMO() < max(na, nb) {
+			return nil, fmt.Errorf("orbitals have %d columns, %d electrons of one spin", o.NMO(), max(na, nb))
+		}
+	}
+	n := hist[0].NBasis
+	out := &SpinDensity{Alpha: mat.NewSymDense(n, nil), Beta: mat.NewSymDense(n, nil)}
+	var d mat.SymDense
+	for i, o := range hist {
+		for s, occ := range []int{na, nb} {
+			if occ == 0 {
+				continue
+			}
+			c, dst := o.CAlpha, out.Alpha
+			if s == 1 {
+				c, dst = o.Beta(), out.Beta
+			}
+			d.Reset()
+			d.SymOuterK(w[i], c.Slice(0, n, 0, occ))
+			dst.AddSym(dst, &d)
+		}
+	}
+	return out, nil
 }

@@ -91,6 +91,10 @@ const (
 	// ground-state unpaired electrons, signs chosen so the molecule's
 	// N_α − N_β comes out): a broken-symmetry start for stretched bonds.
 	GuessAtomsSpin
+	// GuessExtrapolated is reported in SCFResult.Guess when the run
+	// started from a density extrapolated from two neighbouring points
+	// (Options.GuessPrevious); it uses SCFInput.GuessDensity.
+	GuessExtrapolated
 )
 
 func (g GuessKind) String() string {
@@ -105,6 +109,8 @@ func (g GuessKind) String() string {
 		return "atoms"
 	case GuessAtomsSpin:
 		return "atoms-spin"
+	case GuessExtrapolated:
+		return "extrapolated"
 	}
 	return fmt.Sprintf("GuessKind(%d)", int(g))
 }
@@ -263,8 +269,9 @@ type SCFInput struct {
 	// the converged orbitals of a neighbouring geometry, same basis). They
 	// are re-orthonormalised in the metric S (Löwdin) before use.
 	GuessOrbitals *Orbitals
-	// GuessDensity is the starting density of Options.Guess GuessAtoms and
-	// GuessAtomsSpin (ignored otherwise, and when GuessOrbitals is set).
+	// GuessDensity is the starting density of Options.Guess GuessAtoms,
+	// GuessAtomsSpin and GuessExtrapolated (ignored otherwise, and when
+	// GuessOrbitals is set).
 	GuessDensity *SpinDensity
 
 	Options SCFOptions
@@ -380,7 +387,7 @@ func (o *SCFOptions) withDefaults() (SCFOptions, error) {
 		return r, fmt.Errorf("hf: scf options: LinDepThreshold %g, want > 0", r.LinDepThreshold)
 	case r.Orthogonalization != OrthCanonical && r.Orthogonalization != OrthSymmetric:
 		return r, fmt.Errorf("hf: scf options: unknown orthogonalisation %d", int(r.Orthogonalization))
-	case r.Guess != GuessCore && r.Guess != GuessGWH && r.Guess != GuessAtoms && r.Guess != GuessAtomsSpin:
+	case r.Guess != GuessCore && r.Guess != GuessGWH && r.Guess != GuessAtoms && r.Guess != GuessAtomsSpin && r.Guess != GuessExtrapolated:
 		return r, fmt.Errorf("hf: scf options: unknown guess %d", int(r.Guess))
 	case r.DIISError != DIISErrorOrthogonal && r.DIISError != DIISErrorAO:
 		return r, fmt.Errorf("hf: scf options: unknown DIIS error kind %d", int(r.DIISError))
@@ -410,7 +417,7 @@ func (in *SCFInput) validate() error {
 	if in.Restricted && in.NAlpha != in.NBeta {
 		return fmt.Errorf("hf: scf input: RHF needs NAlpha == NBeta, got %d and %d (use UHF for open shells)", in.NAlpha, in.NBeta)
 	}
-	if g := in.Options.Guess; in.GuessOrbitals == nil && (g == GuessAtoms || g == GuessAtomsSpin) {
+	if g := in.Options.Guess; in.GuessOrbitals == nil && (g == GuessAtoms || g == GuessAtomsSpin || g == GuessExtrapolated) {
 		d := in.GuessDensity
 		if d == nil || d.Alpha == nil || d.Beta == nil {
 			return errNoDensity

@@ -279,7 +279,7 @@ func (st *scfState) startGuess(kind GuessKind) error {
 		st.hasSrc = false
 		return nil
 	}
-	if kind == GuessAtoms || kind == GuessAtomsSpin {
+	if kind == GuessAtoms || kind == GuessAtomsSpin || kind == GuessExtrapolated {
 		dg := st.in.GuessDensity
 		if st.ns == 1 {
 			st.d[0].AddSym(dg.Alpha, dg.Beta)
