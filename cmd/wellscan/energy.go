@@ -47,7 +47,7 @@ func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the table")
 	fs.IntVar(&o.workers, "workers", 0, "goroutines for integrals and Fock builds (default: all CPUs)")
 	fs.IntVar(&o.maxIter, "max-iterations", 0, "SCF iteration cap (default 128)")
-	fs.StringVar(&o.guess, "guess", "auto", "starting guess: auto (rhf: atoms; uhf: try core, gwh, atoms and atoms-spin, keep the lowest), core, gwh, atoms or atoms-spin")
+	fs.StringVar(&o.guess, "guess", "auto", "starting guess: auto (rhf: atoms; uhf: try core, gwh, atoms, atoms-spin and for singlets core-mixed, keep the lowest), core, gwh, atoms, atoms-spin or core-mixed")
 }
 
 func newEnergyCommand(a *app) *cobra.Command {

@@ -29,8 +29,8 @@ func TestEnergyCommand_Guess(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatal(err)
 	}
-	if rep.Guess != "atoms-spin" || len(rep.Trials) != 4 || rep.Energy > -108.76 || rep.S2 < 2.8 {
-		t.Errorf("auto: guess %q, %d trials, E = %.8f, ⟨S²⟩ = %.4f; want atoms-spin of 4, ≤ −108.76 Eh, ⟨S²⟩ ≈ 3", rep.Guess, len(rep.Trials), rep.Energy, rep.S2)
+	if rep.Guess != "atoms-spin" || len(rep.Trials) != 5 || rep.Energy > -108.76 || rep.S2 < 2.8 {
+		t.Errorf("auto: guess %q, %d trials, E = %.8f, ⟨S²⟩ = %.4f; want atoms-spin of 5, ≤ −108.76 Eh, ⟨S²⟩ ≈ 3", rep.Guess, len(rep.Trials), rep.Energy, rep.S2)
 	}
 	code, out, errs = runCLI(t, n2, "energy", "-", "--basis", "6-31G", "--method", "uhf", "--guess", "core")
 	if code != 0 || !strings.Contains(out, "from the core guess") || strings.Contains(out, "guesses tried") {

@@ -79,8 +79,8 @@ type Options struct {
 	// for RHF the single guess SCF.Guess, or GuessAtoms when SCF.Guess is
 	// left at its zero value (measured to converge in fewer iterations than
 	// the core guess; runner/hf/sad_test.go); for UHF SCF.Guess first, then
-	// core, GWH, atoms, and atoms-spin when at least two atoms have
-	// unpaired electrons in their ground state (a UHF started cold can
+	// core, GWH, atoms, atoms-spin when at least two atoms have unpaired
+	// electrons in their ground state, and core-mixed for singlets (a UHF started cold can
 	// settle on an excited or symmetric determinant: OH from the core
 	// guess lies 0.155 Eh above the GWH solution in 6-31G, stretched N2
 	// from core or GWH 0.52 Eh above the broken-symmetry state;
@@ -333,6 +333,9 @@ func coldGuesses(mol planner.Molecule, opts Options, restricted bool) []GuessKin
 	cands := []GuessKind{GuessCore, GuessGWH, GuessAtoms}
 	if OpenShellAtoms(mol) >= 2 {
 		cands = append(cands, GuessAtomsSpin)
+	}
+	if mol.Multiplicity == 1 {
+		cands = append(cands, GuessCoreMixed)
 	}
 	for _, g := range cands {
 		if g != first {

@@ -92,7 +92,7 @@ func runStateChangeScan(t *testing.T, grid, bs string, check hf.ColdCheck) scanR
 	out := scanRun{recs: recs}
 	for _, p := range recs {
 		if p.State == runner.Failed {
-			t.Logf("%s failed (%s): %s", p.Key, p.Class, p.LastError)
+			t.Logf("cold check %d: %s failed (%s): %s", check, p.Key, p.Class, p.LastError)
 		}
 		out.iterations += int(p.Extra["scf_iterations_all_runs"])
 		if p.Extra["cold_check_guesses"] > 0 {
@@ -108,7 +108,7 @@ func runStateChangeScan(t *testing.T, grid, bs string, check hf.ColdCheck) scanR
 func coldLowest(t *testing.T, mol planner.Molecule, bs string) *hf.Result {
 	t.Helper()
 	res, err := hf.Energy(t.Context(), mol, hf.Options{Basis: testBasis(t, bs), Method: hf.UHF,
-		ColdGuesses: []hf.GuessKind{hf.GuessCore, hf.GuessGWH, hf.GuessAtoms, hf.GuessAtomsSpin}})
+		ColdGuesses: []hf.GuessKind{hf.GuessCore, hf.GuessGWH, hf.GuessAtoms, hf.GuessAtomsSpin, hf.GuessCoreMixed}})
 	if err != nil {
 		t.Fatal(err)
 	}
