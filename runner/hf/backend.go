@@ -121,6 +121,9 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			guessNote = 1
 		}
 	}
+	if opts.Guess != nil {
+		b.coldCheck(t.Mol, &opts)
+	}
 	res, err := Energy(ctx, t.Mol, opts)
 	if res == nil {
 		if ctx.Err() != nil {
@@ -135,31 +138,12 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	for _, tr := range res.Trials {
 		iterations += tr.Iterations
 	}
-	checked, replaced := 0.0, 0.0
-	if opts.Guess != nil && res.GuessRejected == "" && res.Reference == UHF && b.needsColdCheck(t.Mol, res) {
-		cold := opts
-		cold.Guess = nil
-		if b.check == ColdCheckBrokenSymmetry && res.Converged {
-			cold.ColdGuesses = []GuessKind{GuessAtomsSpin}
-		}
-		r2, err2 := Energy(ctx, t.Mol, cold)
-		if r2 == nil && ctx.Err() != nil {
-			return runner.Outcome{}, ctx.Err()
-		}
-		if r2 != nil {
-			checked = float64(r2.GuessesTried)
-			for _, tr := range r2.Trials {
-				iterations += tr.Iterations
-			}
-			// Keep the cold state only when it is clearly lower (1e-6 Eh:
-			// a hundred times the SCF energy tolerance) or the continuation
-			// did not converge. Compare Hartree–Fock energies: for MP2 the
-			// reference is what the guess decides.
-			if r2.Converged && (!res.Converged || r2.SCFResult.Energy < res.SCFResult.Energy-1e-6) {
-				res, err = r2, err2
-				replaced = 1
-				guessNote = -1
-			}
+	checked, replaced := 0.0, 0.0 // cold guesses run besides the neighbour's, and whether one won
+	if opts.Guess != nil && res.GuessRejected == "" {
+		checked = float64(len(res.Trials) - 1)
+		if g := res.SCFResult.Guess; g != GuessFromOrbitals && g != GuessExtrapolated {
+			replaced = 1
+			guessNote = -1
 		}
 	}
 	out := runner.Outcome{
@@ -206,15 +190,21 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	return out, nil
 }
 
-// needsColdCheck applies the cold-check policy to a continuation result.
-func (b *Backend) needsColdCheck(mol planner.Molecule, res *Result) bool {
-	switch b.check {
-	case ColdCheckNever:
-		return false
-	case ColdCheckAlways:
-		return true
+// coldCheck sets the cold guesses a UHF continuation point also runs
+// (in the same Energy call, sharing the integrals).
+func (b *Backend) coldCheck(mol planner.Molecule, opts *Options) {
+	if b.check == ColdCheckNever || referenceOf(mol, *opts) != UHF {
+		return
 	}
-	return !res.Converged || OpenShellAtoms(mol) >= 2
+	opts.ColdIfUnconverged = true
+	switch {
+	case b.check == ColdCheckAlways:
+		cold := *opts
+		cold.Guess = nil
+		opts.CheckGuesses = coldGuesses(mol, cold, false)
+	case OpenShellAtoms(mol) >= 2:
+		opts.CheckGuesses = []GuessKind{GuessAtomsSpin}
+	}
 }
 
 func readOrbitalsFile(path string) (*Orbitals, error) {

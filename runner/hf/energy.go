@@ -74,6 +74,13 @@ type Options struct {
 	// basis are ignored.
 	GuessPrevious  []*Orbitals
 	GuessPositions []float64
+	// CheckGuesses, when the SCF starts from Guess, are cold guesses run
+	// as well; a cold state is kept when it lies more than 1e-6 Eh lower
+	// or the warm start did not converge (Result.Trials lists all runs).
+	// With ColdIfUnconverged, a warm start that does not converge is
+	// followed by the default cold guesses (or ColdGuesses).
+	CheckGuesses      []GuessKind
+	ColdIfUnconverged bool
 	// ColdGuesses, when Guess is nil, lists the starting guesses to run;
 	// the lowest converged energy is kept. Empty means the default set:
 	// for RHF the single guess SCF.Guess, or GuessAtoms when SCF.Guess is
@@ -314,6 +321,27 @@ type GuessTrial struct {
 	Error string `json:"error,omitempty"`
 }
 
+// referenceOf is the SCF that Energy runs for mol with opts (rhf or uhf;
+// "" for an invalid method, which Energy reports).
+func referenceOf(mol planner.Molecule, opts Options) Method {
+	open := RHF
+	if mol.Multiplicity != 1 {
+		open = UHF
+	}
+	switch opts.Method {
+	case "":
+		return open
+	case RHF, UHF:
+		return opts.Method
+	case MP2:
+		if opts.MP2Reference == "" {
+			return open
+		}
+		return opts.MP2Reference
+	}
+	return ""
+}
+
 // defaultRHFGuess is the RHF cold start when SCFOptions.Guess is zero.
 const defaultRHFGuess = GuessAtoms
 
@@ -349,22 +377,49 @@ func coldGuesses(mol planner.Molecule, opts Options, restricted bool) []GuessKin
 // in turn, and returns the lowest converged result (the first guess's
 // result when none converged).
 func runGuesses(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInput, res *Result) (*SCFResult, error) {
-	if in.GuessOrbitals != nil || in.Options.Guess == GuessExtrapolated {
-		res.GuessesTried = 1
-		r, err := RunSCF(ctx, *in)
-		tr := GuessTrial{Guess: GuessFromOrbitals}
-		if in.GuessOrbitals == nil {
-			tr.Guess = GuessExtrapolated
-		}
-		if r != nil {
-			tr.Energy, tr.Converged, tr.Iterations, tr.S2 = r.Energy, r.Converged, r.Iterations, r.S2
-		} else if err != nil {
-			tr.Error = err.Error()
-		}
-		res.Trials = append(res.Trials, tr)
+	if in.GuessOrbitals == nil && in.Options.Guess != GuessExtrapolated {
+		return runCold(ctx, mol, opts, in, res, coldGuesses(mol, opts, in.Restricted))
+	}
+	r, err := runWarm(ctx, in, res)
+	check := opts.CheckGuesses
+	if (r == nil || !r.Converged) && opts.ColdIfUnconverged {
+		check = coldGuesses(mol, opts, in.Restricted)
+	}
+	if len(check) == 0 || ctx.Err() != nil {
 		return r, err
 	}
-	list := coldGuesses(mol, opts, in.Restricted)
+	cold := *in
+	cold.GuessOrbitals, cold.GuessDensity = nil, nil
+	cr, cerr := runCold(ctx, mol, opts, &cold, res, check)
+	// A cold state replaces the warm one only when clearly lower (1e-6
+	// Eh: a hundred times the default SCF energy tolerance) or when the
+	// warm start did not converge.
+	if cr != nil && (r == nil || cr.Converged && (!r.Converged || cr.Energy < r.Energy-1e-6)) {
+		return cr, cerr
+	}
+	return r, err
+}
+
+// runWarm runs the SCF from guess orbitals or an extrapolated density.
+func runWarm(ctx context.Context, in *SCFInput, res *Result) (*SCFResult, error) {
+	res.GuessesTried++
+	r, err := RunSCF(ctx, *in)
+	tr := GuessTrial{Guess: GuessFromOrbitals}
+	if in.GuessOrbitals == nil {
+		tr.Guess = GuessExtrapolated
+	}
+	if r != nil {
+		tr.Energy, tr.Converged, tr.Iterations, tr.S2 = r.Energy, r.Converged, r.Iterations, r.S2
+	} else if err != nil {
+		tr.Error = err.Error()
+	}
+	res.Trials = append(res.Trials, tr)
+	return r, err
+}
+
+// runCold runs the SCF from every guess in list and returns the lowest
+// converged result (the first guess's result when none converged).
+func runCold(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInput, res *Result, list []GuessKind) (*SCFResult, error) {
 	var sad *AtomicGuess
 	var best *SCFResult
 	var bestErr, firstErr error

@@ -324,3 +324,40 @@ func BenchmarkColdGuessIterations(b *testing.B) {
 		}
 	}
 }
+
+// TestEnergy_CheckGuesses: a warm start on the closed-shell solution of
+// stretched N2 (UHF/6-31G, from the core-guess state) stays there, since
+// equal α and β orbitals never break symmetry; with CheckGuesses atoms-spin
+// the broken-symmetry state (≤ −108.76 Eh, the state of the fragment
+// guess; see above) replaces it. A warm start already on that state is
+// kept (the check must not swap equal states).
+func TestEnergy_CheckGuesses(t *testing.T) {
+	mol := mustMol(t, []planner.Atom{atom(t, "N", 0, 0, 0), atom(t, "N", 0, 0, 2.5*angstrom)}, 0, 1)
+	set := testBasis(t, "6-31G")
+	closed, err := hf.Energy(t.Context(), mol, hf.Options{Basis: set, Method: hf.UHF, ColdGuesses: []hf.GuessKind{hf.GuessCore}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	warm, err := hf.Energy(t.Context(), mol, hf.Options{Basis: set, Method: hf.UHF, Guess: closed.Orbitals})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checked, err := hf.Energy(t.Context(), mol, hf.Options{Basis: set, Method: hf.UHF, Guess: closed.Orbitals, CheckGuesses: []hf.GuessKind{hf.GuessAtomsSpin}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("warm %.8f (%v), checked %.8f (%v, %d runs)", warm.Energy, warm.Guess, checked.Energy, checked.Guess, checked.GuessesTried)
+	if warm.Energy < -108.3 || warm.Guess != hf.GuessFromOrbitals {
+		t.Errorf("warm start alone: E = %.8f (%v); want the closed-shell state near −108.21", warm.Energy, warm.Guess)
+	}
+	if checked.Energy > -108.76 || checked.Guess != hf.GuessAtomsSpin || checked.GuessesTried != 2 || len(checked.Trials) != 2 {
+		t.Errorf("with the check: E = %.8f (%v, %d runs); want ≤ −108.76 from atoms-spin after 2", checked.Energy, checked.Guess, checked.GuessesTried)
+	}
+	again, err := hf.Energy(t.Context(), mol, hf.Options{Basis: set, Method: hf.UHF, Guess: checked.Orbitals, CheckGuesses: []hf.GuessKind{hf.GuessAtomsSpin}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if again.Guess != hf.GuessFromOrbitals || !scalar.EqualWithinAbs(again.Energy, checked.Energy, 1e-8) {
+		t.Errorf("warm start on the lowest state: kept %v, E = %.8f; want the orbitals' run at %.8f", again.Guess, again.Energy, checked.Energy)
+	}
+}
