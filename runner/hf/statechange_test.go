@@ -54,7 +54,7 @@ type scanRun struct {
 	checks, replaced int
 }
 
-func runStateChangeScan(t *testing.T, grid, bs string, check hf.ColdCheck) scanRun {
+func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanRun {
 	t.Helper()
 	dir := t.TempDir()
 	text := strings.NewReplacer("%GRID%", grid, "%BASIS%", bs).Replace(stateChangeSpec)
@@ -238,4 +238,22 @@ func deref(p *float64) float64 {
 		return math.NaN()
 	}
 	return *p
+}
+
+// BenchmarkScan2D_ColdCheck times the 5 × 5 water UHF/STO-3G scan of
+// TestScan2D_StateChange_KeepsLowestState with each cold-check policy and
+// reports the SCF iterations spent over the whole scan.
+func BenchmarkScan2D_ColdCheck(b *testing.B) {
+	for _, c := range []struct {
+		name  string
+		check hf.ColdCheck
+	}{{"never", hf.ColdCheckNever}, {"atoms-spin", hf.ColdCheckBrokenSymmetry}, {"always", hf.ColdCheckAlways}} {
+		b.Run(c.name, func(b *testing.B) {
+			var it int
+			for b.Loop() {
+				it = runStateChangeScan(b, "from = 0.9\nto = 2.7\nstep = 0.45", "STO-3G", c.check).iterations
+			}
+			b.ReportMetric(float64(it), "iterations/scan")
+		})
+	}
 }
