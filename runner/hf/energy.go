@@ -437,6 +437,13 @@ func runCold(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInp
 			if err != nil {
 				res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("%s guess skipped: %v", g, err))
 				res.Trials = append(res.Trials, GuessTrial{Guess: g, Error: err.Error()})
+				if len(list) == 1 && len(opts.ColdGuesses) == 0 {
+					// The default RHF guess could not be built (a user basis
+					// too small for an atom's configuration): use the core
+					// guess rather than fail.
+					res.GuessNotes = append(res.GuessNotes, "the core guess was used instead")
+					return runCold(ctx, mol, opts, in, res, []GuessKind{GuessCore})
+				}
 				if len(list) == 1 {
 					return nil, err
 				}

@@ -358,17 +358,21 @@ func atomicDensity(ctx context.Context, set *basis.Set, conv basis.Convention, n
 }
 
 // fractionalOccupations assigns the configuration occ to the orbitals
-// (columns of c, energies eps ascending): every orbital gets the l whose
-// basis functions carry most of its Mulliken population; within each l,
-// degenerate sets (orbital energies within 1e-6 Eh) in energy order take
-// the subshells in order, each electron count spread evenly over the set.
-// α and β per orbital follow Hund's rule (α first).
+// (columns of c, energies eps ascending). Orbitals whose energies agree
+// within 1e-5 Eh form a degenerate set; a set of 1, 3, 5 or 7 orbitals has
+// l = 0, 1, 2 or 3 (the Fock matrix of a spherical density is invariant
+// under rotations, so its levels are (2l+1)-fold; common practice) — which
+// also classes the s-type combination of Cartesian d functions as s. Any
+// other set (an accidental degeneracy) is split by the l whose basis
+// functions carry most of each orbital's Mulliken population. Within each
+// l the sets, in energy order, take the subshells in order, each electron
+// count spread evenly over its set; α and β per orbital follow Hund's
+// rule (α first).
 func fractionalOccupations(c *mat.Dense, s *mat.SymDense, lOf []int, eps []float64, occ [4][]float64, oa, ob []float64) error {
 	n, m := c.Dims()
 	var sc mat.Dense
 	sc.Mul(s, c)
-	lOrb := make([]int, m)
-	for i := range m {
+	weightL := func(i int) int {
 		var w [8]float64
 		for mu := range n {
 			if l := lOf[mu]; l < len(w) {
@@ -381,42 +385,58 @@ func fractionalOccupations(c *mat.Dense, s *mat.SymDense, lOf []int, eps []float
 				best = l
 			}
 		}
-		lOrb[i] = best
+		return best
+	}
+	var sets [4][][]int // per l, degenerate sets in energy order
+	for i := 0; i < m; {
+		j := i + 1
+		for j < m && eps[j]-eps[i] < 1e-5 {
+			j++
+		}
+		if g := j - i; g%2 == 1 && g <= 7 {
+			l := (g - 1) / 2
+			sets[l] = append(sets[l], seq(i, j))
+		} else {
+			var split [8][]int
+			for q := i; q < j; q++ {
+				split[weightL(q)] = append(split[weightL(q)], q)
+			}
+			for l, set := range split {
+				if len(set) > 0 && l < len(sets) {
+					sets[l] = append(sets[l], set)
+				}
+			}
+		}
+		i = j
 	}
 	for i := range m {
 		oa[i], ob[i] = 0, 0
 	}
 	for l := range occ {
-		sub := 0
-		for i := 0; i < m && sub < len(occ[l]); {
-			if lOrb[i] != l {
-				i++
-				continue
-			}
-			// The degenerate set starting at orbital i: same l, energy within 1e-6.
-			set := []int{i}
-			for q := i + 1; q < m && eps[q]-eps[i] < 1e-6; q++ {
-				if lOrb[q] == l {
-					set = append(set, q)
-				}
-			}
+		if len(sets[l]) < len(occ[l]) {
+			return fmt.Errorf("the basis has too few l = %d functions for the ground configuration (%d subshells needed, %d found)", l, len(occ[l]), len(sets[l]))
+		}
+		for k, e := range occ[l] {
+			set := sets[l][k]
 			g := float64(len(set))
-			e := occ[l][sub]
 			if e > 2*g+1e-12 {
-				return fmt.Errorf("the l = %d subshell %d holds %g electrons but its degenerate set has only %d orbitals", l, sub+1, e, len(set))
+				return fmt.Errorf("the l = %d subshell %d holds %g electrons but its degenerate set has only %d orbitals", l, k+1, e, len(set))
 			}
 			na := min(e, g)
 			for _, q := range set {
 				oa[q], ob[q] = na/g, (e-na)/g
 			}
-			sub++
-			i = set[len(set)-1] + 1
-		}
-		if sub < len(occ[l]) {
-			return fmt.Errorf("the basis has too few l = %d functions for the ground configuration (%d subshells needed)", l, len(occ[l]))
 		}
 	}
 	return nil
+}
+
+func seq(i, j int) []int {
+	out := make([]int, 0, j-i)
+	for q := i; q < j; q++ {
+		out = append(out, q)
+	}
+	return out
 }
 
 // errNoDensity is returned by RunSCF when an atoms guess is asked for

@@ -3,6 +3,7 @@ package hf_test
 import (
 	"math"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
@@ -361,3 +362,50 @@ func TestEnergy_CheckGuesses(t *testing.T) {
 		t.Errorf("warm start on the lowest state: kept %v, E = %.8f; want the orbitals' run at %.8f", again.Guess, again.Energy, checked.Energy)
 	}
 }
+
+// TestEnergy_AtomsGuessFallsBackToCore: a user basis with a single s
+// function on O cannot hold O's 1s²2s²2p⁴, so no atomic density exists;
+// the default RHF start then uses the core guess and says so, while an
+// explicit --guess atoms fails with the reason. The H2O energy itself is
+// not checked (an invented one-function basis, demo only).
+func TestEnergy_AtomsGuessFallsBackToCore(t *testing.T) {
+	set, err := basis.Parse(strings.NewReader(tinyBasis), "tiny.basis")
+	if err != nil {
+		t.Skipf("cannot write the tiny basis in the library format: %v", err)
+	}
+	mol := mustMol(t, readGeom(t, filepath.Join("testdata", "bases", "h2o-geom.dat")), 0, 1)
+	res, err := hf.Energy(t.Context(), mol, hf.Options{Basis: set, Method: hf.RHF})
+	if res == nil {
+		t.Fatalf("default guess: %v", err)
+	}
+	if res.Guess != hf.GuessCore || len(res.GuessNotes) != 2 {
+		t.Errorf("default guess: kept %v, notes %q; want core with two notes", res.Guess, res.GuessNotes)
+	}
+	if _, err := hf.Energy(t.Context(), mol, hf.Options{Basis: set, Method: hf.RHF, ColdGuesses: []hf.GuessKind{hf.GuessAtoms}}); err == nil || !strings.Contains(err.Error(), "too few l = 0") {
+		t.Errorf("explicit atoms guess: err = %v, want the basis-too-small reason", err)
+	}
+}
+
+// tinyBasis: O with one s and one p shell, H with one s (exponents of the
+// worked STO-3G set, testdata/bases/worked-sto-3g.basis; demo only).
+const tinyBasis = `wellscan-basis 1
+title tiny
+about one s and one p on O: too small for O's ground configuration (test only)
+harmonics cartesian
+
+element O
+shell s
+  5.0331513  -0.09996723
+  1.1695961  0.39951283
+  0.3803890  0.70011547
+shell p
+  5.0331513  0.15591627
+  1.1695961  0.60768372
+  0.3803890  0.39195739
+
+element H
+shell s
+  3.42525091  0.15432897
+  0.62391373  0.53532814
+  0.16885540  0.44463454
+`
