@@ -31,6 +31,7 @@ type energyOptions struct {
 	maxIter      int
 	frozenCore   int
 	allElectron  bool
+	guess        string
 }
 
 func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
@@ -46,6 +47,7 @@ func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the table")
 	fs.IntVar(&o.workers, "workers", 0, "goroutines for integrals and Fock builds (default: all CPUs)")
 	fs.IntVar(&o.maxIter, "max-iterations", 0, "SCF iteration cap (default 128)")
+	fs.StringVar(&o.guess, "guess", "auto", "starting guess: auto (rhf: atoms; uhf: try core, gwh, atoms, atoms-spin and for singlets core-mixed, keep the lowest), core, gwh, atoms, atoms-spin or core-mixed")
 }
 
 func newEnergyCommand(a *app) *cobra.Command {
@@ -102,6 +104,11 @@ type energyReport struct {
 	MP2TotalHartree        *float64 `json:"mp2_total_hartree,omitempty"`
 	FrozenCoreOrbitals     *int     `json:"frozen_core_orbitals,omitempty"`
 	FrozenCore             string   `json:"frozen_core,omitempty"`
+	// Guess is the starting guess whose SCF was kept; GuessTrials lists
+	// every cold-start guess run (UHF tries several and keeps the lowest).
+	Guess       string          `json:"guess"`
+	GuessTrials []hf.GuessTrial `json:"guess_trials,omitempty"`
+	GuessNotes  []string        `json:"guess_notes,omitempty"`
 }
 
 func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error {
@@ -130,6 +137,14 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	conv, err := basis.ParseConvention(o.convention)
 	if err != nil {
 		return usageError{fmt.Errorf("--convention: %w", err)}
+	}
+	var cold []hf.GuessKind
+	if g := strings.ToLower(strings.TrimSpace(o.guess)); g != "auto" {
+		k, err := hf.ParseGuess(g)
+		if err != nil {
+			return usageError{fmt.Errorf("--guess: %w (or auto)", err)}
+		}
+		cold = []hf.GuessKind{k}
 	}
 	var r io.Reader = a.stdin
 	if path != "-" {
@@ -160,7 +175,7 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 		return err
 	}
 	res, err := hf.Energy(cmd.Context(), mol, hf.Options{Method: method, Basis: set, Convention: conv,
-		Workers: o.workers, SCF: hf.SCFOptions{MaxIterations: o.maxIter}, FrozenCore: fc})
+		Workers: o.workers, SCF: hf.SCFOptions{MaxIterations: o.maxIter}, FrozenCore: fc, ColdGuesses: cold})
 	if res == nil {
 		return err
 	}
@@ -189,6 +204,10 @@ func newEnergyReport(res *hf.Result, mol planner.Molecule) energyReport {
 		Charge: mol.Charge, Multiplicity: mol.Multiplicity,
 		MullikenCharges: res.Mulliken, DipoleAU: res.Dipole,
 		DipoleDebye: math.Sqrt(res.Dipole[0]*res.Dipole[0]+res.Dipole[1]*res.Dipole[1]+res.Dipole[2]*res.Dipole[2]) * planner.BohrElectronInDebye,
+		Guess:       res.SCFResult.Guess.String(), GuessNotes: res.GuessNotes,
+	}
+	if len(res.Trials) > 1 {
+		rep.GuessTrials = res.Trials
 	}
 	if o := res.Orbitals; o != nil {
 		rep.OrbitalEnergiesAlpha = o.EnergiesAlpha
@@ -219,7 +238,26 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 		fmt.Fprintf(w, ", %d near-linear-dependent combinations dropped", rep.DroppedFunctions)
 	}
 	fmt.Fprintln(w, ")")
-	fmt.Fprintf(w, "SCF             %d iterations, %s\n\n", rep.Iterations, map[bool]string{true: "converged", false: "NOT converged"}[rep.Converged])
+	fmt.Fprintf(w, "SCF             %d iterations, %s, from the %s guess", rep.Iterations, map[bool]string{true: "converged", false: "NOT converged"}[rep.Converged], rep.Guess)
+	if n := len(rep.GuessTrials); n > 1 {
+		parts := make([]string, len(rep.GuessTrials))
+		for i, tr := range rep.GuessTrials {
+			switch {
+			case tr.Error != "":
+				parts[i] = tr.Guess.String() + " failed"
+			case !tr.Converged:
+				parts[i] = tr.Guess.String() + " not converged"
+			default:
+				parts[i] = fmt.Sprintf("%s %.8f", tr.Guess, tr.Energy)
+			}
+		}
+		fmt.Fprintf(w, "\n                lowest of %d guesses tried (hartree): %s", n, strings.Join(parts, ", "))
+	}
+	fmt.Fprintln(w)
+	for _, n := range rep.GuessNotes {
+		fmt.Fprintf(w, "                note: %s\n", n)
+	}
+	fmt.Fprintln(w)
 	if m := res.MP2; m != nil {
 		fmt.Fprintf(w, "MP2             %s reference, %s; %d+%d occupied, %d+%d virtual orbitals (α+β) correlated\n\n",
 			strings.ToUpper(string(m.Reference)), frozenCoreText(m), m.OccupiedAlpha, m.OccupiedBeta, m.VirtualAlpha, m.VirtualBeta)

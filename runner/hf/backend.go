@@ -23,6 +23,38 @@ type Backend struct {
 	opts      Options
 	useGuess  bool
 	basisName string
+	check     ColdCheck
+}
+
+// ColdCheck selects when a UHF point that started from a neighbour's
+// orbitals is also run from cold guesses, keeping the lower state. A UHF
+// continuation guess with equal α and β orbitals can never break spin
+// symmetry (the α and β Fock matrices stay equal), so a scan that starts
+// on the closed-shell side of a Coulson–Fischer point would otherwise
+// carry the closed-shell solution on into the region where a broken-
+// symmetry state lies lower.
+type ColdCheck int
+
+const (
+	// ColdCheckBrokenSymmetry (the default) runs the atoms-spin guess at
+	// every UHF point of a molecule with at least two open-shell-capable
+	// atoms (one extra SCF per point), and every cold guess wherever the
+	// continuation did not converge. A test of only spin-pure
+	// continuations is not enough: on a 2-D water scan a continuation
+	// chain carried a broken-symmetry state localised on the wrong bond
+	// 0.29 Eh above the lowest state (runner/hf/statechange_test.go).
+	ColdCheckBrokenSymmetry ColdCheck = iota
+	// ColdCheckAlways runs every cold guess at every UHF point.
+	ColdCheckAlways
+	// ColdCheckNever trusts the continuation guess.
+	ColdCheckNever
+)
+
+// WithColdCheck returns a copy of b with the given cold-check policy.
+func (b *Backend) WithColdCheck(c ColdCheck) *Backend {
+	nb := *b
+	nb.check = c
+	return &nb
 }
 
 // NewBackend builds the built-in backend from a validated spec whose
@@ -89,6 +121,9 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			guessNote = 1
 		}
 	}
+	if opts.Guess != nil {
+		b.coldCheck(t.Mol, &opts)
+	}
 	res, err := Energy(ctx, t.Mol, opts)
 	if res == nil {
 		if ctx.Err() != nil {
@@ -99,6 +134,18 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if err != nil && !errors.Is(err, ErrNotConverged) {
 		return runner.Outcome{}, err
 	}
+	iterations := 0 // every SCF run for this point, kept or not
+	for _, tr := range res.Trials {
+		iterations += tr.Iterations
+	}
+	checked, replaced := 0.0, 0.0 // cold guesses run besides the neighbour's, and whether one won
+	if opts.Guess != nil && res.GuessRejected == "" {
+		checked = float64(len(res.Trials) - 1)
+		if g := res.SCFResult.Guess; g != GuessFromOrbitals && g != GuessExtrapolated {
+			replaced = 1
+			guessNote = -1
+		}
+	}
 	out := runner.Outcome{
 		Energy:     res.Energy,
 		Converged:  res.Converged,
@@ -108,6 +155,9 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			"nuclear_repulsion_hartree": res.NuclearRepulsion,
 			"basis_functions":           float64(res.BasisFunctions),
 			"guess_from_neighbour":      guessNote,
+			"cold_check_guesses":        checked,
+			"cold_check_replaced":       replaced,
+			"scf_iterations_all_runs":   float64(iterations),
 			"dipole_x_e_bohr":           res.Dipole[0],
 			"dipole_y_e_bohr":           res.Dipole[1],
 			"dipole_z_e_bohr":           res.Dipole[2],
@@ -129,6 +179,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	}
 	if !res.Converged {
 		out.Class = "scf-not-converged"
+		out.Detail = res.Reason
 		return out, nil
 	}
 	if res.Orbitals != nil && t.Dir != "" {
@@ -137,6 +188,23 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		}
 	}
 	return out, nil
+}
+
+// coldCheck sets the cold guesses a UHF continuation point also runs
+// (in the same Energy call, sharing the integrals).
+func (b *Backend) coldCheck(mol planner.Molecule, opts *Options) {
+	if b.check == ColdCheckNever || referenceOf(mol, *opts) != UHF {
+		return
+	}
+	opts.ColdIfUnconverged = true
+	switch {
+	case b.check == ColdCheckAlways:
+		cold := *opts
+		cold.Guess = nil
+		opts.CheckGuesses = coldGuesses(mol, cold, false)
+	case OpenShellAtoms(mol) >= 2:
+		opts.CheckGuesses = []GuessKind{GuessAtomsSpin}
+	}
 }
 
 func readOrbitalsFile(path string) (*Orbitals, error) {

@@ -20,6 +20,12 @@
 // Reason say why, and RunSCF also returns an error that wraps
 // [ErrNotConverged].
 //
+// Starting guesses: the core Hamiltonian, GWH, and the superposition of
+// spherically averaged atomic densities ([AtomicGuess], "atoms"), plain or
+// with spin-polarised atoms ("atoms-spin") for broken-symmetry UHF. [Energy]
+// starts RHF from the atoms guess and runs every cold guess for UHF,
+// keeping the lowest converged state ([Result.Trials] lists them).
+//
 // References:
 //   - C. C. J. Roothaan, Rev. Mod. Phys. 23, 69 (1951), doi:10.1103/RevModPhys.23.69.
 //   - J. A. Pople and R. K. Nesbet, J. Chem. Phys. 22, 571 (1954), doi:10.1063/1.1740120.

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"runtime"
 	"strings"
 	"time"
@@ -60,7 +61,39 @@ type Options struct {
 	// Guess, if non-nil, starts the SCF from these orbitals (for example a
 	// neighbouring scan point's); they must span the same basis.
 	Guess *Orbitals
-	SCF   SCFOptions
+	// GuessPrevious, with Guess, asks for an extrapolated start: the
+	// densities of Guess (D_1) and of GuessPrevious (D_2, D_3, …: the
+	// orbitals of earlier points on a line through this one, nearest
+	// first, same basis) are combined with Lagrange weights,
+	// D = Σ_i w_i D_i, w_i = Π_{j≠i} (x − x_j)/(x_i − x_j), so that the
+	// density is extrapolated along the line to this point's position x
+	// (linear with one previous point, quadratic with two). GuessPositions
+	// holds x and then x_1, x_2, … (any unit); nil means a uniform grid
+	// (x = 0, x_i = −i). The SCF starts from the Fock matrix of D
+	// (SCFResult.Guess "extrapolated"). Previous orbitals in another
+	// basis are ignored.
+	GuessPrevious  []*Orbitals
+	GuessPositions []float64
+	// CheckGuesses, when the SCF starts from Guess, are cold guesses run
+	// as well; a cold state is kept when it lies more than 1e-6 Eh lower
+	// or the warm start did not converge (Result.Trials lists all runs).
+	// With ColdIfUnconverged, a warm start that does not converge is
+	// followed by the default cold guesses (or ColdGuesses).
+	CheckGuesses      []GuessKind
+	ColdIfUnconverged bool
+	// ColdGuesses, when Guess is nil, lists the starting guesses to run;
+	// the lowest converged energy is kept. Empty means the default set:
+	// for RHF the single guess SCF.Guess, or GuessAtoms when SCF.Guess is
+	// left at its zero value (measured to converge in fewer iterations than
+	// the core guess; runner/hf/sad_test.go); for UHF SCF.Guess first, then
+	// core, GWH, atoms, atoms-spin when at least two atoms have unpaired
+	// electrons in their ground state, and core-mixed for singlets (a UHF started cold can
+	// settle on an excited or symmetric determinant: OH from the core
+	// guess lies 0.155 Eh above the GWH solution in 6-31G, stretched N2
+	// from core or GWH 0.52 Eh above the broken-symmetry state;
+	// runner/hf/robust_test.go, runner/hf/sad_test.go).
+	ColdGuesses []GuessKind
+	SCF         SCFOptions
 
 	// MP2 settings, used when Method is MP2.
 	//
@@ -106,9 +139,15 @@ type Result struct {
 	Dipole   [3]float64
 	// Wall-clock time spent on integrals and on the SCF iterations.
 	IntegralTime, SCFTime time.Duration
-	// GuessesTried is 2 when an open-shell UHF from a cold start was run
-	// from both the core and the GWH guess and the lower energy kept.
+	// GuessesTried is the number of cold-start guesses run (1 when the
+	// SCF started from Options.Guess orbitals); Trials has one entry per
+	// guess, in the order run. SCFResult.Guess is the one kept.
 	GuessesTried int
+	Trials       []GuessTrial
+	// GuessNotes explains guesses that were skipped or changed (a
+	// spin-polarised guess that fell back to the plain one, a basis too
+	// small for an atom's configuration).
+	GuessNotes []string
 	// GuessRejected is set when Options.Guess could not be used (other
 	// basis dimension) and the core guess was used instead.
 	GuessRejected string
@@ -207,30 +246,21 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	if g := opts.Guess; g != nil {
 		if g.NBasis != nbf {
 			res.GuessRejected = fmt.Sprintf("guess orbitals span %d functions, this basis has %d", g.NBasis, nbf)
+		} else if hist := usableHistory(g, opts.GuessPrevious); len(hist) > 1 {
+			d, err := extrapolatedDensity(hist, opts.GuessPositions, na, nb)
+			if err != nil {
+				res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("extrapolation skipped: %v", err))
+				in.GuessOrbitals = g
+			} else {
+				in.GuessDensity = d
+				in.Options.Guess = GuessExtrapolated
+			}
 		} else {
 			in.GuessOrbitals = g
 		}
 	}
 	start = time.Now()
-	scf, scfErr := RunSCF(ctx, in)
-	// An open-shell UHF started cold can settle on an excited
-	// determinant (OH from the core guess lies 0.155 Eh above the GWH
-	// solution in 6-31G; runner/hf/robust_test.go). Try the other cold
-	// guess as well and keep the lower converged energy.
-	if !in.Restricted && in.GuessOrbitals == nil && in.NAlpha != in.NBeta && ctx.Err() == nil {
-		alt := in
-		alt.Options.Guess = GuessGWH
-		if in.Options.Guess == GuessGWH {
-			alt.Options.Guess = GuessCore
-		}
-		if scf2, err2 := RunSCF(ctx, alt); scf2 != nil && scf2.Converged &&
-			(scf == nil || !scf.Converged || scf2.Energy < scf.Energy-1e-9) {
-			scf, scfErr = scf2, err2
-			res.GuessesTried = 2
-		} else {
-			res.GuessesTried = 2
-		}
-	}
+	scf, scfErr := runGuesses(ctx, mol, opts, &in, res)
 	res.SCFTime = time.Since(start)
 	if scf == nil {
 		return nil, scfErr
@@ -278,4 +308,265 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	res.MP2 = mp
 	res.Energy = mp.Total
 	return res, nil
+}
+
+// GuessTrial is one cold-start SCF run by [Energy].
+type GuessTrial struct {
+	Guess      GuessKind `json:"guess"`
+	Energy     float64   `json:"energy_hartree"`
+	Converged  bool      `json:"converged"`
+	Iterations int       `json:"iterations"`
+	S2         float64   `json:"s_squared"`
+	// Error is set when the run failed before producing a result.
+	Error string `json:"error,omitempty"`
+}
+
+// referenceOf is the SCF that Energy runs for mol with opts (rhf or uhf;
+// "" for an invalid method, which Energy reports).
+func referenceOf(mol planner.Molecule, opts Options) Method {
+	open := RHF
+	if mol.Multiplicity != 1 {
+		open = UHF
+	}
+	switch opts.Method {
+	case "":
+		return open
+	case RHF, UHF:
+		return opts.Method
+	case MP2:
+		if opts.MP2Reference == "" {
+			return open
+		}
+		return opts.MP2Reference
+	}
+	return ""
+}
+
+// defaultRHFGuess is the RHF cold start when SCFOptions.Guess is zero.
+const defaultRHFGuess = GuessAtoms
+
+// coldGuesses is the list of guesses Energy runs from a cold start.
+func coldGuesses(mol planner.Molecule, opts Options, restricted bool) []GuessKind {
+	if len(opts.ColdGuesses) > 0 {
+		return opts.ColdGuesses
+	}
+	first := opts.SCF.Guess
+	if restricted {
+		if first == GuessCore {
+			first = defaultRHFGuess
+		}
+		return []GuessKind{first}
+	}
+	list := []GuessKind{first}
+	cands := []GuessKind{GuessCore, GuessGWH, GuessAtoms}
+	if OpenShellAtoms(mol) >= 2 {
+		cands = append(cands, GuessAtomsSpin)
+	}
+	if mol.Multiplicity == 1 {
+		cands = append(cands, GuessCoreMixed)
+	}
+	for _, g := range cands {
+		if g != first {
+			list = append(list, g)
+		}
+	}
+	return list
+}
+
+// runGuesses runs the SCF from in.GuessOrbitals, or from every cold guess
+// in turn, and returns the lowest converged result (the first guess's
+// result when none converged).
+func runGuesses(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInput, res *Result) (*SCFResult, error) {
+	if in.GuessOrbitals == nil && in.Options.Guess != GuessExtrapolated {
+		return runCold(ctx, mol, opts, in, res, coldGuesses(mol, opts, in.Restricted))
+	}
+	r, err := runWarm(ctx, in, res)
+	check := opts.CheckGuesses
+	if (r == nil || !r.Converged) && opts.ColdIfUnconverged {
+		check = coldGuesses(mol, opts, in.Restricted)
+	}
+	if len(check) == 0 || ctx.Err() != nil {
+		return r, err
+	}
+	cold := *in
+	cold.GuessOrbitals, cold.GuessDensity = nil, nil
+	cr, cerr := runCold(ctx, mol, opts, &cold, res, check)
+	// A cold state replaces the warm one only when clearly lower (1e-6
+	// Eh: a hundred times the default SCF energy tolerance) or when the
+	// warm start did not converge.
+	if cr != nil && (r == nil || cr.Converged && (!r.Converged || cr.Energy < r.Energy-1e-6)) {
+		return cr, cerr
+	}
+	return r, err
+}
+
+// runWarm runs the SCF from guess orbitals or an extrapolated density.
+func runWarm(ctx context.Context, in *SCFInput, res *Result) (*SCFResult, error) {
+	res.GuessesTried++
+	r, err := RunSCF(ctx, *in)
+	tr := GuessTrial{Guess: GuessFromOrbitals}
+	if in.GuessOrbitals == nil {
+		tr.Guess = GuessExtrapolated
+	}
+	if r != nil {
+		tr.Energy, tr.Converged, tr.Iterations, tr.S2 = r.Energy, r.Converged, r.Iterations, r.S2
+	} else if err != nil {
+		tr.Error = err.Error()
+	}
+	res.Trials = append(res.Trials, tr)
+	return r, err
+}
+
+// runCold runs the SCF from every guess in list and returns the lowest
+// converged result (the first guess's result when none converged).
+func runCold(ctx context.Context, mol planner.Molecule, opts Options, in *SCFInput, res *Result, list []GuessKind) (*SCFResult, error) {
+	var sad *AtomicGuess
+	var best *SCFResult
+	var bestErr, firstErr error
+	for i, g := range list {
+		if ctx.Err() != nil {
+			break
+		}
+		run := *in
+		run.Options.Guess = g
+		if g == GuessAtoms || g == GuessAtomsSpin {
+			if sad == nil {
+				sad = NewAtomicGuess(opts.Basis, opts.Convention, opts.Norm)
+			}
+			d, err := sad.Density(ctx, mol, g == GuessAtomsSpin)
+			if err != nil {
+				res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("%s guess skipped: %v", g, err))
+				res.Trials = append(res.Trials, GuessTrial{Guess: g, Error: err.Error()})
+				if len(list) == 1 && len(opts.ColdGuesses) == 0 {
+					// The default RHF guess could not be built (a user basis
+					// too small for an atom's configuration): use the core
+					// guess rather than fail.
+					res.GuessNotes = append(res.GuessNotes, "the core guess was used instead")
+					return runCold(ctx, mol, opts, in, res, []GuessKind{GuessCore})
+				}
+				if len(list) == 1 {
+					return nil, err
+				}
+				continue
+			}
+			if d.Note != "" {
+				if len(list) > 1 {
+					// The plain superposition is (or will be) run anyway.
+					res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("%s guess skipped: %s", g, d.Note))
+					continue
+				}
+				res.GuessNotes = append(res.GuessNotes, fmt.Sprintf("%s guess: %s; the plain atoms guess was used", g, d.Note))
+			}
+			run.GuessDensity = d
+		}
+		r, err := RunSCF(ctx, run)
+		res.GuessesTried++
+		tr := GuessTrial{Guess: g}
+		if r != nil {
+			tr.Energy, tr.Converged, tr.Iterations, tr.S2 = r.Energy, r.Converged, r.Iterations, r.S2
+		} else if err != nil {
+			tr.Error = err.Error()
+		}
+		res.Trials = append(res.Trials, tr)
+		if i == 0 {
+			firstErr = err
+		}
+		if r == nil {
+			if ctx.Err() != nil {
+				return nil, err
+			}
+			continue
+		}
+		// Keep the lowest converged state; an earlier guess wins ties
+		// (1e-9 Eh is ten times the default energy tolerance).
+		switch {
+		case best == nil:
+			best, bestErr = r, err
+		case r.Converged && (!best.Converged || r.Energy < best.Energy-1e-9):
+			best, bestErr = r, err
+		}
+	}
+	if best == nil {
+		if firstErr == nil {
+			firstErr = errors.New("hf: no starting guess could be run")
+			if err := ctx.Err(); err != nil {
+				firstErr = fmt.Errorf("hf: scf cancelled: %w", err)
+			}
+		}
+		return nil, firstErr
+	}
+	return best, bestErr
+}
+
+// usableHistory is Guess followed by the previous orbitals up to the
+// first one in another basis (or nil).
+func usableHistory(g *Orbitals, prev []*Orbitals) []*Orbitals {
+	h := []*Orbitals{g}
+	for _, p := range prev {
+		if p == nil || p.NBasis != g.NBasis {
+			break
+		}
+		h = append(h, p)
+	}
+	return h
+}
+
+// extrapolatedDensity combines the occupied-orbital densities (the lowest
+// na α and nb β columns) of hist with Lagrange weights for the position
+// pos[0] from pos[1:] (uniform grid when pos is nil).
+func extrapolatedDensity(hist []*Orbitals, pos []float64, na, nb int) (*SpinDensity, error) {
+	k := len(hist)
+	if pos == nil {
+		pos = make([]float64, k+1)
+		for i := range pos {
+			pos[i] = -float64(i)
+		}
+	}
+	if len(pos) < k+1 {
+		return nil, fmt.Errorf("%d positions for %d sets of orbitals and the new point", len(pos), k)
+	}
+	x := pos[0]
+	w := make([]float64, k)
+	for i := range k {
+		w[i] = 1
+		for j := range k {
+			if j == i {
+				continue
+			}
+			d := pos[i+1] - pos[j+1]
+			if d == 0 || math.IsNaN(d) {
+				return nil, fmt.Errorf("positions %g and %g coincide", pos[i+1], pos[j+1])
+			}
+			w[i] *= (x - pos[j+1]) / d
+		}
+		if math.IsNaN(w[i]) || math.IsInf(w[i], 0) {
+			return nil, fmt.Errorf("extrapolation weight %g is not finite", w[i])
+		}
+	}
+	for _, o := range hist {
+		if err := o.Validate(); err != nil {
+			return nil, err
+		}
+		if o.NMO() < max(na, nb) {
+			return nil, fmt.Errorf("orbitals have %d columns, %d electrons of one spin", o.NMO(), max(na, nb))
+		}
+	}
+	n := hist[0].NBasis
+	out := &SpinDensity{Alpha: mat.NewSymDense(n, nil), Beta: mat.NewSymDense(n, nil)}
+	var d mat.SymDense
+	for i, o := range hist {
+		for s, occ := range []int{na, nb} {
+			if occ == 0 {
+				continue
+			}
+			c, dst := o.CAlpha, out.Alpha
+			if s == 1 {
+				c, dst = o.Beta(), out.Beta
+			}
+			d.Reset()
+			d.SymOuterK(w[i], c.Slice(0, n, 0, occ))
+			dst.AddSym(dst, &d)
+		}
+	}
+	return out, nil
 }

@@ -119,10 +119,11 @@ func TestEnergy_StretchedDiatomics_LowestBrokenSymmetry(t *testing.T) {
 			mol := mustMol(t, []planner.Atom{atom(t, tc.sym, 0, 0, 0), atom(t, tc.sym, 0, 0, 2.5*angstrom)}, 0, 1)
 			ss := []strategy{
 				{"rhf", hf.Options{Method: hf.RHF}},
-				{"uhf core", hf.Options{Method: hf.UHF}},
-				{"uhf core + mix π/4", hf.Options{Method: hf.UHF, SCF: hf.SCFOptions{GuessMixAngle: math.Pi / 4}}},
-				{"uhf gwh + mix π/4", hf.Options{Method: hf.UHF, SCF: hf.SCFOptions{Guess: hf.GuessGWH, GuessMixAngle: math.Pi / 4}}},
+				{"uhf core", hf.Options{Method: hf.UHF, ColdGuesses: []hf.GuessKind{hf.GuessCore}}},
+				{"uhf core + mix π/4", hf.Options{Method: hf.UHF, ColdGuesses: []hf.GuessKind{hf.GuessCore}, SCF: hf.SCFOptions{GuessMixAngle: math.Pi / 4}}},
+				{"uhf gwh + mix π/4", hf.Options{Method: hf.UHF, ColdGuesses: []hf.GuessKind{hf.GuessGWH}, SCF: hf.SCFOptions{GuessMixAngle: math.Pi / 4}}},
 				{"uhf atomic fragments", hf.Options{Method: hf.UHF, Guess: fragmentGuess(t, tc.sym, tc.atomMult, "6-31G")}},
+				{"uhf default (all cold guesses)", hf.Options{Method: hf.UHF}},
 			}
 			all, low := runStrategies(t, mol, "6-31G", ss)
 			if low == nil {
@@ -166,8 +167,9 @@ func TestEnergy_Radicals_UHFDoublet(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			mol := mustMol(t, tc.atoms, 0, 2)
 			_, low := runStrategies(t, mol, "6-31G", []strategy{
-				{"uhf core", hf.Options{Method: hf.UHF}},
-				{"uhf gwh", hf.Options{Method: hf.UHF, SCF: hf.SCFOptions{Guess: hf.GuessGWH}}},
+				{"uhf core", hf.Options{Method: hf.UHF, ColdGuesses: []hf.GuessKind{hf.GuessCore}}},
+				{"uhf gwh", hf.Options{Method: hf.UHF, ColdGuesses: []hf.GuessKind{hf.GuessGWH}}},
+				{"uhf default (all cold guesses)", hf.Options{Method: hf.UHF}},
 			})
 			if low == nil {
 				t.Fatal("no strategy converged")

@@ -13,8 +13,12 @@ import (
 )
 
 // BenchmarkScan_ContinuationGuess runs a 30-point CO stretch (1.00–1.58 Å,
-// RHF/6-31G*) point after point, either from the core guess every time or
-// from the previous point's orbitals, and reports SCF iterations per point
+// RHF/6-31G*) point after point: from the core guess every time
+// (cold-core), from the default cold guess (cold: atoms), from the
+// previous point's orbitals (continuation), or from the density
+// extrapolated linearly from the two previous points (extrapolated) or
+// quadratically from three (extrapolated-quadratic; the first points use
+// what history there is), and reports SCF iterations per point
 // (the goal: continuation ≤ 0.7 × cold).
 func BenchmarkScan_ContinuationGuess(b *testing.B) {
 	set, err := basis.Lookup("6-31G*")
@@ -31,22 +35,29 @@ func BenchmarkScan_ContinuationGuess(b *testing.B) {
 		}
 		return m
 	}
-	for _, mode := range []string{"cold", "continuation"} {
+	for _, mode := range []string{"cold-core", "cold", "continuation", "extrapolated", "extrapolated-quadratic"} {
 		b.Run(mode, func(b *testing.B) {
 			b.ReportAllocs()
 			var iters, points int
 			for b.Loop() {
-				var prev *hf.Orbitals
+				var prev, prev2, prev3 *hf.Orbitals
 				for i := range 30 {
 					opts := hf.Options{Basis: set, Method: hf.RHF}
-					if mode == "continuation" {
+					switch mode {
+					case "cold-core":
+						opts.ColdGuesses = []hf.GuessKind{hf.GuessCore}
+					case "continuation":
 						opts.Guess = prev
+					case "extrapolated":
+						opts.Guess, opts.GuessPrevious = prev, []*hf.Orbitals{prev2}
+					case "extrapolated-quadratic":
+						opts.Guess, opts.GuessPrevious = prev, []*hf.Orbitals{prev2, prev3}
 					}
 					res, err := hf.Energy(context.Background(), geom(1.00+0.02*float64(i)), opts)
 					if err != nil {
 						b.Fatal(err)
 					}
-					prev = res.Orbitals
+					prev, prev2, prev3 = res.Orbitals, prev, prev2
 					iters += res.Iterations
 					points++
 				}

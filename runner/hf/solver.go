@@ -279,6 +279,21 @@ func (st *scfState) startGuess(kind GuessKind) error {
 		st.hasSrc = false
 		return nil
 	}
+	if kind == GuessAtoms || kind == GuessAtomsSpin || kind == GuessExtrapolated {
+		dg := st.in.GuessDensity
+		if st.ns == 1 {
+			st.d[0].AddSym(dg.Alpha, dg.Beta)
+			st.d[0].ScaleSym(0.5, st.d[0])
+			st.tot.ScaleSym(2, st.d[0])
+		} else {
+			st.d[0].CopySym(dg.Alpha)
+			st.d[1].CopySym(dg.Beta)
+			st.tot.AddSym(st.d[0], st.d[1])
+		}
+		st.lumoReady = false
+		st.hasSrc = false
+		return nil
+	}
 	g := st.in.Hcore
 	if kind == GuessGWH {
 		g = gwhMatrix(st.in.S, st.in.Hcore)
@@ -292,7 +307,13 @@ func (st *scfState) startGuess(kind GuessKind) error {
 		return fmt.Errorf("hf: scf guess: %w", err)
 	}
 	st.lumoReady = st.nocc[0] < st.m
-	st.mixGuess()
+	if kind == GuessCoreMixed && st.opts.GuessMixAngle == 0 {
+		st.opts.GuessMixAngle = math.Pi / 4
+		st.mixGuess()
+		st.opts.GuessMixAngle = 0
+	} else {
+		st.mixGuess()
+	}
 	st.hasSrc = true
 	st.occupy(false)
 	return nil
