@@ -18,7 +18,11 @@ type Task struct {
 	// is recomputed after an energy jump (a cold start: the neighbour's
 	// orbitals may be what led it onto another state).
 	GuessPath string
-	Threads   int // engine threads this point may use
+	// Cold is set when the point must start without any continuation
+	// guess (a recomputation after an energy jump); queues that compute
+	// elsewhere pass it on so the remote side does not pick a guess itself.
+	Cold    bool
+	Threads int // engine threads this point may use
 }
 
 // Outcome is what a backend computed for one point. A calculation that

@@ -563,7 +563,7 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 	if err != nil {
 		return Task{}, err
 	}
-	t := Task{Key: rec.Key, Values: rec.Values, Mol: mol, Dir: PointDir(r.Dir, rec.Key), Attempt: rec.Attempts + 1}
+	t := Task{Key: rec.Key, Values: rec.Values, Mol: mol, Dir: PointDir(r.Dir, rec.Key), Attempt: rec.Attempts + 1, Cold: rec.Jumps > 0}
 	// A point whose energy jumped is recomputed from a cold start: its
 	// continuation guess may be what carried it onto another state.
 	if r.Spec.Engine.Guess != "fresh" && rec.Jumps == 0 {

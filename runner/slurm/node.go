@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"time"
 
@@ -112,6 +113,9 @@ func (n NodeTask) Run(ctx context.Context) error {
 		}
 		t := runner.Task{Key: k, Values: pt.Values, Mol: mol, Dir: runner.PointDir(scanDir, k), Attempt: attempt,
 			GuessPath: nb.nearest(pt.Values, k), Threads: threads}
+		if slices.Contains(meta.Cold, k) {
+			t.GuessPath, t.Cold = "", true
+		}
 		c := runner.ComputePoint(ctx, spec, scanDir, backend, t)
 		if c.Interrupted {
 			return fmt.Errorf("slurm: task %d interrupted during %s: %w", n.Task, k, ctx.Err())

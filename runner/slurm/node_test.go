@@ -1,6 +1,7 @@
 package slurm
 
 import (
+	"context"
 	"os"
 	"path/filepath"
 	"strings"
@@ -126,5 +127,53 @@ func TestNeighbours_Nearest_TiesByKey(t *testing.T) {
 	}
 	if got := (neighbours{}).nearest([]float64{1}, "r=1"); got != "" {
 		t.Errorf("nearest with no neighbours = %q, want \"\"", got)
+	}
+}
+
+// guessRecorder wraps a backend and records the guess each task was given.
+type guessRecorder struct {
+	runner.Backend
+	guess map[string]string
+	cold  map[string]bool
+}
+
+func (g *guessRecorder) Compute(ctx context.Context, t runner.Task) (runner.Outcome, error) {
+	g.guess[t.Key], g.cold[t.Key] = t.GuessPath, t.Cold
+	return g.Backend.Compute(ctx, t)
+}
+
+// A point job.json lists as cold (recomputed after an energy jump) gets no
+// continuation guess on the node, although a done neighbour is there.
+func TestNodeTask_Run_ColdPointsGetNoGuess(t *testing.T) {
+	for _, cold := range []bool{false, true} {
+		keys := []string{"r=0.80000", "r=0.85000"}
+		_, jobDir, _ := nodeJob(t, keys...)
+		if cold {
+			path := filepath.Join(jobDir, JobMetaFile)
+			b, err := os.ReadFile(path)
+			if err != nil {
+				t.Fatal(err)
+			}
+			b = []byte(strings.Replace(string(b), `"attempts":`, `"cold":["r=0.85000"],"attempts":`, 1))
+			if err := os.WriteFile(path, b, 0o644); err != nil {
+				t.Fatal(err)
+			}
+		}
+		rec := &guessRecorder{guess: map[string]string{}, cold: map[string]bool{}}
+		nt := NodeTask{JobDir: jobDir, Task: 0, NewBackend: func(s *planner.Spec) (runner.Backend, error) {
+			b, err := model.New(s)
+			rec.Backend = b
+			return rec, err
+		}}
+		if err := nt.Run(t.Context()); err != nil {
+			t.Fatal(err)
+		}
+		g := rec.guess["r=0.85000"]
+		switch {
+		case cold && (g != "" || !rec.cold["r=0.85000"]):
+			t.Errorf("cold point started from %q (cold flag %v), want no guess", g, rec.cold["r=0.85000"])
+		case !cold && g == "":
+			t.Errorf("control: the second point got no neighbour guess, so this test proves nothing")
+		}
 	}
 }

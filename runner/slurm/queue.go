@@ -42,6 +42,9 @@ type JobMeta struct {
 	// Attempts maps point key to the attempt number the node writes into
 	// its result file.
 	Attempts map[string]int `json:"attempts"`
+	// Cold lists points the node computes without a continuation guess
+	// (recomputations after an energy jump).
+	Cold []string `json:"cold,omitempty"`
 }
 
 // QueueStats counts what a Queue did; read it after Run returns (or at
@@ -505,6 +508,9 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 		for _, t := range ts[i:min(i+k, len(ts))] {
 			keys = append(keys, t.Key)
 			meta.Attempts[t.Key] = t.Attempt
+			if t.Cold {
+				meta.Cold = append(meta.Cold, t.Key)
+			}
 		}
 		m.Tasks = append(m.Tasks, keys)
 	}
