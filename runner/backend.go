@@ -18,11 +18,26 @@ type Task struct {
 	// is recomputed after an energy jump (a cold start: the neighbour's
 	// orbitals may be what led it onto another state).
 	GuessPath string
+	// GuessLine, when it has two or more entries, lists done points with
+	// orbitals on the scan line through this point and the GuessPath
+	// neighbour (GuessLine[0] is that neighbour, then the next nearest, at
+	// most three in all), and LineAt is this point's position on the line
+	// (the varying coordinate, bohr or radians): a backend may extrapolate
+	// its starting guess along the line instead of copying the neighbour's.
+	GuessLine []LinePoint
+	LineAt    float64
 	// Cold is set when the point must start without any continuation
 	// guess (a recomputation after an energy jump); queues that compute
 	// elsewhere pass it on so the remote side does not pick a guess itself.
 	Cold    bool
 	Threads int // engine threads this point may use
+}
+
+// LinePoint is a done point on a scan line: its orbitals file and its
+// position on the line.
+type LinePoint struct {
+	Path string
+	At   float64
 }
 
 // Outcome is what a backend computed for one point. A calculation that

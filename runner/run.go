@@ -581,12 +581,80 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 				t.GuessPath = filepath.Join(r.Dir, filepath.FromSlash(o.Orbitals))
 			}
 		}
+		if bestKey != "" {
+			t.GuessLine, t.LineAt = r.guessLine(rec, r.recs[bestKey])
+		}
 	}
 	t.Threads = r.Spec.Queue.Threads
 	if t.Threads == 0 {
 		t.Threads = max(1, r.CPUs/max(1, min(r.Queue.Slots(), active)))
 	}
 	return t, nil
+}
+
+// guessLine returns the done points with orbitals on the line through rec
+// and its nearest done neighbour nb (nb first, then by distance, at most
+// three, none farther than four times nb's distance) and rec's position on
+// that line; nil when nb differs from rec in more than one coordinate.
+func (r *Runner) guessLine(rec, nb *PointRecord) ([]LinePoint, float64) {
+	const same = 1e-9
+	axis := -1
+	for i := range rec.Values {
+		if math.Abs(nb.Values[i]-rec.Values[i]) > same {
+			if axis >= 0 {
+				return nil, 0
+			}
+			axis = i
+		}
+	}
+	if axis < 0 {
+		return nil, 0
+	}
+	x := rec.Values[axis]
+	d1 := math.Abs(nb.Values[axis] - x)
+	type cand struct {
+		key string
+		at  float64
+	}
+	var cs []cand
+	for _, o := range r.recs {
+		if o.State != Done || o.Orbitals == "" || o.Key == rec.Key || o.Key == nb.Key {
+			continue
+		}
+		on := true
+		for i := range o.Values {
+			if i != axis && math.Abs(o.Values[i]-rec.Values[i]) > same {
+				on = false
+				break
+			}
+		}
+		if on && math.Abs(o.Values[axis]-x) <= 4*d1 && math.Abs(o.Values[axis]-nb.Values[axis]) > same {
+			cs = append(cs, cand{o.Key, o.Values[axis]})
+		}
+	}
+	sort.Slice(cs, func(a, b int) bool {
+		da, db := math.Abs(cs[a].at-x), math.Abs(cs[b].at-x)
+		if da != db {
+			return da < db
+		}
+		return cs[a].key < cs[b].key
+	})
+	line := []LinePoint{{Path: filepath.Join(r.Dir, filepath.FromSlash(nb.Orbitals)), At: nb.Values[axis]}}
+	for _, c := range cs {
+		if len(line) == 3 {
+			break
+		}
+		dup := false
+		for _, l := range line {
+			if math.Abs(l.At-c.at) <= same {
+				dup = true
+			}
+		}
+		if !dup {
+			line = append(line, LinePoint{Path: filepath.Join(r.Dir, filepath.FromSlash(r.recs[c.key].Orbitals)), At: c.at})
+		}
+	}
+	return line, x
 }
 
 // work is the Worker: it runs one task in this process and writes its

@@ -59,9 +59,9 @@ cancelled tasks are computed again by the next 'wellscan run DIR'.`,
 				}
 			}
 			if err != nil || live > 0 {
-				return fmt.Errorf("cancel: asked %s to cancel the jobs named %s, but %d task(s) are still listed as live after %s: %v", client.Profile().Name, name, live, wait, err)
+				return fmt.Errorf("cancel: asked %s to cancel the jobs named %s, but %d task(s) are still listed as live after %s: %v", slurm.DisplayName(client.Profile().Name), name, live, wait, err)
 			}
-			fmt.Fprintf(a.stdout, "cancelled the %s jobs of %s (job name %s); 'wellscan run %s' computes what is missing\n", client.Profile().Name, dir, name, dir)
+			fmt.Fprintf(a.stdout, "cancelled the %s jobs of %s (job name %s); 'wellscan run %s' computes what is missing\n", slurm.DisplayName(client.Profile().Name), dir, name, dir)
 			return nil
 		},
 	}

@@ -461,7 +461,7 @@ func TestSlurm_SIGINT_DetachesJobsKeepRunning(t *testing.T) {
 		t.Fatal(err)
 	}
 	_ = cmd.Wait()
-	if code := cmd.ProcessState.ExitCode(); code != 130 || !strings.Contains(stderr.String(), "detached from slurm") {
+	if code := cmd.ProcessState.ExitCode(); code != 130 || !strings.Contains(stderr.String(), "detached from Slurm") {
 		t.Fatalf("exit %d, want 130 and a note that the jobs keep running:\n%s", code, stderr.String())
 	}
 	live, err := exec.Command("squeue", "--me", "-h", "-r", "-t", "PD,R", "--name="+slurm.JobNameFor(dir), "-o", "%i").Output()

@@ -119,6 +119,21 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		if g, err := readOrbitalsFile(t.GuessPath); err == nil {
 			opts.Guess = g
 			guessNote = 1
+			// More done points on the line: extrapolate the density
+			// along it (quadratic with three, linear with two).
+			pos := []float64{t.LineAt}
+			if len(t.GuessLine) > 1 {
+				pos = append(pos, t.GuessLine[0].At)
+			}
+			for _, lp := range t.GuessLine[min(1, len(t.GuessLine)):] {
+				if p, err := readOrbitalsFile(lp.Path); err == nil {
+					opts.GuessPrevious = append(opts.GuessPrevious, p)
+					pos = append(pos, lp.At)
+				}
+			}
+			if len(opts.GuessPrevious) > 0 {
+				opts.GuessPositions = pos
+			}
 		}
 	}
 	if opts.Guess != nil {

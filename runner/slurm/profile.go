@@ -416,3 +416,12 @@ func (p *Profile) nameBelongs(shown, jobName string) bool {
 	}
 	return false
 }
+
+// DisplayName is how messages name the scheduler of profile name: the
+// presets as their vendors write them, other profiles by their own name.
+func DisplayName(name string) string {
+	if d, ok := map[string]string{"slurm": "Slurm", "torque": "Torque", "lsf": "LSF", "sge": "SGE"}[name]; ok {
+		return d
+	}
+	return name
+}

@@ -713,7 +713,7 @@ func (q *Queue) DetachNote() string {
 	q.mu.Lock()
 	name := q.jobName
 	q.mu.Unlock()
-	sched := q.Name()
+	sched := DisplayName(q.Name())
 	if name == "" {
 		return fmt.Sprintf("detached from %s; no job was submitted", sched)
 	}
