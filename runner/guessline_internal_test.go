@@ -12,7 +12,7 @@ func TestGuessLine_PicksPointsOnTheLine(t *testing.T) {
 	r := &Runner{Dir: "/scan", recs: map[string]*PointRecord{}}
 	for _, p := range []*PointRecord{
 		done("a", 1.0, 2.0), done("b", 1.2, 2.0), done("c", 1.4, 2.0), done("d", 3.0, 2.0), // row y = 2
-		done("e", 1.6, 2.5),                                    // off the row
+		done("e", 1.6, 2.5), // off the row
 		{Key: "f", Values: []float64{1.8, 2.0}, State: Failed}, // not done
 	} {
 		r.recs[p.Key] = p
