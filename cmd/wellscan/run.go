@@ -17,6 +17,7 @@ import (
 
 	"wellscan/planner"
 	"wellscan/runner"
+	"wellscan/runner/slurm"
 )
 
 type runOptions struct {
@@ -115,6 +116,11 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue, Detach: o.detach}
 	if d, ok := queue.(interface{ SetDetach(bool) }); ok {
 		d.SetDetach(o.detach)
+	}
+	if bq, ok := queue.(*slurm.Queue); ok && !o.quiet && !o.json {
+		bq.OnNotice = func(msg string) {
+			fmt.Fprintf(a.stderr, "%swellscan: %s\n", time.Now().Format("2006-01-02 15:04:05 "), msg)
+		}
 	}
 	switch {
 	case o.json:

@@ -100,6 +100,10 @@ type Queue struct {
 	Gather time.Duration
 	// Now is the clock; nil means time.Now.
 	Now func() time.Time
+	// OnNotice, if set, is told (from the queue's goroutine) when the
+	// status command starts failing and when it answers again; the points
+	// are judged by their result files meanwhile.
+	OnNotice func(msg string)
 	// Detach: once the round loop has handed over its tasks (closed in),
 	// submit what is gathered and return at once, every point in flight
 	// as LeftRunning, instead of polling until the tasks end.
@@ -205,6 +209,7 @@ type run struct {
 	maxArr  int
 
 	listed    bool
+	failing   int // poll cycles in a row whose status command failed
 	adoptable map[string]TaskRef // key → live task of an earlier submission
 	// endedEarlier: key → the final state of its latest task, which ended
 	// while no run watched it (a detached scan, a killed orchestrator).
@@ -594,6 +599,18 @@ func (r *run) failure(t runner.Task, class string, permanent bool, msg string) r
 // It reports whether anything changed.
 func (r *run) cycle() bool {
 	snap, err := r.poller.Poll(r.ctx)
+	switch {
+	case err != nil && r.ctx.Err() == nil:
+		r.failing++
+		if r.failing == 1 && r.q.OnNotice != nil {
+			r.q.OnNotice(fmt.Sprintf("%s does not answer (%v); points are judged by their result files until it does, polling less often", DisplayName(r.q.Name()), err))
+		}
+	case err == nil && r.failing > 0:
+		if r.q.OnNotice != nil {
+			r.q.OnNotice(fmt.Sprintf("%s answers again after %d failed poll(s)", DisplayName(r.q.Name()), r.failing))
+		}
+		r.failing = 0
+	}
 	r.q.count(func(s *QueueStats) {
 		s.Cycles++
 		s.Commands += snap.Commands

@@ -29,7 +29,10 @@ type fakeSlurm struct {
 
 	mu sync.Mutex
 	// hold keeps tasks PENDING (the node does nothing) while true.
-	hold  bool
+	hold bool
+	// down makes the next down squeue calls after the first fail as an
+	// unreachable controller does.
+	down  int
 	polls int
 	subs  int
 	tasks []*fakeTask
@@ -85,6 +88,10 @@ func (f *fakeSlurm) Run(ctx context.Context, c Cmd) (Output, error) {
 		return Output{ExitCode: 1, Stderr: []byte("sacct: error: Slurm accounting storage is disabled\n")}, nil
 	case "squeue":
 		f.polls++
+		if f.down > 0 && f.polls > 1 {
+			f.down--
+			return Output{ExitCode: 1, Stderr: []byte("squeue: error: Unable to contact slurm controller (connect failure)\n")}, nil
+		}
 		var b strings.Builder
 		for _, t := range f.tasks {
 			switch {
@@ -175,7 +182,7 @@ func fakeScanDir(t *testing.T) string {
 
 // runFakeIn runs (or resumes) the scan in dir against fake, attached or
 // detached.
-func runFakeIn(t *testing.T, dir string, fake Runner, detach bool) fakeRun {
+func runFakeIn(t *testing.T, dir string, fake Runner, detach bool, opts ...func(*Queue)) fakeRun {
 	t.Helper()
 	spec, err := planner.Load(filepath.Join(dir, "scan.toml"))
 	if err != nil {
@@ -189,6 +196,9 @@ func runFakeIn(t *testing.T, dir string, fake Runner, detach bool) fakeRun {
 	q.Binary = "/nonexistent/wellscan" // the fake runs the node side in process
 	q.Gather = 20 * time.Millisecond
 	q.Detach = detach
+	for _, o := range opts {
+		o(q)
+	}
 	backend, err := model.New(spec)
 	if err != nil {
 		t.Fatal(err)
@@ -614,5 +624,30 @@ func TestQueue_Detach_EndedWhileDetached(t *testing.T) {
 	}
 	if n != 1 {
 		t.Errorf("%d scripts ask for 20 min, want 1 (the resubmission); scripts:\n%s", n, strings.Join(jobs, "\n---\n"))
+	}
+}
+
+// A controller that stops answering for a while: the run says so once,
+// says when it answers again, and finishes with every point done once.
+func TestQueue_Run_SchedulerUnreachableNoticed(t *testing.T) {
+	fake := &fakeSlurm{t: t, fate: func(int, int) string { return "COMPLETED" }, down: 3}
+	var notices []string
+	fr := runFakeIn(t, fakeScanDir(t), fake, false, func(q *Queue) {
+		q.OnNotice = func(m string) { notices = append(notices, m) }
+	})
+	if fr.err != nil {
+		t.Fatal(fr.err)
+	}
+	for k, rec := range fr.recs {
+		if rec.State != runner.Done || rec.Attempts != 1 {
+			t.Errorf("%s: %s after %d attempts", k, rec.State, rec.Attempts)
+		}
+	}
+	if len(notices) != 2 || !strings.Contains(notices[0], "Slurm does not answer") || !strings.Contains(notices[0], "Unable to contact") ||
+		!strings.Contains(notices[1], "answers again after 3 failed poll(s)") {
+		t.Errorf("notices %q, want one 'does not answer' and one 'answers again after 3'", notices)
+	}
+	if fake.subs != 1 {
+		t.Errorf("%d submissions, want 1 (an outage is no reason to resubmit)", fake.subs)
 	}
 }
