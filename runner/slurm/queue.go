@@ -209,7 +209,7 @@ type run struct {
 	maxArr  int
 
 	listed    bool
-	failing   int // poll cycles in a row whose status command failed
+	failing   int                // poll cycles in a row whose status command failed
 	adoptable map[string]TaskRef // key → live task of an earlier submission
 	// endedEarlier: key → the final state of its latest task, which ended
 	// while no run watched it (a detached scan, a killed orchestrator).
