@@ -58,24 +58,8 @@ func FindDiscontinuities(recs []PointRecord, o DiscontinuityOptions) []Suspect {
 	if len(done) == 0 {
 		return nil
 	}
-	dim := len(done[0].Values)
-	for d := range dim {
-		lines := map[string][]PointRecord{}
-		for _, r := range done {
-			if len(r.Values) != dim {
-				continue
-			}
-			var other []string
-			for k, v := range r.Values {
-				if k != d {
-					other = append(other, strconv.FormatFloat(v, 'g', 9, 64))
-				}
-			}
-			id := strings.Join(other, ",")
-			lines[id] = append(lines[id], r)
-		}
-		for _, line := range lines {
-			sort.Slice(line, func(i, j int) bool { return line[i].Values[d] < line[j].Values[d] })
+	for d := range len(done[0].Values) {
+		for _, line := range scanLines(done, d) {
 			for i := 1; i < len(line); i++ {
 				a, b := line[i-1].SSquared, line[i].SSquared
 				if a != nil && b != nil && math.Abs(*b-*a) > o.S2Tol {

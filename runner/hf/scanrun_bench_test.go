@@ -1,16 +1,11 @@
 package hf_test
 
 import (
-	"context"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 
-	"wellscan/planner"
 	"wellscan/runner"
 	"wellscan/runner/hf"
-	"wellscan/runner/local"
 )
 
 // coScanSpec is the 30-point CO stretch of BenchmarkScan_ContinuationGuess
@@ -49,33 +44,11 @@ func BenchmarkScanRunner_COGuess(b *testing.B) {
 		b.Run(mode, func(b *testing.B) {
 			var iters, points int
 			for b.Loop() {
-				dir := b.TempDir()
-				text := []byte(replaceGuess(coScanSpec, mode))
-				if err := os.WriteFile(filepath.Join(dir, "scan.toml"), text, 0o644); err != nil {
-					b.Fatal(err)
-				}
-				spec, err := planner.Load(filepath.Join(dir, "scan.toml"))
-				if err != nil {
-					b.Fatal(err)
-				}
-				be, err := hf.NewBackend(spec)
-				if err != nil {
-					b.Fatal(err)
-				}
-				st, err := runner.OpenScan(dir, spec, runner.OpenOptions{})
-				if err != nil {
-					b.Fatal(err)
-				}
-				r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: be, Queue: local.New(1)}
-				if _, err := r.Run(context.Background()); err != nil {
-					b.Fatal(err)
-				}
-				recs, err := st.Points()
-				st.Close()
-				if err != nil {
-					b.Fatal(err)
-				}
+				recs := runScanText(b, replaceGuess(coScanSpec, mode), 1, func(be *hf.Backend) runner.Backend { return be })
 				for _, rec := range recs {
+					if rec.State != runner.Done {
+						b.Fatalf("%s: %s (%s)", rec.Key, rec.State, rec.LastError)
+					}
 					iters += rec.Iterations
 					points++
 				}

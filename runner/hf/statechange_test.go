@@ -48,16 +48,13 @@ kind = "local"
 workers = 2
 `
 
-type scanRun struct {
-	recs             []runner.PointRecord
-	iterations       int // every SCF iteration spent, over all points
-	checks, replaced int
-}
-
-func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanRun {
+// runScanText runs the scan spec text in a fresh directory through the
+// round loop with the built-in backend (as wrap returns it) on a local
+// queue of the given workers, and returns the stored points. Failed points
+// are fine; any other error fails the test.
+func runScanText(t testing.TB, text string, workers int, wrap func(*hf.Backend) runner.Backend) []runner.PointRecord {
 	t.Helper()
 	dir := t.TempDir()
-	text := strings.NewReplacer("%GRID%", grid, "%BASIS%", bs).Replace(stateChangeSpec)
 	path := filepath.Join(dir, "scan.toml")
 	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
 		t.Fatal(err)
@@ -75,7 +72,7 @@ func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanR
 	if err != nil {
 		t.Fatal(err)
 	}
-	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: b.WithColdCheck(check), Queue: local.New(2)}
+	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: wrap(b), Queue: local.New(workers)}
 	if _, err := r.Run(t.Context()); err != nil && !errors.Is(err, runner.ErrPointsFailed) {
 		t.Fatalf("scan: %v", err)
 	}
@@ -83,6 +80,19 @@ func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanR
 	if err != nil {
 		t.Fatal(err)
 	}
+	return recs
+}
+
+type scanRun struct {
+	recs             []runner.PointRecord
+	iterations       int // every SCF iteration spent, over all points
+	checks, replaced int
+}
+
+func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanRun {
+	t.Helper()
+	text := strings.NewReplacer("%GRID%", grid, "%BASIS%", bs).Replace(stateChangeSpec)
+	recs := runScanText(t, text, 2, func(b *hf.Backend) runner.Backend { return b.WithColdCheck(check) })
 	sort.Slice(recs, func(i, j int) bool {
 		if recs[i].Values[0] != recs[j].Values[0] {
 			return recs[i].Values[0] < recs[j].Values[0]
