@@ -67,7 +67,7 @@ func runWith(t *testing.T, dir string, text string, wrap func(*model.Backend) ru
 }
 
 // scanDirAt writes spec text into dir (created if needed) and loads it.
-func scanDirAt(t *testing.T, dir, text string) (string, *planner.Spec) {
+func scanDirAt(t testing.TB, dir, text string) (string, *planner.Spec) {
 	t.Helper()
 	if err := os.MkdirAll(dir, 0o700); err != nil {
 		t.Fatal(err)

@@ -47,16 +47,7 @@ center = 2.135
 // scanDir writes spec text into a new scan directory.
 func scanDir(t testing.TB, text string) (string, *planner.Spec) {
 	t.Helper()
-	dir := t.TempDir()
-	path := filepath.Join(dir, "scan.toml")
-	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	spec, err := planner.Load(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return dir, spec
+	return scanDirAt(t, t.TempDir(), text)
 }
 
 func runScan(t testing.TB, ctx context.Context, dir string, spec *planner.Spec, workers int) (runner.Summary, error) {
