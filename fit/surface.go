@@ -253,3 +253,18 @@ func (s *SurfaceResult) eval(x, y float64, i, j int) float64 {
 
 // Energy returns the fitted surface at (x, y).
 func (s *SurfaceResult) Energy(x, y float64) float64 { return s.eval(x, y, 0, 0) }
+
+// SetKinetic solves the GF problem again with the kinetic G matrix g
+// (the inverse of the kinetic metric, in 1/amu per unit², see
+// [SurfaceOptions.G]) evaluated at the fitted stationary point, replacing
+// Frequencies and Modes. Callers that know the metric only once the
+// stationary point is found (it moves with the geometry) use it after
+// [Surface2D].
+func (s *SurfaceResult) SetKinetic(g [2][2]float64) error {
+	w, modes, err := gfFrequencies(g, s.Hessian)
+	if err != nil {
+		return err
+	}
+	s.Frequencies, s.Modes = w, modes
+	return nil
+}

@@ -274,7 +274,9 @@ func (s *Spec) buildCoordinates() error {
 				owner[a] = mi
 			}
 		}
-		s.coords = append(s.coords, c)
+		if err := s.resolvePeriod(&c, sc, key("period")); err != nil {
+			return err
+		}
 		ax, k, msg := axisValues(sc, c.Digits)
 		if msg != "" {
 			return s.errAt(key(k), "%s", msg)
@@ -290,6 +292,8 @@ func (s *Spec) buildCoordinates() error {
 				return s.errAt(key(grideKey(sc)), "torsion %g° is outside [−360°, 360°]", x)
 			}
 		}
+		s.finishPeriodicAxis(&c, ax, c.Name)
+		s.coords = append(s.coords, c)
 		s.axes = append(s.axes, ax)
 	}
 	return nil
@@ -391,7 +395,17 @@ func containsInt(xs []int, x int) bool {
 func (s *Spec) buildRefine() error {
 	r := s.Refine
 	out := RefineSettings{Adaptive: true, FrequencyTolerance: DefaultFrequencyTolerance,
-		MaxRounds: DefaultMaxRounds, MaxPoints: DefaultMaxPoints, MaxExtensions: DefaultMaxExtensions, Maxima: r.Maxima}
+		MaxRounds: DefaultMaxRounds, MaxPoints: DefaultMaxPoints, MaxExtensions: DefaultMaxExtensions}
+	// Barriers are what a torsion scan is for: maxima are refined by
+	// default when a coordinate is a torsion.
+	for _, c := range s.coords {
+		if c.Kind == KindTorsion {
+			out.Maxima = true
+		}
+	}
+	if r.Maxima != nil {
+		out.Maxima = *r.Maxima
+	}
 	if r.Adaptive != nil {
 		out.Adaptive = *r.Adaptive
 	}

@@ -57,6 +57,7 @@ type ExtremumJSON struct {
 type PointJSON struct {
 	Key           string             `json:"key"`
 	Coordinates   map[string]float64 `json:"coordinates"`
+	Values        []float64          `json:"values"` // internal units (bohr, radian), in [[scan]] order
 	State         State              `json:"state"`
 	EnergyHartree *float64           `json:"energy_hartree"`
 	Round         int                `json:"round"`
@@ -90,7 +91,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 		m[r.Key] = r
 		snap.Counts[string(r.State)]++
 		snap.Round = max(snap.Round, r.Round)
-		snap.Points = append(snap.Points, PointJSON{Key: r.Key, Coordinates: coords(spec, r.Values), State: r.State,
+		snap.Points = append(snap.Points, PointJSON{Key: r.Key, Coordinates: coords(spec, r.Values), Values: r.Values, State: r.State,
 			EnergyHartree: r.Energy, Round: r.Round, Attempts: r.Attempts})
 		if r.LastError != "" {
 			snap.LastErrors = append(snap.LastErrors, PointErrorJSON{Key: r.Key, Class: r.Class, Error: r.LastError, State: r.State})
