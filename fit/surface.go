@@ -32,12 +32,14 @@ type SurfaceResult struct {
 	Degree      int           `json:"degree"`
 	Points      int           `json:"points"`
 	RMSResidual float64       `json:"rms_residual_hartree"`
-	Frequencies []float64     `json:"harmonic_cm1,omitempty"`
-	Modes       [][2]float64  `json:"modes,omitempty"`
-	Warnings    []string      `json:"warnings"`
-	coef        []float64     // in (dx, dy) about origin
-	origin      [2]float64    // lowest sampled point
-	powers      [][2]int      // exponent pairs of coef
+	// WindowEnergy (hartree) is the window of points the fit used.
+	WindowEnergy float64      `json:"window_energy_hartree"`
+	Frequencies  []float64    `json:"harmonic_cm1,omitempty"`
+	Modes        [][2]float64 `json:"modes,omitempty"`
+	Warnings     []string     `json:"warnings"`
+	coef         []float64    // in (dx, dy) about origin
+	origin       [2]float64   // lowest sampled point
+	powers       [][2]int     // exponent pairs of coef
 }
 
 // Surface2D fits a polynomial surface E(x, y) of total degree 2 or 4 by
@@ -83,7 +85,7 @@ func Surface2D(x, y, e []float64, opt SurfaceOptions) (*SurfaceResult, error) {
 			pw = append(pw, [2]int{i, d - i})
 		}
 	}
-	res := &SurfaceResult{Degree: opt.Degree, origin: [2]float64{x[lo], y[lo]}, powers: pw}
+	res := &SurfaceResult{Degree: opt.Degree, WindowEnergy: opt.WindowEnergy, origin: [2]float64{x[lo], y[lo]}, powers: pw}
 	if len(idx) < len(pw)+1 {
 		// Take the nearest points instead, and say so.
 		all := make([]int, len(e))

@@ -3,7 +3,6 @@ package runner
 import (
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -47,7 +46,6 @@ type ExtremumJSON struct {
 	Kind          string             `json:"kind"`
 	Coordinates   map[string]float64 `json:"coordinates"`
 	EnergyHartree float64            `json:"energy_hartree"`
-	FrequencyCm1  *float64           `json:"harmonic_cm-1,omitempty"`
 	AtEdge        bool               `json:"at_edge"`
 	Converged     bool               `json:"converged"`
 	Note          string             `json:"note,omitempty"`
@@ -123,10 +121,6 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	plan := planner.Refine(spec, Samples(m), snap.Round)
 	for _, e := range plan.Extrema {
 		ej := ExtremumJSON{Kind: e.Kind, Coordinates: coords(spec, e.Values), EnergyHartree: e.Energy, AtEdge: e.AtEdge, Converged: e.Converged, Note: e.Note}
-		if !math.IsNaN(e.Frequency) {
-			f := e.Frequency
-			ej.FrequencyCm1 = &f
-		}
 		snap.Extrema = append(snap.Extrema, ej)
 	}
 	return snap
