@@ -29,6 +29,7 @@ type FourierSeries struct {
 	RMSResidual float64 `json:"rms_residual_hartree"`
 	LOOCV       float64 `json:"loocv_rms_hartree"`
 	Points      int     `json:"points"`
+	pts         [][2]float64
 }
 
 // Eval returns the d-th derivative of V at x (hartree per radian^d).
@@ -165,12 +166,25 @@ func FitFourier(x, e []float64, p float64, maxOrder int) (*FourierSeries, error)
 	return best, nil
 }
 
+// refit fits the same points with another order (for model-spread
+// estimates); nil if that order is not determined.
+func (f *FourierSeries) refit(order int) *FourierSeries {
+	if order < 1 || 2*order+1 > len(f.pts) {
+		return nil
+	}
+	g, err := fourierLSQ(f.pts, f.Period, order)
+	if err != nil {
+		return nil
+	}
+	return g
+}
+
 func fourierLSQ(pts [][2]float64, p float64, order int) (*FourierSeries, error) {
 	n, m := len(pts), 2*order+1
 	if n < m {
 		return nil, fmt.Errorf("fit: %d points cannot determine %d Fourier coefficients", n, m)
 	}
-	f := &FourierSeries{Period: p, Order: order, Points: n}
+	f := &FourierSeries{Period: p, Order: order, Points: n, pts: pts}
 	a := mat.NewDense(n, m, nil)
 	b := mat.NewVecDense(n, nil)
 	e0 := pts[0][1]

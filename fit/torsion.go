@@ -92,7 +92,8 @@ type TorsionResult struct {
 }
 
 // Torsion analyses a scan that covers a whole period p (radian) of a
-// torsion: a Fourier series fitted by least squares (order by
+// torsion (uncertainties: the larger of the least-squares standard error
+// and the change when the Fourier order moves by one): a Fourier series fitted by least squares (order by
 // cross-validation), every minimum and maximum it has, grouped into
 // symmetry-equivalent classes, each distinct minimum's harmonic torsional
 // wavenumber √(V″/I) with I from opt.Inertia at that minimum, the barriers
@@ -122,6 +123,38 @@ func Torsion(ctx context.Context, x, e []float64, p float64, opt TorsionOptions)
 		res.Warnings = append(res.Warnings, fmt.Sprintf("the Fourier series (order %d) passes exactly through the %d points: no uncertainties; add points", fs.Order, fs.Points))
 	}
 	st := fs.Stationaries()
+	// Model sensitivity: the same stationary points on the series one
+	// order lower and higher, when cross-validation cannot tell that
+	// series from the chosen one (leave-one-out error within 3× the
+	// best, or within the noise). Each standard error below is raised to
+	// the largest change seen, so that a truncated series is not reported
+	// with the tiny statistical error of nearly exact energies.
+	var alts [][]Stationary
+	for _, o := range []int{fs.Order - 1, fs.Order + 1} {
+		if g := fs.refit(o); g != nil && g.LOOCV <= math.Max(3*fs.LOOCV, opt.EnergyNoise) {
+			alts = append(alts, g.Stationaries())
+		}
+	}
+	for i := range st {
+		for _, alt := range alts {
+			best, bd := -1, math.Inf(1)
+			for j, a := range alt {
+				if a.Kind != st[i].Kind {
+					continue
+				}
+				if d := math.Abs(math.Remainder(a.x-st[i].x, p)); d < bd {
+					best, bd = j, d
+				}
+			}
+			if best < 0 || bd > p/8 {
+				continue
+			}
+			a := alt[best]
+			st[i].XStderr = math.Max(st[i].XStderr, bd*180/math.Pi)
+			st[i].EnergyStderr = math.Max(st[i].EnergyStderr, math.Abs(a.Energy-st[i].Energy))
+			st[i].CurvatureStderr = math.Max(st[i].CurvatureStderr, math.Abs(a.Curvature-st[i].Curvature))
+		}
+	}
 	var mins, maxs []Stationary
 	for _, s := range st {
 		if s.Kind == "minimum" {

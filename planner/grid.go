@@ -108,17 +108,26 @@ func roundTo(x float64, digits int) float64 {
 
 // InitialPoints is round 1: the grid of every coordinate (a product grid
 // for two coordinates), sorted by key values.
+// A torsion's values that are equivalent modulo its period give one
+// point.
 func (s *Spec) InitialPoints() []Point {
 	var pts []Point
+	seen := map[string]bool{}
+	add := func(p Point) {
+		if !seen[p.Key] {
+			seen[p.Key] = true
+			pts = append(pts, p)
+		}
+	}
 	switch len(s.axes) {
 	case 1:
 		for _, x := range s.axes[0] {
-			pts = append(pts, s.PointAt([]float64{x}))
+			add(s.PointAt([]float64{x}))
 		}
 	case 2:
 		for _, x := range s.axes[0] {
 			for _, y := range s.axes[1] {
-				pts = append(pts, s.PointAt([]float64{x, y}))
+				add(s.PointAt([]float64{x, y}))
 			}
 		}
 	}

@@ -147,6 +147,7 @@ type ModelTerm struct {
 	Sigma      float64 `toml:"sigma"`      // lennard-jones σ (bohr)
 	Force      float64 `toml:"force"`      // harmonic force constant k (hartree/bohr² or /rad²), E = k/2 (q−c)²
 	Tilt       float64 `toml:"tilt"`       // double-well linear tilt (hartree per bohr or rad)
+	Fold       int     `toml:"fold"`       // cosine: wells per turn n, E = depth/2 (1 − cos n(q − center))
 }
 
 // ChecksSpec is the [checks] table: plausibility rules the runner applies
@@ -275,7 +276,7 @@ func suggest(k toml.Key) string {
 		"refine":            "adaptive, target_step, tolerance, frequency_tolerance, max_rounds, max_points, max_extensions, maxima",
 		"engine":            "kind, method, basis, cartesian, max_iterations, convergence, guess, model, command",
 		"engine.model":      "offset, delay, fail, spikes, term",
-		"engine.model.term": "coordinate, shape, depth, center, width, sigma, force, tilt",
+		"engine.model.term": "coordinate, shape, depth, center, width, sigma, force, tilt, fold",
 		"queue":             "kind, workers, threads, attempts, timeout, slurm",
 		"checks":            "max_jump_hartree",
 	}

@@ -461,7 +461,7 @@ func (s *Spec) buildRefine() error {
 	return nil
 }
 
-var modelShapes = map[string]bool{"morse": true, "lennard-jones": true, "harmonic": true, "double-well": true}
+var modelShapes = map[string]bool{"morse": true, "lennard-jones": true, "harmonic": true, "double-well": true, "cosine": true}
 
 func (s *Spec) validateEngine() error {
 	e := s.Engine
@@ -518,7 +518,7 @@ func (s *Spec) validateEngine() error {
 				return s.errAt(key("coordinate"), "no [[scan]] block is named %q", t.Coordinate)
 			}
 			if !modelShapes[t.Shape] {
-				return s.errAt(key("shape"), "unknown shape %q (use morse, lennard-jones, harmonic or double-well)", t.Shape)
+				return s.errAt(key("shape"), "unknown shape %q (use morse, lennard-jones, harmonic, double-well or cosine)", t.Shape)
 			}
 			pos := func(name string, v float64) error {
 				if !(v > 0) {
@@ -541,6 +541,10 @@ func (s *Spec) validateEngine() error {
 			case "double-well":
 				if err = pos("depth", t.Depth); err == nil {
 					err = pos("width", t.Width)
+				}
+			case "cosine":
+				if err = pos("depth", t.Depth); err == nil && !(t.Fold >= 1 && t.Fold <= 12) {
+					err = s.errAt(key("fold"), "a cosine term needs fold = n, the number of wells per turn (1 to 12), got %d", t.Fold)
 				}
 			}
 			if err != nil {

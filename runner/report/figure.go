@@ -211,6 +211,19 @@ func newCurve(in Input) (*Figure, error) {
 		return nil, errors.New("report: no point has an energy yet; nothing to draw")
 	}
 	ps := in.sortedPoints()
+	if an := in.Analysis; an != nil && an.Torsion != nil && len(ps) > 0 {
+		// A full period is drawn closed: the points at its start appear
+		// again at its end (the same geometries).
+		period := an.Torsion.Series.Period * 180 / math.Pi
+		first := ps[0].Values[0]
+		for _, p := range ps {
+			if math.Abs(p.Values[0]-first) < 1e-9 {
+				q := p
+				q.Values = []float64{first + period}
+				ps = append(ps, q)
+			}
+		}
+	}
 	var xs, es []float64
 	for _, p := range ps {
 		if p.Energy != nil {
@@ -371,6 +384,10 @@ func newCurve(in Input) (*Figure, error) {
 	}
 	groups := map[string]*group{}
 	order := []string{}
+	states := map[string]int{} // points per state, each geometry once
+	for _, p := range in.Points {
+		states[p.State]++
+	}
 	for _, p := range ps {
 		g, seen := groups[p.State]
 		if !seen {
@@ -411,7 +428,7 @@ func newCurve(in Input) (*Figure, error) {
 			s.GlyphStyle.Radius = vg.Points(4.5) // a missing point must catch the eye
 		}
 		top.Add(s)
-		top.Legend.Add(fmt.Sprintf("%s (%d)", g.label, len(g.xy)), s)
+		top.Legend.Add(fmt.Sprintf("%s (%d)", g.label, states[st]), s)
 		if len(g.res) > 0 {
 			rs, err := plotter.NewScatter(g.res)
 			if err != nil {
