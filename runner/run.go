@@ -904,7 +904,15 @@ func (r *Runner) checkJumps() int {
 		recs = append(recs, *r.recs[k])
 	}
 	replanned := 0
-	for _, j := range FindJumps(recs, limit) {
+	var periods []float64
+	for _, c := range r.Spec.Coordinates() {
+		p := 0.0
+		if c.Periodic() && c.FullPeriod {
+			p = c.Period
+		}
+		periods = append(periods, p)
+	}
+	for _, j := range FindJumpsPeriodic(recs, limit, periods) {
 		rec := r.recs[j.Key]
 		rec.Jumps++
 		msg := jumpMessage(r.Spec, rec, j, limit)
