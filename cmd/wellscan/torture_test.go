@@ -1,10 +1,10 @@
 package main
 
 import (
-	"math"
-	"math/rand/v2"
 	"errors"
 	"io/fs"
+	"math"
+	"math/rand/v2"
 	"os"
 	"os/exec"
 	"path/filepath"
