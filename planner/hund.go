@@ -108,7 +108,7 @@ func DefaultMultiplicity(atoms []Atom, charge int) (int, string) {
 		}
 	}
 	m := 1 + ((n%2)+2)%2
-	return m, fmt.Sprintf("the lowest for %d electrons; set multiplicity if the ground state has more unpaired electrons", n)
+	return m, fmt.Sprintf("the lowest for %d electrons; give the multiplicity if the ground state has more unpaired electrons", n)
 }
 
 // ionLabel writes an atom or atomic ion: "N", "O⁻", "Fe²⁺".

@@ -82,3 +82,20 @@ func TestNewMolecule_DefaultMultiplicity(t *testing.T) {
 		t.Errorf("DefaultMultiplicity(O2) = %d, %q; want 1 and a reason saying it is the lowest", m, why)
 	}
 }
+
+func TestDecode_DefaultMethod(t *testing.T) {
+	// One default everywhere: RHF for a singlet, UHF otherwise, as in
+	// `wellscan energy` (DefaultMethod).
+	for _, tc := range []struct {
+		mult string
+		want string
+	}{{"", "rhf"}, {"multiplicity = 3\n", "uhf"}} {
+		s, err := Decode([]byte(strings.Replace(co, "[molecule]\n", "[molecule]\n"+tc.mult, 1)+scanR+"[engine]\nkind = \"builtin\"\nbasis = \"STO-3G\"\n"), "test.toml")
+		if err != nil {
+			t.Fatal(err)
+		}
+		if s.Engine.Method != tc.want || s.IsDefined("engine", "method") {
+			t.Errorf("%q: method %q (defined %v), want the default %q", tc.mult, s.Engine.Method, s.IsDefined("engine", "method"), tc.want)
+		}
+	}
+}

@@ -39,7 +39,7 @@ func newBasisCommand(a *app) *cobra.Command {
 			if err != nil {
 				return err
 			}
-			return set.Write(a.stdout, args[1:]...)
+			return set.WritePlain(a.stdout, args[1:]...)
 		},
 	})
 	return cmd
