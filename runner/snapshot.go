@@ -33,6 +33,8 @@ type Snapshot struct {
 	// Suspects are done points that break with their neighbours (see
 	// [FindDiscontinuities]).
 	Suspects []Suspect `json:"suspects,omitempty"`
+	// Warnings are the scan's warnings, most serious first ([ScanWarnings]).
+	Warnings []Warning `json:"warnings,omitempty"`
 }
 
 // RefineJSON is a round's refinement status.
@@ -47,7 +49,7 @@ type ExtremumJSON struct {
 	Kind          string             `json:"kind"`
 	Coordinates   map[string]float64 `json:"coordinates"`
 	EnergyHartree float64            `json:"energy_hartree"`
-	FrequencyCm1  *float64           `json:"harmonic_cm-1,omitempty"`
+	FrequencyCm1  *float64           `json:"harmonic_cm1,omitempty"`
 	AtEdge        bool               `json:"at_edge"`
 	Converged     bool               `json:"converged"`
 	Note          string             `json:"note,omitempty"`
@@ -111,6 +113,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	if len(snap.LastErrors) > 10 {
 		snap.LastErrors = snap.LastErrors[:10]
 	}
+	snap.Warnings = ScanWarnings(recs, rounds)
 	sort.Slice(rounds, func(a, b int) bool { return rounds[a].Round < rounds[b].Round })
 	for i := len(rounds) - 1; i >= 0; i-- {
 		if rounds[i].Status != "" {

@@ -133,7 +133,8 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	switch {
 	case err == nil:
 	case errors.Is(err, runner.ErrPointsFailed):
-		err = fmt.Errorf("%w: %w", errSomePointsFailed, err)
+		// "some points failed: 1 of 16", not the runner's words twice.
+		err = fmt.Errorf("%w: %s", errSomePointsFailed, strings.TrimPrefix(err.Error(), runner.ErrPointsFailed.Error()+": "))
 	case ctx.Err() != nil:
 		fmt.Fprintf(a.stderr, "wellscan: interrupted; the store is intact, rerun `wellscan run %s` to resume\n", dir)
 		if d, ok := queue.(interface{ DetachNote() string }); ok {
@@ -212,16 +213,20 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 	if spec.Title != "" {
 		fmt.Fprintf(w, "scan: %s (%s)\n", spec.Title, dir)
 	}
+	if mol, err := spec.Molecule(); err == nil {
+		fmt.Fprintf(w, "label: %s\n", scanLabel(spec, mol))
+	}
+	printWarnings(w, s.Warnings)
 	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed, %d not run · computed now %d, from earlier runs %d · %s\n",
 		s.Rounds, s.Counts[runner.Done], s.Counts[runner.Failed], s.Counts[runner.Planned]+s.Counts[runner.Running]+s.Counts[runner.Submitted],
-		s.Computed, s.Reused, s.Elapsed.Round(time.Millisecond))
+		s.Computed, s.Earlier+s.Reused, s.Elapsed.Round(time.Millisecond))
 	if s.Status != "" {
 		fmt.Fprintf(w, "refinement: %s — %s\n", s.Status, s.Reason)
 	}
 	for _, e := range s.Extrema {
 		fmt.Fprintf(w, "%s: %s  E = %.8f hartree", e.Kind, spec.Describe(e.Values), e.Energy)
 		if !math.IsNaN(e.Frequency) {
-			fmt.Fprintf(w, "  harmonic ≈ %.1f cm⁻¹ (refinement fit, μ = %.5f amu)", e.Frequency, e.Mass)
+			fmt.Fprintf(w, "  harmonic ≈ %.1f cm⁻¹ (refinement fit, %s)", e.Frequency, effectiveMass(spec, e.Mass))
 		}
 		if e.Note != "" {
 			fmt.Fprintf(w, "  [%s]", e.Note)
@@ -233,8 +238,30 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 			fmt.Fprintf(w, "… and %d more failed points (wellscan status %s)\n", len(s.Failed)-5, dir)
 			break
 		}
-		fmt.Fprintf(w, "failed: %s (%s, %d attempts): %s\n", f.Key, f.Class, f.Attempts, strings.TrimSpace(f.LastError))
+		fmt.Fprintf(w, "failed: %s (%s, %s): %s\n", f.Key, f.Class, plural(f.Attempts, "attempt"), strings.TrimSpace(f.LastError))
 	}
+}
+
+// printWarnings lists a scan's warnings, most serious first (the order
+// runner.ScanWarnings gives), as `status` and `run` show them.
+func printWarnings(w io.Writer, ws []runner.Warning) {
+	if len(ws) == 0 {
+		return
+	}
+	fmt.Fprintf(w, "warnings (%d, most serious first):\n", len(ws))
+	for _, x := range ws {
+		fmt.Fprintf(w, "  %s\n", x)
+	}
+}
+
+// effectiveMass labels the effective mass of the first scanned
+// coordinate in its unit: amu for a length, a moment of inertia in amu·Å²
+// for an angle or torsion (mu is per bohr² or per radian², amu·bohr²).
+func effectiveMass(spec *planner.Spec, mu float64) string {
+	if cs := spec.Coordinates(); len(cs) > 0 && cs[0].Kind != planner.KindDistance {
+		return fmt.Sprintf("effective moment %.5f amu·Å²", mu*planner.BohrInAngstrom*planner.BohrInAngstrom)
+	}
+	return fmt.Sprintf("μ = %.5f amu", mu)
 }
 
 // eventJSON is one line of `run --json`.
