@@ -63,6 +63,9 @@ type PointJSON struct {
 	EnergyHartree *float64           `json:"energy_hartree"`
 	Round         int                `json:"round"`
 	Attempts      int                `json:"attempts"`
+	// Diagnostics of a done point, where the backend reported them.
+	Iterations int      `json:"scf_iterations,omitempty"`
+	SSquared   *float64 `json:"s_squared,omitempty"`
 }
 
 // PointErrorJSON is the last error of a point.
@@ -93,7 +96,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 		snap.Counts[string(r.State)]++
 		snap.Round = max(snap.Round, r.Round)
 		snap.Points = append(snap.Points, PointJSON{Key: r.Key, Coordinates: coords(spec, r.Values), State: r.State,
-			EnergyHartree: r.Energy, Round: r.Round, Attempts: r.Attempts})
+			EnergyHartree: r.Energy, Round: r.Round, Attempts: r.Attempts, Iterations: r.Iterations, SSquared: r.SSquared})
 		if r.LastError != "" {
 			snap.LastErrors = append(snap.LastErrors, PointErrorJSON{Key: r.Key, Class: r.Class, Error: r.LastError, State: r.State})
 		}

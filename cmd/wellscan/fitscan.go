@@ -165,7 +165,7 @@ func fitScanDir(ctx context.Context, dir string, spec *planner.Spec, o *fitOptio
 		if err != nil {
 			return nil, err
 		}
-		opt.Isotopologues = []fit.MassSet{{Name: geo.Formula(), EffectiveMass: 1 / g}}
+		opt.Isotopologues = []fit.MassSet{{Name: geo.Isotopologue(), EffectiveMass: 1 / g}}
 		out.Mass = fmt.Sprintf("1-D along the scan: effective mass 1/G = %.6g (amu%s) of coordinate %s from Wilson's G matrix at the lowest point", 1/g, map[bool]string{true: "", false: "·bohr²"}[c.Kind == planner.KindDistance], c.Name)
 	}
 	out.Curve, err = fit.Curve(ctx, xsorted, esorted, opt)

@@ -122,6 +122,22 @@ func TestRun_RecoversAfterWrongProgramArgument(t *testing.T) {
 			t.Errorf("failure class repeated: %q", line)
 		}
 	}
+	// The summary and status put the warning first; report still writes
+	// a summary that lists the failures.
+	if !strings.Contains(out, "warnings (1, most serious first):\n  caution: 5 point(s) failed and have no energy") {
+		t.Errorf("run summary lacks the warning at the top:\n%s", out)
+	}
+	if code, out, errs := runCLI(t, "", "status", dir); code != 0 || !strings.Contains(out, "caution: 5 point(s) failed") {
+		t.Errorf("status: exit %d\n%s%s", code, out, errs)
+	}
+	code, out, errs = runCLI(t, "", "report", "--date", "2026-12-01", dir)
+	if code != 0 || strings.Contains(out, "curve.svg") {
+		t.Fatalf("report of a scan with every point failed: exit %d\n%s%s", code, out, errs)
+	}
+	md, err := os.ReadFile(filepath.Join(dir, "report", "summary.md"))
+	if err != nil || !strings.Contains(string(md), "## Failed points (5)") {
+		t.Errorf("summary.md (%v) lacks the failed points:\n%s", err, md)
+	}
 	writeCommandSpec(t, dir, `["awk", "-f", "morse.awk", "point.inp"]`)
 	code, out, errs = runCLI(t, "", "run", "-q", dir)
 	if code != 0 || !strings.Contains(out, "5 done, 0 failed") {
