@@ -290,3 +290,21 @@ func TestWriteCSV_Diagnostics(t *testing.T) {
 		t.Errorf("curve.csv with diagnostics:\n%s", b.String())
 	}
 }
+
+// TestHeading_NoRepeats: the figure's heading adds the molecule and the
+// method only when the title does not already say them.
+func TestHeading_NoRepeats(t *testing.T) {
+	for _, tc := range []struct {
+		c    Conditions
+		want string
+	}{
+		{Conditions{Title: "water stretch at RHF/6-31G*", Formula: "H2O", Method: "RHF", Basis: "6-31G*"}, "water stretch at RHF/6-31G* (H2O)"},
+		{Conditions{Title: "HDO stretch", Formula: "HDO", Method: "MP2(fc)", Basis: "cc-pVDZ"}, "HDO stretch (MP2(fc)/cc-pVDZ)"},
+		{Conditions{Title: "CO at RHF/6-31G*", Formula: "CO", Method: "RHF", Basis: "6-31G*"}, "CO at RHF/6-31G*"},
+		{Conditions{Formula: "CO", Method: "RHF", Basis: "6-31G*"}, "CO · RHF/6-31G*"},
+	} {
+		if got := heading(tc.c); got != tc.want {
+			t.Errorf("heading(%q) = %q, want %q", tc.c.Title, got, tc.want)
+		}
+	}
+}

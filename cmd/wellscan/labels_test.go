@@ -1,0 +1,73 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"wellscan/planner"
+)
+
+func loadExample(t *testing.T, name, patch string) *planner.Spec {
+	t.Helper()
+	b, err := os.ReadFile(filepath.Join("../../testdata/examples", name, "scan.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := string(b) + patch
+	spec, err := planner.Decode([]byte(text), filepath.Join(t.TempDir(), "scan.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return spec
+}
+
+// TestScanLabel: a label states the isotopologue, the method (MP2 with
+// its core treatment), the basis and that the scan is rigid.
+func TestScanLabel(t *testing.T) {
+	cases := []struct {
+		example, old, new, want string
+	}{
+		{"water-stretch", "", "", "H2O · RHF/6-31G* · rigid scan"},
+		{"water-stretch", "[molecule]\n", "[molecule]\nisotopes = { 2 = \"2H\" }\n", "HDO · RHF/6-31G* · rigid scan"},
+		{"water-stretch", "[molecule]\n", "[molecule]\nisotopes = { 2 = \"D\", 3 = \"D\" }\n", "D2O · RHF/6-31G* · rigid scan"},
+		{"water-stretch", "method = \"rhf\"", "method = \"mp2\"", "H2O · MP2(fc)/6-31G* · rigid scan"},
+		{"water-stretch", "method = \"rhf\"", "method = \"mp2\"\nfrozen_core = false", "H2O · MP2(full)/6-31G* · rigid scan"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.want, func(t *testing.T) {
+			b, err := os.ReadFile(filepath.Join("../../testdata/examples", tc.example, "scan.toml"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			text := string(b)
+			if tc.old != "" {
+				if !strings.Contains(text, tc.old) {
+					t.Fatalf("example lacks %q", tc.old)
+				}
+				text = strings.Replace(text, tc.old, tc.new, 1)
+			}
+			spec, err := planner.Decode([]byte(text), filepath.Join(t.TempDir(), "scan.toml"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			mol, _ := spec.Molecule()
+			if got := scanLabel(spec, mol); got != tc.want {
+				t.Errorf("scanLabel = %q, want %q", got, tc.want)
+			}
+		})
+	}
+}
+
+// TestEffectiveMass_Units: a length's effective mass is in amu, an
+// angle's an effective moment in amu·Å² (1 amu·bohr² = 0.280028520 amu·Å²,
+// the square of the CODATA 2018 bohr radius in Å).
+func TestEffectiveMass_Units(t *testing.T) {
+	if got := effectiveMass(loadExample(t, "water-stretch", ""), 0.9); got != "μ = 0.90000 amu" {
+		t.Errorf("stretch: %q", got)
+	}
+	if got := effectiveMass(loadExample(t, "water-bend", ""), 1); got != "effective moment 0.28003 amu·Å²" {
+		t.Errorf("bend: %q, want the moment in amu·Å²", got)
+	}
+}
