@@ -21,6 +21,9 @@ import (
 //     hydrogen, group 16 and group 17, each group from its heaviest
 //     member up. So NH3 and PH3 but H2O, H2S, HF and HCl; LiH, BH3,
 //     SiH4; NO, SO2, ClF3, OF2.
+//  3. One exception, the diatomic chalcogen hydrides: OH, SH and SeH are
+//     written chalcogen first, as spectroscopists write these radicals
+//     (common practice), where rule 2 would give HO.
 //
 // Counts are ASCII digits after the symbol ("H2O"); mass numbers of
 // substituted isotopes are superscripts before it ("¹³CO", see
@@ -38,8 +41,17 @@ var electronegativitySequence = [...]string{
 	"Br", "Cl", "F",
 }
 
-// elementOrder sorts element symbols in formula order (see above).
-func elementOrder(syms []string) {
+// elementOrder sorts the element symbols of a molecule of nAtoms atoms
+// in formula order (see above).
+func elementOrder(syms []string, nAtoms int) {
+	if nAtoms == 2 && len(syms) == 2 {
+		for i, s := range syms {
+			if s == "H" && (syms[1-i] == "O" || syms[1-i] == "S" || syms[1-i] == "Se") {
+				syms[0], syms[1] = syms[1-i], "H"
+				return
+			}
+		}
+	}
 	hasC := false
 	for _, s := range syms {
 		hasC = hasC || s == "C"
@@ -74,7 +86,7 @@ func (m Molecule) Formula() string {
 		}
 		counts[a.Element.Symbol]++
 	}
-	elementOrder(syms)
+	elementOrder(syms, len(m.Atoms))
 	var b strings.Builder
 	for _, s := range syms {
 		b.WriteString(s)
@@ -113,7 +125,7 @@ func (m Molecule) Isotopologue() string {
 		}
 		counts[k]++
 	}
-	elementOrder(syms)
+	elementOrder(syms, len(m.Atoms))
 	var b strings.Builder
 	for _, s := range syms {
 		isos := perElement[s]

@@ -50,6 +50,10 @@ func TestMolecule_Formula_ChemistsOrder(t *testing.T) {
 		{[]string{"H", "C", "N"}, "CHN"}, // Hill for carbon compounds: HCN is written CHN
 		{[]string{"Cl", "C", "H", "Cl", "Cl"}, "CHCl3"},
 		{[]string{"N", "N"}, "N2"},
+		{[]string{"H", "O"}, "OH"}, // the radical, as spectroscopists write it
+		{[]string{"S", "H"}, "SH"},
+		{[]string{"H", "O", "O"}, "HO2"},
+		{[]string{"H", "O", "Cl"}, "HOCl"},
 	}
 	for _, tc := range cases {
 		t.Run(strings.Join(tc.atoms, ""), func(t *testing.T) {
@@ -77,6 +81,7 @@ func TestMolecule_Isotopologue(t *testing.T) {
 		{[]string{"C", "H", "H", "H", "D"}, "CH3D"},
 		{[]string{"H", "T"}, "HT"},
 		{[]string{"37Cl", "H"}, "H³⁷Cl"},
+		{[]string{"O", "D"}, "OD"},
 	}
 	for _, tc := range cases {
 		t.Run(strings.Join(tc.atoms, ""), func(t *testing.T) {

@@ -69,6 +69,22 @@ func multiplicityNote(given bool, mol planner.Molecule) string {
 	return " (default: " + why + ")"
 }
 
+// specDefaults names the defaults a spec relied on for the molecule's
+// state and the method, e.g. "multiplicity 4 (Hund's rules for the ground
+// configuration of N); method UHF (default for multiplicity 4)"; empty
+// when the spec gave both.
+func specDefaults(spec *planner.Spec, mol planner.Molecule) string {
+	var parts []string
+	if !spec.IsDefined("molecule", "multiplicity") || spec.MoleculeInput.Multiplicity == 0 {
+		_, why := planner.DefaultMultiplicity(mol.Atoms, mol.Charge)
+		parts = append(parts, fmt.Sprintf("multiplicity %d (%s)", mol.Multiplicity, why))
+	}
+	if spec.Engine.Kind == "builtin" && !spec.IsDefined("engine", "method") {
+		parts = append(parts, fmt.Sprintf("method %s (default for multiplicity %d)", specMethod(spec, mol), mol.Multiplicity))
+	}
+	return strings.Join(parts, "; ")
+}
+
 // plural writes a count with its noun: "1 atom", "3 atoms".
 func plural(n int, noun string) string {
 	if n == 1 {

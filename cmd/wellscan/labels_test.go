@@ -71,3 +71,18 @@ func TestEffectiveMass_Units(t *testing.T) {
 		t.Errorf("bend: %q, want the moment in amu·Å²", got)
 	}
 }
+
+// TestRun_SummaryStatesDefaults: a run whose spec leaves out the
+// multiplicity and the method says which it used.
+func TestRun_SummaryStatesDefaults(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "oh")
+	if err := os.Mkdir(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	writeSpec(t, dir, "[molecule]\ngeometry = \"\"\"\nO 0 0 0\nH 0 0 0.97\n\"\"\"\n[[scan]]\nbond = [1, 2]\nvalues = [0.95, 0.97]\n[refine]\nadaptive = false\n[engine]\nkind = \"builtin\"\nbasis = \"STO-3G\"\n")
+	code, out, errs := wellscan(t, "run", "-q", dir)
+	want := "defaults used: multiplicity 2 (the lowest for 9 electrons; give the multiplicity if the ground state has more unpaired electrons); method UHF (default for multiplicity 2)"
+	if code != 0 || !strings.Contains(out, want) || !strings.Contains(out, "label: OH · UHF/STO-3G · rigid scan") {
+		t.Errorf("run: exit %d\n%s%s\nwant %q", code, out, errs, want)
+	}
+}

@@ -215,6 +215,9 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 	}
 	if mol, err := spec.Molecule(); err == nil {
 		fmt.Fprintf(w, "label: %s\n", scanLabel(spec, mol))
+		if d := specDefaults(spec, mol); d != "" {
+			fmt.Fprintf(w, "defaults used: %s\n", d)
+		}
 	}
 	printWarnings(w, s.Warnings)
 	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed, %d not run · computed now %d, from earlier runs %d · %s\n",
