@@ -22,7 +22,8 @@ type table struct {
 
 type section struct {
 	Title  string
-	Alert  bool // warnings and failures: rendered loudly
+	Alert  bool // what could mislead: rendered loudly (the alarm box)
+	Warn   bool // other warnings and failures: marked, at the top
 	Paras  []string
 	List   []string
 	Tables []table
@@ -122,14 +123,14 @@ func (in Input) sections() []section {
 			"These results may be wrong without looking wrong; check them before using the numbers."}})
 	}
 	if len(other) > 0 {
-		out = append(out, section{Title: fmt.Sprintf("Warnings (%d)", len(other)), List: other})
+		out = append(out, section{Title: fmt.Sprintf("Warnings (%d)", len(other)), Warn: true, List: other})
 	}
 	if len(failed) > 0 {
 		t := table{Head: []string{"point", "attempts", "last error"}}
 		for _, p := range failed {
 			t.Rows = append(t.Rows, []string{p.Key, fmt.Sprint(p.Attempts), oneLine(p.Error)})
 		}
-		out = append(out, section{Title: fmt.Sprintf("Failed points (%d)", len(failed)), Tables: []table{t},
+		out = append(out, section{Title: fmt.Sprintf("Failed points (%d)", len(failed)), Warn: true, Tables: []table{t},
 			Paras: []string{"These points have no energy and are not in the fit."}})
 	}
 	var coords []string
@@ -405,6 +406,7 @@ h1 { border-bottom: 3px solid #0072b2; padding-bottom: .2em; }
 h2 { color: #0072b2; margin-top: 1.6em; }
 section.alert { border: 3px solid #d55e00; background: #fff3ec; padding: .2em 1em 1em; }
 section.alert h2 { color: #d55e00; }
+section.warn { border-left: 8px solid #e69f00; background: #fff8e6; padding: .2em 1em .6em; }
 table { border-collapse: collapse; margin: .6em 0; }
 th, td { border: 1px solid #bbb; padding: .25em .6em; text-align: left; font-variant-numeric: tabular-nums; }
 th { background: #eef4f9; }
@@ -414,7 +416,7 @@ figure svg { width: 100%; height: auto; }
 </head>
 <body>
 <h1>Scan report: {{.Title}}</h1>
-{{range .Sections}}<section{{if .Alert}} class="alert"{{end}}>
+{{range .Sections}}<section{{if .Alert}} class="alert"{{else if .Warn}} class="warn"{{end}}>
 <h2>{{if .Alert}}⚠ {{end}}{{.Title}}</h2>
 {{range .Paras}}<p>{{if call $.Bold .}}<strong>{{.}}</strong>{{else}}{{.}}{{end}}</p>
 {{end}}{{if .Figure}}<figure id="curve">{{$.SVG}}</figure>
