@@ -210,7 +210,8 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 			multGiven: o.multiplicity != 0, methodGiven: o.method != "", units: units})
 	}
 	if errors.Is(err, hf.ErrNotConverged) {
-		return fmt.Errorf("%w: %v", errNotConverged, err)
+		// Said once, without the hf error's own "not converged" again.
+		return fmt.Errorf("%w: the SCF stopped after %d iterations (%s); no energy is reported", errNotConverged, res.Iterations, res.Reason)
 	}
 	return err
 }

@@ -97,6 +97,9 @@ func TestEnergyCommand_NotConverged(t *testing.T) {
 	if code != 1 || !strings.Contains(out, "NOT CONVERGED") {
 		t.Errorf("exit %d, output %q; want exit 1 and a NOT CONVERGED banner", code, out)
 	}
+	if _, _, errs := runCLI(t, "", "energy", p, "--max-iterations", "2"); strings.Count(errs, "not converged") != 1 || strings.Contains(errs, " Eh") {
+		t.Errorf("stderr %q: want \"not converged\" once and no energy", errs)
+	}
 	// The unconverged energy, dipole and charges are not shown as results.
 	for _, no := range []string{"E(RHF)", " Eh\n", "dipole", "Mulliken"} {
 		if strings.Contains(out, no) {

@@ -284,6 +284,11 @@ type eventJSON struct {
 	// Detached is set on the summary of a `run --detach` that left points
 	// with the batch queue.
 	Detached bool `json:"detached,omitempty"`
+	// On the summary: the points computed by this run and by earlier
+	// ones, and the scan's warnings, most serious first.
+	Computed *int             `json:"computed,omitempty"`
+	Earlier  *int             `json:"from_earlier_runs,omitempty"`
+	Warnings []runner.Warning `json:"warnings,omitempty"`
 }
 
 type extremumJSON struct {
@@ -307,7 +312,9 @@ func jsonEvent(e runner.Event) eventJSON {
 }
 
 func summaryEvent(spec *planner.Spec, s runner.Summary, err error) eventJSON {
-	out := eventJSON{Time: time.Now(), Kind: "summary", Round: s.Rounds, Counts: map[string]int{}, Status: string(s.Status), Message: s.Reason, Detached: s.Detached}
+	computed, earlier := s.Computed, s.Earlier+s.Reused
+	out := eventJSON{Time: time.Now(), Kind: "summary", Round: s.Rounds, Counts: map[string]int{}, Status: string(s.Status), Message: s.Reason, Detached: s.Detached,
+		Computed: &computed, Earlier: &earlier, Warnings: s.Warnings}
 	for st, n := range s.Counts {
 		out.Counts[string(st)] = n
 		out.Total += n

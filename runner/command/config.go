@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -245,6 +246,15 @@ func DecodeConfig(m map[string]any, file, table string) (Config, error) {
 		c.Args[0] = rel(c.Args[0])
 	}
 	c.resolveArgs(base)
+	// A bare program name is looked up in PATH only; one that is not
+	// there but sits next to the spec was almost surely meant as that file.
+	if len(c.Args) > 0 && c.Args[0] != "" && !strings.ContainsRune(c.Args[0], '/') {
+		if _, lerr := exec.LookPath(c.Args[0]); lerr != nil {
+			if st, serr := os.Stat(filepath.Join(base, c.Args[0])); serr == nil && !st.IsDir() {
+				return Config{}, d.errf("command", "program %q is not in PATH but is a file in the spec's directory: write it as \"./%s\"", c.Args[0], c.Args[0])
+			}
+		}
+	}
 	if _, ok := m["energy"]; !ok {
 		return Config{}, d.errf("energy", "missing: say how to find the energy, e.g. energy = { label = \"total energy\", unit = \"eV\" }")
 	}

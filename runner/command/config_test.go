@@ -141,3 +141,18 @@ func TestDecodeConfig_ArgsResolvedAgainstSpec(t *testing.T) {
 		t.Errorf("Resolved = %+v, want morse.awk and data/params.txt", c.Resolved)
 	}
 }
+
+// TestDecodeConfig_BareProgramInSpecDir: a bare program name is looked up
+// in PATH; one that is only a file next to the spec gets a hint.
+func TestDecodeConfig_BareProgramInSpecDir(t *testing.T) {
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "toyprog"), []byte("#!/bin/sh\n"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	m := fullTable()
+	m["command"] = []any{"toyprog", "point.inp"}
+	_, err := DecodeConfig(m, filepath.Join(dir, "scan.toml"), "engine.command")
+	if err == nil || !strings.Contains(err.Error(), `write it as "./toyprog"`) {
+		t.Errorf("DecodeConfig = %v, want a hint to write ./toyprog", err)
+	}
+}
