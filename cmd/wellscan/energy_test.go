@@ -7,6 +7,8 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -219,5 +221,28 @@ func TestDemo_COMinimum(t *testing.T) {
 	}
 	if math.Abs(r-1.114) > 1e-3 {
 		t.Errorf("CO RHF/6-31G* minimum at %.5f Å, want 1.114 ± 0.001", r)
+	}
+}
+
+// decimalsRE matches numbers with more than 6 decimals; their last digits
+// vary with the order of parallel sums.
+var decimalsRE = regexp.MustCompile(`-?\d+\.\d{7,}`)
+
+// TestEnergyCommand_Golden: the text layout of `wellscan energy`, numbers
+// cut to 6 decimals (the Fock builds sum in parallel, so the 12th decimal
+// of the energy can differ between runs). Water at the README's geometry,
+// UHF triplet so that ⟨S²⟩ and both spins' orbitals show.
+func TestEnergyCommand_Golden(t *testing.T) {
+	const water = "O  0.000000  0.000000  0.117300\nH  0.000000  0.757200 -0.469200\nH  0.000000 -0.757200 -0.469200\n"
+	code, out, errs := runCLI(t, water, "energy", "-", "--basis", "STO-3G", "--multiplicity", "3", "--guess", "core", "--also-units", "eV,au")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	got := decimalsRE.ReplaceAllStringFunc(out, func(s string) string {
+		v, _ := strconv.ParseFloat(s, 64)
+		return strconv.FormatFloat(v, 'f', 6, 64)
+	})
+	if want := golden(t, "energy_water_triplet", []byte(got)); got != string(want) {
+		t.Errorf("energy output differs from testdata/energy_water_triplet.golden (rerun with -update if intended):\n%s", got)
 	}
 }

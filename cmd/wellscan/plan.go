@@ -154,7 +154,7 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 			workers = q.Slots()
 		}
 	}
-	fmt.Fprintf(w, "queue: %s, %d workers, %d attempts per point", spec.Queue.Kind, workers, spec.Queue.Attempts)
+	fmt.Fprintf(w, "queue: %s, %s, %s per point", spec.Queue.Kind, plural(workers, "worker"), plural(spec.Queue.Attempts, "attempt"))
 	if spec.Queue.Timeout.Duration > 0 {
 		fmt.Fprintf(w, ", timeout %s per point", spec.Queue.Timeout.Duration)
 	}
@@ -217,8 +217,8 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 	}
 	if per > 0 {
 		wall := time.Duration(float64(per) * float64(typical) / float64(max(1, workers)))
-		fmt.Fprintf(w, "cost: about %d points (at most %d) × %s per point (%s) ≈ %s wall time on %d workers\n",
-			typical, max(len(pts), r.MaxPoints), per.Round(time.Millisecond), basis, wall.Round(time.Second), workers)
+		fmt.Fprintf(w, "cost: about %d points (at most %d) × %s per point (%s) ≈ %s wall time on %s\n",
+			typical, max(len(pts), r.MaxPoints), per.Round(time.Millisecond), basis, wall.Round(time.Second), plural(workers, "worker"))
 	} else {
 		fmt.Fprintf(w, "cost: about %d points (at most %d); time per point unknown until the first points finish\n", typical, max(len(pts), r.MaxPoints))
 	}

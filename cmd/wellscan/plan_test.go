@@ -149,3 +149,48 @@ func TestRun_RecoversAfterWrongProgramArgument(t *testing.T) {
 		t.Errorf("change after points finished: exit %d, stderr %q; want it refused", code, errs)
 	}
 }
+
+// hdoPlanSpec: the README's water stretch as HDO, at MP2 with the
+// defaults for the multiplicity, on two workers.
+const hdoPlanSpec = `title = "HDO stretch"
+[molecule]
+geometry = """
+O  0.000000  0.000000  0.117300
+H  0.000000  0.757200 -0.469200
+H  0.000000 -0.757200 -0.469200
+"""
+isotopes = { 3 = "2H" }
+[[scan]]
+name = "r"
+bond = [1, 3]
+from = 0.90
+to = 1.00
+step = 0.05
+[refine]
+target_step = 0.002
+tolerance = 1e-4
+[engine]
+kind = "builtin"
+method = "mp2"
+basis = "6-31G**"
+[queue]
+workers = 2
+`
+
+// TestPlan_Golden: plan's text for a builtin scan (label, defaults,
+// isotopes, reference geometry, --geometries, refinement settings
+// without round-off noise).
+func TestPlan_Golden(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "hdo")
+	if err := os.Mkdir(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	writeSpec(t, dir, hdoPlanSpec)
+	code, out, errs := runCLI(t, "", "plan", "--geometries", dir)
+	if code != 0 {
+		t.Fatalf("plan: exit %d\n%s", code, errs)
+	}
+	if want := golden(t, "plan_hdo", []byte(out)); out != string(want) {
+		t.Errorf("plan output differs from testdata/plan_hdo.golden (rerun with -update if intended):\n%s", out)
+	}
+}
