@@ -32,6 +32,11 @@ func acceptEngineChange(st *Store, old, now planner.Fingerprint) (bool, error) {
 			again = append(again, r)
 		}
 	}
-	ev := Event{Time: time.Now(), Kind: "resume", Message: fmt.Sprintf("engine settings changed before any point finished: accepted; %d failed points planned again", len(again))}
+	ev := Event{Time: time.Now(), Kind: "resume", Message: fmt.Sprintf("engine settings changed before any point finished: accepted; %d failed point(s) planned again with fresh attempts", len(again))}
+	st.notes = append(st.notes, ev.Message)
 	return true, st.Commit(again, nil, []Event{ev})
 }
+
+// Notes are what [OpenScan] accepted that the user should hear of (an
+// engine change before any point finished); empty otherwise.
+func (s *Store) Notes() []string { return append([]string(nil), s.notes...) }

@@ -140,6 +140,9 @@ func TestRun_RecoversAfterWrongProgramArgument(t *testing.T) {
 	}
 	writeCommandSpec(t, dir, `["awk", "-f", "morse.awk", "point.inp"]`)
 	code, out, errs = runCLI(t, "", "run", "-q", dir)
+	if !strings.Contains(errs, "engine settings changed before any point finished: accepted; 5 failed point(s) planned again") {
+		t.Errorf("the accepted engine change is not said: %q", errs)
+	}
 	if code != 0 || !strings.Contains(out, "5 done, 0 failed") {
 		t.Fatalf("fixed run: exit %d, want 0 with every point done\n%s%s", code, out, errs)
 	}

@@ -113,6 +113,9 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	if li := st.StaleLock(); li != nil {
 		fmt.Fprintf(a.stderr, "wellscan: note: %s; resuming\n", runner.StaleLockMessage(dir, li))
 	}
+	for _, n := range st.Notes() {
+		fmt.Fprintf(a.stderr, "wellscan: note: %s\n", n)
+	}
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue, Detach: o.detach}
 	if d, ok := queue.(interface{ SetDetach(bool) }); ok {
 		d.SetDetach(o.detach)
