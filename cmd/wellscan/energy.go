@@ -86,25 +86,27 @@ then (the last iterate is in --json, with "converged": false).`,
 
 // energyReport is the --json output of `wellscan energy`.
 type energyReport struct {
-	EnergyHartree           float64    `json:"energy_hartree"`
-	ElectronicEnergyHartree float64    `json:"electronic_energy_hartree"`
-	NuclearRepulsionHartree float64    `json:"nuclear_repulsion_hartree"`
-	Converged               bool       `json:"converged"`
-	Status                  string     `json:"status"`
-	Iterations              int        `json:"iterations"`
-	BasisFunctions          int        `json:"basis_functions"`
-	DroppedFunctions        int        `json:"dropped_functions"`
-	Method                  string     `json:"method"`
-	Basis                   string     `json:"basis"`
-	Convention              string     `json:"convention"`
-	Charge                  int        `json:"charge"`
-	Multiplicity            int        `json:"multiplicity"`
-	SSquared                *float64   `json:"s_squared,omitempty"`
-	OrbitalEnergiesAlpha    []float64  `json:"orbital_energies_alpha_hartree"`
-	OrbitalEnergiesBeta     []float64  `json:"orbital_energies_beta_hartree,omitempty"`
-	MullikenCharges         []float64  `json:"mulliken_charges"`
-	DipoleAU                [3]float64 `json:"dipole_e_bohr"`
-	DipoleDebye             float64    `json:"dipole_debye"`
+	EnergyHartree           float64 `json:"energy_hartree"`
+	ElectronicEnergyHartree float64 `json:"electronic_energy_hartree"`
+	NuclearRepulsionHartree float64 `json:"nuclear_repulsion_hartree"`
+	Converged               bool    `json:"converged"`
+	Status                  string  `json:"status"`
+	Iterations              int     `json:"iterations"`
+	BasisFunctions          int     `json:"basis_functions"`
+	DroppedFunctions        int     `json:"dropped_functions"`
+	Method                  string  `json:"method"`
+	// Label is the method as wellscan labels it: "RHF", "MP2(fc)", …
+	Label                string     `json:"method_label"`
+	Basis                string     `json:"basis"`
+	Convention           string     `json:"convention"`
+	Charge               int        `json:"charge"`
+	Multiplicity         int        `json:"multiplicity"`
+	SSquared             *float64   `json:"s_squared,omitempty"`
+	OrbitalEnergiesAlpha []float64  `json:"orbital_energies_alpha_hartree"`
+	OrbitalEnergiesBeta  []float64  `json:"orbital_energies_beta_hartree,omitempty"`
+	MullikenCharges      []float64  `json:"mulliken_charges"`
+	DipoleAU             [3]float64 `json:"dipole_e_bohr"`
+	DipoleDebye          float64    `json:"dipole_debye"`
 	// MP2 only (energy_hartree is then the MP2 total).
 	ReferenceMethod        string   `json:"reference_method,omitempty"`
 	ReferenceEnergyHartree *float64 `json:"reference_energy_hartree,omitempty"`
@@ -246,6 +248,10 @@ func newEnergyReport(res *hf.Result, mol planner.Molecule) energyReport {
 		s2 := res.S2
 		rep.SSquared = &s2
 	}
+	rep.Label = methodName(rep.Method, mol.Multiplicity, res.MP2 != nil && res.MP2.FrozenCore > 0)
+	if res.Method == hf.MP2 && res.MP2 == nil { // the SCF did not converge: no MP2 ran
+		rep.Label = strings.TrimSuffix(rep.Label, "(full)")
+	}
 	return rep
 }
 
@@ -300,8 +306,7 @@ func parseAlsoUnits(list []string) (alsoUnits, error) {
 // shows no energy (and no property of its unconverged density).
 func printEnergy(w io.Writer, v energyView) {
 	rep, mol, res := v.rep, v.mol, v.res
-	frozen := res.MP2 != nil && res.MP2.FrozenCore > 0
-	label := methodName(rep.Method, mol.Multiplicity, frozen)
+	label := rep.Label
 	fmt.Fprintf(w, "%s · %s/%s · single point\n\n", mol.Isotopologue(), label, rep.Basis)
 	if !rep.Converged {
 		fmt.Fprintf(w, "!! SCF NOT CONVERGED after %d iterations (%s).\n", rep.Iterations, res.Reason)

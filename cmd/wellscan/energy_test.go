@@ -40,7 +40,7 @@ func TestEnergyCommand_JSON(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatal(err)
 	}
-	for _, k := range []string{"energy_hartree", "electronic_energy_hartree", "nuclear_repulsion_hartree", "converged", "iterations", "basis_functions", "method", "basis"} {
+	for _, k := range []string{"energy_hartree", "electronic_energy_hartree", "nuclear_repulsion_hartree", "converged", "iterations", "basis_functions", "method", "method_label", "basis"} {
 		if _, ok := rep[k]; !ok {
 			t.Errorf("JSON lacks %q", k)
 		}
