@@ -60,18 +60,6 @@ func TestScanLabel(t *testing.T) {
 	}
 }
 
-// TestEffectiveMass_Units: a length's effective mass is in amu, an
-// angle's an effective moment in amu·Å² (1 amu·bohr² = 0.280028520 amu·Å²,
-// the square of the CODATA 2018 bohr radius in Å).
-func TestEffectiveMass_Units(t *testing.T) {
-	if got := effectiveMass(loadExample(t, "water-stretch", ""), 0.9); got != "μ = 0.90000 amu" {
-		t.Errorf("stretch: %q", got)
-	}
-	if got := effectiveMass(loadExample(t, "water-bend", ""), 1); got != "effective moment 0.28003 amu·Å²" {
-		t.Errorf("bend: %q, want the moment in amu·Å²", got)
-	}
-}
-
 // TestRun_SummaryStatesDefaults: a run whose spec leaves out the
 // multiplicity and the method says which it used.
 func TestRun_SummaryStatesDefaults(t *testing.T) {

@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -112,6 +111,9 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	defer st.Close()
 	if li := st.StaleLock(); li != nil {
 		fmt.Fprintf(a.stderr, "wellscan: note: %s; resuming\n", runner.StaleLockMessage(dir, li))
+	}
+	for _, n := range spec.Notes() {
+		fmt.Fprintf(a.stderr, "wellscan: note: %s\n", n)
 	}
 	for _, n := range st.Notes() {
 		fmt.Fprintf(a.stderr, "wellscan: note: %s\n", n)
@@ -231,9 +233,6 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 	}
 	for _, e := range s.Extrema {
 		fmt.Fprintf(w, "%s: %s  E = %.8f hartree", e.Kind, spec.Describe(e.Values), e.Energy)
-		if !math.IsNaN(e.Frequency) {
-			fmt.Fprintf(w, "  harmonic ≈ %.1f cm⁻¹ (refinement fit, %s)", e.Frequency, effectiveMass(spec, e.Mass))
-		}
 		if e.Note != "" {
 			fmt.Fprintf(w, "  [%s]", e.Note)
 		}
@@ -258,16 +257,6 @@ func printWarnings(w io.Writer, ws []runner.Warning) {
 	for _, x := range ws {
 		fmt.Fprintf(w, "  %s\n", x)
 	}
-}
-
-// effectiveMass labels the effective mass of the first scanned
-// coordinate in its unit: amu for a length, a moment of inertia in amu·Å²
-// for an angle or torsion (mu is per bohr² or per radian², amu·bohr²).
-func effectiveMass(spec *planner.Spec, mu float64) string {
-	if cs := spec.Coordinates(); len(cs) > 0 && cs[0].Kind != planner.KindDistance {
-		return fmt.Sprintf("effective moment %.5f amu·Å²", mu*planner.BohrInAngstrom*planner.BohrInAngstrom)
-	}
-	return fmt.Sprintf("μ = %.5f amu", mu)
 }
 
 // eventJSON is one line of `run --json`.
@@ -298,7 +287,6 @@ type extremumJSON struct {
 	Kind          string             `json:"kind"`
 	Coordinates   map[string]float64 `json:"coordinates"`
 	EnergyHartree float64            `json:"energy_hartree"`
-	HarmonicCm1   *float64           `json:"harmonic_cm1,omitempty"`
 }
 
 func jsonEvent(e runner.Event) eventJSON {
@@ -327,10 +315,6 @@ func summaryEvent(spec *planner.Spec, s runner.Summary, err error) eventJSON {
 		x := extremumJSON{Kind: e.Kind, Coordinates: map[string]float64{}, EnergyHartree: e.Energy}
 		for i, c := range coords {
 			x.Coordinates[c.Name] = c.Display(e.Values[i], spec.Units())
-		}
-		if !math.IsNaN(e.Frequency) {
-			f := e.Frequency
-			x.HarmonicCm1 = &f
 		}
 		out.Extrema = append(out.Extrema, x)
 	}

@@ -86,6 +86,11 @@ func (in Input) warnings() []Warning {
 			w = append(w, Warning{"caution", x})
 		}
 	}
+	if an := in.Analysis; an != nil {
+		for _, x := range an.Warnings {
+			w = append(w, Warning{"caution", x})
+		}
+	}
 	for _, n := range in.Notes {
 		w = append(w, Warning{"note", n})
 	}
@@ -185,6 +190,7 @@ func (in Input) sections() []section {
 	} else {
 		out = append(out, section{Title: "Curve", Paras: []string{"No figure and no fit: no point has an energy yet."}})
 	}
+	out = append(out, analysisSections(in)...)
 	if cr := in.Curve; cr != nil {
 		out = append(out, curveSections(in, cr)...)
 	}
