@@ -129,7 +129,7 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 			if c.FullPeriod {
 				cover = "the whole period: the scan wraps"
 			}
-			fmt.Fprintf(w, "; period %g°, %s", c.PeriodDegrees(), cover)
+			fmt.Fprintf(w, "; period %s°, %s", num(c.PeriodDegrees()), cover)
 		}
 		fmt.Fprintln(w)
 	}
