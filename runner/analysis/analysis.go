@@ -259,7 +259,7 @@ func line(ctx context.Context, spec *planner.Spec, xs, es []float64, opt Options
 	massAt := func(x float64) (float64, error) {
 		return spec.EffectiveMass(planner.Point{Key: "analysis", Values: []float64{view.Back(x)}}, 0)
 	}
-	formula := mol.Formula()
+	formula := mol.Isotopologue() // HDO, not H2O
 	switch {
 	case diatomic:
 		res.Model = "diatomic"
