@@ -30,8 +30,8 @@ func (k Kind) String() string {
 
 // MassSet is one isotopologue: either the two atomic masses of a diatomic
 // (amu), or, for a one-dimensional scan of a polyatomic, the effective mass
-// 1/G of the scanned coordinate (amu for a length, amu·bohr² for an angle;
-// see [GElement]).
+// of the scanned coordinate (amu for a length, amu·bohr² for an angle; the
+// scan's kinetic metric, computed by the caller from the geometry).
 type MassSet struct {
 	Name          string    `json:"name"`
 	Masses        []float64 `json:"masses_amu,omitempty"`

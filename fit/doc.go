@@ -26,8 +26,11 @@
 // at each end, move it by at most 1 cm⁻¹.
 // [Morse] and [ExtendedMorse] are global nonlinear least-squares forms.
 // [Surface2D] fits a two-coordinate scan around its minimum and solves the
-// 2×2 GF problem; [GElement] and the B-matrix row helpers give the
-// effective mass of a polyatomic scan coordinate.
+// 2×2 GF problem with the G matrix the caller gives. [FitFourier],
+// [Torsion] and [RotorLevels] analyse a periodic coordinate over its whole
+// period; [Extremum] locates a stationary point with a local polynomial.
+// The effective masses and G matrices come from the caller (the kinetic
+// metric of the scan's geometry): fit knows no molecules.
 //
 // # Units
 //
