@@ -266,7 +266,7 @@ func TestCurve_Warnings(t *testing.T) {
 		mod  func(e []float64, o *Options)
 		want string
 	}{
-		{"edge", linspace(2.2, 3.0, 30), nil, "minimum at the edge of the data"},
+		{"edge", linspace(2.2, 3.0, 30), nil, "no minimum at the smallest coordinate"},
 		{"sparse", linspace(1.7, 3.0, 9), nil, "the fit window was widened"},
 		{"unconverged used", linspace(1.9, 2.4, 30), func(e []float64, o *Options) {
 			o.Converged = make([]bool, len(e))
@@ -304,7 +304,11 @@ func TestCurve_Warnings(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			all := strings.Join(append(res.Warnings, res.Minima[0].Warnings...), "\n")
+			ws := res.Warnings
+			for _, m := range res.Minima {
+				ws = append(ws, m.Warnings...)
+			}
+			all := strings.Join(ws, "\n")
 			if !strings.Contains(all, tc.want) {
 				t.Errorf("warnings do not mention %q:\n%s", tc.want, all)
 			}
@@ -322,7 +326,10 @@ func TestCurve_BadInput_Errors(t *testing.T) {
 		{"too few", []float64{1, 2}, []float64{1, 0}, Options{}},
 		{"NaN", []float64{1, 2, 3}, []float64{1, math.NaN(), 2}, Options{}},
 		{"duplicate r", []float64{1, 2, 2, 3}, []float64{1, 0, 0, 1}, Options{}},
-		{"monotonic", []float64{1, 2, 3, 4}, []float64{4, 3, 2, 1}, Options{}},
+		{"zero distance", []float64{0, 2, 3, 4}, []float64{4, 3, 2, 3}, Options{}},
+		{"negative noise", []float64{1, 2, 3}, []float64{1, 0, 1}, Options{EnergyNoise: -1e-6}},
+		{"NaN window", []float64{1, 2, 3}, []float64{1, 0, 1}, Options{WindowEnergy: math.NaN()}},
+		{"infinite limit", []float64{1, 2, 3}, []float64{1, 0, 1}, Options{Asymptote: new(math.Inf(1))}},
 		{"bad mass", []float64{1, 2, 3}, []float64{1, 0, 1}, Options{Isotopologues: []MassSet{{Masses: []float64{1}}}}},
 	}
 	for _, tc := range tests {
