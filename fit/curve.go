@@ -172,35 +172,35 @@ type Minimum struct {
 // end, whichever is larger: a measure of how much the level depends on where
 // the data stop. Levels moving more than 1 cm⁻¹ are not listed.
 type Constants struct {
-	Name             string    `json:"name"`
-	Mass             float64   `json:"mass_amu"`
-	OneD             bool      `json:"one_dimensional_along_scan"`
-	OmegaE           float64   `json:"omega_e_cm1"`
-	OmegaEStderr     float64   `json:"omega_e_stderr_cm1"`
-	OmegaESpread     float64   `json:"omega_e_spread_cm1"`
-	OmegaExe         float64   `json:"omega_e_x_e_cm1"`
-	OmegaExeStderr   float64   `json:"omega_e_x_e_stderr_cm1"`
-	OmegaExeSpread   float64   `json:"omega_e_x_e_spread_cm1"`
-	Be               float64   `json:"b_e_cm1,omitempty"`
-	BeStderr         float64   `json:"b_e_stderr_cm1,omitempty"`
-	AlphaE           float64   `json:"alpha_e_cm1,omitempty"`
-	AlphaEStderr     float64   `json:"alpha_e_stderr_cm1,omitempty"`
-	AlphaESpread     float64   `json:"alpha_e_spread_cm1,omitempty"`
-	DbarE            float64   `json:"dbar_e_cm1,omitempty"`
-	Y00              float64   `json:"y00_cm1"`
-	ZPE              float64   `json:"zpe_cm1"`
-	ZPEGrid          float64   `json:"zpe_grid_cm1,omitempty"`
-	Levels           []float64 `json:"levels_cm1"`
-	LevelsWallShift  []float64 `json:"levels_wall_shift_cm1"`
-	DeltaG           []float64 `json:"delta_g_cm1"`
-	Fundamental      float64   `json:"fundamental_cm1"`
-	FundamentalGrid  bool      `json:"fundamental_from_grid"`
-	Bv               []float64 `json:"b_v_cm1,omitempty"`
-	AlphaEGrid       float64   `json:"alpha_e_grid_cm1,omitempty"`
-	DeCm1            float64   `json:"d_e_cm1,omitempty"`
-	D0Cm1            float64   `json:"d_0_cm1,omitempty"`
-	DeEV             float64   `json:"d_e_ev,omitempty"`
-	D0EV             float64   `json:"d_0_ev,omitempty"`
+	Name            string    `json:"name"`
+	Mass            float64   `json:"mass_amu"`
+	OneD            bool      `json:"one_dimensional_along_scan"`
+	OmegaE          float64   `json:"omega_e_cm1"`
+	OmegaEStderr    float64   `json:"omega_e_stderr_cm1"`
+	OmegaESpread    float64   `json:"omega_e_spread_cm1"`
+	OmegaExe        float64   `json:"omega_e_x_e_cm1"`
+	OmegaExeStderr  float64   `json:"omega_e_x_e_stderr_cm1"`
+	OmegaExeSpread  float64   `json:"omega_e_x_e_spread_cm1"`
+	Be              float64   `json:"b_e_cm1,omitempty"`
+	BeStderr        float64   `json:"b_e_stderr_cm1,omitempty"`
+	AlphaE          float64   `json:"alpha_e_cm1,omitempty"`
+	AlphaEStderr    float64   `json:"alpha_e_stderr_cm1,omitempty"`
+	AlphaESpread    float64   `json:"alpha_e_spread_cm1,omitempty"`
+	DbarE           float64   `json:"dbar_e_cm1,omitempty"`
+	Y00             float64   `json:"y00_cm1"`
+	ZPE             float64   `json:"zpe_cm1"`
+	ZPEGrid         float64   `json:"zpe_grid_cm1,omitempty"`
+	Levels          []float64 `json:"levels_cm1"`
+	LevelsWallShift []float64 `json:"levels_wall_shift_cm1"`
+	DeltaG          []float64 `json:"delta_g_cm1"`
+	Fundamental     float64   `json:"fundamental_cm1"`
+	FundamentalGrid bool      `json:"fundamental_from_grid"`
+	Bv              []float64 `json:"b_v_cm1,omitempty"`
+	AlphaEGrid      float64   `json:"alpha_e_grid_cm1,omitempty"`
+	DeCm1           float64   `json:"d_e_cm1,omitempty"`
+	D0Cm1           float64   `json:"d_0_cm1,omitempty"`
+	DeEV            float64   `json:"d_e_ev,omitempty"`
+	D0EV            float64   `json:"d_0_ev,omitempty"`
 	// Calibrated uncertainties (printed as ±; absent when the points cannot
 	// give one). levels_uncertainty_cm1 covers, per level, the grid, the
 	// interpolation between the points, the continuation past the data and

@@ -87,4 +87,3 @@ func TestCurve_LongUnevenTable_MorseLevelsExactAndCutIndependent(t *testing.T) {
 		})
 	}
 }
-
