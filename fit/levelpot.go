@@ -20,6 +20,7 @@ import (
 type levelPotential struct {
 	ref   func(r float64) float64 // nil: no reference form
 	fit   *MorseFit               // the reference fit, nil when ref is nil
+	local bool                    // interpolate the residuals by local cubics instead (the interpolation check)
 	resid *spline                 // residuals from ref (the energies when ref is nil)
 	x     []float64
 	label string
@@ -94,15 +95,15 @@ func levelPotentialWith(ctx context.Context, x, e []float64, ref *MorseFit) (*le
 	return lp, nil
 }
 
-// thinned returns the level potential through every other point (the ends
-// and the given index always kept), on the same reference fit: the
+// thinned returns the level potential through every stride-th point (the
+// ends and the given index always kept), on the same reference fit: the
 // interpolation check of [solveWell]. ok is false when fewer than four
 // points would remain.
-func (p *levelPotential) thinned(ctx context.Context, e []float64, keep int) (*levelPotential, bool, error) {
+func (p *levelPotential) thinned(ctx context.Context, e []float64, keep, stride int) (*levelPotential, bool, error) {
 	n := len(p.x)
 	var xs, es []float64
 	for i := range n {
-		if i%2 == keep%2 || i == 0 || i == n-1 {
+		if (i-keep)%stride == 0 || i == 0 || i == n-1 {
 			xs = append(xs, p.x[i])
 			es = append(es, e[i])
 		}
@@ -123,6 +124,9 @@ func (p *levelPotential) thinned(ctx context.Context, e []float64, keep int) (*l
 // inside evaluates the interpolant (meaningful for x[0] ≤ r ≤ x[n−1]).
 func (p *levelPotential) inside(r float64) float64 {
 	v := p.resid.at(r)
+	if p.local {
+		v = p.resid.localCubic(r)
+	}
 	if p.ref != nil {
 		v += p.ref(r)
 	}
@@ -192,6 +196,16 @@ func (p *levelPotential) continuations() (model, alt func(float64) float64) {
 		return cont(true, 0), cont(false, 2)
 	}
 	return cont(false, 2), cont(false, 1)
+}
+
+// localVariant returns the same potential with the residuals interpolated
+// by the cubic through the four nearest points instead of the spline: a
+// second interpolant of the same order whose difference from the first
+// measures the interpolation error where the points are sparse.
+func (p *levelPotential) localVariant() *levelPotential {
+	q := *p
+	q.local = true
+	return &q
 }
 
 // gradient returns g_i = Σ_j w_j ∂V(r_j)/∂e_i, how a weighted sum of the

@@ -199,3 +199,23 @@ func (s *spline) gradient(r, w []float64) []float64 {
 	}
 	return gy
 }
+
+// localCubic evaluates the cubic through the four knots nearest r (two on
+// each side inside; the first or last four near the ends): Lagrange
+// interpolation, local and of the same order as the spline.
+func (s *spline) localCubic(r float64) float64 {
+	n := len(s.x)
+	k := s.interval(r)
+	lo := min(max(k-1, 0), n-4)
+	v := 0.0
+	for i := lo; i < lo+4; i++ {
+		l := 1.0
+		for j := lo; j < lo+4; j++ {
+			if j != i {
+				l *= (r - s.x[j]) / (s.x[i] - s.x[j])
+			}
+		}
+		v += l * s.y[i]
+	}
+	return v
+}
