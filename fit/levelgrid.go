@@ -51,7 +51,7 @@ type wellGrid struct {
 	vminThin, vminThin2    float64
 	thinOK                 bool
 	interpU                []float64 // interpolation uncertainty of each level (hartree)
-	extended        bool // the grid reaches past a data end
+	extended               bool      // the grid reaches past a data end
 	// Numerov densities on the fine grid rf (spacing hf) for the
 	// statistical error and ⟨1/r²⟩.
 	rf  []float64
