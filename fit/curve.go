@@ -788,6 +788,17 @@ type wellFit struct {
 // analyseWell runs the local polynomial analysis of one well.
 func analyseWell(ctx context.Context, x, e, w []float64, conv []bool, wl well, masses []massInfo, opt Options) (*Minimum, wellFit, error) {
 	m := &Minimum{}
+	// A shallow well bounded by a barrier, or by a data end where the
+	// curve has flattened, is fitted in its lower half only: a window
+	// reaching over the barrier would fit the curve beyond it.
+	n := len(x)
+	depth := math.Min(e[wl.lo], e[wl.hi]) - e[wl.min]
+	flat := func(i, j int) bool { return math.Abs(e[i]-e[j]) < 0.01*depth }
+	bounded := (e[wl.lo] <= e[wl.hi] && (wl.lo > 0 || flat(0, 1))) || (e[wl.hi] < e[wl.lo] && (wl.hi < n-1 || flat(n-1, n-2)))
+	if bounded && opt.WindowPoints == 0 && opt.WindowEnergy > depth/2 {
+		opt.WindowEnergy = depth / 2
+		m.Warnings = append(m.Warnings, fmt.Sprintf("shallow well (%.4g cm⁻¹ deep): the fit window is its lower half (%.3g E_h)", depth*HartreeInCm1, depth/2))
+	}
 	idx := window(x, e, wl, opt, 1)
 	if len(idx) < minPoints {
 		// Widen to the nearest points: better a wider window than none, but

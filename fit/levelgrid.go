@@ -155,6 +155,10 @@ func solveWell(ctx context.Context, lp *levelPotential, x, e []float64, w well, 
 	m := mu * AmuInElectronMass
 	kmax := math.Sqrt(2 * m * depth)
 	dx := 2 * math.Pi / (pointsPerWavelength * kmax)
+	// The grid must also resolve the potential itself: no coarser than half
+	// the data spacing at the minimum (a shallow, narrow well has long
+	// wavelengths but a short width).
+	dx = math.Min(dx, (b-a)/4)
 	maxLen := float64(maxGridPoints-1) * dx
 	leftLimit, rightLimit := x[w.lo], x[w.hi]
 	if w.lo == 0 {
@@ -357,6 +361,37 @@ func (g *wellGrid) density(en float64) []float64 {
 	return out
 }
 
+// decays reports whether a state at energy en has a WKB decay ∫κ dr of at
+// least tailDecay/2 between its outermost classical turning points and
+// each end of the grid.
+func (g *wellGrid) decays(en float64) bool {
+	m := g.mu * AmuInElectronMass
+	h := g.rf[1] - g.rf[0]
+	nf := len(g.rf)
+	first, last := -1, -1
+	for i := range nf {
+		if g.vf[i] < en {
+			if first < 0 {
+				first = i
+			}
+			last = i
+		}
+	}
+	if first < 0 {
+		return false
+	}
+	tail := func(from, to, step int) bool {
+		s := 0.0
+		for i := from; i != to; i += step {
+			if d := g.vf[i] - en; d > 0 {
+				s += math.Sqrt(2*m*d) * h
+			}
+		}
+		return s >= tailDecay/2
+	}
+	return tail(first, -1, -1) && tail(last, nf, 1)
+}
+
 // invR2 returns ⟨1/r²⟩ (bohr⁻²) for density rho.
 func (g *wellGrid) invR2(rho []float64) float64 {
 	s := 0.0
@@ -465,8 +500,12 @@ func gridLevels(ctx context.Context, c *Constants, lp *levelPotential, x, e, wts
 		c.ConstantWarnings = append(c.ConstantWarnings, "no vibrational levels: the well does not rise on both sides within the data")
 		return nil
 	}
+	// A level counts as bound only when it lies below the top and its
+	// tail decays inside the grid on both sides (WKB ∫κ dr ≥ tailDecay/2
+	// past the outermost turning points): a state of the grid's box just
+	// below a flat limit does not.
 	below := 0
-	for below < len(g.e) && g.e[below] < top {
+	for below < len(g.e) && g.e[below] < top && g.decays(g.e[below]) {
 		below++
 	}
 	if below == 0 {
