@@ -47,7 +47,7 @@ type wellGrid struct {
 	top        float64   // energy up to which levels are determined by the data
 	// Variants: continuation past the data, coarser and shorter grid,
 	// thinned interpolant (with its own minimum).
-	alt, grid, thin, thin2 []float64
+	alt, short, coarse, thin, thin2 []float64
 	vminThin, vminThin2    float64
 	thinOK                 bool
 	interpU                []float64 // interpolation uncertainty of each level (hartree)
@@ -155,10 +155,14 @@ func solveWell(ctx context.Context, lp *levelPotential, x, e []float64, w well, 
 	m := mu * AmuInElectronMass
 	kmax := math.Sqrt(2 * m * depth)
 	dx := 2 * math.Pi / (pointsPerWavelength * kmax)
-	// The grid must also resolve the potential itself: no coarser than half
-	// the data spacing at the minimum (a shallow, narrow well has long
-	// wavelengths but a short width).
-	dx = math.Min(dx, (b-a)/4)
+	// The grid must also resolve the well itself: a shallow, narrow well
+	// has long wavelengths but a short width. Its length scale is
+	// √(depth/k) (the half-width of the parabola with the well's
+	// curvature k at the depth); eight points across it.
+	hk := (b - a) / 4
+	if kk := (model(rmin+hk) + model(rmin-hk) - 2*vmin) / (hk * hk); kk > 0 {
+		dx = math.Min(dx, math.Sqrt(depth/kk)/8)
+	}
 	maxLen := float64(maxGridPoints-1) * dx
 	leftLimit, rightLimit := x[w.lo], x[w.hi]
 	if w.lo == 0 {
@@ -185,8 +189,22 @@ func solveWell(ctx context.Context, lp *levelPotential, x, e []float64, w well, 
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	nc := max(int(math.Ceil((hiShort-loShort)/(dx*coarseFactor)))+1, 30)
-	if g.grid, err = levelValues(model, mu, loShort, hiShort, nc); err != nil {
+	// The end check: the same grid points, cut shorter at both ends.
+	dm := (hi - lo) / float64(np-1)
+	i0 := max(int(math.Ceil((loShort-lo)/dm)), 1)
+	i1 := min(int(math.Floor((hiShort-lo)/dm)), np-2)
+	if i1-i0 < 20 {
+		i0, i1 = 1, np-2
+	}
+	if g.short, err = levelValues(model, mu, lo+float64(i0)*dm, lo+float64(i1)*dm, i1-i0+1); err != nil {
+		return nil, err
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	// The resolution check: the same ends, a coarser spacing.
+	nc := max(int(math.Ceil((hi-lo)/(dx*coarseFactor)))+1, 30)
+	if g.coarse, err = levelValues(model, mu, lo, hi, nc); err != nil {
 		return nil, err
 	}
 	if g.extended {
@@ -416,8 +434,9 @@ func (q quantity) eval(e []float64, vmin float64) float64 {
 	return s
 }
 
-// uncertainty of a quantity (hartree): the end and grid checks and the
-// continuation (systematic, end) plus the interpolation check, added, and
+// uncertainty of a quantity (hartree): the end check and the
+// continuation (systematic, end), the resolution check and the
+// interpolation check, added, and
 // the statistical error of the energies (sigma per point of unit weight,
 // relative weights wts) in quadrature. end is returned separately: it
 // decides whether a level is determined by the data at all.
@@ -433,7 +452,8 @@ func (g *wellGrid) uncertainty(q quantity, rhos map[int][]float64, sigma float64
 		}
 		return math.Abs(v - base)
 	}
-	end = d(g.grid, g.vmin) + d(g.alt, g.vmin)
+	end = d(g.short, g.vmin) + d(g.alt, g.vmin)
+	res := d(g.coarse, g.vmin)
 	if g.thinOK {
 		for v, c := range q {
 			if v >= len(g.interpU) {
@@ -472,7 +492,7 @@ func (g *wellGrid) uncertainty(q quantity, rhos map[int][]float64, sigma float64
 		}
 		stat = sigma * math.Sqrt(s)
 	}
-	total = math.Hypot(stat, end+interp)
+	total = math.Hypot(stat, end+res+interp)
 	return total, end, interp, stat
 }
 
@@ -517,6 +537,12 @@ func gridLevels(ctx context.Context, c *Constants, lp *levelPotential, x, e, wts
 		}
 		return nil
 	}
+	// The zero of the levels, the interpolant's minimum, is itself
+	// uncertain: through noisy points it dips below the smooth curve (the
+	// lowest of several noisy values is biased low). Its distance from the
+	// local polynomial's E_min measures that and is added to every term
+	// value (not to differences of levels, where it cancels).
+	zeroU := math.Abs(g.vmin - m.EMin)
 	rhos := map[int][]float64{}
 	var unc, ends []float64
 	nb := 0
@@ -533,7 +559,7 @@ func gridLevels(ctx context.Context, c *Constants, lp *levelPotential, x, e, wts
 			ends = append(ends, end)
 			break
 		}
-		unc = append(unc, tot)
+		unc = append(unc, math.Hypot(tot, zeroU))
 		ends = append(ends, end)
 		nb++
 	}
