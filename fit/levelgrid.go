@@ -48,10 +48,10 @@ type wellGrid struct {
 	// Variants: continuation past the data, coarser and shorter grid,
 	// thinned interpolant (with its own minimum).
 	alt, short, coarse, thin, thin2 []float64
-	vminThin, vminThin2    float64
-	thinOK                 bool
-	interpU                []float64 // interpolation uncertainty of each level (hartree)
-	extended               bool      // the grid reaches past a data end
+	vminThin, vminThin2             float64
+	thinOK                          bool
+	interpU                         []float64 // interpolation uncertainty of each level (hartree)
+	extended                        bool      // the grid reaches past a data end
 	// Numerov densities on the fine grid rf (spacing hf) for the
 	// statistical error and ⟨1/r²⟩.
 	rf  []float64
