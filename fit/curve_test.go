@@ -3,10 +3,12 @@ package fit
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"math"
 	"math/rand/v2"
 	"strings"
 	"testing"
+	"time"
 )
 
 // Masses in amu: AME2020 (M. Wang et al., Chin. Phys. C 45, 030003 (2021),
@@ -472,5 +474,21 @@ func TestCurve_Cancelled_ReturnsContextError(t *testing.T) {
 	r := linspace(1.8, 2.6, 41)
 	if _, err := Curve(ctx, r, sampleAt(coLike.v, r), Options{}); err == nil {
 		t.Error("a cancelled context gave no error")
+	}
+}
+
+func TestCurve_LargeTable_Cancellable(t *testing.T) {
+	r, e := largeCurve(200000)
+	ctx, cancel := context.WithTimeout(t.Context(), 20*time.Millisecond)
+	defer cancel()
+	start := time.Now()
+	_, err := Curve(ctx, r, e, Options{Isotopologues: []MassSet{{Masses: []float64{mass12C, mass16O}}}})
+	if !errors.Is(err, context.DeadlineExceeded) {
+		t.Fatalf("Curve on 200,000 points with a 20 ms deadline: err = %v, want the context's error", err)
+	}
+	// Not a timing test of the fit: only that it stops promptly once
+	// cancelled (a loaded machine gets a generous two seconds).
+	if d := time.Since(start); d > 2*time.Second {
+		t.Errorf("returned %v after the deadline", d)
 	}
 }

@@ -24,6 +24,9 @@ import (
 //     (tridiagonal systems).
 type spline struct {
 	x, y, m []float64
+	// Scratch for gradient, allocated on first use and reused: a spline
+	// is not safe for concurrent calls of gradient.
+	gy, gm, tsub, tdiag, tsup, lam, work []float64
 }
 
 // errShortSpline is returned for fewer than four knots.
@@ -150,11 +153,29 @@ func (s *spline) at(r float64) float64 {
 // of spline values responds to each data value. It is the adjoint of
 // building and evaluating the spline, so it costs one transposed
 // tridiagonal solve (linear in the knots) whatever the number of
-// evaluation points.
+// evaluation points. The result lives in the spline's scratch space: it
+// is valid until the next call.
 func (s *spline) gradient(r, w []float64) []float64 {
 	n := len(s.x)
-	gy := make([]float64, n)
-	gm := make([]float64, n)
+	if s.gy == nil {
+		s.gy, s.gm = make([]float64, n), make([]float64, n)
+		// Tᵀ: sub- and super-diagonals of T swapped (shifted by one).
+		sub, diag, sup, _ := splineSystem(s.x, nil)
+		k := n - 2
+		s.tsub, s.tsup, s.tdiag = make([]float64, k), make([]float64, k), diag
+		for i := range k {
+			if i > 0 {
+				s.tsub[i] = sup[i-1]
+			}
+			if i < k-1 {
+				s.tsup[i] = sub[i+1]
+			}
+		}
+		s.lam, s.work = make([]float64, k), make([]float64, k)
+	}
+	gy, gm := s.gy, s.gm
+	clear(gy)
+	clear(gm)
 	for j, rj := range r {
 		k := s.interval(rj)
 		a, b, c, d := s.basis(k, rj)
@@ -173,21 +194,8 @@ func (s *spline) gradient(r, w []float64) []float64 {
 	gm[n-2] += gm[n-1] * (1 + hb/ha)
 	gm[n-3] -= gm[n-1] * hb / ha
 	// Interior M = T⁻¹ R y, so the gradient through M is Rᵀ T⁻ᵀ gm.
-	sub, diag, sup, _ := splineSystem(x, nil)
-	k := n - 2
-	// Tᵀ has sub- and super-diagonals swapped (shifted by one).
-	tsub := make([]float64, k)
-	tsup := make([]float64, k)
-	for i := range k {
-		if i > 0 {
-			tsub[i] = sup[i-1]
-		}
-		if i < k-1 {
-			tsup[i] = sub[i+1]
-		}
-	}
-	lam, err := solveTridiag(nil, tsub, diag, tsup, gm[1:n-1])
-	if err != nil {
+	lam := thomas(s.tsub, s.tdiag, s.tsup, gm[1:n-1], s.work, s.lam)
+	if lam == nil {
 		return gy
 	}
 	for i := 1; i <= n-2; i++ {
@@ -198,6 +206,33 @@ func (s *spline) gradient(r, w []float64) []float64 {
 		gy[i-1] += l / hl
 	}
 	return gy
+}
+
+// thomas solves a tridiagonal system into out with scratch c (both of the
+// system's size); nil when it is singular.
+func thomas(sub, diag, sup, rhs, c, out []float64) []float64 {
+	k := len(diag)
+	for i := range k {
+		den := diag[i]
+		if i > 0 {
+			den -= sub[i] * c[i-1]
+		}
+		if den == 0 {
+			return nil
+		}
+		if i < k-1 {
+			c[i] = sup[i] / den
+		}
+		out[i] = rhs[i]
+		if i > 0 {
+			out[i] -= sub[i] * out[i-1]
+		}
+		out[i] /= den
+	}
+	for i := k - 2; i >= 0; i-- {
+		out[i] -= c[i] * out[i+1]
+	}
+	return out
 }
 
 // localCubic evaluates the cubic through the four knots nearest r (two on
