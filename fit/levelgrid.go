@@ -240,25 +240,32 @@ func solveWell(ctx context.Context, lp *levelPotential, x, e []float64, w well, 
 		if g.thin2, err = levelValues(tm2, mu, lo, hi, np); err != nil {
 			return nil, err
 		}
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
-		lm, _ := lp.localVariant().continuations()
-		_, vl := potentialMinimum(lm, a, b)
-		loc, err := levelValues(lm, mu, lo, hi, np)
-		if err != nil {
-			return nil, err
-		}
-		g.thinOK = true
 		g.interpU = g.richardson()
-		// The larger of the Richardson estimate and twice the difference from
-		// the local-cubic interpolant: two interpolants of the same order
-		// differ by about the error of either; on the sparse Morse test the
-		// error reached 1.2 times the difference (observed), hence two.
-		for v := range g.interpU {
-			if v < len(loc) {
-				g.interpU[v] = math.Max(g.interpU[v], interpSafety*math.Abs((loc[v]-vl)-(g.e[v]-g.vmin)))
-			}
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	lm, _ := lp.localVariant().continuations()
+	_, vl := potentialMinimum(lm, a, b)
+	loc, err := levelValues(lm, mu, lo, hi, np)
+	if err != nil {
+		return nil, err
+	}
+	g.thinOK = true
+	// The larger of the Richardson estimate (when there are points enough
+	// to thin twice) and twice the difference from the local-cubic
+	// interpolant: two interpolants of the same order differ by about the
+	// error of either; on the sparse Morse test the error reached 1.2 times
+	// the difference (observed), hence two.
+	for v := range loc {
+		if v >= len(g.e) || !(g.e[v] < g.top) {
+			break
+		}
+		d := interpSafety * math.Abs((loc[v]-vl)-(g.e[v]-g.vmin))
+		if v < len(g.interpU) {
+			g.interpU[v] = math.Max(g.interpU[v], d)
+		} else {
+			g.interpU = append(g.interpU, d)
 		}
 	}
 	// A fine grid for the Numerov densities.
@@ -569,9 +576,6 @@ func gridLevels(ctx context.Context, c *Constants, lp *levelPotential, x, e, wts
 	}
 	if nb < below {
 		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("level v = %d (%.1f cm⁻¹) and those above it move by more than %.3g cm⁻¹ with the way the curve is continued past the data or with the grid's ends (v = %d: %.3g cm⁻¹) and are omitted; extend the scan", nb, (g.e[nb]-g.vmin)*HartreeInCm1, edgeTol*HartreeInCm1, nb, ends[nb]*HartreeInCm1))
-	}
-	if !g.thinOK {
-		c.ConstantWarnings = append(c.ConstantWarnings, "too few points to measure the interpolation error of the levels (it needs 16): their ± leaves it out")
 	}
 	c.Levels = make([]float64, nb)
 	c.LevelsWallShift = make([]float64, nb)
