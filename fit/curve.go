@@ -87,7 +87,8 @@ type Options struct {
 	// D_0. Without it the largest-r points are used if the curve has
 	// flattened out there.
 	Asymptote *float64
-	// GridPoints for the level calculation (0: chosen from the well).
+	// GridPoints for the level calculation (0: chosen from the well, at
+	// most 600; the end, resolution and interpolation checks still run).
 	GridPoints int
 	// NoLevels skips the grid level calculation; NoGlobal skips the Morse
 	// and extended Morse fits.
