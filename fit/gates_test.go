@@ -66,11 +66,12 @@ func TestCurve_ImpossibleConstantsWithheld(t *testing.T) {
 	// bohr (invented, the size of the helium dimer's well): λ = √(2μD_e)/a
 	// ≈ 0.48 < ½, so it holds no bound level (Morse 1929).
 	weak := morse{de: 7.3 / HartreeInCm1, a: 1.0, re: 5.6, mu: reducedMass(massHe4, massHe4)}
-	// An N2-UHF-like curve: a deep well, a hump 0.015 E_h (3300 cm⁻¹) above
-	// the limit near 4.2 bohr, a 26 cm⁻¹ dip near 7 bohr, then flat.
-	n2 := morse{de: 0.36, a: 1.45, re: 2.07, mu: reducedMass(14.00307400425, 14.00307400425)}
+	// An N2-UHF-like curve (invented): a deep well, a hump about 0.02 E_h
+	// (4000 cm⁻¹) above the limit near 4 bohr, a dip of about 23 cm⁻¹
+	// below the limit near 7.6 bohr, then flat.
+	n2 := morse{de: 0.36, a: 2.0, re: 2.07, mu: reducedMass(14.00307400425, 14.00307400425)}
 	hump := func(r float64) float64 {
-		return n2.v(r) + 0.05*math.Exp(-sq((r-4.2)/0.9)) - 26/HartreeInCm1*1.4*math.Exp(-sq((r-7.0)/1.0))
+		return n2.v(r) + 0.05*math.Exp(-sq((r-4.2)/1.2)) - 26/HartreeInCm1*math.Exp(-sq((r-7.5)/1.0))
 	}
 	n2m := []MassSet{{Name: "14N2", Masses: []float64{14.00307400425, 14.00307400425}}}
 	for _, tc := range []struct {

@@ -417,7 +417,13 @@ func printFitTable(w io.Writer, res *fit.Result) {
 				fmt.Fprintln(w, "    no bound vibrational level")
 			}
 			if c.DeCm1 != 0 || gone("d_e_cm1") {
-				fmt.Fprintf(w, "    D_e = %s (%.4f eV)   D_0 = %s (%.4f eV)\n", pm(c.DeCm1, c.DeUnc, 1, gone("d_e_cm1")), c.DeEV, pm(c.D0Cm1, c.D0Unc, 1, gone("d_0_cm1")), c.D0EV)
+				ev := func(v float64, key string) string {
+					if gone(key) {
+						return ""
+					}
+					return fmt.Sprintf(" (%.4f eV)", v)
+				}
+				fmt.Fprintf(w, "    D_e = %s%s   D_0 = %s%s\n", pm(c.DeCm1, c.DeUnc, 1, gone("d_e_cm1")), ev(c.DeEV, "d_e_cm1"), pm(c.D0Cm1, c.D0Unc, 1, gone("d_0_cm1")), ev(c.D0EV, "d_0_cm1"))
 			}
 		}
 		for _, wn := range m.Warnings {
