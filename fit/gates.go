@@ -140,6 +140,19 @@ func dissociation(c *Constants, m *Minimum, asym, asymUnc float64) {
 // bound well. single says the curve has one well, for which the level
 // spacing must shrink (ω_e x_e > 0) or grow (ω_e x_e < 0) steadily.
 func gateConstants(c *Constants, m *Minimum, single bool) {
+	// A polynomial of degree below 4 has no f4 (below 3 no f3): the
+	// anharmonic constants would be zeros of the model, not results.
+	if m.Degree < 4 {
+		why := fmt.Sprintf("the local polynomial has degree %d: f4 is not determined by the points", m.Degree)
+		c.withhold("omega_e_x_e_cm1", why, &c.OmegaExe, &c.OmegaExeStderr, &c.OmegaExeSpread, &c.OmegaExeUnc)
+		c.withhold("zpe_cm1", "it needs ω_e x_e ("+why+")", &c.ZPE, &c.ZPEUnc, &c.Y00)
+		if !c.FundamentalGrid {
+			c.withhold("fundamental_cm1", "it needs ω_e x_e ("+why+")", &c.Fundamental, &c.FundamentalUnc)
+		}
+	}
+	if m.Degree < 3 && !c.OneD {
+		c.withhold("alpha_e_cm1", fmt.Sprintf("the local polynomial has degree %d: f3 is not determined by the points", m.Degree), &c.AlphaE, &c.AlphaEStderr, &c.AlphaESpread, &c.AlphaEUnc)
+	}
 	if c.NoBoundLevel {
 		why := "no bound vibrational level"
 		c.withhold("zpe_cm1", why, &c.ZPE, &c.ZPEUnc)
@@ -147,7 +160,7 @@ func gateConstants(c *Constants, m *Minimum, single bool) {
 			c.withhold("fundamental_cm1", why, &c.Fundamental, &c.FundamentalUnc)
 		}
 	}
-	if c.OmegaE > 0 && !(c.OmegaExe < c.OmegaE/2) {
+	if _, gone := c.Withheld["omega_e_x_e_cm1"]; !gone && c.OmegaE > 0 && !(c.OmegaExe < c.OmegaE/2) {
 		why := fmt.Sprintf("ω_e x_e = %.4g cm⁻¹ is not below ω_e/2 = %.4g cm⁻¹: the well is too shallow or too anharmonic for the perturbative series", c.OmegaExe, c.OmegaE/2)
 		c.withhold("omega_e_x_e_cm1", why, &c.OmegaExe, &c.OmegaExeStderr, &c.OmegaExeSpread, &c.OmegaExeUnc)
 		c.withhold("zpe_cm1", "it needs ω_e x_e ("+why+")", &c.ZPE, &c.ZPEUnc, &c.Y00)

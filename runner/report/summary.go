@@ -183,7 +183,7 @@ func curveSections(in Input, cr *fit.Result) []section {
 					name += " (1-D along the scan)"
 				}
 				row := []string{name, fmt.Sprintf("%.6f", k.Mass), valueErr(k.OmegaE, k.OmegaEUnc, 3), withheldOr(k.Withheld, "omega_e_x_e_cm1", valueErr(k.OmegaExe, k.OmegaExeUnc, 4)),
-					dashIfZero(k.Be, k.BeUnc, 6), dashIfZero(k.AlphaE, k.AlphaEUnc, 6), withheldOr(k.Withheld, "zpe_cm1", valueErr(k.ZPE, k.ZPEUnc, 3)), withheldOr(k.Withheld, "fundamental_cm1", valueErr(k.Fundamental, k.FundamentalUnc, 3)),
+					dashIfZero(k.Be, k.BeUnc, 6), withheldOr(k.Withheld, "alpha_e_cm1", dashIfZero(k.AlphaE, k.AlphaEUnc, 6)), withheldOr(k.Withheld, "zpe_cm1", valueErr(k.ZPE, k.ZPEUnc, 3)), withheldOr(k.Withheld, "fundamental_cm1", valueErr(k.Fundamental, k.FundamentalUnc, 3)),
 					withheldOr(k.Withheld, "d_e_cm1", dashIfZero(k.DeEV, k.DeUnc/planner.HartreeInCm1*planner.HartreeInEV, 4)), withheldOr(k.Withheld, "d_0_cm1", dashIfZero(k.D0EV, k.D0Unc/planner.HartreeInCm1*planner.HartreeInEV, 4))}
 				t.Rows = append(t.Rows, row)
 				if len(k.Levels) > 0 {
