@@ -222,7 +222,7 @@ type Constants struct {
 	// Withheld names each quantity of this isotopologue that failed a
 	// sanity gate (by its JSON key) with the reason.
 	Withheld         map[string]string `json:"withheld,omitempty"`
-	E0Hartree        float64           `json:"-"`
+	e0Hartree        float64           // absolute energy of v = 0 (hartree), for D_0
 	ConstantWarnings []string          `json:"-"`
 }
 

@@ -112,7 +112,7 @@ func dissociation(c *Constants, m *Minimum, asym, asymUnc float64) {
 	c.DeUnc = math.Hypot(m.EMinUnc, asymUnc) * HartreeInCm1
 	switch {
 	case len(c.Levels) > 0:
-		c.D0Cm1 = (asym - c.E0Hartree) * HartreeInCm1
+		c.D0Cm1 = (asym - c.e0Hartree) * HartreeInCm1
 		c.D0Unc = math.Hypot(c.DeUnc, c.ZPEGridUnc)
 	case c.NoBoundLevel:
 		c.withhold("d_0_cm1", "no bound vibrational level: D_0 is not defined", &c.D0Cm1, &c.D0EV, &c.D0Unc)

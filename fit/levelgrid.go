@@ -596,7 +596,7 @@ func gridLevels(ctx context.Context, c *Constants, lp *levelPotential, x, e, wts
 	}
 	c.ZPEGrid = c.Levels[0]
 	c.ZPEGridUnc = c.LevelsUncertainty[0]
-	c.E0Hartree = g.e[0]
+	c.e0Hartree = g.e[0]
 	if nb >= 2 {
 		c.Fundamental = c.DeltaG[0]
 		tot, _, _, _ := g.uncertainty(quantity{1: 1, 0: -1}, rhos, sigma, wts)
