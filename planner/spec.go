@@ -232,6 +232,9 @@ func Decode(data []byte, filename string) (*Spec, error) {
 var tomlErrRE = regexp.MustCompile(`^toml: line (\d+) \(last key "([^"]*)"\): (.*)$`)
 
 func decode(data []byte, filename, dir string) (*Spec, error) {
+	if err := checkTOMLShape(data, filename); err != nil {
+		return nil, err
+	}
 	s := &Spec{file: filename, dir: dir, text: append([]byte(nil), data...)}
 	md, err := toml.NewDecoder(bytes.NewReader(data)).Decode(s)
 	if err != nil {
