@@ -282,6 +282,13 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 
 	wells := findWells(es, 10*opt.EnergyNoise)
 	if len(wells) == 0 {
+		lo, hi := es[0], es[0]
+		for _, e := range es {
+			lo, hi = math.Min(lo, e), math.Max(hi, e)
+		}
+		if hi-lo <= 10*opt.EnergyNoise {
+			return nil, fmt.Errorf("fit: the curve is flat: all %d energies lie within %.3g hartree of each other (the noise allowance is %.3g hartree), so there is no minimum to fit; check that the program's energy changes with the geometry", len(es), hi-lo, 10*opt.EnergyNoise)
+		}
 		return nil, errors.New("fit: the curve has no minimum (energies only rise or only fall)")
 	}
 	// The global fits come first: the level grid uses the better of them as

@@ -467,3 +467,15 @@ func TestCurve_Cancelled_ReturnsContextError(t *testing.T) {
 		t.Error("a cancelled context gave no error")
 	}
 }
+
+// TestCurve_FlatCurveSaysFlat is issue 15 item 15: identical energies
+// (a program whose output does not depend on the geometry) were reported
+// as "energies only rise or only fall".
+func TestCurve_FlatCurveSaysFlat(t *testing.T) {
+	r := []float64{1.8, 1.9, 2.0, 2.1, 2.2}
+	e := []float64{-1.5, -1.5, -1.5, -1.5, -1.5}
+	_, err := Curve(t.Context(), r, e, Options{})
+	if err == nil || !strings.Contains(err.Error(), "the curve is flat") {
+		t.Fatalf("Curve(flat) = %v, want the flat-curve error", err)
+	}
+}
