@@ -51,6 +51,14 @@ type PointRecord struct {
 	// energy (see FindJumps): 1 = recomputed once from a fresh guess,
 	// 2 = failed for good.
 	Jumps int `json:"energy_jumps,omitempty"`
+	// Sum is the record's checksum (see recordSum), set by Store.Commit
+	// and verified by Store.Points; empty in records of an earlier
+	// wellscan, which are not checked.
+	Sum string `json:"sum,omitempty"`
+	// Damaged is set by Store.Points (never stored) when the record fails
+	// its checksum: it says so, and the record's numbers must not be
+	// used.
+	Damaged string `json:"-"`
 }
 
 // Event is one entry of the store's append-only event log, and what

@@ -35,6 +35,10 @@ type Result struct {
 	PID       int       `json:"pid"`
 	Started   time.Time `json:"started"`
 	Finished  time.Time `json:"finished"`
+	// Sum is the file's checksum (see resultSum); a file whose content
+	// does not match it is treated as absent. Files of an earlier
+	// wellscan have none and are not checked.
+	Sum string `json:"sum,omitempty"`
 }
 
 // PointDir is the work directory of the point with key in scan dir.
@@ -54,6 +58,7 @@ func WriteResult(dir string, r Result) error {
 // leave the file missing or empty, which ReadResult treats as absent.
 func writeResult(dir string, r Result, suffix string, durable bool) error {
 	r.V = resultVersion
+	r.Sum = resultSum(r)
 	b, err := json.MarshalIndent(r, "", "  ")
 	if err != nil {
 		return fmt.Errorf("runner: result %s: %w", r.Key, err)
@@ -74,6 +79,9 @@ func ReadResult(dir, key, fingerprint string) (Result, bool) {
 		return Result{}, false
 	}
 	if r.Status != "done" && r.Status != "failed" {
+		return Result{}, false
+	}
+	if r.Sum != "" && r.Sum != resultSum(r) {
 		return Result{}, false
 	}
 	return r, true

@@ -32,15 +32,12 @@ func OpenScan(dir string, spec *planner.Spec, opts OpenOptions) (*Store, error) 
 		return nil, err
 	}
 	fp, _ := json.Marshal(spec.Fingerprint())
-	if meta.Fingerprint != "" && meta.Fingerprint != string(fp) {
-		var old planner.Fingerprint
-		_ = json.Unmarshal([]byte(meta.Fingerprint), &old)
-		diff := old.Diff(spec.Fingerprint())
+	if ok, _, diff := compatibleFingerprint(meta.Fingerprint, spec); !ok {
 		st.Close()
 		return nil, fmt.Errorf("%w since this scan started: %s changed, which changes the energy of every point; restore the old settings or start a new scan in another directory",
 			ErrSpecChanged, strings.Join(diff, " and "))
 	}
-	if meta.Fingerprint == "" || string(meta.LastSpec) != string(spec.Text()) {
+	if meta.Fingerprint != string(fp) || string(meta.LastSpec) != string(spec.Text()) {
 		if err := st.SetSpec(spec.Text(), string(fp)); err != nil {
 			st.Close()
 			return nil, err
@@ -264,6 +261,11 @@ func (r *Runner) reconcile() error {
 	resumed := 0
 	for _, k := range r.keys() {
 		rec := r.recs[k]
+		if rec.Damaged != "" {
+			r.repairDamaged(rec)
+			resumed++
+			continue
+		}
 		if rec.State == Done {
 			r.restoreResult(rec)
 			continue
@@ -322,8 +324,15 @@ func (r *Runner) reconcile() error {
 // (which read their neighbours' result files for continuation guesses),
 // so they are rebuilt from the record.
 func (r *Runner) restoreResult(rec *PointRecord) {
-	if _, ok := ReadResult(r.Dir, rec.Key, r.fp); ok || rec.Energy == nil {
+	if rec.Energy == nil {
 		return
+	}
+	msg := "result file was missing or unreadable; rewritten from the store"
+	if res, ok := ReadResult(r.Dir, rec.Key, r.fp); ok {
+		if res.Status == "done" && res.Energy == *rec.Energy {
+			return
+		}
+		msg = fmt.Sprintf("%s says %s E = %.10f hartree but the store (checksum intact) says E = %.10f hartree; kept the store's copy and rewrote the file", ResultFile, res.Status, res.Energy, *rec.Energy)
 	}
 	res := Result{Key: rec.Key, Fingerprint: r.fp, Attempt: rec.Attempts, Status: "done", Energy: *rec.Energy,
 		Converged: rec.Converged, Iterations: rec.Iterations, SSquared: rec.SSquared, Extra: rec.Extra,
@@ -339,7 +348,7 @@ func (r *Runner) restoreResult(rec *PointRecord) {
 	if err := writeResult(r.Dir, res, r.suffix, false); err != nil {
 		return // a convenience copy; the store has the result
 	}
-	r.emit(Event{Kind: "resume", Key: rec.Key, Round: rec.Round, Message: "result file was missing or unreadable; rewritten from the store"})
+	r.emit(Event{Kind: "resume", Key: rec.Key, Round: rec.Round, Message: msg})
 }
 
 func (r *Runner) keys() []string {

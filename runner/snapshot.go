@@ -33,6 +33,13 @@ type Snapshot struct {
 	// Suspects are done points that break with their neighbours (see
 	// [FindDiscontinuities]).
 	Suspects []Suspect `json:"suspects,omitempty"`
+	// Fingerprint is the spec fingerprint of the run that wrote the
+	// snapshot (SpecFingerprint), so that readers can tell a snapshot of
+	// another spec.
+	Fingerprint string `json:"fingerprint,omitempty"`
+	// Damaged lists points whose stored record failed its checksum; their
+	// energies are left out.
+	Damaged []string `json:"damaged,omitempty"`
 }
 
 // RefineJSON is a round's refinement status.
@@ -77,7 +84,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	snap := Snapshot{V: 1, Title: spec.Title, State: state, Updated: now, PID: os.Getpid(), Host: host,
 		Counts: map[string]int{}, Total: len(recs), Units: map[string]string{},
 		Extrema: []ExtremumJSON{}, Points: []PointJSON{}, LastErrors: []PointErrorJSON{},
-		Suspects: FindDiscontinuities(recs, DiscontinuityOptions{})}
+		Suspects: FindDiscontinuities(recs, DiscontinuityOptions{}), Fingerprint: SpecFingerprint(spec)}
 	for _, c := range spec.Coordinates() {
 		snap.Units[c.Name] = c.UnitLabel(spec.Units())
 	}
@@ -87,6 +94,13 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	m := map[string]*PointRecord{}
 	for i := range recs {
 		r := &recs[i]
+		if r.Damaged != "" {
+			// Never show or fit a number whose checksum failed.
+			snap.Damaged = append(snap.Damaged, r.Key)
+			c := *r
+			c.Energy, c.State, c.LastError, c.Class = nil, Failed, r.Damaged, "damaged"
+			r = &c
+		}
 		m[r.Key] = r
 		snap.Counts[string(r.State)]++
 		snap.Round = max(snap.Round, r.Round)

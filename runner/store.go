@@ -273,6 +273,9 @@ func (s *Store) Points() ([]PointRecord, error) {
 			if r.V != recordVersion {
 				return fmt.Errorf("%w: point %q has record version %d", ErrFormat, k, r.V)
 			}
+			if r.Sum != "" && r.Sum != recordSum(r) {
+				r.Damaged = fmt.Sprintf("the stored record of point %s does not match its checksum (the store was changed outside wellscan, or damaged)", r.Key)
+			}
 			out = append(out, r)
 			return nil
 		})
@@ -290,6 +293,7 @@ func (s *Store) Commit(recs []PointRecord, rounds []RoundRecord, events []Event)
 		pb, rb, eb := tx.Bucket(bucketPoints), tx.Bucket(bucketRounds), tx.Bucket(bucketEvents)
 		for _, r := range recs {
 			r.V = recordVersion
+			r.Sum = recordSum(r)
 			b, err := json.Marshal(r)
 			if err != nil {
 				return err

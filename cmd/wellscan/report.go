@@ -118,10 +118,11 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true, Timeout: 300 * time.Millisecond})
 	switch {
 	case err == nil:
+		ferr := runner.CheckFingerprint(st, spec)
 		recs, rerr := st.Points()
 		rounds, rrerr := st.Rounds()
 		st.Close()
-		if err := errors.Join(rerr, rrerr); err != nil {
+		if err := errors.Join(ferr, rerr, rrerr); err != nil {
 			return in, err
 		}
 		for _, r := range recs {
@@ -144,6 +145,9 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 		snap, serr := runner.ReadSnapshot(dir)
 		if serr != nil {
 			return in, fmt.Errorf("%w (and no snapshot: %w)", err, serr)
+		}
+		if err := runner.CheckSnapshotFingerprint(dir, snap, spec); err != nil {
+			return in, err
 		}
 		in.Notes = append(in.Notes, fmt.Sprintf("the scan is still running (PID %d on %s): this report shows the snapshot of %s", snap.PID, snap.Host, snap.Updated.UTC().Format(time.RFC3339)))
 		errs := map[string]string{}

@@ -54,6 +54,9 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	if err := cfg.Check(); err != nil {
 		return nil, fmt.Errorf("%s: engine.command: %w", spec.File(), err)
 	}
+	if err := cfg.Load(); err != nil {
+		return nil, fmt.Errorf("%s: engine.command: %w", spec.File(), err)
+	}
 	return &Backend{cfg: cfg, spec: spec, title: spec.Title}, nil
 }
 

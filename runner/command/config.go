@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"text/template"
 	"time"
 
 	"wellscan/parsers"
@@ -52,6 +53,22 @@ type Config struct {
 	// AllowPositive accepts a positive extracted energy (a relative
 	// energy); otherwise a positive value fails the point as invalid.
 	AllowPositive bool
+
+	// parsed is the template as read once by [Config.Load] (nil: Render
+	// reads the file each time). A scan reads it once, so that every
+	// point of a run uses the text its fingerprint hashed.
+	parsed *template.Template
+}
+
+// Load reads and parses the template once; later renders use that text
+// even if the file changes.
+func (c *Config) Load() error {
+	t, err := c.parseTemplate()
+	if err != nil {
+		return err
+	}
+	c.parsed = t
+	return nil
 }
 
 // DefaultKillGrace is the time a stopped program has between SIGTERM and

@@ -228,9 +228,12 @@ var helpers = template.FuncMap{
 // carry the template's file name and line (text/template's
 // "template: FILE:LINE:COL: …") and the point's key.
 func (c Config) Render(job Job) ([]byte, error) {
-	tmpl, err := c.parseTemplate()
-	if err != nil {
-		return nil, err
+	tmpl := c.parsed
+	if tmpl == nil {
+		var err error
+		if tmpl, err = c.parseTemplate(); err != nil {
+			return nil, err
+		}
 	}
 	p := newPoint(job, c.InputName)
 	for _, v := range p.Coords {
