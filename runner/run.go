@@ -215,14 +215,14 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 		if err := r.flush(); err != nil {
 			return r.summary(), err
 		}
-		_ = r.Store.Backup(filepath.Join(r.Dir, DBFile+".bak"))
+		_ = r.Store.Backup(DBFile + ".bak")
 	}
 	qe := stopQueue()
 	r.emit(Event{Kind: "finish", Round: r.round, Message: string(r.lastPlan.Status)})
 	if err := r.flush(); err != nil {
 		return r.summary(), err
 	}
-	_ = r.Store.Backup(filepath.Join(r.Dir, DBFile+".bak"))
+	_ = r.Store.Backup(DBFile + ".bak")
 	r.snapshot("finished")
 	sum := r.summary()
 	if qe != nil {
@@ -342,9 +342,7 @@ func (r *Runner) restoreResult(rec *PointRecord) {
 			res.Orbitals = rel
 		}
 	}
-	if err := os.MkdirAll(PointDir(r.Dir, rec.Key), 0o700); err != nil {
-		return
-	}
+
 	if err := writeResult(r.Dir, res, r.suffix, false); err != nil {
 		return // a convenience copy; the store has the result
 	}
@@ -710,7 +708,7 @@ func (r pointComputer) work(ctx context.Context, t Task) Completion {
 	if res, ok := ReadResult(r.dir, t.Key, r.fp); ok && res.Status == "done" {
 		return Completion{Task: t, Result: res, Reused: true}
 	}
-	if err := mkdirPoint(t.Dir); err != nil {
+	if err := MkdirScan(r.dir, filepath.Join(PointsDir, t.Key)); err != nil {
 		return Completion{Task: t, Result: r.failure(t, r.now(), "io", err)}
 	}
 	cctx := ctx
@@ -737,19 +735,6 @@ func (r pointComputer) work(ctx context.Context, t Task) Completion {
 		return Completion{Task: t, Result: r.failure(t, start, "io", err)}
 	}
 	return Completion{Task: t, Result: res}
-}
-
-// mkdirPoint creates a point directory: one mkdir when points/ exists
-// (the common case), MkdirAll otherwise.
-func mkdirPoint(dir string) error {
-	err := os.Mkdir(dir, 0o700)
-	switch {
-	case err == nil, errors.Is(err, os.ErrExist):
-		return nil
-	case errors.Is(err, os.ErrNotExist):
-		return os.MkdirAll(dir, 0o700)
-	}
-	return err
 }
 
 // computeSafely turns a backend panic into an error for that point; a
@@ -898,9 +883,9 @@ func (r *Runner) checkJumps() int {
 		rec := r.recs[j.Key]
 		rec.Jumps++
 		msg := jumpMessage(r.Spec, rec, j, limit)
-		res := filepath.Join(PointDir(r.Dir, rec.Key), ResultFile)
-		aside := filepath.Join(PointDir(r.Dir, rec.Key), fmt.Sprintf("result.%s-%d.json", ClassEnergyJump, rec.Jumps))
-		if err := os.Rename(res, aside); err != nil && !errors.Is(err, os.ErrNotExist) {
+		res := filepath.Join(PointsDir, rec.Key, ResultFile)
+		aside := filepath.Join(PointsDir, rec.Key, fmt.Sprintf("result.%s-%d.json", ClassEnergyJump, rec.Jumps))
+		if err := renameInScan(r.Dir, res, aside); err != nil && !errors.Is(err, os.ErrNotExist) {
 			msg += fmt.Sprintf(" (could not move %s aside: %v)", res, err)
 		}
 		rec.Energy, rec.Converged, rec.Class = nil, false, ClassEnergyJump

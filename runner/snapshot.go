@@ -163,7 +163,7 @@ func WriteSnapshot(dir string, s Snapshot) error {
 	if err != nil {
 		return fmt.Errorf("runner: status snapshot: %w", err)
 	}
-	return WriteFileAtomic(filepath.Join(dir, StatusFile), append(b, '\n'))
+	return writeInScan(dir, StatusFile, append(b, '\n'), tmpSuffix(), true)
 }
 
 // ReadSnapshot reads status.json.

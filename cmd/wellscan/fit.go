@@ -109,6 +109,9 @@ Optional columns "converged" (true/false or 1/0) and "weight".`,
 
 // fitTable reads o.table, converts it to atomic units and fits it.
 func fitTable(ctx context.Context, o *fitOptions) (*fit.Result, error) {
+	if err := planner.CheckRegular(o.table); err != nil {
+		return nil, err
+	}
 	f, err := os.Open(o.table)
 	if err != nil {
 		return nil, fmt.Errorf("fit: %w", err)

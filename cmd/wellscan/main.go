@@ -19,11 +19,13 @@ func main() {
 func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	a := &app{stdin: stdin, stdout: stdout, stderr: stderr}
+	// Everything printed passes through safeWriter: text from a spec, a
+	// store or a program cannot reach the terminal as control sequences.
+	a := &app{stdin: stdin, stdout: safeWriter{stdout}, stderr: safeWriter{stderr}, rawStderr: stderr}
 	root := newRootCommand(a)
 	root.SetArgs(args)
-	root.SetOut(stdout)
-	root.SetErr(stderr)
+	root.SetOut(a.stdout)
+	root.SetErr(a.stderr)
 	err := root.ExecuteContext(ctx)
-	return exitCode(ctx, err, stderr)
+	return exitCode(ctx, err, a.stderr)
 }

@@ -1,9 +1,9 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -48,7 +48,7 @@ plan with the template's file and line.`,
 func printPlan(w io.Writer, dir string, spec *planner.Spec) {
 	mol, _ := spec.Molecule()
 	if spec.Title != "" {
-		fmt.Fprintf(w, "scan: %s\n", spec.Title)
+		fmt.Fprintf(w, "scan: %s\n", sanitizeLine(spec.Title))
 	}
 	fmt.Fprintf(w, "molecule: %s, %d atoms, charge %+d, multiplicity %d\n", mol.Formula(), len(mol.Atoms), mol.Charge, mol.Multiplicity)
 	for _, c := range spec.Coordinates() {
@@ -158,7 +158,12 @@ func renderInputs(w io.Writer, dir string, spec *planner.Spec) error {
 		return err
 	}
 	out := filepath.Join(dir, "plan-inputs")
-	if err := os.MkdirAll(out, 0o700); err != nil {
+	fs, err := runner.OpenScanFS(dir)
+	if err != nil {
+		return err
+	}
+	defer fs.Close()
+	if err := fs.MkdirAll("plan-inputs"); err != nil {
 		return err
 	}
 	pts := spec.InitialPoints()
@@ -171,8 +176,13 @@ func renderInputs(w io.Writer, dir string, spec *planner.Spec) error {
 		if err != nil {
 			return fmt.Errorf("point %s: %w", p.Key, err)
 		}
-		if err := os.WriteFile(filepath.Join(out, p.Key+".in"), text, 0o600); err != nil {
+		f, err := fs.Create(filepath.Join("plan-inputs", p.Key+".in"))
+		if err != nil {
 			return err
+		}
+		_, werr := f.Write(text)
+		if err := errors.Join(werr, f.Close()); err != nil {
+			return fmt.Errorf("plan: %w", err)
 		}
 	}
 	fmt.Fprintf(w, "rendered %d inputs of round 1 into %s\n", len(pts), out)

@@ -72,9 +72,20 @@ stopped part-way; what is missing is said loudly in the summary.`,
 			in.Conditions.Date = date
 			out := o.out
 			if out == "" {
+				// Inside the scan: confined, never through a symbolic link.
 				out = filepath.Join(dir, "report")
-			}
-			if err := report.Write(cmd.Context(), out, in); err != nil {
+				fs, err := runner.OpenScanFS(dir)
+				if err != nil {
+					return err
+				}
+				defer fs.Close()
+				if err := fs.MkdirAll("report"); err != nil {
+					return err
+				}
+				if err := report.WriteTo(cmd.Context(), runner.ReportDest{FS: fs, Rel: "report"}, in); err != nil {
+					return err
+				}
+			} else if err := report.Write(cmd.Context(), out, in); err != nil {
 				return err
 			}
 			for _, f := range report.Files() {

@@ -13,6 +13,10 @@ import (
 type app struct {
 	stdin          io.Reader
 	stdout, stderr io.Writer
+	// rawStderr is stderr without escaping, for the progress line's own
+	// terminal codes (and to tell whether stderr is a terminal); nil:
+	// stderr.
+	rawStderr io.Writer
 }
 
 // version is set at build time with -ldflags "-X main.version=…".

@@ -127,7 +127,11 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 		enc := json.NewEncoder(a.stdout)
 		r.OnEvent = func(e runner.Event) { _ = enc.Encode(jsonEvent(e)) }
 	case !o.quiet:
-		r.OnEvent = newProgressPrinter(a.stderr, spec).event
+		w := a.rawStderr
+		if w == nil {
+			w = a.stderr
+		}
+		r.OnEvent = newProgressPrinter(w, spec).event
 	}
 	sum, err := r.Run(ctx)
 	switch {
@@ -177,7 +181,7 @@ func (p *progressPrinter) event(e runner.Event) {
 		if p.tty {
 			fmt.Fprint(p.w, "\r\033[K")
 		}
-		msg := e.Message
+		msg := sanitizeLine(e.Message)
 		if e.Key != "" {
 			msg = e.Key + ": " + msg
 		}
@@ -210,7 +214,7 @@ func (p *progressPrinter) event(e runner.Event) {
 
 func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary) {
 	if spec.Title != "" {
-		fmt.Fprintf(w, "scan: %s (%s)\n", spec.Title, dir)
+		fmt.Fprintf(w, "scan: %s (%s)\n", sanitizeLine(spec.Title), dir)
 	}
 	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed, %d not run · computed now %d, from earlier runs %d · %s\n",
 		s.Rounds, s.Counts[runner.Done], s.Counts[runner.Failed], s.Counts[runner.Planned]+s.Counts[runner.Running]+s.Counts[runner.Submitted],
@@ -233,7 +237,7 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 			fmt.Fprintf(w, "… and %d more failed points (wellscan status %s)\n", len(s.Failed)-5, dir)
 			break
 		}
-		fmt.Fprintf(w, "failed: %s (%s, %d attempts): %s\n", f.Key, f.Class, f.Attempts, strings.TrimSpace(f.LastError))
+		fmt.Fprintf(w, "failed: %s (%s, %d attempts): %s\n", f.Key, f.Class, f.Attempts, sanitizeLine(strings.TrimSpace(f.LastError)))
 	}
 }
 

@@ -205,7 +205,7 @@ func readStatus(dir string, spec *planner.Spec) (runner.Snapshot, string, error)
 
 func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source string) {
 	if s.Title != "" {
-		fmt.Fprintf(w, "scan: %s\n", s.Title)
+		fmt.Fprintf(w, "scan: %s\n", sanitizeLine(s.Title))
 	}
 	fmt.Fprintf(w, "source: %s\n", source)
 	var parts []string
@@ -239,6 +239,6 @@ func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source stri
 	errs := append([]runner.PointErrorJSON(nil), s.LastErrors...)
 	sort.SliceStable(errs, func(i, j int) bool { return errs[i].State == runner.Failed && errs[j].State != runner.Failed })
 	for _, e := range errs {
-		fmt.Fprintf(w, "error: %s (%s, now %s): %s\n", e.Key, e.Class, e.State, e.Error)
+		fmt.Fprintf(w, "error: %s (%s, now %s): %s\n", e.Key, e.Class, e.State, sanitizeLine(e.Error))
 	}
 }

@@ -83,6 +83,19 @@ const (
 	GeometryFile   = "point.xyz"
 )
 
+// RunRecordFile is the record of the program running for a point (see
+// the runner's process records); ResultFile is the runner's result file.
+const (
+	RunRecordFile = "running.json"
+	ResultFile    = "result.json"
+)
+
+// ReservedNames lists the file names wellscan itself writes in a point's
+// directory; no input, output or energy file may take one.
+func ReservedNames() []string {
+	return []string{StdoutFile, StderrFile, ExitStatusFile, GeometryFile, RunRecordFile, ResultFile}
+}
+
 // Stdout is the EnergyFrom value that reads the energy from standard output.
 const Stdout = "stdout"
 
@@ -135,9 +148,9 @@ func (c Config) Validate() error {
 	if c.KillGrace < 0 {
 		return fmt.Errorf("command: kill grace %v is negative", c.KillGrace)
 	}
-	reserved := []string{StdoutFile, StderrFile, ExitStatusFile, GeometryFile}
-	if slices.Contains(reserved, c.InputName) {
-		return fmt.Errorf("command: input file name %q is one wellscan writes itself (%s)", c.InputName, strings.Join(reserved, ", "))
+	reserved := ReservedNames()
+	if slices.Contains(reserved, c.InputName) || strings.HasPrefix(c.InputName, "result.") {
+		return fmt.Errorf("command: input: file name %q is one wellscan writes itself (%s, result.*); the rendered input would overwrite it or be overwritten", c.InputName, strings.Join(reserved, ", "))
 	}
 	for _, o := range c.Outputs {
 		if err := checkFileName("output", o); err != nil {

@@ -101,8 +101,11 @@ func ClassOf(err error) FailureClass {
 	return ""
 }
 
-// maxOutputBytes bounds how much of an output file is read for the energy.
-const maxOutputBytes = 512 << 20
+// maxOutputBytes bounds how much of an output file is read for the energy
+// (64 MiB): far more than the output of one point, small enough that
+// several points at once cannot exhaust memory. A larger output fails the
+// point with a message to write the energy to a file of its own.
+const maxOutputBytes = 64 << 20
 
 // stderrTailLines is how many lines of stderr a non-zero exit quotes.
 const stderrTailLines = 8
@@ -118,9 +121,6 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	out := Outcome{ExitCode: -1}
 	fail := func(class FailureClass, err error) (Outcome, error) {
 		out.Class = class
-		if dir != "" {
-			writeStatus(dir, out, err)
-		}
 		return out, &RunError{Key: job.Key, Class: class, Err: err}
 	}
 	if err != nil || job.Dir == "" {
@@ -140,6 +140,19 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		dir = ""
 		return fail(SetupFailed, err)
 	}
+	// Every file of the point is created inside its directory and never
+	// through a symbolic link (see pointFiles).
+	pf, err := openPointFiles(dir)
+	if err != nil {
+		dir = ""
+		return fail(SetupFailed, err)
+	}
+	defer pf.Close()
+	fail = func(class FailureClass, err error) (Outcome, error) {
+		out.Class = class
+		pf.writeStatus(out, err)
+		return out, &RunError{Key: job.Key, Class: class, Err: err}
+	}
 	out.Input = filepath.Join(dir, c.InputName)
 	out.Stdout = filepath.Join(dir, StdoutFile)
 	out.Stderr = filepath.Join(dir, StderrFile)
@@ -150,7 +163,7 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		stale = append(stale, c.EnergyFrom)
 	}
 	for _, name := range stale {
-		if err := os.Remove(filepath.Join(dir, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+		if err := pf.root.Remove(name); err != nil && !errors.Is(err, fs.ErrNotExist) {
 			return fail(SetupFailed, fmt.Errorf("removing %s left by an earlier attempt: %w", name, err))
 		}
 	}
@@ -159,10 +172,10 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
-	if err := os.WriteFile(out.Input, input, 0o600); err != nil {
+	if err := pf.writeFile(c.InputName, input); err != nil {
 		return fail(SetupFailed, err)
 	}
-	if err := writeGeometry(filepath.Join(dir, GeometryFile), job); err != nil {
+	if err := writeGeometry(pf, job); err != nil {
 		return fail(SetupFailed, err)
 	}
 	env, err := c.environ(job, dir)
@@ -174,12 +187,12 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(ProgramMissing, err)
 	}
 
-	stdout, err := createPrivate(out.Stdout)
+	stdout, err := pf.create(StdoutFile)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
 	defer stdout.Close()
-	stderr, err := createPrivate(out.Stderr)
+	stderr, err := pf.create(StderrFile)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
@@ -238,27 +251,27 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 
 	var missing []string
 	for _, o := range c.Outputs {
-		if _, err := os.Stat(filepath.Join(dir, o)); err != nil {
+		if _, err := pf.root.Stat(o); err != nil {
 			missing = append(missing, o)
 		}
 	}
-	source := filepath.Join(dir, StdoutFile)
+	source := StdoutFile
 	switch c.EnergyFrom {
 	case StderrFile:
-		source = out.Stderr
+		source = StderrFile
 	case "", Stdout:
 	default:
-		source = filepath.Join(dir, c.EnergyFrom)
-		if _, err := os.Stat(source); err != nil && !slices.Contains(missing, c.EnergyFrom) {
+		source = c.EnergyFrom
+		if _, err := pf.root.Stat(source); err != nil && !slices.Contains(missing, c.EnergyFrom) {
 			missing = append(missing, c.EnergyFrom)
 		}
 	}
 	if len(missing) > 0 {
 		return fail(OutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", ")))
 	}
-	text, err := readCapped(source)
+	text, err := pf.readCapped(source)
 	if err != nil {
-		return fail(SetupFailed, err)
+		return fail(OutputMissing, err)
 	}
 	e, err := x.Extract(text)
 	if err != nil {
@@ -272,7 +285,7 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(EnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err))
 	}
 	out.Energy = e
-	writeStatus(dir, out, nil)
+	pf.writeStatus(out, nil)
 	return out, nil
 }
 
@@ -413,7 +426,7 @@ func envName(name string) string {
 	return b.String()
 }
 
-func writeGeometry(path string, job Job) error {
+func writeGeometry(pf *pointFiles, job Job) error {
 	f := parsers.Frame{Comment: "wellscan point " + job.Key + " (angstrom)"}
 	for _, a := range job.Atoms {
 		f.Labels = append(f.Labels, a.Symbol)
@@ -427,7 +440,7 @@ func writeGeometry(path string, job Job) error {
 			return err
 		}
 	}
-	return os.WriteFile(path, buf.Bytes(), 0o600)
+	return pf.writeFile(GeometryFile, buf.Bytes())
 }
 
 func describeExit(ps *os.ProcessState) string {
@@ -462,39 +475,4 @@ func readTail(path string, n int64) ([]byte, error) {
 	buf := make([]byte, st.Size()-off)
 	_, err = f.ReadAt(buf, off)
 	return buf, err
-}
-
-func readCapped(path string) ([]byte, error) {
-	st, err := os.Stat(path)
-	if err != nil {
-		return nil, err
-	}
-	if st.Size() > maxOutputBytes {
-		return nil, fmt.Errorf("%s is %d bytes, more than the %d read for an energy", filepath.Base(path), st.Size(), maxOutputBytes)
-	}
-	return os.ReadFile(path)
-}
-
-// writeStatus records how the run ended; a failure to write it is not
-// reported, as the outcome is returned anyway.
-func writeStatus(dir string, out Outcome, err error) {
-	class := string(out.Class)
-	if class == "" {
-		class = "ok"
-	}
-	var b strings.Builder
-	fmt.Fprintf(&b, "exit_code = %d\nclass = %s\nelapsed = %s\n", out.ExitCode, class, out.Elapsed.Round(time.Millisecond))
-	if out.Class == "" {
-		fmt.Fprintf(&b, "energy_hartree = %.12f\n", out.Energy)
-	}
-	if err != nil {
-		first, _, _ := strings.Cut(err.Error(), "\n")
-		fmt.Fprintf(&b, "error = %s\n", first)
-	}
-	_ = os.WriteFile(filepath.Join(dir, ExitStatusFile), []byte(b.String()), 0o600)
-}
-
-// createPrivate creates (or truncates) a file only its owner can read.
-func createPrivate(path string) (*os.File, error) {
-	return os.OpenFile(path, os.O_RDWR|os.O_CREATE|os.O_TRUNC, 0o600)
 }

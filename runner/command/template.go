@@ -252,6 +252,9 @@ func (c Config) Render(job Job) ([]byte, error) {
 const maxTemplateBytes = 1 << 20
 
 func (c Config) parseTemplate() (*template.Template, error) {
+	if err := planner.CheckRegular(c.Template); err != nil {
+		return nil, fmt.Errorf("command: input template: %s", strings.TrimPrefix(err.Error(), "planner: "))
+	}
 	if st, err := os.Stat(c.Template); err == nil && st.Size() > maxTemplateBytes {
 		return nil, fmt.Errorf("command: template %s is %d bytes, more than the %d an input template may have", c.Template, st.Size(), maxTemplateBytes)
 	}
