@@ -104,3 +104,21 @@ func (r *Runner) repairDamaged(rec *PointRecord) {
 	r.touch(rec)
 	r.emit(Event{Kind: "repair", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("the stored record of %s failed its checksum and no intact result file exists; the store's copy is discarded and the point computed again", rec.Key)})
 }
+
+// warnOnce records a "warning" event the first time a convenience file
+// (the store backup, status.json) cannot be written: the scan goes on,
+// since the store holds everything, but the user is told why the file is
+// missing or stale (a symbolic link in its place, a full disk).
+func (r *Runner) warnOnce(what string, err error) {
+	if err == nil {
+		return
+	}
+	if r.warned == nil {
+		r.warned = map[string]bool{}
+	}
+	if r.warned[what] {
+		return
+	}
+	r.warned[what] = true
+	r.emit(Event{Kind: "warning", Round: r.round, Message: fmt.Sprintf("could not write the %s (the scan goes on; the store has every result): %v", what, err)})
+}

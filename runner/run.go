@@ -87,6 +87,7 @@ type Runner struct {
 	lastPlan  planner.RefinePlan
 	host      string // this machine, for result files
 	suffix    string // temporary-file suffix of this process
+	warned    map[string]bool
 }
 
 // Summary is the outcome of Run.
@@ -215,15 +216,16 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 		if err := r.flush(); err != nil {
 			return r.summary(), err
 		}
-		_ = r.Store.Backup(DBFile + ".bak")
+		r.warnOnce("backup", r.Store.Backup(DBFile+".bak"))
 	}
 	qe := stopQueue()
 	r.emit(Event{Kind: "finish", Round: r.round, Message: string(r.lastPlan.Status)})
 	if err := r.flush(); err != nil {
 		return r.summary(), err
 	}
-	_ = r.Store.Backup(DBFile + ".bak")
+	r.warnOnce("backup", r.Store.Backup(DBFile+".bak"))
 	r.snapshot("finished")
+	_ = r.flush()
 	sum := r.summary()
 	if qe != nil {
 		return sum, qe
@@ -967,5 +969,5 @@ func (r *Runner) snapshot(state string) {
 		rounds = append(rounds, *rr)
 	}
 	snap := BuildSnapshot(r.Spec, recs, rounds, state, r.Now())
-	_ = WriteSnapshot(r.Dir, snap)
+	r.warnOnce("snapshot", WriteSnapshot(r.Dir, snap))
 }

@@ -177,7 +177,7 @@ func newProgressPrinter(w io.Writer, spec *planner.Spec) *progressPrinter {
 
 func (p *progressPrinter) event(e runner.Event) {
 	switch e.Kind {
-	case "round", "refine", "resume", "interrupt", "detach", "retry", string(runner.Failed):
+	case "round", "refine", "resume", "interrupt", "detach", "retry", "repair", "warning", string(runner.Failed):
 		if p.tty {
 			fmt.Fprint(p.w, "\r\033[K")
 		}

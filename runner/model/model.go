@@ -178,8 +178,10 @@ func writeState(dir string, raw []byte) error {
 		return err
 	}
 	defer r.Close()
-	if st, err := r.Lstat(stateFile); err == nil && !st.Mode().IsRegular() {
-		return fmt.Errorf("%s is not a regular file (%s); wellscan writes nothing through a link", filepath.Join(dir, stateFile), st.Mode().Type())
+	if st, err := r.Lstat(stateFile); err == nil && st.Mode()&fs.ModeSymlink != 0 {
+		return fmt.Errorf("%s is a symbolic link; wellscan writes nothing through a link (remove it)", filepath.Join(dir, stateFile))
+	} else if err == nil && !st.Mode().IsRegular() {
+		return fmt.Errorf("%s is not a regular file (%s)", filepath.Join(dir, stateFile), st.Mode().Type())
 	}
 	f, err := r.OpenFile(stateFile, os.O_WRONLY|os.O_CREATE|os.O_TRUNC, 0o600)
 	if err != nil {
