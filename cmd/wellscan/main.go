@@ -17,7 +17,11 @@ func main() {
 // run executes one wellscan command line and returns the process exit
 // code. It is the seam tests use to run commands in-process.
 func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	// SIGHUP (the terminal closed) and SIGPIPE (`wellscan run D | head`)
+	// stop a run like Ctrl-C: the points in flight, and their programs,
+	// are stopped and the store is left consistent. With SIGPIPE caught, a
+	// write to a closed pipe fails instead of killing the process.
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM, syscall.SIGHUP, syscall.SIGPIPE)
 	defer stop()
 	// Everything printed passes through safeWriter: text from a spec, a
 	// store or a program cannot reach the terminal as control sequences.

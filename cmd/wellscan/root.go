@@ -28,7 +28,7 @@ const exitCodeTable = `Exit codes:
   2    internal error (Go runtime panic)
   3    the scan finished but some points failed
   11   the scan is being run by another process
-  130  interrupted (Ctrl-C / SIGINT / SIGTERM)`
+  130  interrupted (Ctrl-C / SIGINT, SIGTERM, SIGHUP, SIGPIPE)`
 
 func newRootCommand(a *app) *cobra.Command {
 	root := &cobra.Command{

@@ -68,7 +68,7 @@ func (b *Backend) Job(t runner.Task) Job {
 	coords := b.spec.Coordinates()
 	disp := b.spec.DisplayValues(planner.Point{Key: t.Key, Values: t.Values})
 	job := Job{Dir: t.Dir, Title: b.title, Key: t.Key, Coords: map[string]float64{}, CoordUnits: map[string]string{},
-		Charge: t.Mol.Charge, Multiplicity: t.Mol.Multiplicity}
+		Charge: t.Mol.Charge, Multiplicity: t.Mol.Multiplicity, Attempt: t.Attempt}
 	for i, c := range coords {
 		job.Coords[c.Name] = disp[i]
 		unit := "degree"

@@ -74,6 +74,9 @@ type Outcome struct {
 	Stdout   string
 	Stderr   string
 	Elapsed  time.Duration
+	// Adopted: the energy comes from a program an earlier, killed run
+	// started for this point, waited for instead of run again.
+	Adopted bool
 }
 
 // RunError is the error of a failed run. Err is the cause: a
@@ -157,6 +160,17 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	out.Stdout = filepath.Join(dir, StdoutFile)
 	out.Stderr = filepath.Join(dir, StderrFile)
 
+	// A program left running by an orchestrator that was killed is waited
+	// for (never run a second time beside itself); its output is taken
+	// when it holds a valid energy.
+	if e, ok, class, err := c.adopt(ctx, pf, x, job.Attempt); err != nil {
+		return fail(class, err)
+	} else if ok {
+		out.Energy, out.Adopted = e, true
+		pf.writeStatus(out, nil)
+		return out, nil
+	}
+
 	// A file left by an earlier attempt must not pass for this one's.
 	stale := append(slices.Clone(c.Outputs), ExitStatusFile)
 	if c.EnergyFrom != "" && c.EnergyFrom != Stdout && c.EnergyFrom != StderrFile {
@@ -178,10 +192,15 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	if err := writeGeometry(pf, job); err != nil {
 		return fail(SetupFailed, err)
 	}
+	token, err := newRunToken()
+	if err != nil {
+		return fail(SetupFailed, err)
+	}
 	env, err := c.environ(job, dir)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
+	env = append(env, envPrefix+"RUN_TOKEN="+token)
 	path, args, err := c.program()
 	if err != nil {
 		return fail(ProgramMissing, err)
@@ -201,7 +220,15 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	cmd := &exec.Cmd{Path: path, Args: append([]string{path}, args...), Dir: dir, Env: env, Stdout: stdout, Stderr: stderr}
 	ownProcessGroup(cmd)
 	start := time.Now()
+	// The record goes down before the program starts, so that no moment
+	// exists in which a program runs without one: a later run that finds
+	// the record looks for the token's processes, with or without a PID.
+	rec := runRecord{Token: token, Host: hostName(), BootID: bootID(), Started: start, Key: job.Key, Attempt: job.Attempt}
+	if err := pf.writeRecord(rec); err != nil {
+		return fail(SetupFailed, fmt.Errorf("writing %s: %w", RunRecordFile, err))
+	}
 	if err := cmd.Start(); err != nil {
+		_ = pf.root.Remove(RunRecordFile)
 		if errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission) || errors.Is(err, exec.ErrNotFound) {
 			return fail(ProgramMissing, err)
 		}
@@ -209,6 +236,11 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	}
 	done := make(chan error, 1)
 	go func() { done <- cmd.Wait() }()
+	// The record lets a later run find this program if this process dies
+	// before it (SIGKILL): it then waits for it instead of starting a
+	// second copy in the same directory.
+	rec.PID = cmd.Process.Pid
+	_ = pf.writeRecord(rec)
 
 	var timeout <-chan time.Time
 	if c.Timeout > 0 {
@@ -231,8 +263,21 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		stopped, stopErr = Cancelled, ctx.Err()
 		err = stopGroup(cmd, done, grace)
 	}
-	// Whatever the program left running in its group ends with it.
+	// Whatever the program left running in its group ends with it, and so
+	// does every process that still carries its token (a descendant that
+	// left the group with setsid).
 	killGroup(cmd, syscall.SIGKILL)
+	sweepToken(token)
+	rec.Exited, rec.ExitCode = true, -1
+	if cmd.ProcessState != nil {
+		rec.ExitCode = cmd.ProcessState.ExitCode()
+	}
+	if stopped != "" {
+		// Stopped by wellscan: nothing to adopt later.
+		_ = pf.root.Remove(RunRecordFile)
+	} else {
+		_ = pf.writeRecord(rec)
+	}
 	out.Elapsed = time.Since(start)
 	if cmd.ProcessState != nil {
 		out.ExitCode = cmd.ProcessState.ExitCode()
@@ -249,6 +294,18 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(ExitNonZero, fmt.Errorf("%s %s%s", filepath.Base(path), describeExit(cmd.ProcessState), outputTail(out.Stderr, out.Stdout)))
 	}
 
+	e, class, err := c.collect(pf, x)
+	if err != nil {
+		return fail(class, err)
+	}
+	out.Energy = e
+	pf.writeStatus(out, nil)
+	return out, nil
+}
+
+// collect checks the outputs a finished program left and extracts its
+// energy (hartree).
+func (c Config) collect(pf *pointFiles, x parsers.Extractor) (float64, FailureClass, error) {
 	var missing []string
 	for _, o := range c.Outputs {
 		if _, err := pf.root.Stat(o); err != nil {
@@ -267,11 +324,11 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		}
 	}
 	if len(missing) > 0 {
-		return fail(OutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", ")))
+		return 0, OutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", "))
 	}
 	text, err := pf.readCapped(source)
 	if err != nil {
-		return fail(OutputMissing, err)
+		return 0, OutputMissing, err
 	}
 	e, err := x.Extract(text)
 	if err != nil {
@@ -279,14 +336,12 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		if errors.Is(err, parsers.ErrEnergyInvalid) {
 			class = EnergyInvalid
 		}
-		return fail(class, fmt.Errorf("%s: %w", filepath.Base(source), err))
+		return 0, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
 	if err := (parsers.Plausibility{AllowPositive: c.AllowPositive}).Check(e); err != nil {
-		return fail(EnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err))
+		return 0, EnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
-	out.Energy = e
-	pf.writeStatus(out, nil)
-	return out, nil
+	return e, "", nil
 }
 
 // Check looks for the program (or script) and parses the template, so that

@@ -31,6 +31,9 @@ type Job struct {
 	CoordUnits           map[string]string
 	Atoms                []Atom
 	Charge, Multiplicity int
+	// Attempt numbers the tries of the point (1 for the first); a program
+	// left running by a killed run is adopted only for the same attempt.
+	Attempt int
 }
 
 // Number is a value printed into an input. Printed as it is ({{.Coords.r}},
