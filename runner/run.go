@@ -33,6 +33,17 @@ func OpenScan(dir string, spec *planner.Spec, opts OpenOptions) (*Store, error) 
 	}
 	fp, _ := json.Marshal(spec.Fingerprint())
 	if ok, _, diff := compatibleFingerprint(meta.Fingerprint, spec); !ok {
+		if adopted, err := adoptNewSettings(st, diff); adopted || err != nil {
+			if err != nil {
+				st.Close()
+				return nil, err
+			}
+			if err := st.SetSpec(spec.Text(), string(fp)); err != nil {
+				st.Close()
+				return nil, err
+			}
+			return st, nil
+		}
 		st.Close()
 		return nil, fmt.Errorf("%w since this scan started: %s changed, which changes the energy of every point; restore the old settings or start a new scan in another directory",
 			ErrSpecChanged, strings.Join(diff, " and "))
@@ -88,6 +99,8 @@ type Runner struct {
 	host      string // this machine, for result files
 	suffix    string // temporary-file suffix of this process
 	warned    map[string]bool
+	firsts    []Result // the first completions of this run, while none is done (sameFailureStop)
+	firstsOff bool
 }
 
 // Summary is the outcome of Run.
@@ -186,7 +199,9 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 		if err != nil {
 			qe := stopQueue()
 			ferr := r.flush()
-			r.emit(Event{Kind: "interrupt", Round: r.round, Message: "interrupted; points in flight return to planned"})
+			if !errors.Is(err, ErrSameFailure) {
+				r.emit(Event{Kind: "interrupt", Round: r.round, Message: "interrupted; points in flight return to planned"})
+			}
 			_ = r.flush()
 			r.snapshot("interrupted")
 			return r.summary(), errors.Join(fmt.Errorf("runner: %w", err), qe, ferr)
@@ -273,6 +288,10 @@ func (r *Runner) reconcile() error {
 			continue
 		}
 		if rec.State == Failed {
+			r.retryIfAllowed(rec)
+			continue
+		}
+		if rec.State == Dropped {
 			continue
 		}
 		inFlight := rec.State == Submitted || rec.State == Running
@@ -514,6 +533,9 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 			continue
 		case c := <-out:
 			completed(c)
+			if err := r.sameFailureStop(c); err != nil {
+				return err
+			}
 			continue
 		default:
 		}
@@ -542,6 +564,9 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 			dispatched()
 		case c := <-out:
 			completed(c)
+			if err := r.sameFailureStop(c); err != nil {
+				return err
+			}
 		case <-tick.C:
 			r.snapshot("running")
 		case <-ctx.Done():
@@ -592,6 +617,11 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 		}
 		if bestKey != "" {
 			t.GuessLine, t.LineAt = r.guessLine(rec, r.recs[bestKey])
+		}
+		if _, err := os.Stat(t.GuessPath); bestKey != "" && err != nil {
+			// The neighbour's file is gone (points/ deleted under a running
+			// scan): a cold start, not a failure.
+			t.GuessPath, t.GuessLine, t.LineAt = "", nil, 0
 		}
 	}
 	t.Threads = r.Spec.Queue.Threads
@@ -853,7 +883,8 @@ func (r *Runner) apply(rec *PointRecord, res Result) {
 		return
 	}
 	rec.Class, rec.LastError = res.Class, res.Error
-	if !res.Permanent && retriable(res.Class) && rec.Attempts < r.Spec.Queue.Attempts {
+	rec.Permanent = res.Permanent || !retriable(res.Class)
+	if !rec.Permanent && rec.Attempts < r.Spec.Queue.Attempts {
 		rec.State = Planned
 		r.touch(rec)
 		r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("attempt %d of %d failed (%s): %s", rec.Attempts, r.Spec.Queue.Attempts, res.Class, res.Error)})
@@ -898,7 +929,7 @@ func (r *Runner) checkJumps() int {
 			replanned++
 			continue
 		}
-		rec.State = Failed
+		rec.State, rec.Permanent = Failed, true
 		rec.LastError = msg + "; it jumped again when recomputed from a fresh guess, so it stays failed"
 		r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: rec.LastError})
 	}
@@ -940,7 +971,9 @@ func Samples(recs map[string]*PointRecord) []planner.Sample {
 		switch rec.State {
 		case Done:
 			s.Energy = *rec.Energy
-		case Failed:
+		case Failed, Dropped:
+			// A dropped point is a known key the refinement must not
+			// propose again; like a failed one it brackets the curve.
 			s.Failed = true
 		}
 		out = append(out, s)

@@ -290,3 +290,32 @@ func TestRun_CrashTorture_Command(t *testing.T) {
 		}
 	}
 }
+
+// TestCLI_RetryDrop_ExitCodes is issue 19 item 1: a failed point makes
+// run exit 3; dropped, the scan ends with 0 and status lists it; retried,
+// it is computed again (and fails again here, exit 3).
+func TestCLI_RetryDrop_ExitCodes(t *testing.T) {
+	dir := t.TempDir()
+	writeSpec(t, dir, strings.Replace(modelSpec, "offset = -112.7", "offset = -112.7\nfail = [\"r=1.10000\"]", 1))
+	steps := []struct {
+		args []string
+		code int
+		want string
+	}{
+		{[]string{"run", "-q", dir}, 3, "wellscan retry " + dir + " --all"},
+		{[]string{"retry", dir}, 1, "name point keys, --class CLASS or --all"},
+		{[]string{"drop", dir, "r=1.10000", "--reason", "model gap"}, 0, "dropped: r=1.10000"},
+		{[]string{"run", "-q", dir}, 0, "1 dropped"},
+		{[]string{"status", dir}, 0, "dropped 1"},
+		{[]string{"retry", dir, "--class", "error"}, 1, "no point matches"},
+		{[]string{"retry", dir, "r=1.10000"}, 0, "planned again: 1 point(s): r=1.10000"},
+		{[]string{"run", "-q", dir}, 3, "failed: r=1.10000"},
+		{[]string{"retry", dir, "--class", "error"}, 0, "planned again: 1 point(s)"},
+	}
+	for _, s := range steps {
+		code, out, errs := wellscan(t, s.args...)
+		if code != s.code || !strings.Contains(out+errs, s.want) {
+			t.Fatalf("%v: exit %d, want %d with %q\n%s%s", s.args, code, s.code, s.want, out, errs)
+		}
+	}
+}

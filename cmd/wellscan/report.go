@@ -212,7 +212,7 @@ func orDefault(s, d string) string {
 func countNotFinished(ps []report.Point) int {
 	n := 0
 	for _, p := range ps {
-		if p.State != string(runner.Done) && p.State != string(runner.Failed) {
+		if p.State != string(runner.Done) && p.State != string(runner.Failed) && p.State != string(runner.Dropped) {
 			n++
 		}
 	}

@@ -216,8 +216,12 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 	if spec.Title != "" {
 		fmt.Fprintf(w, "scan: %s (%s)\n", sanitizeLine(spec.Title), dir)
 	}
-	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed, %d not run · computed now %d, from earlier runs %d · %s\n",
-		s.Rounds, s.Counts[runner.Done], s.Counts[runner.Failed], s.Counts[runner.Planned]+s.Counts[runner.Running]+s.Counts[runner.Submitted],
+	dropped := ""
+	if n := s.Counts[runner.Dropped]; n > 0 {
+		dropped = fmt.Sprintf(", %d dropped", n)
+	}
+	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed%s, %d not run · computed now %d, from earlier runs %d · %s\n",
+		s.Rounds, s.Counts[runner.Done], s.Counts[runner.Failed], dropped, s.Counts[runner.Planned]+s.Counts[runner.Running]+s.Counts[runner.Submitted],
 		s.Computed, s.Reused, s.Elapsed.Round(time.Millisecond))
 	if s.Status != "" {
 		fmt.Fprintf(w, "refinement: %s — %s\n", s.Status, s.Reason)
@@ -231,6 +235,9 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 			fmt.Fprintf(w, "  [%s]", e.Note)
 		}
 		fmt.Fprintln(w)
+	}
+	if len(s.Failed) > 0 {
+		fmt.Fprintf(w, "retry them: wellscan retry %s --all (or by key, or --class CLASS); take them out: wellscan drop %s KEY...\n", dir, dir)
 	}
 	for i, f := range s.Failed {
 		if i == 5 {

@@ -99,18 +99,22 @@ func (c Config) adopt(ctx context.Context, pf *pointFiles, x parsers.Extractor, 
 	if !found {
 		return 0, false, "", nil
 	}
-	defer pf.root.Remove(RunRecordFile)
+	// The record is not removed here: the program run next (if any)
+	// replaces it before it starts, and an adopted result keeps it, so
+	// that a crash before the result file is written adopts it again.
 	if rec.Host != hostName() || rec.BootID != bootID() {
 		return 0, false, "", nil
 	}
 	for tokenAlive(rec) {
 		if c.Timeout > 0 && time.Since(rec.Started) > c.Timeout {
 			killToken(rec)
+			_ = pf.root.Remove(RunRecordFile)
 			return 0, false, TimedOut, fmt.Errorf("the program an earlier run started for this point (PID %d, %s) was still running after the timeout of %v; it was killed", rec.PID, rec.Started.Format(time.RFC3339), c.Timeout)
 		}
 		select {
 		case <-ctx.Done():
 			killToken(rec)
+			_ = pf.root.Remove(RunRecordFile)
 			return 0, false, Cancelled, ctx.Err()
 		case <-time.After(adoptPoll):
 		}
@@ -123,6 +127,10 @@ func (c Config) adopt(ctx context.Context, pf *pointFiles, x parsers.Extractor, 
 	e, _, cerr := c.collect(pf, x)
 	if cerr != nil {
 		return 0, false, "", nil
+	}
+	if !rec.Exited {
+		rec.Exited, rec.ExitCode = true, 0
+		_ = pf.writeRecord(rec)
 	}
 	return e, true, "", nil
 }
