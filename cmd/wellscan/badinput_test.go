@@ -171,6 +171,11 @@ func badInputs() []badInput {
 			want: []string{"engine.command", "input template: open ", "nope.tmpl: no such file or directory"}},
 		{name: "template/unclosed action", base: "command", files: map[string]string{"point.tmpl": "line 1\nenergy = {{.Key\n"}, code: 1,
 			want: []string{"point.tmpl:3: unclosed action started at ", "point.tmpl:2"}},
+		// Issue 15 item 10: these hung plan and run, or wrote gigabytes.
+		{name: "template/empty loop of 1e11", base: "command", files: map[string]string{"point.tmpl": "{{range 100000000000}}{{end}}energy = -1\n"}, args: []string{"plan", "DIR"}, code: 1,
+			want: []string{"point.tmpl:1:", "more than the 1000000 a template may loop over a constant"}},
+		{name: "template/loop of 1e8 writing", base: "command", files: map[string]string{"point.tmpl": "{{range 100000000}}x{{end}}\n"}, args: []string{"plan", "DIR"}, code: 1,
+			want: []string{"point.tmpl:1:", "runs 1e+08 times"}},
 		{name: "template/edited, then a new point", base: "command", edits: [][2]string{extend}, files: tmpl("{{.Nope}}"), code: 1,
 			// Issue 15 item 4: the template is part of the fingerprint, so
 			// editing it and extending the grid is refused, not mixed.

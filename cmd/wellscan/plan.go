@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -36,7 +37,7 @@ plan with the template's file and line.`,
 			if _, err := newBackend(spec); err != nil {
 				return err
 			}
-			if err := renderInputs(a.stdout, args[0], spec); err != nil {
+			if err := renderInputs(cmd.Context(), a.stdout, args[0], spec); err != nil {
 				return err
 			}
 			printPlan(a.stdout, args[0], spec)
@@ -149,7 +150,7 @@ func atoms1(idx []int) string {
 // renderInputs renders the round-1 inputs of a command scan into
 // DIR/plan-inputs/<key>.in, so that template mistakes show before anything
 // runs. Other engines need nothing rendered.
-func renderInputs(w io.Writer, dir string, spec *planner.Spec) error {
+func renderInputs(ctx context.Context, w io.Writer, dir string, spec *planner.Spec) error {
 	if spec.Engine.Kind != "command" {
 		return nil
 	}
@@ -172,7 +173,7 @@ func renderInputs(w io.Writer, dir string, spec *planner.Spec) error {
 		if err != nil {
 			return fmt.Errorf("point %s: %w", p.Key, err)
 		}
-		text, err := b.Render(runner.Task{Key: p.Key, Values: p.Values, Mol: mol})
+		text, err := b.RenderContext(ctx, runner.Task{Key: p.Key, Values: p.Values, Mol: mol})
 		if err != nil {
 			return fmt.Errorf("point %s: %w", p.Key, err)
 		}

@@ -87,6 +87,11 @@ func (b *Backend) Job(t runner.Task) Job {
 // `wellscan plan`).
 func (b *Backend) Render(t runner.Task) ([]byte, error) { return b.cfg.Render(b.Job(t)) }
 
+// RenderContext is Render bounded by ctx (see Config.RenderContext).
+func (b *Backend) RenderContext(ctx context.Context, t runner.Task) ([]byte, error) {
+	return b.cfg.RenderContext(ctx, b.Job(t))
+}
+
 // Compute implements runner.Backend. A failed run is an Outcome with its
 // failure class and the error text (which quotes the end of the output),
 // so the runner records it per point and decides on retries by class.

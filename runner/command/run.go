@@ -182,7 +182,7 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		}
 	}
 
-	input, err := c.Render(job)
+	input, err := c.RenderContext(ctx, job)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}

@@ -1,7 +1,7 @@
 package command
 
 import (
-	"bytes"
+	"context"
 	"fmt"
 	"math"
 	"os"
@@ -231,6 +231,13 @@ var helpers = template.FuncMap{
 // carry the template's file name and line (text/template's
 // "template: FILE:LINE:COL: …") and the point's key.
 func (c Config) Render(job Job) ([]byte, error) {
+	return c.RenderContext(context.Background(), job)
+}
+
+// RenderContext is Render bounded by ctx (a cancellation, the point's
+// timeout; without a deadline, DefaultRenderTimeout) and by
+// MaxInputBytes.
+func (c Config) RenderContext(ctx context.Context, job Job) ([]byte, error) {
 	tmpl := c.parsed
 	if tmpl == nil {
 		var err error
@@ -244,11 +251,11 @@ func (c Config) Render(job Job) ([]byte, error) {
 			return nil, fmt.Errorf("command: point %s: a coordinate value is not finite", job.Key)
 		}
 	}
-	var buf bytes.Buffer
-	if err := tmpl.Execute(&buf, p); err != nil {
+	out, err := execute(ctx, tmpl, p)
+	if err != nil {
 		return nil, fmt.Errorf("command: point %s: %w", job.Key, err)
 	}
-	return buf.Bytes(), nil
+	return out, nil
 }
 
 // maxTemplateBytes caps the input template read (1 MiB).
@@ -268,6 +275,9 @@ func (c Config) parseTemplate() (*template.Template, error) {
 	tmpl, err := template.New(c.Template).Option("missingkey=error").Funcs(helpers).Parse(string(text))
 	if err != nil {
 		return nil, fmt.Errorf("command: %w", err)
+	}
+	if err := checkLiteralRanges(tmpl); err != nil {
+		return nil, err
 	}
 	return tmpl, nil
 }
