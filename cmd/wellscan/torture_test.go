@@ -153,6 +153,12 @@ func killLoop(t *testing.T, bin, dir string, rng *rand.Rand, kills int, lo, hi t
 			break
 		}
 		killed++
+		if _, err := os.Stat(filepath.Join(dir, runner.DBFile)); os.IsNotExist(err) {
+			// Killed before the store was made: creation is atomic, so
+			// there is nothing, not half a store.
+			t.Logf("kill %d after %v: before the store existed", killed, after.Round(time.Millisecond))
+			continue
+		}
 		checkBolt(t, dir)
 		got, done := storeState(t, dir)
 		nDone := 0
