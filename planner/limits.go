@@ -67,7 +67,7 @@ func checkScanNumbers(sc ScanSpec) (string, string) {
 	for _, f := range []struct {
 		key string
 		v   *float64
-	}{{"from", sc.From}, {"to", sc.To}, {"step", sc.Step}, {"growth", sc.Growth}} {
+	}{{"from", sc.From}, {"to", sc.To}, {"step", sc.Step}, {"growth", sc.Growth}, {"period", sc.Period}} {
 		if f.v != nil && !finite(*f.v) {
 			return f.key, fmt.Sprintf("must be a finite number, got %g", *f.v)
 		}

@@ -187,7 +187,14 @@ func TestRunner_PointsDeletedMidRun(t *testing.T) {
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: b, Queue: local.New(2),
 		OnEvent: func(e runner.Event) {
 			if e.Kind == string(runner.Done) && done.Add(1) == 3 {
-				if err := os.RemoveAll(filepath.Join(dir, runner.PointsDir)); err != nil {
+				// Workers keep writing while it goes: retry until it is gone.
+				var err error
+				for range 20 {
+					if err = os.RemoveAll(filepath.Join(dir, runner.PointsDir)); err == nil {
+						break
+					}
+				}
+				if err != nil {
 					t.Error(err)
 				}
 				close(deleted)

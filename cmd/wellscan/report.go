@@ -137,6 +137,10 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 			return in, err
 		}
 		for _, r := range recs {
+			if r.Damaged != "" {
+				// A record that fails its checksum shows no number.
+				r.Energy, r.State, r.LastError = nil, runner.Failed, r.Damaged+"; the next run repairs it"
+			}
 			in.Points = append(in.Points, report.Point{Key: r.Key, Values: spec.DisplayValues(planner.Point{Values: r.Values}),
 				State: string(r.State), Energy: r.Energy, Attempts: r.Attempts, Error: r.LastError})
 			if r.Backend != "" {
@@ -197,7 +201,7 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	case err != nil:
 		in.FitError = err.Error()
 	default:
-		in.Fit, in.Curve, in.Surface, in.MassModel = res, res.Curve, res.Surface, res.Mass
+		in.Fit, in.Curve, in.Surface, in.MassModel, in.Analysis = res, res.Curve, res.Surface, res.MassModel, res
 	}
 	return in, nil
 }
