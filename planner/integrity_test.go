@@ -3,6 +3,8 @@ package planner
 import (
 	"errors"
 	"fmt"
+	"os"
+	"path/filepath"
 	"runtime"
 	"strings"
 	"testing"
@@ -143,5 +145,48 @@ func TestDecode_MoleculeSizeCap(t *testing.T) {
 	}
 	if d := time.Since(start); d > 5*time.Second {
 		t.Errorf("refusing %d atoms took %v", MaxAtoms+1, d)
+	}
+}
+
+// TestFingerprint_EngineFiles is issue 15 item 4: the contents of the
+// template, the script and a file named in the command are part of the
+// fingerprint, so an edited template is a changed spec.
+func TestFingerprint_EngineFiles(t *testing.T) {
+	dir := t.TempDir()
+	ex := readExample(t, "morse-model")
+	spec := ex[:strings.Index(ex, "[engine]")] + "[engine]\nkind = \"command\"\n[engine.command]\ntemplate = \"p.tmpl\"\ninput = \"p.inp\"\ncommand = [\"awk\", \"-f\", \"prog.awk\", \"p.inp\"]\nenergy = { label = \"e\", unit = \"hartree\" }\n"
+	write := func(name, body string) {
+		t.Helper()
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(body), 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+	write("scan.toml", spec)
+	write("p.tmpl", "point {{.Key}}\n")
+	write("prog.awk", "{ print \"e = -1\" }\n")
+	load := func() Fingerprint {
+		t.Helper()
+		s, err := Load(filepath.Join(dir, "scan.toml"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		return s.Fingerprint()
+	}
+	f0 := load()
+	if f0.Files == "" {
+		t.Fatal("the fingerprint of a command engine has no file hash")
+	}
+	if f1 := load(); f1 != f0 {
+		t.Errorf("fingerprint changed without an edit: %v vs %v", f1, f0)
+	}
+	write("p.tmpl", "point {{.Key}} edited\n")
+	f2 := load()
+	if d := f0.Diff(f2); len(d) != 1 || !strings.Contains(d[0], "input template") {
+		t.Errorf("Diff after editing the template = %q, want the engine's files", d)
+	}
+	write("p.tmpl", "point {{.Key}}\n")
+	write("prog.awk", "{ print \"e = -2\" }\n")
+	if f3 := load(); f3.Files == f0.Files {
+		t.Errorf("editing a file named in the command left the fingerprint unchanged")
 	}
 }

@@ -55,3 +55,18 @@ func TestConfig_Render_Limits(t *testing.T) {
 		t.Errorf("a cancelled render took %v to return", d)
 	}
 }
+
+// TestConfig_Run_OutputCap is issue 15 item 11: a program's output is
+// read for an energy only up to 64 MiB; a larger one fails the point with
+// a message instead of being read whole into memory.
+func TestConfig_Run_OutputCap(t *testing.T) {
+	if testing.Short() {
+		t.Skip("writes 70 MB")
+	}
+	c := morseConfig(t)
+	c.Args = []string{"head", "-c", "70000000", "/dev/zero"}
+	out, err := c.Run(t.Context(), diatomic(t.TempDir(), 1.13))
+	if out.Class != OutputMissing || err == nil || !strings.Contains(err.Error(), "more than the 67108864 read for an energy") {
+		t.Fatalf("Run = %v (%s), want output-missing naming the 64 MiB cap", err, out.Class)
+	}
+}
