@@ -284,3 +284,11 @@ func renameInScan(dir, oldRel, newRel string) error {
 	defer f.Close()
 	return f.Rename(oldRel, newRel)
 }
+
+// Remove implements the report destination: it removes name, if present.
+func (d ReportDest) Remove(name string) error {
+	if err := d.FS.Remove(filepath.Join(d.Rel, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+		return err
+	}
+	return nil
+}

@@ -183,34 +183,6 @@ func orWord(s, d string) string {
 	return s
 }
 
-// adoptNewSettings accepts a spec whose energy-relevant settings changed
-// when no point of the scan has finished (a wrong program path that failed
-// every point, a basis set fixed before the first result): nothing
-// computed is mixed with anything else. Failed points are planned again
-// with fresh attempts, since they failed under the old settings. It
-// reports whether it accepted the change.
-func adoptNewSettings(st *Store, diff []string) (bool, error) {
-	recs, err := st.Points()
-	if err != nil {
-		return false, err
-	}
-	for _, r := range recs {
-		if r.State == Done {
-			return false, nil
-		}
-	}
-	now := time.Now()
-	var changed []PointRecord
-	for _, r := range recs {
-		if r.State == Failed {
-			r.State, r.Attempts, r.Permanent, r.Jumps = Planned, 0, false, 0
-			changed = append(changed, r)
-		}
-	}
-	ev := Event{Time: now, Kind: "resume", Message: fmt.Sprintf("%s changed before any point finished; the new settings apply, and %d failed point(s) are planned again with fresh attempts", strings.Join(diff, " and "), len(changed))}
-	return true, st.Commit(changed, nil, []Event{ev})
-}
-
 // sameFailureCount is how many of a run's first completions must fail
 // the same deterministic way before the round stops: enough that it is
 // not one bad point, few enough to save the rest of the grid.
