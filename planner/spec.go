@@ -39,7 +39,8 @@ type Spec struct {
 	coords []Coordinate
 	axes   [][]float64 // initial grid per coordinate, in spec units, rounded to key precision
 	refine RefineSettings
-	notes  []string // remarks that are not errors (Notes)
+	files  *fileHashes // hash of the files the engine reads, computed once
+	notes  []string    // remarks that are not errors (Notes)
 }
 
 // MoleculeSpec is the [molecule] table.
@@ -240,7 +241,10 @@ func Decode(data []byte, filename string) (*Spec, error) {
 var tomlErrRE = regexp.MustCompile(`^toml: line (\d+) \(last key "([^"]*)"\): (.*)$`)
 
 func decode(data []byte, filename, dir string) (*Spec, error) {
-	s := &Spec{file: filename, dir: dir, text: append([]byte(nil), data...)}
+	if err := checkTOMLShape(data, filename); err != nil {
+		return nil, err
+	}
+	s := &Spec{file: filename, dir: dir, text: append([]byte(nil), data...), files: &fileHashes{}}
 	md, err := toml.NewDecoder(bytes.NewReader(data)).Decode(s)
 	if err != nil {
 		var pe toml.ParseError
@@ -454,7 +458,13 @@ func (s *Spec) Fingerprint() Fingerprint {
 		}
 	}
 	eng = withoutKey(eng, "model", "delay")
+	fh := s.files
+	if fh == nil {
+		fh = &fileHashes{}
+	}
+	fh.once.Do(func() { fh.sum = hashFiles(engineFiles(eng, s.dir), s.dir) })
 	return Fingerprint{
+		Files: fh.sum,
 		Molecule: h(struct {
 			Atoms        []atom
 			Charge, Mult int
@@ -486,6 +496,10 @@ type Fingerprint struct {
 	Molecule    string `json:"molecule"`
 	Coordinates string `json:"coordinates"`
 	Engine      string `json:"engine"`
+	// Files hashes the contents of the files an external program's
+	// energies depend on (template, script, files named in its arguments);
+	// empty for engines that read none.
+	Files string `json:"files,omitempty"`
 }
 
 // Diff names the parts that differ between two fingerprints, empty if
@@ -501,11 +515,20 @@ func (f Fingerprint) Diff(g Fingerprint) []string {
 	if f.Engine != g.Engine {
 		d = append(d, "engine settings")
 	}
+	if f.Files != g.Files {
+		d = append(d, "the contents of the engine's files (input template, script or a file named in the command)")
+	}
 	return d
 }
 
 // String is the fingerprint as one token.
-func (f Fingerprint) String() string { return f.Molecule + "-" + f.Coordinates + "-" + f.Engine }
+func (f Fingerprint) String() string {
+	s := f.Molecule + "-" + f.Coordinates + "-" + f.Engine
+	if f.Files != "" {
+		s += "-" + f.Files
+	}
+	return s
+}
 
 func sortedKeys[M ~map[string]V, V any](m M) []string {
 	ks := make([]string, 0, len(m))

@@ -204,6 +204,9 @@ func checkTable(name string, tab *parsers.Table, xcol, ecol int, o *fitOptions) 
 
 // fitTable reads o.table, converts it to atomic units and fits it.
 func fitTable(ctx context.Context, o *fitOptions) (*fit.Result, error) {
+	if err := planner.CheckRegular(o.table); err != nil {
+		return nil, err
+	}
 	f, err := os.Open(o.table)
 	if err != nil {
 		return nil, fmt.Errorf("fit: %w", err)

@@ -54,6 +54,9 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	if err := cfg.Check(); err != nil {
 		return nil, fmt.Errorf("%s: engine.command: %w", spec.File(), err)
 	}
+	if err := cfg.Load(); err != nil {
+		return nil, fmt.Errorf("%s: engine.command: %w", spec.File(), err)
+	}
 	return &Backend{cfg: cfg, spec: spec, title: spec.Title}, nil
 }
 
@@ -68,7 +71,7 @@ func (b *Backend) Job(t runner.Task) Job {
 	coords := b.spec.Coordinates()
 	disp := b.spec.DisplayValues(planner.Point{Key: t.Key, Values: t.Values})
 	job := Job{Dir: t.Dir, Title: b.title, Key: t.Key, Coords: map[string]float64{}, CoordUnits: map[string]string{},
-		Charge: t.Mol.Charge, Multiplicity: t.Mol.Multiplicity}
+		Charge: t.Mol.Charge, Multiplicity: t.Mol.Multiplicity, Attempt: t.Attempt}
 	for i, c := range coords {
 		job.Coords[c.Name] = disp[i]
 		unit := "degree"
@@ -86,6 +89,11 @@ func (b *Backend) Job(t runner.Task) Job {
 // Render renders the input of one task without running anything (for
 // `wellscan plan`).
 func (b *Backend) Render(t runner.Task) ([]byte, error) { return b.cfg.Render(b.Job(t)) }
+
+// RenderContext is Render bounded by ctx (see Config.RenderContext).
+func (b *Backend) RenderContext(ctx context.Context, t runner.Task) ([]byte, error) {
+	return b.cfg.RenderContext(ctx, b.Job(t))
+}
 
 // Compute implements runner.Backend. A failed run is an Outcome with its
 // failure class and the error text (which quotes the end of the output),

@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"text/template"
 	"time"
 
 	"wellscan/parsers"
@@ -61,6 +62,22 @@ type Config struct {
 	// AllowPositive accepts a positive extracted energy (a relative
 	// energy); otherwise a positive value fails the point as invalid.
 	AllowPositive bool
+
+	// parsed is the template as read once by [Config.Load] (nil: Render
+	// reads the file each time). A scan reads it once, so that every
+	// point of a run uses the text its fingerprint hashed.
+	parsed *template.Template
+}
+
+// Load reads and parses the template once; later renders use that text
+// even if the file changes.
+func (c *Config) Load() error {
+	t, err := c.parseTemplate()
+	if err != nil {
+		return err
+	}
+	c.parsed = t
+	return nil
 }
 
 // ResolvedArg is one argument of the command that named a file in the
@@ -83,6 +100,19 @@ const (
 	ExitStatusFile = "exit-status"
 	GeometryFile   = "point.xyz"
 )
+
+// RunRecordFile is the record of the program running for a point (see
+// the runner's process records); ResultFile is the runner's result file.
+const (
+	RunRecordFile = "running.json"
+	ResultFile    = "result.json"
+)
+
+// ReservedNames lists the file names wellscan itself writes in a point's
+// directory; no input, output or energy file may take one.
+func ReservedNames() []string {
+	return []string{StdoutFile, StderrFile, ExitStatusFile, GeometryFile, RunRecordFile, ResultFile}
+}
 
 // Stdout is the EnergyFrom value that reads the energy from standard output.
 const Stdout = "stdout"
@@ -136,9 +166,9 @@ func (c Config) Validate() error {
 	if c.KillGrace < 0 {
 		return fmt.Errorf("command: kill grace %v is negative", c.KillGrace)
 	}
-	reserved := []string{StdoutFile, StderrFile, ExitStatusFile, GeometryFile}
-	if slices.Contains(reserved, c.InputName) {
-		return fmt.Errorf("command: input file name %q is one wellscan writes itself (%s)", c.InputName, strings.Join(reserved, ", "))
+	reserved := ReservedNames()
+	if slices.Contains(reserved, c.InputName) || strings.HasPrefix(c.InputName, "result.") {
+		return fmt.Errorf("command: input: file name %q is one wellscan writes itself (%s, result.*); the rendered input would overwrite it or be overwritten", c.InputName, strings.Join(reserved, ", "))
 	}
 	for _, o := range c.Outputs {
 		if err := checkFileName("output", o); err != nil {

@@ -82,7 +82,12 @@ func TestDecodeConfig_Errors(t *testing.T) {
 		{"energy no group", func(m map[string]any) { m["energy"] = map[string]any{"pattern": `E = (\S+)`, "unit": "eV"} }, "has no group named energy"},
 		{"no template", func(m map[string]any) { delete(m, "template") }, "command: scan.toml: [engine]: no input template"},
 		{"input escapes", func(m map[string]any) { m["input"] = "../point.inp" }, `input file name "../point.inp" must be a relative path inside`},
-		{"input reserved", func(m map[string]any) { m["input"] = "stdout" }, `input file name "stdout" is one wellscan writes itself`},
+		{"input reserved", func(m map[string]any) { m["input"] = "stdout" }, `input: file name "stdout" is one wellscan writes itself`},
+		// Issue 15 item 2: the rendered input would be overwritten by the
+		// result file (and the result by the next render).
+		{"input is the result file", func(m map[string]any) { m["input"] = "result.json" }, `input: file name "result.json" is one wellscan writes itself`},
+		{"input is a kept result", func(m map[string]any) { m["input"] = "result.energy-jump-1.json" }, `input: file name "result.energy-jump-1.json" is one wellscan writes itself`},
+		{"input is the run record", func(m map[string]any) { m["input"] = "running.json" }, `input: file name "running.json" is one wellscan writes itself`},
 		{"shell without script", func(m map[string]any) { m["shell"] = true }, "shell is set but no script is named"},
 		{"shell with command", func(m map[string]any) { m["shell"], m["script"] = true, "run.sh" }, "shell is set, so command must be empty"},
 		{"script without shell", func(m map[string]any) { delete(m, "command"); m["script"] = "run.sh" }, "script is named but shell is not set"},
