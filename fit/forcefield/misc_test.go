@@ -1,0 +1,109 @@
+package forcefield
+
+import (
+	"math"
+	"path/filepath"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+)
+
+func TestRotationalConstants_WorkedAcetaldehyde(t *testing.T) {
+	g := readNumbers(t, filepath.Join("testdata", "worked-geom", "acetaldehyde.dat"))
+	mass := map[int]float64{1: 1.007825, 6: 12, 8: 15.994915} // the example's hint
+	var pos [][3]float64
+	var m []float64
+	for a := range int(g[0]) {
+		m = append(m, mass[int(g[1+4*a])])
+		pos = append(pos, [3]float64{g[2+4*a], g[3+4*a], g[4+4*a]})
+	}
+	mom, _ := principal(pos, m)
+	want := [3]float64{31.964078, 178.649562, 199.371127} // acetaldehyde_out.txt, amu·bohr²
+	for k := range 3 {
+		if !scalar.EqualWithinAbs(mom[k], want[k], 1e-6) { // printed to 6 decimals
+			t.Errorf("I%d = %.6f, want %.6f", k, mom[k], want[k])
+		}
+	}
+	h := &Harmonic{RotCm1: RotationalConstantsCm1(pos, m)}
+	mhz := h.RotMHz()
+	wantMHz := [3]float64{56461.542, 10102.130, 9052.169} // acetaldehyde_out.txt, MHz
+	for k := range 3 {
+		// 0.02 MHz: the example used older constants (relative ≈ 3e-7).
+		if !scalar.EqualWithinAbs(mhz[k], wantMHz[k], 0.02) {
+			t.Errorf("rotational constant %d = %.3f MHz, want %.3f", k, mhz[k], wantMHz[k])
+		}
+	}
+}
+
+func TestIntensities_ChargedDiatomic(t *testing.T) {
+	// Point charges ±δ on a diatomic: ∂μ/∂Q = δ/√μ, so A = 974.88 δ²/μ km/mol
+	// with μ in amu (double-harmonic textbook result, WDC 1955 §7-8; the
+	// factor N_A e²/(12 ε0 c² m_u) ≈ 974.88 km/mol, from memory).
+	if !scalar.EqualWithinAbs(IntensityKmPerMol, 974.88, 0.01) {
+		t.Errorf("IntensityKmPerMol = %.4f, want ≈ 974.88", IntensityKmPerMol)
+	}
+	re, k := 2.4, 0.3
+	masses := []float64{mH, 34.96885268}
+	pos := [][3]float64{{0, 0, 0}, {0, 0, re}}
+	v := func(x []float64) float64 { d := dist(x, 0, 1) - re; return 0.5 * k * d * d }
+	h, err := Analyze(pos, masses, fdHessian(v, flat(pos), 1e-4))
+	if err != nil {
+		t.Fatal(err)
+	}
+	delta := 0.2
+	dmu := make([][3]float64, 6)
+	for kk := range 3 {
+		dmu[kk][kk] = delta
+		dmu[3+kk][kk] = -delta
+	}
+	a, err := h.Intensities(dmu)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mu := masses[0] * masses[1] / (masses[0] + masses[1])
+	want := IntensityKmPerMol * delta * delta / mu
+	if !scalar.EqualWithinRel(a[0], want, 1e-12) { // same formula, rounding only
+		t.Errorf("A = %.6f km/mol, want %.6f", a[0], want)
+	}
+	if _, err := h.Intensities(dmu[:3]); err == nil {
+		t.Error("short derivative list accepted")
+	}
+}
+
+func TestAnalyze_BadInput(t *testing.T) {
+	pos := [][3]float64{{0, 0, 0}, {0, 0, 2}}
+	for _, tc := range []struct {
+		name   string
+		masses []float64
+		hess   []float64
+	}{
+		{"size", []float64{1, 1}, make([]float64, 35)},
+		{"mass", []float64{1, 0}, make([]float64, 36)},
+		{"nan", []float64{1, 1}, append([]float64{math.NaN()}, make([]float64, 35)...)},
+	} {
+		if _, err := Analyze(pos, tc.masses, tc.hess); err == nil {
+			t.Errorf("%s: no error", tc.name)
+		}
+	}
+	if _, err := Analyze(pos[:1], []float64{1}, make([]float64, 9)); err == nil {
+		t.Error("single atom: no error")
+	}
+}
+
+func TestAnalyze_ImaginaryMode(t *testing.T) {
+	// A diatomic at a maximum of its potential: one imaginary mode, flagged,
+	// left out of the ZPE.
+	re := 2.0
+	pos := [][3]float64{{0, 0, 0}, {0, 0, re}}
+	v := func(x []float64) float64 { d := dist(x, 0, 1) - re; return -0.1 * d * d }
+	h, err := Analyze(pos, []float64{1, 1}, fdHessian(v, flat(pos), 1e-4))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !h.Imaginary[0] || h.WavenumbersCm1[0] >= 0 || h.ZPECm1 != 0 {
+		t.Errorf("imaginary %v ω %.3f ZPE %.3f", h.Imaginary[0], h.WavenumbersCm1[0], h.ZPECm1)
+	}
+	if _, err := h.StepBohr(0, 0.1); err == nil {
+		t.Error("step along an imaginary mode accepted")
+	}
+}
