@@ -57,6 +57,9 @@ func (s *Spec) DisplayValues(p Point) []float64 {
 
 // ParseKey rebuilds the point a key stands for.
 func (s *Spec) ParseKey(key string) (Point, error) {
+	if s.ff != nil {
+		return s.ffParseKey(key)
+	}
 	parts := strings.Split(key, ",")
 	if len(parts) != len(s.coords) {
 		return Point{}, fmt.Errorf("planner: key %q: expected %d coordinate values", key, len(s.coords))
@@ -92,6 +95,9 @@ func roundTo(x float64, digits int) float64 {
 // InitialPoints is round 1: the grid of every coordinate (a product grid
 // for two coordinates), sorted by key values.
 func (s *Spec) InitialPoints() []Point {
+	if s.ff != nil {
+		return s.ffInitialPoints()
+	}
 	var pts []Point
 	switch len(s.axes) {
 	case 1:

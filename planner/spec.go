@@ -28,6 +28,9 @@ type Spec struct {
 	Engine        EngineSpec   `toml:"engine"`
 	Queue         QueueSpec    `toml:"queue"`
 	Checks        ChecksSpec   `toml:"checks"`
+	// ForceFieldInput is the [forcefield] table (see forcefield.go); a
+	// spec has either [[scan]] blocks or [forcefield].
+	ForceFieldInput ForceFieldSpec `toml:"forcefield"`
 
 	// Filled by Decode.
 	file   string // file name used in messages
@@ -39,6 +42,7 @@ type Spec struct {
 	coords []Coordinate
 	axes   [][]float64 // initial grid per coordinate, in spec units, rounded to key precision
 	refine RefineSettings
+	ff     *FF // nil for a coordinate scan
 }
 
 // MoleculeSpec is the [molecule] table.
@@ -446,13 +450,30 @@ func (s *Spec) Fingerprint() Fingerprint {
 		}
 	}
 	eng = withoutKey(eng, "model", "delay")
+	if s.ff != nil {
+		cs = nil
+		return Fingerprint{
+			Molecule: h(struct {
+				Atoms        []atom
+				Charge, Mult int
+				Masses       [][]float64
+			}{atoms, s.mol.Charge, s.mol.Multiplicity, ffMasses(s.ff)}),
+			Coordinates: h(struct {
+				Order         string
+				Hess, Quartic float64
+				Ops, Basis    int
+			}{s.ff.Order, s.ff.HessStep, s.ff.QuarticStep, len(s.ff.Ops), len(s.ff.Basis)}),
+			Engine: h(eng),
+		}
+	}
 	return Fingerprint{
 		Molecule: h(struct {
 			Atoms        []atom
 			Charge, Mult int
 		}{atoms, s.mol.Charge, s.mol.Multiplicity}),
 		Coordinates: h(cs),
-		Engine:      h(eng),
+		// a force-field job hashes its stage-1 plan instead (below)
+		Engine: h(eng),
 	}
 }
 
