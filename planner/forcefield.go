@@ -206,16 +206,13 @@ func (s *Spec) buildForceField() error {
 	ref := s.mol.Clone()
 	ff.Ops = []SymOp{identityOp(len(ref.Atoms), centreOfMass(ref, parent.Masses))}
 	if useSym {
+		// Energies do not depend on the masses, so geometric equivalence
+		// uses every operation that preserves the parent's masses; each
+		// isotopologue's own modes use the subset preserving its masses.
 		ops := findSymOps(ref, parent.Masses, tol)
-		for _, iso := range ff.Isos[1:] {
-			ops = keepMassPreserving(ops, iso.Masses)
-		}
 		ref, ff.SymShift = symmetrise(ref, ops)
 		// Operations of the exact, symmetrised reference.
 		ff.Ops = findSymOps(ref, parent.Masses, 1e-8)
-		for _, iso := range ff.Isos[1:] {
-			ff.Ops = keepMassPreserving(ff.Ops, iso.Masses)
-		}
 	}
 	ff.Ref = ref
 	basis, irrep, chars, linear, err := symmetryAdaptedBasis(ref, parent.Masses, ff.Ops)
@@ -497,7 +494,11 @@ func (f *FF) modes(hm [][]float64, iso Isotopologue) (FFModes, error) {
 	basis := f.Basis
 	if !sameMasses(pm, iso.Masses) {
 		var err error
-		basis, _, _, _, err = symmetryAdaptedBasis(f.Ref, iso.Masses, f.Ops)
+		ops := keepMassPreserving(f.Ops, iso.Masses)
+		if len(ops) == 0 {
+			ops = []SymOp{identityOp(len(pm), f.Ops[0].Com)}
+		}
+		basis, _, _, _, err = symmetryAdaptedBasis(f.Ref, iso.Masses, ops)
 		if err != nil {
 			return FFModes{}, err
 		}
