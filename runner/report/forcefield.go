@@ -531,8 +531,12 @@ func NewFFFigure(r *FFReport) (*FFFigure, error) {
 	f := &FFFigure{}
 	for _, iso := range r.Isotopologues {
 		p := plot.New()
-		p.Title.Text = fmt.Sprintf("%s %s (%s): stick spectrum", r.Formula, iso.Name, r.Method)
-		p.X.Label.Text = "wavenumber / cm⁻¹"
+		name := r.Formula
+		if iso.Name != "parent" {
+			name = iso.Name + " (isotopologue of " + r.Formula + ")"
+		}
+		p.Title.Text = fmt.Sprintf("%s, %s: stick spectrum", name, r.Method)
+		p.X.Label.Text = "wavenumber / cm-1"
 		p.Y.Label.Text = "intensity / (km/mol)"
 		if !r.Intensities {
 			p.Y.Label.Text = "(no intensities: unit sticks)"
@@ -600,9 +604,9 @@ func NewFFFigure(r *FFReport) (*FFFigure, error) {
 			legend("VPT2 overtones and combinations (position only)", colOver, true)
 		}
 		p.X.Min, p.X.Max = 0, 100*math.Ceil(xmax*1.05/100)
-		p.Y.Min, p.Y.Max = 0, top*1.15
+		// headroom above the tallest stick for the legend (top right)
+		p.Y.Min, p.Y.Max = 0, top*1.45
 		p.Legend.Top = true
-		p.Legend.Left = true
 		f.plots = append(f.plots, p)
 	}
 	return f, nil
