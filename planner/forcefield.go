@@ -35,8 +35,10 @@ type ForceFieldSpec struct {
 	// limit of small steps).
 	HessianStep float64 `toml:"hessian_step"`
 	// QuarticStep is the stage-2 step in dimensionless normal coordinates
-	// (default 0.3); mode i moves Q_i = step/√ω_i, i.e. each mode's
-	// mass-weighted step scales with 1/√ω_i.
+	// (default 0.1); mode i moves Q_i = step/√ω_i, i.e. each mode's
+	// mass-weighted step scales with 1/√ω_i. For water at RHF/6-31G* the
+	// fundamentals follow O(step²) and sit within 0.25 cm⁻¹ of the
+	// small-step limit at 0.1 (2.2 cm⁻¹ at 0.3, 6 cm⁻¹ at 0.5).
 	QuarticStep float64 `toml:"quartic_step"`
 	// Symmetry (default true) computes each set of symmetry-equivalent
 	// displaced geometries once.
@@ -150,7 +152,7 @@ func (s *Spec) buildForceField() error {
 			return s.errAt("forcefield.quartic_step", "%g (dimensionless normal coordinate) is outside 0.01 … 1", f.QuarticStep)
 		}
 	} else {
-		ff.QuarticStep = 0.3
+		ff.QuarticStep = 0.1
 	}
 	tol := f.SymmetryTolerance
 	if s.meta.IsDefined("forcefield", "symmetry_tolerance") {
