@@ -191,3 +191,11 @@ func printEndForceField(w io.Writer, dir string, spec *planner.Spec) {
 	_ = report.WriteFFMarkdown(w, rep)
 	fmt.Fprintf(w, "files: %s\n", filepath.Join(dir, "forcefield"))
 }
+
+// notForceField refuses a curve command on a force-field job.
+func notForceField(spec *planner.Spec, dir, cmd string) error {
+	if spec.ForceField() == nil {
+		return nil
+	}
+	return usageError{fmt.Errorf("%s is a force-field job ([forcefield] in its scan.toml), not a coordinate scan: wellscan %s does not apply; use wellscan forcefield %s", dir, cmd, dir)}
+}

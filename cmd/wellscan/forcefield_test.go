@@ -181,6 +181,11 @@ func TestForcefield_WaterRHF631GStar(t *testing.T) {
 	if !strings.Contains(out, "quartic force field complete") || !strings.Contains(out, "points: 36 done") {
 		t.Errorf("run summary:\n%s", out)
 	}
+	for _, args := range [][]string{{"report", dir}, {"fit", dir}, {"export", dir, "--format", "csv"}} {
+		if code, _, errs := wellscan(t, args...); code == 0 || !strings.Contains(errs, "force-field job") {
+			t.Errorf("%v on a force-field job: exit %d, %q", args, code, errs)
+		}
+	}
 	code, js, errs := wellscan(t, "forcefield", "--json", dir)
 	if code != 0 {
 		t.Fatalf("forcefield: exit %d: %s", code, errs)

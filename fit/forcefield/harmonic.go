@@ -39,7 +39,11 @@ type Harmonic struct {
 	// Displacement holds each mode's Cartesian displacement vector
 	// l_i = M^{-1/2} L_i normalised to unit length (dimensionless).
 	Displacement [][]float64
-	// ReducedMassAmu is 1/|M^{-1/2} L_i|² (amu).
+	// ReducedMassAmu is 1/|M^{-1/2} L_i|² (amu): the mass that goes with
+	// the normalised Cartesian displacement (for a homonuclear diatomic
+	// this is m, not the diatomic's m/2; common practice in normal-mode
+	// tables), so that ForceConstMdynPerA = ω² μ is the force constant
+	// along that displacement.
 	ReducedMassAmu []float64
 	// ForceConstMdynPerA is ω_i² μ_i in mdyn/Å (negative for imaginary
 	// modes).
