@@ -1080,14 +1080,6 @@ func dotN(a, b []float64) float64 {
 	return s
 }
 
-func ffMasses(f *FF) [][]float64 {
-	var out [][]float64
-	for _, iso := range f.Isos {
-		out = append(out, iso.Masses)
-	}
-	return out
-}
-
 // ffParseKey rebuilds a stage-1 point from its key; stage-2 keys depend on
 // stage-1 results and are not rebuilt from the key alone.
 func (s *Spec) ffParseKey(key string) (Point, error) {

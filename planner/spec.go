@@ -451,13 +451,14 @@ func (s *Spec) Fingerprint() Fingerprint {
 	}
 	eng = withoutKey(eng, "model", "delay")
 	if s.ff != nil {
-		cs = nil
+		// Only the parent's masses shape the stage-1 displacements; an
+		// isotopologue added later only adds its own stage-2 points.
 		return Fingerprint{
 			Molecule: h(struct {
 				Atoms        []atom
 				Charge, Mult int
 				Masses       [][]float64
-			}{atoms, s.mol.Charge, s.mol.Multiplicity, ffMasses(s.ff)}),
+			}{atoms, s.mol.Charge, s.mol.Multiplicity, [][]float64{s.ff.Isos[0].Masses}}),
 			Coordinates: h(struct {
 				Order         string
 				Hess, Quartic float64

@@ -322,3 +322,23 @@ func TestForcefield_CrashTorture(t *testing.T) {
 	}
 	t.Logf("largest difference between the interrupted and uninterrupted analyses: %.2e cm⁻¹", worst)
 }
+
+func TestForcefield_AddIsotopologueLater(t *testing.T) {
+	// A finished job takes a new quartic isotopologue: its stage-2 points
+	// are computed, nothing else is recomputed.
+	dir := t.TempDir()
+	text := strings.Replace(ffSpecText(2), "[[forcefield.isotopologue]]\nname = \"D2O\"", "[[forcefield.isotopologue]]\nname = \"D2O\"\nquartic = false", 1)
+	writeSpec(t, dir, text)
+	if code, out, errs := wellscan(t, "run", "-q", dir); code != 0 || !strings.Contains(out, "computed now 36") {
+		t.Fatalf("first run: exit %d: %s\n%s", code, errs, out)
+	}
+	writeSpec(t, dir, strings.Replace(text, "quartic = false", "quartic = true", 1))
+	code, out, errs := wellscan(t, "run", "-q", dir)
+	// C2v D2O: 22 of its 32 stage-2 displacements (same count as H2O)
+	if code != 0 || !strings.Contains(out, "points: 58 done") || !strings.Contains(out, "computed now 22,") {
+		t.Fatalf("second run: exit %d: %s\n%s", code, errs, out)
+	}
+	if !strings.Contains(out, "## D2O") || strings.Count(out, "VPT2 (quartic step") != 2 {
+		t.Errorf("second run lacks the D2O VPT2 table:\n%s", out)
+	}
+}

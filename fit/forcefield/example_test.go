@@ -12,7 +12,7 @@ import (
 // displacement (m_H for H2, not the diatomic's m_H/2).
 func ExampleAnalyze() {
 	pos := [][3]float64{{0, 0, 0}, {0, 0, 1.4}} // bohr
-	k := 0.5                                   // hartree/bohr²
+	k := 0.5                                    // hartree/bohr²
 	hess := make([]float64, 36)
 	for _, e := range [][3]float64{{2, 2, k}, {5, 5, k}, {2, 5, -k}, {5, 2, -k}} {
 		hess[int(e[0])*6+int(e[1])] = e[2]
