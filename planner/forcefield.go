@@ -203,9 +203,6 @@ func (s *Spec) buildForceField() error {
 		}
 		ff.Isos = append(ff.Isos, iso)
 	}
-	if s.Queue.Kind != "" && s.Queue.Kind != "local" {
-		return s.errAt("queue.kind", "force-field jobs run on the local queue for now (queue.kind = \"local\"); %q is not supported yet", s.Queue.Kind)
-	}
 	useSym := f.Symmetry == nil || *f.Symmetry
 	ref := s.mol.Clone()
 	ff.Ops = []SymOp{identityOp(len(ref.Atoms), centreOfMass(ref, parent.Masses))}
