@@ -192,3 +192,39 @@ func TestCartesianHessian_RoundTrip(t *testing.T) {
 		}
 	}
 }
+
+func TestZeta_PlanarSumRule(t *testing.T) {
+	// For a planar molecule of N atoms, the Coriolis constants about the
+	// axis perpendicular to the plane obey Σ_{i<j} (ζ^c_ij)² = N − 2, and
+	// those about the in-plane axes vanish between in-plane modes (Meal &
+	// Polo sum rules, J. Chem. Phys. 24, 1119 (1956); for a bent XY2 this
+	// is ζ13² + ζ23² = 1). Also ζ is antisymmetric.
+	pos, v := waterModel()
+	for _, masses := range [][]float64{{mO, mH, mH}, {mO, mH, mD}} {
+		h, err := Analyze(pos, masses, fdHessian(v, flat(pos), 1e-4))
+		if err != nil {
+			t.Fatal(err)
+		}
+		z := h.Zeta()
+		// the axis perpendicular to the plane has the largest moment (C)
+		s := 0.0
+		for i := range 3 {
+			for j := range 3 {
+				if !scalar.EqualWithinAbs(z[2][i][j], -z[2][j][i], 1e-12) {
+					t.Errorf("ζ not antisymmetric at %d,%d", i, j)
+				}
+				if j > i {
+					s += z[2][i][j] * z[2][i][j]
+				}
+				for a := range 2 {
+					if math.Abs(z[a][i][j]) > 1e-9 { // rounding of the modes
+						t.Errorf("in-plane axis %d: ζ_%d%d = %.3g, want 0", a, i+1, j+1, z[a][i][j])
+					}
+				}
+			}
+		}
+		if !scalar.EqualWithinAbs(s, 1, 1e-9) { // N − 2 = 1 for a triatomic
+			t.Errorf("masses %v: Σ (ζ^c_ij)² = %.12f, want 1", masses, s)
+		}
+	}
+}

@@ -1,0 +1,115 @@
+package report
+
+import (
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+
+	"wellscan/fit/forcefield"
+	"wellscan/planner"
+)
+
+const ffModelSpec = `[molecule]
+geometry = """
+O  0.0  0.0    0.0
+H  0.0  0.757 -0.586
+H  0.0 -0.757 -0.586
+"""
+[engine]
+kind = "builtin"
+method = "rhf"
+basis = "sto-3g"
+[forcefield]
+order = "quartic"
+[[forcefield.isotopologue]]
+name = "D2O"
+isotopes = { 2 = "2H", 3 = "2H" }
+quartic = true
+[[forcefield.isotopologue]]
+name = "HDO"
+isotopes = { 2 = "2H" }
+`
+
+// Point charges of the model dipole (e), O, H, H: neutral.
+var ffCharges = []float64{-0.7, 0.35, 0.35}
+
+// ffModel is a stand-in engine: Morse O–H terms and a harmonic H–H term
+// (invented constants), with the dipole of fixed point charges.
+func ffModel(m planner.Molecule) (float64, [3]float64) {
+	e := 0.0
+	var mu [3]float64
+	for i, a := range m.Atoms {
+		for k := range 3 {
+			mu[k] += ffCharges[i] * a.Pos[k]
+		}
+		for _, b := range m.Atoms[i+1:] {
+			r := planner.Distance(a.Pos, b.Pos)
+			if a.Element.Z == 1 && b.Element.Z == 1 {
+				e += 0.5 * 0.04 * (r - 2.86) * (r - 2.86)
+				continue
+			}
+			x := 1 - math.Exp(-1.1*(r-1.81))
+			e += 0.15 * x * x
+		}
+	}
+	return e, mu
+}
+
+func TestAnalyzeForceField_PointChargeIntensities(t *testing.T) {
+	// With a point-charge dipole, ∂μ/∂x_a = q_a exactly, so a mode with unit
+	// Cartesian displacement d and reduced mass μ has
+	// A = 974.88 |Σ_a q_a d_a|²/μ km/mol (double harmonic, WDC 1955 §7-8):
+	// an independent check of the dipole derivatives the job assembles
+	// from symmetry-mapped displacements, for every isotopologue.
+	spec, err := planner.Decode([]byte(ffModelSpec), "scan.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var samples []FFSample
+	var ps []planner.Sample
+	compute := func(pts []planner.Point) {
+		for _, p := range pts {
+			mol, err := spec.Geometry(p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			e, mu := ffModel(mol)
+			samples = append(samples, FFSample{Key: p.Key, Energy: e, Dipole: &mu})
+			ps = append(ps, planner.Sample{Key: p.Key, Energy: e})
+		}
+	}
+	compute(spec.InitialPoints())
+	plan := planner.Refine(spec, ps, 1)
+	if plan.Status != planner.RefineContinue {
+		t.Fatalf("stage 2 not planned: %s", plan.Reason)
+	}
+	compute(plan.Points)
+	if p2 := planner.Refine(spec, ps, 2); p2.Status != planner.RefineConverged {
+		t.Fatalf("after stage 2: %s %s", p2.Status, p2.Reason)
+	}
+	rep, err := AnalyzeForceField(spec, samples)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.SymmetryOps) != 4 || rep.PointsComputed >= rep.PointsUsed {
+		t.Errorf("symmetry %v, %d of %d computed: the mapping was not exercised", rep.SymmetryOps, rep.PointsComputed, rep.PointsUsed)
+	}
+	for _, iso := range rep.Isotopologues {
+		for _, m := range iso.Modes {
+			var d [3]float64
+			for c, v := range m.Displacement {
+				d[c%3] += ffCharges[c/3] * v
+			}
+			want := forcefield.IntensityKmPerMol * (d[0]*d[0] + d[1]*d[1] + d[2]*d[2]) / m.ReducedMassAmu
+			// 1e-6 relative + 1e-6 km/mol: central differences of a linear
+			// dipole are exact; what is left is rounding
+			if m.IntensityKmPerMol == nil || !scalar.EqualWithinAbsOrRel(*m.IntensityKmPerMol, want, 1e-6, 1e-6) {
+				t.Errorf("%s ν%d: A = %v km/mol, point charges give %.8f", iso.Name, m.Index, m.IntensityKmPerMol, want)
+			}
+		}
+		if iso.Name != "HDO" && !iso.Anharmonic {
+			t.Errorf("%s: no VPT2", iso.Name)
+		}
+	}
+}
