@@ -1,6 +1,7 @@
 package planner
 
 import (
+	"math"
 	"strings"
 	"testing"
 )
@@ -228,5 +229,37 @@ func TestForceField_BadInput(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%s: err = %v, want it to mention %q", tc.extra, err, tc.want)
 		}
+	}
+}
+
+func TestRefineFF_ImaginaryStopsBeforeStage2(t *testing.T) {
+	// Energies of a quadratic form with a negative curvature along the
+	// first basis vector (a saddle point): stage 2 must not be planned, and
+	// the reason must say why.
+	s := decodeFF(t, ffWater, "")
+	ff := s.ForceField()
+	masses := ff.Isos[0].Masses
+	energy := func(disp []float64) float64 {
+		e := 0.0
+		for a, d := range ff.Basis {
+			c := 0.0
+			for i := range d {
+				c += d[i] * math.Sqrt(masses[i/3]) * disp[i]
+			}
+			lam := 0.1 * float64(a+1)
+			if a == 0 {
+				lam = -0.05
+			}
+			e += 0.5 * lam * c * c
+		}
+		return e
+	}
+	var done []Sample
+	for _, p := range s.InitialPoints() {
+		done = append(done, Sample{Key: p.Key, Values: p.Values, Energy: energy(p.Values)})
+	}
+	plan := Refine(s, done, 1)
+	if plan.Status != RefineStalled || !strings.Contains(plan.Reason, "imaginary") {
+		t.Errorf("Refine = %s: %s; want stalled with an imaginary mode", plan.Status, plan.Reason)
 	}
 }

@@ -2,6 +2,7 @@ package forcefield
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -241,5 +242,17 @@ func TestVPT2Constants_FermiResonance(t *testing.T) {
 	}
 	if !an.Fundamentals[1].Resonant || an.Fundamentals[1].Partners[0] != "2ν1" {
 		t.Errorf("ν2 not flagged resonant with 2ν1: %+v", an.Fundamentals[1])
+	}
+}
+
+func TestVPT2Constants_RefusesDegenerateModes(t *testing.T) {
+	m := model3(1)
+	m.OmegaCm1 = []float64{1010, 1570, 1570.2} // degenerate pair (a symmetric top's E mode)
+	if _, err := VPT2Constants(m, FermiOptions{}); err == nil || !strings.Contains(err.Error(), "degenerate") {
+		t.Errorf("err = %v, want a refusal naming the degenerate modes", err)
+	}
+	m.OmegaCm1 = []float64{-1010, 1570, 2380}
+	if _, err := VPT2Constants(m, FermiOptions{}); err == nil {
+		t.Error("imaginary ω accepted")
 	}
 }

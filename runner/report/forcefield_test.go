@@ -1,7 +1,9 @@
 package report
 
 import (
+	"errors"
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
@@ -111,5 +113,49 @@ func TestAnalyzeForceField_PointChargeIntensities(t *testing.T) {
 		if iso.Name != "HDO" && !iso.Anharmonic {
 			t.Errorf("%s: no VPT2", iso.Name)
 		}
+	}
+}
+
+func TestAnalyzeForceField_GradientWarning(t *testing.T) {
+	// Away from the model's minimum the job says so, with the size.
+	text := strings.Replace(ffModelSpec, "0.757 -0.586", "0.800 -0.620", 1)
+	text = strings.Replace(text, "-0.757 -0.586", "-0.800 -0.620", 1)
+	spec, err := planner.Decode([]byte(text), "scan.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var samples []FFSample
+	for _, p := range spec.InitialPoints() {
+		mol, _ := spec.Geometry(p)
+		e, mu := ffModel(mol)
+		samples = append(samples, FFSample{Key: p.Key, Energy: e, Dipole: &mu})
+	}
+	rep, err := AnalyzeForceField(spec, samples)
+	if err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, w := range rep.Warnings {
+		found = found || strings.Contains(w, "gradient at the reference is not small")
+	}
+	// O–H stretched by 0.06 Å on a Morse of a = 1.1/bohr, D = 0.15 hartree:
+	// the force is about 0.02 hartree/bohr (model), far above 4.5e-4.
+	if !found || rep.GradientMax < 1e-2 {
+		t.Errorf("gradient %.3g hartree/bohr, warnings %q", rep.GradientMax, rep.Warnings)
+	}
+	// Stage 2 is not done: the harmonic part is there, VPT2 is not.
+	if rep.Isotopologues[0].Anharmonic || len(rep.Isotopologues[0].Modes) != 3 {
+		t.Errorf("parent: anharmonic %v, %d modes", rep.Isotopologues[0].Anharmonic, len(rep.Isotopologues[0].Modes))
+	}
+}
+
+func TestAnalyzeForceField_Incomplete(t *testing.T) {
+	spec, err := planner.Decode([]byte(ffModelSpec), "scan.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = AnalyzeForceField(spec, nil)
+	if !errors.Is(err, ErrFFIncomplete) {
+		t.Errorf("err = %v, want ErrFFIncomplete", err)
 	}
 }
