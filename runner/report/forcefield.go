@@ -69,13 +69,13 @@ type FFIsotopologue struct {
 	MassesAmu   []float64    `json:"masses_amu"`
 	Modes       []FFMode     `json:"modes"`
 	ZPECm1      float64      `json:"harmonic_zpe_cm1"`
-	RotCm1      [3]float64   `json:"rotational_constants_cm1"` // A, B, C; +Inf written as null
+	RotCm1      Cm1Triple    `json:"rotational_constants_cm1"` // A, B, C; infinite (linear axis) written as null
 	Anharmonic  bool         `json:"anharmonic"`
 	Bands       []FFBand     `json:"bands,omitempty"`
 	X           [][]float64  `json:"x_cm1,omitempty"`
 	Resonances  []string     `json:"fermi_resonances,omitempty"`
 	AlphaCm1    [][3]float64 `json:"alpha_cm1,omitempty"`
-	B0Cm1       *[3]float64  `json:"b0_cm1,omitempty"`
+	B0Cm1       *Cm1Triple   `json:"b0_cm1,omitempty"`
 	QuarticStep float64      `json:"quartic_step_dimensionless,omitempty"`
 	Warnings    []string     `json:"warnings,omitempty"`
 }
@@ -272,7 +272,7 @@ func AnalyzeForceField(spec *planner.Spec, samples []FFSample) (*FFReport, error
 			fi.QuarticStep = ff.QuarticStep
 			fi.X = an.X
 			fi.AlphaCm1 = an.AlphaCm1
-			b0 := an.B0Cm1
+			b0 := Cm1Triple(an.B0Cm1)
 			fi.B0Cm1 = &b0
 			fi.Warnings = append(fi.Warnings, an.Warnings...)
 			for _, r := range an.Resonances {
@@ -370,34 +370,43 @@ func ffAnharmonic(h *forcefield.Harmonic, md planner.FFModes, step float64, look
 
 // ---- output ----
 
-// WriteFFJSON writes the report as indented JSON (infinite rotational
-// constants of linear molecules become null).
+// Cm1Triple is A, B, C in cm⁻¹; an infinite constant (the axis of a
+// linear molecule) is written as JSON null.
+type Cm1Triple [3]float64
+
+// MarshalJSON writes null for infinite entries.
+func (c Cm1Triple) MarshalJSON() ([]byte, error) {
+	parts := make([]string, 3)
+	for k, v := range c {
+		if math.IsInf(v, 0) || math.IsNaN(v) {
+			parts[k] = "null"
+			continue
+		}
+		parts[k] = strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	return []byte("[" + strings.Join(parts, ",") + "]"), nil
+}
+
+// UnmarshalJSON reads null as +Inf.
+func (c *Cm1Triple) UnmarshalJSON(b []byte) error {
+	var v [3]*float64
+	if err := json.Unmarshal(b, &v); err != nil {
+		return err
+	}
+	for k := range v {
+		c[k] = math.Inf(1)
+		if v[k] != nil {
+			c[k] = *v[k]
+		}
+	}
+	return nil
+}
+
+// WriteFFJSON writes the report as indented JSON.
 func WriteFFJSON(w io.Writer, r *FFReport) error {
 	b, err := json.MarshalIndent(r, "", "  ")
 	if err != nil {
-		// +Inf: redo with the infinities replaced.
-		c := *r
-		c.Isotopologues = nil
-		for _, iso := range r.Isotopologues {
-			for k := range iso.RotCm1 {
-				if math.IsInf(iso.RotCm1[k], 0) {
-					iso.RotCm1[k] = 0
-				}
-			}
-			if iso.B0Cm1 != nil {
-				b0 := *iso.B0Cm1
-				for k := range b0 {
-					if math.IsInf(b0[k], 0) {
-						b0[k] = 0
-					}
-				}
-				iso.B0Cm1 = &b0
-			}
-			c.Isotopologues = append(c.Isotopologues, iso)
-		}
-		if b, err = json.MarshalIndent(&c, "", "  "); err != nil {
-			return fmt.Errorf("report: force field JSON: %w", err)
-		}
+		return fmt.Errorf("report: force field JSON: %w", err)
 	}
 	_, err = w.Write(append(b, '\n'))
 	return err

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"encoding/json"
 	"errors"
 	"math"
 	"strings"
@@ -157,5 +158,16 @@ func TestAnalyzeForceField_Incomplete(t *testing.T) {
 	_, err = AnalyzeForceField(spec, nil)
 	if !errors.Is(err, ErrFFIncomplete) {
 		t.Errorf("err = %v, want ErrFFIncomplete", err)
+	}
+}
+
+func TestCm1Triple_InfiniteIsNull(t *testing.T) {
+	b, err := json.Marshal(Cm1Triple{math.Inf(1), 1.5, 1.25})
+	if err != nil || string(b) != "[null,1.5,1.25]" {
+		t.Fatalf("Marshal = %s, %v", b, err)
+	}
+	var c Cm1Triple
+	if err := json.Unmarshal(b, &c); err != nil || !math.IsInf(c[0], 1) || c[1] != 1.5 {
+		t.Errorf("round trip = %v, %v", c, err)
 	}
 }
