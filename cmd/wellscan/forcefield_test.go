@@ -342,3 +342,17 @@ func TestForcefield_AddIsotopologueLater(t *testing.T) {
 		t.Errorf("second run lacks the D2O VPT2 table:\n%s", out)
 	}
 }
+
+func TestForcefield_ExampleSpecPlans(t *testing.T) {
+	text, err := os.ReadFile("../../testdata/examples/water-forcefield/scan.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	writeSpec(t, dir, string(text))
+	code, out, errs := wellscan(t, "plan", dir)
+	// 14 stage-1 + 22 + 22 stage-2 (H2O and D2O, C2v; see the counts above)
+	if code != 0 || !strings.Contains(out, "points to compute: 58") {
+		t.Errorf("plan: exit %d, %s\n%s", code, errs, out)
+	}
+}
