@@ -247,6 +247,25 @@ func (r *Runner) load() error {
 		r.recs[recs[i].Key] = &recs[i]
 		r.round = max(r.round, recs[i].Round)
 	}
+	if renamed, removed, evs := canonicalKeys(r.Spec, r.recs); len(removed) > 0 {
+		put := make([]PointRecord, len(renamed))
+		for i, rec := range renamed {
+			put[i] = *rec
+		}
+		for i := range evs {
+			evs[i].Time = r.Now()
+		}
+		if err := r.Store.Rekey(put, removed, evs); err != nil {
+			return err
+		}
+		if r.OnEvent != nil {
+			pr := r.progress()
+			for _, e := range evs {
+				e.Progress = &pr
+				r.OnEvent(e)
+			}
+		}
+	}
 	rounds, err := r.Store.Rounds()
 	if err != nil {
 		return err
@@ -885,7 +904,15 @@ func (r *Runner) checkJumps() int {
 		recs = append(recs, *r.recs[k])
 	}
 	replanned := 0
-	for _, j := range FindJumps(recs, limit) {
+	var periods []float64
+	for _, c := range r.Spec.Coordinates() {
+		p := 0.0
+		if c.Periodic() && c.FullPeriod {
+			p = c.Period
+		}
+		periods = append(periods, p)
+	}
+	for _, j := range FindJumpsPeriodic(recs, limit, periods) {
 		rec := r.recs[j.Key]
 		rec.Jumps++
 		msg := jumpMessage(r.Spec, rec, j, limit)

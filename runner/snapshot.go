@@ -3,7 +3,6 @@ package runner
 import (
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -47,7 +46,6 @@ type ExtremumJSON struct {
 	Kind          string             `json:"kind"`
 	Coordinates   map[string]float64 `json:"coordinates"`
 	EnergyHartree float64            `json:"energy_hartree"`
-	FrequencyCm1  *float64           `json:"harmonic_cm-1,omitempty"`
 	AtEdge        bool               `json:"at_edge"`
 	Converged     bool               `json:"converged"`
 	Note          string             `json:"note,omitempty"`
@@ -57,6 +55,7 @@ type ExtremumJSON struct {
 type PointJSON struct {
 	Key           string             `json:"key"`
 	Coordinates   map[string]float64 `json:"coordinates"`
+	Values        []float64          `json:"values"` // internal units (bohr, radian), in [[scan]] order
 	State         State              `json:"state"`
 	EnergyHartree *float64           `json:"energy_hartree"`
 	Round         int                `json:"round"`
@@ -90,7 +89,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 		m[r.Key] = r
 		snap.Counts[string(r.State)]++
 		snap.Round = max(snap.Round, r.Round)
-		snap.Points = append(snap.Points, PointJSON{Key: r.Key, Coordinates: coords(spec, r.Values), State: r.State,
+		snap.Points = append(snap.Points, PointJSON{Key: r.Key, Coordinates: coords(spec, r.Values), Values: r.Values, State: r.State,
 			EnergyHartree: r.Energy, Round: r.Round, Attempts: r.Attempts})
 		if r.LastError != "" {
 			snap.LastErrors = append(snap.LastErrors, PointErrorJSON{Key: r.Key, Class: r.Class, Error: r.LastError, State: r.State})
@@ -122,10 +121,6 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	plan := planner.Refine(spec, Samples(m), snap.Round)
 	for _, e := range plan.Extrema {
 		ej := ExtremumJSON{Kind: e.Kind, Coordinates: coords(spec, e.Values), EnergyHartree: e.Energy, AtEdge: e.AtEdge, Converged: e.Converged, Note: e.Note}
-		if !math.IsNaN(e.Frequency) {
-			f := e.Frequency
-			ej.FrequencyCm1 = &f
-		}
 		snap.Extrema = append(snap.Extrema, ej)
 	}
 	return snap

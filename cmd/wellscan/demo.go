@@ -4,7 +4,6 @@ import (
 	"bytes"
 	_ "embed"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
 
@@ -83,9 +82,6 @@ print the located minimum. Rerunning with the same --dir resumes.`,
 				for _, e := range sum.Extrema {
 					if e.Kind == "minimum" && spec.Coordinates()[0].Kind == planner.KindDistance {
 						fmt.Fprintf(a.stdout, "located minimum: r = %.5f Å (%.5f bohr), E = %.8f hartree", e.Values[0]*planner.BohrInAngstrom, e.Values[0], e.Energy)
-						if !math.IsNaN(e.Frequency) {
-							fmt.Fprintf(a.stdout, ", harmonic ≈ %.1f cm⁻¹", e.Frequency)
-						}
 						fmt.Fprintln(a.stdout)
 					}
 				}

@@ -57,7 +57,18 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec) {
 			members = append(members, atoms1(m))
 			moving = append(moving, atoms1(c.Moving[i]))
 		}
-		fmt.Fprintf(w, "coordinate %s: %s %s, moving atoms %s (%s)\n", c.Name, c.Kind, strings.Join(members, " = "), strings.Join(moving, " / "), c.UnitLabel(spec.Units()))
+		fmt.Fprintf(w, "coordinate %s: %s %s, moving atoms %s (%s)", c.Name, c.Kind, strings.Join(members, " = "), strings.Join(moving, " / "), c.UnitLabel(spec.Units()))
+		if c.Periodic() {
+			cover := "part of the period: refined inside the range only"
+			if c.FullPeriod {
+				cover = "the whole period: the scan wraps"
+			}
+			fmt.Fprintf(w, "; period %g°, %s", c.PeriodDegrees(), cover)
+		}
+		fmt.Fprintln(w)
+	}
+	for _, n := range spec.Notes() {
+		fmt.Fprintf(w, "note: %s\n", n)
 	}
 	e := spec.Engine
 	switch e.Kind {

@@ -185,7 +185,7 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	case err != nil:
 		in.FitError = err.Error()
 	default:
-		in.Fit, in.Curve, in.Surface, in.MassModel = res, res.Curve, res.Surface, res.Mass
+		in.Fit, in.Curve, in.Surface, in.MassModel, in.Analysis = res, res.Curve, res.Surface, res.MassModel, res
 	}
 	return in, nil
 }

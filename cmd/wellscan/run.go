@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -112,6 +111,9 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	defer st.Close()
 	if li := st.StaleLock(); li != nil {
 		fmt.Fprintf(a.stderr, "wellscan: note: %s; resuming\n", runner.StaleLockMessage(dir, li))
+	}
+	for _, n := range spec.Notes() {
+		fmt.Fprintf(a.stderr, "wellscan: note: %s\n", n)
 	}
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue, Detach: o.detach}
 	if d, ok := queue.(interface{ SetDetach(bool) }); ok {
@@ -220,9 +222,6 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 	}
 	for _, e := range s.Extrema {
 		fmt.Fprintf(w, "%s: %s  E = %.8f hartree", e.Kind, spec.Describe(e.Values), e.Energy)
-		if !math.IsNaN(e.Frequency) {
-			fmt.Fprintf(w, "  harmonic ≈ %.1f cm⁻¹ (refinement fit, μ = %.5f amu)", e.Frequency, e.Mass)
-		}
 		if e.Note != "" {
 			fmt.Fprintf(w, "  [%s]", e.Note)
 		}
@@ -260,7 +259,6 @@ type extremumJSON struct {
 	Kind          string             `json:"kind"`
 	Coordinates   map[string]float64 `json:"coordinates"`
 	EnergyHartree float64            `json:"energy_hartree"`
-	HarmonicCm1   *float64           `json:"harmonic_cm1,omitempty"`
 }
 
 func jsonEvent(e runner.Event) eventJSON {
@@ -287,10 +285,6 @@ func summaryEvent(spec *planner.Spec, s runner.Summary, err error) eventJSON {
 		x := extremumJSON{Kind: e.Kind, Coordinates: map[string]float64{}, EnergyHartree: e.Energy}
 		for i, c := range coords {
 			x.Coordinates[c.Name] = c.Display(e.Values[i], spec.Units())
-		}
-		if !math.IsNaN(e.Frequency) {
-			f := e.Frequency
-			x.HarmonicCm1 = &f
 		}
 		out.Extrema = append(out.Extrema, x)
 	}

@@ -203,9 +203,6 @@ func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source stri
 			cs = append(cs, fmt.Sprintf("%s = %.*f %s", c.Name, c.Digits, e.Coordinates[c.Name], c.UnitLabel(spec.Units())))
 		}
 		line := fmt.Sprintf("%s: %s, E = %.8f hartree", e.Kind, strings.Join(cs, ", "), e.EnergyHartree)
-		if e.FrequencyCm1 != nil {
-			line += fmt.Sprintf(", harmonic ≈ %.1f cm⁻¹", *e.FrequencyCm1)
-		}
 		if e.Converged {
 			line += " (converged)"
 		}

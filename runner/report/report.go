@@ -18,6 +18,7 @@ import (
 
 	"wellscan/fit"
 	"wellscan/planner"
+	"wellscan/runner/analysis"
 )
 
 // Axis is one scanned coordinate as the spec names it.
@@ -74,8 +75,11 @@ type Input struct {
 	Curve      *fit.Result
 	Surface    *fit.SurfaceResult
 	// Fit is written as fit.json (the command's full fit record).
-	Fit       any
-	FitError  string
+	Fit      any
+	FitError string
+	// Analysis is the scan's analysis (torsion series, barriers, kinetic
+	// model); nil for a table that is not a scan.
+	Analysis  *analysis.Result
 	MassModel string
 	// Notes are further warnings of the scan itself (refinement status,
 	// round budget), shown with the fit's warnings.

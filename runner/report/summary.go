@@ -79,6 +79,9 @@ func (in Input) warnings() []string {
 	if s := in.Surface; s != nil {
 		w = append(w, s.Warnings...)
 	}
+	if an := in.Analysis; an != nil {
+		w = append(w, an.Warnings...)
+	}
 	return w
 }
 
@@ -124,6 +127,7 @@ func (in Input) sections() []section {
 		out[len(out)-1].Paras = []string{"The energies come from an analytic MODEL potential, not from an electronic-structure calculation."}
 	}
 	out = append(out, section{Title: "Curve", Figure: true, Paras: []string{"Figure: curve.svg (also curve.png); the numbers behind it are in curve.csv and fit.json."}})
+	out = append(out, analysisSections(in)...)
 	if cr := in.Curve; cr != nil {
 		out = append(out, curveSections(in, cr)...)
 	}
