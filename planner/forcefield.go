@@ -120,6 +120,12 @@ type FFPoint struct {
 	Op  int
 }
 
+// Size limits of force-field jobs (atoms).
+const (
+	MaxForceFieldAtoms = 50
+	MaxQuarticAtoms    = 20
+)
+
 const (
 	ffHessPrefix = "hess."
 	ffRefKey     = "hess.ref"
@@ -164,6 +170,15 @@ func (s *Spec) buildForceField() error {
 	}
 	if len(s.mol.Atoms) < 2 {
 		return s.errAt("molecule", "a force field needs at least two atoms")
+	}
+	// The stencils grow as n² (Hessian) and n³ (quartic) in the number of
+	// vibrational coordinates: 20 atoms already need about 200 000 quartic
+	// displacements.
+	if len(s.mol.Atoms) > MaxForceFieldAtoms {
+		return s.errAt("forcefield", "%d atoms: a force-field job takes at most %d", len(s.mol.Atoms), MaxForceFieldAtoms)
+	}
+	if ff.Order == "quartic" && len(s.mol.Atoms) > MaxQuarticAtoms {
+		return s.errAt("forcefield.order", "%d atoms: a quartic force field takes at most %d (about %d displacements); use order = \"harmonic\"", len(s.mol.Atoms), MaxQuarticAtoms, 8*54*53*52/6)
 	}
 	parent := Isotopologue{Name: "parent", Quartic: ff.Order == "quartic"}
 	for _, a := range s.mol.Atoms {
@@ -277,16 +292,45 @@ func (f *FF) stage1() []FFPoint {
 }
 
 // markEquivalent sets Rep/Op of every point whose displaced geometry is the
-// image of an earlier computed point's under a symmetry operation.
+// image of an earlier computed point's under a symmetry operation. Images
+// are looked up by their coordinates rounded to 1e-6 bohr and confirmed
+// with [FF.imageOf]; an image that happens to straddle a rounding boundary
+// is merely computed again (never wrongly merged).
 func (f *FF) markEquivalent(pts []FFPoint) {
 	n := len(f.Ref.Atoms)
-	var reps []int
+	seen := map[string]int{}
+	geomKey := func(x []float64) string {
+		b := make([]byte, 0, 8*len(x))
+		for _, v := range x {
+			b = strconv.AppendInt(b, int64(math.Round(v*1e6)), 36)
+			b = append(b, ',')
+		}
+		return string(b)
+	}
+	img := make([]float64, 3*n)
 	for i := range pts {
 		found := false
-		for _, r := range reps {
-			for oi, op := range f.Ops {
-				if f.imageOf(op, pts[r].Disp, pts[i].Disp, n) {
-					pts[i].Rep, pts[i].Op = pts[r].Key, oi
+		for _, op := range f.Ops {
+			// image of point i's geometry under op: atom a goes to Perm[a]
+			for a := range n {
+				var x [3]float64
+				for k := range 3 {
+					x[k] = f.Ref.Atoms[a].Pos[k] + pts[i].Disp[3*a+k] - op.Com[k]
+				}
+				t := op.Perm[a]
+				for k := range 3 {
+					img[3*t+k] = op.Com[k] + op.R[k][0]*x[0] + op.R[k][1]*x[1] + op.R[k][2]*x[2]
+				}
+			}
+			r, ok := seen[geomKey(img)]
+			if !ok {
+				continue
+			}
+			// geometry(i) = op(geometry(r))^{-1}…: confirm r maps onto i
+			// under some operation, as imageOf defines the mapping.
+			for oj, oq := range f.Ops {
+				if f.imageOf(oq, pts[r].Disp, pts[i].Disp, n) {
+					pts[i].Rep, pts[i].Op = pts[r].Key, oj
 					found = true
 					break
 				}
@@ -296,7 +340,13 @@ func (f *FF) markEquivalent(pts []FFPoint) {
 			}
 		}
 		if !found {
-			reps = append(reps, i)
+			geo := make([]float64, 3*n)
+			for a := range n {
+				for k := range 3 {
+					geo[3*a+k] = f.Ref.Atoms[a].Pos[k] + pts[i].Disp[3*a+k]
+				}
+			}
+			seen[geomKey(geo)] = i
 		}
 	}
 }

@@ -2,6 +2,7 @@ package planner
 
 import (
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -263,3 +264,19 @@ func TestRefineFF_ImaginaryStopsBeforeStage2(t *testing.T) {
 		t.Errorf("Refine = %s: %s; want stalled with an imaginary mode", plan.Status, plan.Reason)
 	}
 }
+
+func TestForceField_SizeLimits(t *testing.T) {
+	var b strings.Builder
+	for i := range 21 {
+		b.WriteString("C " + itoa(i*2) + " 0 0\n")
+	}
+	spec := "[molecule]\ngeometry = \"\"\"\n" + b.String() + "\"\"\"\n[engine]\nkind = \"builtin\"\nmethod = \"rhf\"\nbasis = \"STO-3G\"\n[forcefield]\n"
+	if _, err := Decode([]byte(spec), "scan.toml"); err == nil || !strings.Contains(err.Error(), "at most 20") {
+		t.Errorf("21-atom quartic force field: err = %v", err)
+	}
+	if _, err := Decode([]byte(spec+"order = \"harmonic\"\n"), "scan.toml"); err != nil {
+		t.Errorf("21-atom harmonic force field: %v", err)
+	}
+}
+
+func itoa(i int) string { return strconv.Itoa(i) }
