@@ -613,12 +613,36 @@ func NewFFFigure(r *FFReport) (*FFFigure, error) {
 			legend("VPT2 overtones and combinations (position only)", colOver, true)
 		}
 		p.X.Min, p.X.Max = 0, 100*math.Ceil(xmax*1.05/100)
+		p.X.Tick.Marker = wavenumberTicks{}
 		// headroom above the tallest stick for the legend (top right)
 		p.Y.Min, p.Y.Max = 0, top*1.45
 		p.Legend.Top = true
 		f.plots = append(f.plots, p)
 	}
 	return f, nil
+}
+
+// wavenumberTicks labels every 500, 1000 or 2000 cm⁻¹ (whole numbers),
+// with unlabelled minor ticks at a fifth of that.
+type wavenumberTicks struct{}
+
+func (wavenumberTicks) Ticks(lo, hi float64) []plot.Tick {
+	step := 500.0
+	switch {
+	case hi-lo > 8000:
+		step = 2000
+	case hi-lo > 4000:
+		step = 1000
+	}
+	var ts []plot.Tick
+	for x := math.Ceil(lo/(step/5)) * step / 5; x <= hi+1e-9; x += step / 5 {
+		t := plot.Tick{Value: x}
+		if math.Abs(math.Mod(x, step)) < 1e-9 {
+			t.Label = strconv.FormatFloat(x, 'f', 0, 64)
+		}
+		ts = append(ts, t)
+	}
+	return ts
 }
 
 func (f *FFFigure) draw(c draw.Canvas) {
