@@ -278,7 +278,7 @@ func suggest(k toml.Key) string {
 		"molecule":          "charge, multiplicity, units, geometry, file, isotopes",
 		"scan":              "name, bond, angle, torsion, bonds, angles, torsions, moving, from, to, step, count, values, growth, period",
 		"refine":            "adaptive, target_step, tolerance, frequency_tolerance, max_rounds, max_points, max_extensions, maxima",
-		"engine":            "kind, method, basis, cartesian, max_iterations, convergence, guess, model, command",
+		"engine":            "kind, method, frozen_core, basis, cartesian, max_iterations, convergence, guess, model, command",
 		"engine.model":      "offset, delay, fail, spikes, term",
 		"engine.model.term": "coordinate, shape, depth, center, width, sigma, force, tilt, fold",
 		"queue":             "kind, workers, threads, attempts, timeout, slurm",

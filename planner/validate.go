@@ -495,7 +495,9 @@ func (s *Spec) validateEngine() error {
 			}
 		case "uhf", "mp2":
 		case "":
-			return s.errAt("engine.method", "missing: give method = \"rhf\", \"uhf\" or \"mp2\"")
+			// The default of `wellscan energy` too: RHF for a singlet,
+			// UHF otherwise.
+			s.Engine.Method = DefaultMethod(s.mol.Multiplicity)
 		default:
 			return s.errAt("engine.method", "unknown method %q (the built-in engine does \"rhf\", \"uhf\" and \"mp2\")", e.Method)
 		}
@@ -639,4 +641,13 @@ func (s *Spec) CoordinateIndex(name string) int {
 		}
 	}
 	return -1
+}
+
+// DefaultMethod is the built-in engine's method when a spec or `wellscan
+// energy` names none: "rhf" for a singlet, "uhf" otherwise.
+func DefaultMethod(multiplicity int) string {
+	if multiplicity == 1 {
+		return "rhf"
+	}
+	return "uhf"
 }

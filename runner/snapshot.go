@@ -32,6 +32,8 @@ type Snapshot struct {
 	// Suspects are done points that break with their neighbours (see
 	// [FindDiscontinuities]).
 	Suspects []Suspect `json:"suspects,omitempty"`
+	// Warnings are the scan's warnings, most serious first ([ScanWarnings]).
+	Warnings []Warning `json:"warnings,omitempty"`
 }
 
 // RefineJSON is a round's refinement status.
@@ -60,6 +62,9 @@ type PointJSON struct {
 	EnergyHartree *float64           `json:"energy_hartree"`
 	Round         int                `json:"round"`
 	Attempts      int                `json:"attempts"`
+	// Diagnostics of a done point, where the backend reported them.
+	Iterations int      `json:"scf_iterations,omitempty"`
+	SSquared   *float64 `json:"s_squared,omitempty"`
 }
 
 // PointErrorJSON is the last error of a point.
@@ -90,7 +95,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 		snap.Counts[string(r.State)]++
 		snap.Round = max(snap.Round, r.Round)
 		snap.Points = append(snap.Points, PointJSON{Key: r.Key, Coordinates: coords(spec, r.Values), Values: r.Values, State: r.State,
-			EnergyHartree: r.Energy, Round: r.Round, Attempts: r.Attempts})
+			EnergyHartree: r.Energy, Round: r.Round, Attempts: r.Attempts, Iterations: r.Iterations, SSquared: r.SSquared})
 		if r.LastError != "" {
 			snap.LastErrors = append(snap.LastErrors, PointErrorJSON{Key: r.Key, Class: r.Class, Error: r.LastError, State: r.State})
 		}
@@ -110,6 +115,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	if len(snap.LastErrors) > 10 {
 		snap.LastErrors = snap.LastErrors[:10]
 	}
+	snap.Warnings = ScanWarnings(recs, rounds)
 	sort.Slice(rounds, func(a, b int) bool { return rounds[a].Round < rounds[b].Round })
 	for i := len(rounds) - 1; i >= 0; i-- {
 		if rounds[i].Status != "" {

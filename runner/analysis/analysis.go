@@ -259,7 +259,7 @@ func line(ctx context.Context, spec *planner.Spec, xs, es []float64, opt Options
 	massAt := func(x float64) (float64, error) {
 		return spec.EffectiveMass(planner.Point{Key: "analysis", Values: []float64{view.Back(x)}}, 0)
 	}
-	formula := mol.Formula()
+	formula := mol.Isotopologue() // HDO, not H2O
 	switch {
 	case diatomic:
 		res.Model = "diatomic"
@@ -344,6 +344,9 @@ func line(ctx context.Context, spec *planner.Spec, xs, es []float64, opt Options
 			m.ThetaEDegree = c.Unwrap(view.Back(m.XE), spec.Units())
 		}
 		m.Label = fmt.Sprintf("well %d", i+1)
+		if view.Mirrored && math.Abs(m.ThetaEDegree-180) < 1e-3 {
+			m.Warnings = append(m.Warnings, "the minimum is linear: the bend is doubly degenerate (two perpendicular planes), so ω_e is the harmonic bending wavenumber but the levels listed are those of the one plane scanned, not the bending levels of the linear molecule (which carry vibrational angular momentum)")
+		}
 	}
 	cr.Minima = keep
 	res.Curve, res.Minima = cr, keep

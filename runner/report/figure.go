@@ -101,18 +101,22 @@ func fromInternal(a Axis, x float64) float64 {
 	return x * 180 / math.Pi
 }
 
+// heading is the title with the molecule and method added, each only
+// when the title does not already say it.
 func heading(c Conditions) string {
-	s := c.Formula
-	if m := methodLabel(c); m != "" {
-		s += " · " + m
+	var add []string
+	for _, s := range []string{c.Formula, methodLabel(c)} {
+		if s != "" && !strings.Contains(c.Title, s) {
+			add = append(add, s)
+		}
 	}
 	switch {
 	case c.Title == "":
-		return s
-	case strings.Contains(c.Title, methodLabel(c)) && strings.Contains(c.Title, c.Formula):
+		return strings.Join(add, " · ")
+	case len(add) == 0:
 		return c.Title
 	}
-	return c.Title + " (" + s + ")"
+	return c.Title + " (" + strings.Join(add, " · ") + ")"
 }
 
 func methodLabel(c Conditions) string {
