@@ -28,6 +28,9 @@ type Spec struct {
 	Engine        EngineSpec   `toml:"engine"`
 	Queue         QueueSpec    `toml:"queue"`
 	Checks        ChecksSpec   `toml:"checks"`
+	// ForceFieldInput is the [forcefield] table (see forcefield.go); a
+	// spec has either [[scan]] blocks or [forcefield].
+	ForceFieldInput ForceFieldSpec `toml:"forcefield"`
 
 	// Filled by Decode.
 	file   string // file name used in messages
@@ -40,6 +43,7 @@ type Spec struct {
 	axes   [][]float64 // initial grid per coordinate, in spec units, rounded to key precision
 	refine RefineSettings
 	files  *fileHashes // hash of the files the engine reads, computed once
+	ff     *FF         // nil for a coordinate scan
 	notes  []string    // remarks that are not errors (Notes)
 }
 
@@ -463,6 +467,24 @@ func (s *Spec) Fingerprint() Fingerprint {
 		fh = &fileHashes{}
 	}
 	fh.once.Do(func() { fh.sum = hashFiles(engineFiles(eng, s.dir), s.dir) })
+	if s.ff != nil {
+		// Only the parent's masses shape the stage-1 displacements; an
+		// isotopologue added later only adds its own stage-2 points.
+		return Fingerprint{
+			Files: fh.sum,
+			Molecule: h(struct {
+				Atoms        []atom
+				Charge, Mult int
+				Masses       [][]float64
+			}{atoms, s.mol.Charge, s.mol.Multiplicity, [][]float64{s.ff.Isos[0].Masses}}),
+			Coordinates: h(struct {
+				Order         string
+				Hess, Quartic float64
+				Ops, Basis    int
+			}{s.ff.Order, s.ff.HessStep, s.ff.QuarticStep, len(s.ff.Ops), len(s.ff.Basis)}),
+			Engine: h(eng),
+		}
+	}
 	return Fingerprint{
 		Files: fh.sum,
 		Molecule: h(struct {

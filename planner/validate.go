@@ -55,11 +55,20 @@ func (s *Spec) validate() error {
 	if err := s.buildMolecule(); err != nil {
 		return err
 	}
-	if err := s.buildCoordinates(); err != nil {
-		return err
-	}
-	if err := s.buildRefine(); err != nil {
-		return err
+	if s.meta.IsDefined("forcefield") {
+		if len(s.Scan) > 0 {
+			return s.errAt("forcefield", "give [[scan]] blocks or a [forcefield] table, not both")
+		}
+		if err := s.buildForceField(); err != nil {
+			return err
+		}
+	} else {
+		if err := s.buildCoordinates(); err != nil {
+			return err
+		}
+		if err := s.buildRefine(); err != nil {
+			return err
+		}
 	}
 	if err := s.validateEngine(); err != nil {
 		return err
@@ -662,6 +671,9 @@ func (s *Spec) validateChecks() error {
 // MaxJump is the energy-jump threshold in hartree ([checks]
 // max_jump_hartree, default DefaultMaxJump); 0 means the check is off.
 func (s *Spec) MaxJump() float64 {
+	if s.ff != nil {
+		return 0 // the energy-jump rule follows scan lines, which a force field has not
+	}
 	if v := s.Checks.MaxJumpHartree; v != nil {
 		return *v
 	}

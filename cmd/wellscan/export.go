@@ -65,6 +65,9 @@ func newExportCommand(a *app) *cobra.Command {
 			if err != nil {
 				return err
 			}
+			if err := notForceField(spec, args[0], "export --format xyz"); err != nil {
+				return err
+			}
 			return exportXYZ(a, spec, in)
 		},
 	}

@@ -81,6 +81,9 @@ Optional columns "converged" (true/false or 1/0) and "weight".`,
 				if err != nil {
 					return err
 				}
+				if err := notForceField(spec, args[0], "fit"); err != nil {
+					return err
+				}
 				res, err := fitScanDir(cmd.Context(), args[0], spec, o)
 				if err != nil {
 					return err

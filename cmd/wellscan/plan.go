@@ -172,6 +172,13 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 		fmt.Fprintf(w, ", timeout %s per point", spec.Queue.Timeout.Duration)
 	}
 	fmt.Fprintln(w)
+	if spec.ForceField() != nil {
+		fmt.Fprintln(w)
+		if err := printForceFieldPlan(w, spec); err != nil {
+			fmt.Fprintf(w, "force field: %v\n", err)
+		}
+		return
+	}
 	pts := spec.InitialPoints()
 	fmt.Fprintf(w, "\nround 1: %d points\n", len(pts))
 	for _, p := range pts {

@@ -115,6 +115,9 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	if err != nil {
 		return in, err
 	}
+	if err := notForceField(spec, dir, "report/export"); err != nil {
+		return in, err
+	}
 	mol, err := spec.Molecule()
 	if err != nil {
 		return in, err

@@ -54,6 +54,7 @@ external program, and turned into spectroscopic constants.
 	root.AddCommand(newEnergyCommand(a))
 	root.AddCommand(newBasisCommand(a))
 	root.AddCommand(newFitCommand(a))
+	root.AddCommand(newForcefieldCommand(a))
 	root.AddCommand(newCancelCommand(a), newStoreCommand(a), newRetryCommand(a), newDropCommand(a))
 	root.AddCommand(newNodeTaskCommand(a))
 	root.AddCommand(newInitCommand(a), newPlanCommand(a), newRunCommand(a), newStatusCommand(a), newDemoCommand(a))

@@ -169,6 +169,16 @@ func (d dirDest) Remove(name string) error {
 	return nil
 }
 
+// DirDest is a [Dest] writing into a plain directory outside a scan
+// (created if needed, mode 0700), each file through a temporary file and a
+// rename.
+func DirDest(dir string) (Dest, error) {
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return nil, fmt.Errorf("report: %w", err)
+	}
+	return dirDest(dir), nil
+}
+
 // Write writes every report file into dir (created if needed, mode 0700;
 // files 0600 like the rest of a scan), each through a temporary file and
 // a rename so that a reader never sees half a file.
