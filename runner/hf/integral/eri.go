@@ -198,12 +198,15 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 		}
 		return dst
 	}
-	switch {
-	case L == 0:
+	// The fast paths assume the higher angular momentum first in each
+	// pair, as newShellPair orders them; the shifted pairs of the gradient
+	// code may have it second and take the general path.
+	switch ordered := bp.l1 >= bp.l2 && kp.l1 >= kp.l2; {
+	case ordered && L == 0:
 		return w.quartetSSSS(bp, kp)
-	case L == 1:
+	case ordered && L == 1:
 		return w.quartetL1(bp, kp)
-	case Lab == 1 && Lcd == 1:
+	case ordered && Lab == 1 && Lcd == 1:
 		return w.quartetPSPS(bp, kp)
 	}
 	nE, nF := ncum(Lab), ncum(Lcd)
