@@ -19,9 +19,11 @@ import (
 // ket shell are therefore ordinary quartets over "shifted" shells — the
 // same exponents, angular momentum l ± 1 and, for l + 1, coefficients
 // multiplied by 2α — computed with the Head-Gordon–Pople code of eri.go on
-// raw Cartesian components. The fourth centre follows from translational
-// invariance, ∂/∂D = −(∂/∂A + ∂/∂B + ∂/∂C), and quartets whose four shells
-// sit on one atom contribute nothing. The two-particle density is built in
+// raw Cartesian components. The four positions of a quartet are grouped
+// by atom; the costliest group follows from translational invariance
+// (the contributions of the groups sum to zero), so quartets whose four
+// shells sit on one atom contribute nothing and those over two atoms need
+// the shifts of one group only. The two-particle density is built in
 // the finished basis (spherical or scaled Cartesian) and transformed back
 // to raw Cartesian components, so the derivative quartets never need the
 // spherical transformation.
@@ -133,12 +135,11 @@ func TwoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 					if P == Q {
 						f *= 0.5
 					}
-					gA, gB, gC := w.quartetGrad(dg, P, Q, f, n, Dt, Da, Db)
-					for x := range 3 {
-						acc[A][x] += gA[x]
-						acc[B][x] += gB[x]
-						acc[C][x] += gC[x]
-						acc[D][x] -= gA[x] + gB[x] + gC[x]
+					gq := w.quartetGrad(dg, P, Q, f, n, Dt, Da, Db)
+					for k, at := range [4]int{A, B, C, D} {
+						for x := range 3 {
+							acc[at][x] += gq[k][x]
+						}
 					}
 				}
 			}
@@ -269,25 +270,25 @@ func rawPair(sp *shellPair, s1, s2 *prepShell) shellPair {
 
 // derivWork is the per-goroutine scratch of TwoElectronGradient.
 type derivWork struct {
-	w                *eriWork
-	gam, gc, tmp     []float64
-	bp1, bm1, bp2    []float64
-	bm2, kp1, km1    []float64
-	ncMax, ncMaxPlus int
+	w            *eriWork
+	gam, gc, tmp []float64
+	bp1, bm1     []float64
 }
 
 func newDerivWork(maxl int) *derivWork {
 	nc, ncp := ncart(maxl), ncart(maxl+1)
 	big := ncp * nc * nc * nc
 	mk := func() []float64 { return make([]float64, big) }
-	return &derivWork{w: newERIWork(maxl + 1), gam: mk(), gc: mk(), tmp: mk(),
-		bp1: mk(), bm1: mk(), bp2: mk(), bm2: mk(), kp1: mk(), km1: mk(), ncMax: nc, ncMaxPlus: ncp}
+	return &derivWork{w: newERIWork(maxl + 1), gam: mk(), gc: mk(), tmp: mk(), bp1: mk(), bm1: mk()}
 }
 
 // quartetGrad returns the contributions of shell quartet (P|Q) to the
-// gradient on the centres of the shells P.s1, P.s2 and Q.s1, with the
-// quartet weight f of jkBlock.
-func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt, Da, Db []float64) (gA, gB, gC [3]float64) {
+// gradient on the centres of the shells P.s1, P.s2, Q.s1 and Q.s2, with
+// the quartet weight f of jkBlock. The four positions are grouped by
+// atom; the group whose shifted quartets would cost most is not computed
+// but follows from translational invariance (the contributions sum to
+// zero), so a quartet over two atoms costs one group's shifts.
+func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt, Da, Db []float64) (g [4][3]float64) {
 	eb := dg.eb
 	bp, kp := &eb.pairs[P], &eb.pairs[Q]
 	n1, n2, n3, n4 := bp.n1, bp.n2, kp.n1, kp.n2
@@ -334,7 +335,28 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 	}
 	gc := src
 	na, nb, nc, nd := dims[0], dims[1], dims[2], dims[3]
-	l1, l2, l3 := bp.l1, bp.l2, kp.l1
+	ls := [4]int{bp.l1, bp.l2, kp.l1, kp.l2}
+	at := [4]int{dg.atom[bp.s1], dg.atom[bp.s2], dg.atom[kp.s1], dg.atom[kp.s2]}
+	// Group positions by atom; cost of a position's shifts ~ components
+	// of l+1 (common practice estimate).
+	var groupCost [4]int
+	group := [4]int{}
+	for k := range 4 {
+		group[k] = k
+		for j := range k {
+			if at[j] == at[k] {
+				group[k] = group[j]
+				break
+			}
+		}
+		groupCost[group[k]] += ncart(ls[k] + 1)
+	}
+	skip := group[0]
+	for k := range 4 {
+		if group[k] == k && groupCost[k] > groupCost[skip] {
+			skip = k
+		}
+	}
 	rawP, rawQ := &dg.raw[P], &dg.raw[Q]
 	keep := func(dst []float64, blk []float64) []float64 {
 		dst = dst[:len(blk)]
@@ -342,23 +364,48 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 		return dst
 	}
 	w := dw.w
-	bp1 := keep(dw.bp1, w.quartet(&dg.p1[P], rawQ))
-	bp2 := keep(dw.bp2, w.quartet(&dg.p2[P], rawQ))
-	kp1 := keep(dw.kp1, w.quartet(rawP, &dg.p1[Q]))
-	var bm1, bm2, km1 []float64
-	if l1 > 0 {
-		bm1 = keep(dw.bm1, w.quartet(&dg.m1[P], rawQ))
+	var total [3]float64
+	for k := range 4 {
+		if group[k] == skip {
+			continue
+		}
+		var plus, minus []float64
+		var outer, inner int
+		switch k {
+		case 0:
+			plus = keep(dw.bp1, w.quartet(&dg.p1[P], rawQ))
+			if ls[k] > 0 {
+				minus = keep(dw.bm1, w.quartet(&dg.m1[P], rawQ))
+			}
+			outer, inner = 1, nb*nc*nd
+		case 1:
+			plus = keep(dw.bp1, w.quartet(&dg.p2[P], rawQ))
+			if ls[k] > 0 {
+				minus = keep(dw.bm1, w.quartet(&dg.m2[P], rawQ))
+			}
+			outer, inner = na, nc*nd
+		case 2:
+			plus = keep(dw.bp1, w.quartet(rawP, &dg.p1[Q]))
+			if ls[k] > 0 {
+				minus = keep(dw.bm1, w.quartet(rawP, &dg.m1[Q]))
+			}
+			outer, inner = na*nb, nd
+		case 3:
+			plus = keep(dw.bp1, w.quartet(rawP, &dg.p2[Q]))
+			if ls[k] > 0 {
+				minus = keep(dw.bm1, w.quartet(rawP, &dg.m2[Q]))
+			}
+			outer, inner = na*nb*nc, 1
+		}
+		g[k] = contractShift(gc, plus, minus, outer, dims[k], inner, ls[k], dg)
+		for x := range 3 {
+			total[x] += g[k][x]
+		}
 	}
-	if l2 > 0 {
-		bm2 = keep(dw.bm2, w.quartet(&dg.m2[P], rawQ))
+	for x := range 3 {
+		g[skip][x] = -total[x]
 	}
-	if l3 > 0 {
-		km1 = keep(dw.km1, w.quartet(rawP, &dg.m1[Q]))
-	}
-	gA = contractShift(gc, bp1, bm1, 1, na, nb*nc*nd, l1, dg)
-	gB = contractShift(gc, bp2, bm2, na, nb, nc*nd, l2, dg)
-	gC = contractShift(gc, kp1, km1, na*nb, nc, nd, l3, dg)
-	return gA, gB, gC
+	return g
 }
 
 // contractShift returns Σ Γ[o][c][i] (plus[o][c+1_x][i] − c_x minus[o][c−1_x][i])
