@@ -40,3 +40,14 @@ func (s *GradientSource) Objective() geomopt.Objective {
 		return r.Energy, r.Gradient, nil
 	}
 }
+
+// Optimize minimises the energy of mol with the built-in engine (method,
+// basis and SCF settings from opts) by geomopt.Optimize with gopts. It
+// returns the optimiser's result and the gradient source (whose Last
+// holds the final electronic structure). A result that did not converge
+// comes with an error wrapping geomopt.ErrNotConverged.
+func Optimize(ctx context.Context, mol planner.Molecule, opts Options, gopts geomopt.Options) (*geomopt.Result, *GradientSource, error) {
+	src := &GradientSource{Opts: opts}
+	res, err := geomopt.Optimize(ctx, mol, src.Objective(), gopts)
+	return res, src, err
+}
