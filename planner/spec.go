@@ -28,6 +28,7 @@ type Spec struct {
 	Engine        EngineSpec   `toml:"engine"`
 	Queue         QueueSpec    `toml:"queue"`
 	Checks        ChecksSpec   `toml:"checks"`
+	Relax         RelaxSpec    `toml:"relax"`
 
 	// Filled by Decode.
 	file   string // file name used in messages
@@ -80,6 +81,9 @@ type ScanSpec struct {
 	// (each step Growth times the one before), for scans out toward
 	// dissociation.
 	Growth *float64 `toml:"growth"`
+	// Relax = true makes the scan relaxed: at every point the other
+	// coordinates are optimised (see RelaxSpec). Default rigid.
+	Relax *bool `toml:"relax"`
 }
 
 // RefineSpec is the [refine] table. Lengths in the molecule's units,
@@ -446,6 +450,9 @@ func (s *Spec) Fingerprint() Fingerprint {
 		}
 	}
 	eng = withoutKey(eng, "model", "delay")
+	if r := s.relaxFingerprint(); r != nil {
+		eng["relaxed scan"] = r
+	}
 	return Fingerprint{
 		Molecule: h(struct {
 			Atoms        []atom

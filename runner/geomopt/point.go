@@ -1,0 +1,208 @@
+package geomopt
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io/fs"
+	"math"
+	"os"
+	"path/filepath"
+
+	"wellscan/parsers"
+	"wellscan/planner"
+	"wellscan/runner"
+)
+
+// Files a relaxed scan point leaves in its directory.
+const (
+	// StateFile is the optimiser checkpoint, rewritten (atomically, by
+	// rename) after every gradient; a resumed point continues from it.
+	StateFile = "relax-state.json"
+	// RelaxedFile is the final geometry (XYZ, Å).
+	RelaxedFile = "relaxed.xyz"
+	// TrajectoryFile holds every gradient's geometry (XYZ, Å).
+	TrajectoryFile = "relax-trajectory.xyz"
+)
+
+// PointResult is the outcome of [RelaxPoint].
+type PointResult struct {
+	*Result
+	// FromNeighbour is set when the point started from a finished
+	// neighbour's relaxed geometry and Hessian.
+	FromNeighbour bool
+	// Resumed is set when a checkpoint was continued; ResumedAt is the
+	// number of gradients it already held.
+	Resumed   bool
+	ResumedAt int
+	// MaxConstraintError is the largest deviation of a held coordinate
+	// from its value over the trajectory (bohr or radians).
+	MaxConstraintError float64
+}
+
+// PointOptions configures [RelaxPoint].
+type PointOptions struct {
+	// NeighbourDir is the directory of a finished neighbouring point
+	// (usually the directory of Task.GuessPath); "" for none.
+	NeighbourDir string
+	// NoNeighbourStart starts from the rigid geometry with the model
+	// Hessian even when a neighbour is available (for benchmarks).
+	NoNeighbourStart bool
+}
+
+// Constraints returns the optimiser constraints of a relaxed point of
+// spec at t: every scanned member at t's value, every [relax] hold at its
+// value in the spec's geometry.
+func Constraints(spec *planner.Spec, values []float64) ([]Constraint, error) {
+	var out []Constraint
+	held := spec.Held()
+	scanIdx := 0
+	member := 0
+	coords := spec.Coordinates()
+	for _, h := range held {
+		var kind PrimKind
+		switch h.Kind {
+		case planner.KindDistance:
+			kind = PrimBond
+		case planner.KindAngle:
+			kind = PrimAngle
+		case planner.KindTorsion:
+			kind = PrimTorsion
+		default:
+			return nil, fmt.Errorf("geomopt: %s: unknown coordinate kind", h.Label)
+		}
+		v := h.Value
+		if math.IsNaN(v) {
+			// Scan members come first, in coordinate order.
+			for scanIdx < len(coords) && member >= len(coords[scanIdx].Members) {
+				scanIdx, member = scanIdx+1, 0
+			}
+			if scanIdx >= len(values) {
+				return nil, fmt.Errorf("geomopt: %d values for the scan coordinates", len(values))
+			}
+			v = values[scanIdx]
+			member++
+		}
+		out = append(out, Constraint{Prim: Prim{Kind: kind, Atoms: h.Atoms}, Value: v})
+	}
+	return out, nil
+}
+
+// RelaxPoint optimises one point of a relaxed scan: the scanned
+// coordinates (and [relax] holds) are held at their values and the rest
+// of the molecule relaxes. It starts from t.Mol (the rigid geometry), or
+// from a finished neighbour's relaxed geometry with the scanned
+// coordinates set to this point's values and the neighbour's final
+// Hessian, and continues from t.Dir's checkpoint when one exists, so an
+// interrupted point loses at most the gradient in flight. It writes
+// StateFile after every gradient and RelaxedFile and TrajectoryFile at
+// the end. A point that did not converge returns its result with an
+// error wrapping ErrNotConverged.
+func RelaxPoint(ctx context.Context, spec *planner.Spec, t runner.Task, f Objective, po PointOptions) (*PointResult, error) {
+	cons, err := Constraints(spec, t.Values)
+	if err != nil {
+		return nil, err
+	}
+	maxSteps, tighter := spec.RelaxLimits()
+	opts := Options{MaxSteps: maxSteps, Criteria: Criteria{}.Tight(tighter), Constraints: cons}
+	statePath := filepath.Join(t.Dir, StateFile)
+	opts.OnStep = func(st *State) error {
+		b, err := json.Marshal(st)
+		if err != nil {
+			return err
+		}
+		return runner.WriteFileAtomic(statePath, b)
+	}
+	pr := &PointResult{}
+	start := t.Mol
+	if st, err := readState(statePath); err == nil {
+		if err := st.check(len(t.Mol.Atoms)); err != nil {
+			return nil, fmt.Errorf("geomopt: %s: %w", statePath, err)
+		}
+		opts.Resume = st
+		pr.Resumed, pr.ResumedAt = true, st.Gradients
+	} else if !errors.Is(err, fs.ErrNotExist) {
+		return nil, fmt.Errorf("geomopt: %s: %w (delete it to restart the point)", statePath, err)
+	} else if po.NeighbourDir != "" && !po.NoNeighbourStart {
+		if nb, err := readState(filepath.Join(po.NeighbourDir, StateFile)); err == nil && nb.Done && nb.Converged && nb.check(len(t.Mol.Atoms)) == nil {
+			m := t.Mol.Clone()
+			for a := range m.Atoms {
+				copy(m.Atoms[a].Pos[:], nb.X[3*a:3*a+3])
+			}
+			if g, err := spec.GeometryFrom(m, t.Values); err == nil {
+				start = g
+				opts.Start = nb
+				pr.FromNeighbour = true
+			}
+		}
+	}
+	res, err := Optimize(ctx, start, f, opts)
+	pr.Result = res
+	if res == nil {
+		return pr, err
+	}
+	for _, fr := range res.State.Trajectory {
+		for _, c := range res.State.Constraints {
+			pr.MaxConstraintError = max(pr.MaxConstraintError, math.Abs(c.Prim.diff(c.Prim.Value(fr.X), c.Value)))
+		}
+	}
+	if res.State.Done {
+		if werr := writePointFiles(t, res, spec.ScanMode()); werr != nil && err == nil {
+			err = werr
+		}
+	}
+	return pr, err
+}
+
+func readState(path string) (*State, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	var st State
+	dec := json.NewDecoder(bytes.NewReader(b))
+	if err := dec.Decode(&st); err != nil {
+		return nil, fmt.Errorf("corrupt checkpoint: %w", err)
+	}
+	return &st, nil
+}
+
+// ReadState reads a point's checkpoint (StateFile in dir).
+func ReadState(dir string) (*State, error) { return readState(filepath.Join(dir, StateFile)) }
+
+func writePointFiles(t runner.Task, res *Result, mode string) error {
+	frame := func(x []float64, comment string) parsers.Frame {
+		f := parsers.Frame{Comment: comment}
+		for a, at := range t.Mol.Atoms {
+			f.Labels = append(f.Labels, at.Element.Symbol)
+			f.Coords = append(f.Coords, [3]float64{x[3*a] * planner.BohrInAngstrom, x[3*a+1] * planner.BohrInAngstrom, x[3*a+2] * planner.BohrInAngstrom})
+		}
+		return f
+	}
+	word := "converged"
+	if !res.Converged {
+		word = "NOT converged"
+	}
+	var buf bytes.Buffer
+	if err := parsers.WriteXYZ(&buf, []parsers.Frame{frame(res.State.X, fmt.Sprintf("%s point %s: E = %.10f Eh, optimisation %s", mode, t.Key, res.Energy, word))}); err != nil {
+		return err
+	}
+	if err := runner.WriteFileAtomic(filepath.Join(t.Dir, RelaxedFile), buf.Bytes()); err != nil {
+		return err
+	}
+	buf.Reset()
+	var frames []parsers.Frame
+	for i, fr := range res.State.Trajectory {
+		acc := "accepted"
+		if !fr.Accepted {
+			acc = "rejected"
+		}
+		frames = append(frames, frame(fr.X, fmt.Sprintf("point %s step %d: E = %.10f Eh, max force %.2e, %s", t.Key, i, fr.Energy, fr.MaxForce, acc)))
+	}
+	if err := parsers.WriteXYZ(&buf, frames); err != nil {
+		return err
+	}
+	return runner.WriteFileAtomic(filepath.Join(t.Dir, TrajectoryFile), buf.Bytes())
+}
