@@ -129,6 +129,9 @@ func (s *Spec) validateRelax() error {
 	if relaxed > 0 && relaxed < len(s.Scan) {
 		return s.errAt("scan", "relax = true in %d of %d [[scan]] blocks: a point is either relaxed or rigid, so set it in every block (or none)", relaxed, len(s.Scan))
 	}
+	if relaxed > 0 && s.Engine.Kind == "model" {
+		return s.errAt("scan", "relax = true needs an engine that computes molecules (builtin or command); a model potential has no other coordinates to optimise")
+	}
 	r := s.Relax
 	if relaxed == 0 && (len(r.Hold) > 0 || r.MaxSteps != 0 || r.Tighter != 0) {
 		return s.errAt("relax", "[relax] settings apply to relaxed scans only; add relax = true to the [[scan]] blocks")

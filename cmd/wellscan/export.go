@@ -58,7 +58,7 @@ func newExportCommand(a *app) *cobra.Command {
 			if err != nil {
 				return err
 			}
-			return exportXYZ(a, spec, in)
+			return exportXYZ(a, spec, in, args[0])
 		},
 	}
 	o.AddFlags(cmd.Flags())
@@ -80,9 +80,10 @@ func exportJSON(a *app, in report.Input) error {
 		units[ax.Name] = ax.Unit
 	}
 	out := struct {
+		Mode   string            `json:"scan_mode"`
 		Units  map[string]string `json:"coordinate_units"`
 		Points []exportPoint     `json:"points"`
-	}{Units: units, Points: []exportPoint{}}
+	}{Mode: modeOf(in), Units: units, Points: []exportPoint{}}
 	for _, p := range in.Points {
 		c := map[string]float64{}
 		for i, ax := range in.Axes {
@@ -97,7 +98,7 @@ func exportJSON(a *app, in report.Input) error {
 
 // exportXYZ writes every done point's geometry (rebuilt from its key, as
 // the engine saw it) in Å.
-func exportXYZ(a *app, spec *planner.Spec, in report.Input) error {
+func exportXYZ(a *app, spec *planner.Spec, in report.Input, dir string) error {
 	var frames []parsers.Frame
 	for _, p := range in.Points {
 		if p.Energy == nil {
@@ -111,7 +112,13 @@ func exportXYZ(a *app, spec *planner.Spec, in report.Input) error {
 		if err != nil {
 			return fmt.Errorf("export: point %s: %w", p.Key, err)
 		}
-		f := parsers.Frame{Comment: parsers.FormatXYZComment(p.Key, *p.Energy)}
+		if spec.Relaxed() {
+			// The optimised geometry the energy belongs to.
+			if mol, err = relaxedGeometry(dir, p.Key, mol); err != nil {
+				return fmt.Errorf("export: point %s: %w", p.Key, err)
+			}
+		}
+		f := parsers.Frame{Comment: parsers.FormatXYZComment(p.Key, *p.Energy) + " scan=" + spec.ScanMode()}
 		for _, at := range mol.Atoms {
 			f.Labels = append(f.Labels, at.Element.Symbol)
 			f.Coords = append(f.Coords, [3]float64{at.Pos[0] * planner.BohrInAngstrom, at.Pos[1] * planner.BohrInAngstrom, at.Pos[2] * planner.BohrInAngstrom})

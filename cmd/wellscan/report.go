@@ -106,7 +106,7 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 		abs = dir
 	}
 	in.Conditions = report.Conditions{Title: spec.Title, Dir: filepath.Base(abs), Formula: mol.Formula(), Charge: mol.Charge, Multiplicity: mol.Multiplicity,
-		Engine: spec.Engine.Kind, Method: strings.ToUpper(spec.Engine.Method), Basis: spec.Engine.Basis, Version: version}
+		Engine: spec.Engine.Kind, Method: strings.ToUpper(spec.Engine.Method), Basis: spec.Engine.Basis, Version: version, Mode: spec.ScanMode()}
 	for _, c := range spec.Coordinates() {
 		u := "degree"
 		if c.Kind == planner.KindDistance {

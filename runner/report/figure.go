@@ -106,6 +106,7 @@ func heading(c Conditions) string {
 	if m := methodLabel(c); m != "" {
 		s += " · " + m
 	}
+	s += " · " + modeWord(c.Mode)
 	switch {
 	case c.Title == "":
 		return s

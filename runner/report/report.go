@@ -61,6 +61,8 @@ type Conditions struct {
 	Method  string
 	Basis   string
 	Backend string
+	// Mode is "rigid" or "relaxed" ("" reads as rigid).
+	Mode    string
 	Version string
 	Date    time.Time
 }
@@ -249,7 +251,7 @@ func WriteCSV(w io.Writer, in Input) error {
 		u, _ := otherUnit(a)
 		head = append(head, fmt.Sprintf("%s [%s]", a.Name, a.Unit), fmt.Sprintf("%s [%s]", a.Name, u))
 	}
-	head = append(head, "energy [hartree]", "relative [cm-1]", "relative [kJ/mol]", "state")
+	head = append(head, "energy [hartree]", "relative [cm-1]", "relative [kJ/mol]", "state", "scan")
 	if err := cw.Write(head); err != nil {
 		return fmt.Errorf("report: curve.csv: %w", err)
 	}
@@ -268,7 +270,7 @@ func WriteCSV(w io.Writer, in Input) error {
 		} else {
 			row = append(row, "", "", "")
 		}
-		row = append(row, p.State)
+		row = append(row, p.State, modeWord(in.Conditions.Mode))
 		if err := cw.Write(row); err != nil {
 			return fmt.Errorf("report: curve.csv: %w", err)
 		}

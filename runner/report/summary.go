@@ -111,6 +111,7 @@ func (in Input) sections() []section {
 		{"basis", orDash(c.Basis)},
 		{"backend", orDash(c.Backend)},
 		{"scanned", strings.Join(coords, "; ")},
+		{"scan", modeText(c.Mode)},
 		{"points", fmt.Sprintf("%d: %s", len(in.Points), strings.Join(counts, ", "))},
 		{"mass model", orDash(in.MassModel)},
 		{"program", "wellscan " + c.Version},
@@ -360,4 +361,21 @@ func WriteHTML(w io.Writer, in Input, svg []byte) error {
 		return fmt.Errorf("report: summary.html: %w", err)
 	}
 	return nil
+}
+
+// modeText says how the points were computed: the word a reader needs
+// before comparing barriers or frequencies with another scan.
+func modeText(mode string) string {
+	if mode == "relaxed" {
+		return "relaxed: at every point the other coordinates were optimised"
+	}
+	return "rigid: every other coordinate held at its input value"
+}
+
+// modeWord is "relaxed" or "rigid".
+func modeWord(mode string) string {
+	if mode == "relaxed" {
+		return "relaxed"
+	}
+	return "rigid"
 }
