@@ -25,6 +25,10 @@ const (
 	RelaxedFile = "relaxed.xyz"
 	// TrajectoryFile holds every gradient's geometry (XYZ, Å).
 	TrajectoryFile = "relax-trajectory.xyz"
+	// GradientLogFile gets one line per gradient computed for the point
+	// ("pid energy"), across interruptions: an audit of the work done,
+	// including gradients lost to a crash.
+	GradientLogFile = "relax-gradients.log"
 )
 
 // PointResult is the outcome of [RelaxPoint].
@@ -138,7 +142,18 @@ func RelaxPoint(ctx context.Context, spec *planner.Spec, t runner.Task, f Object
 			}
 		}
 	}
-	res, err := Optimize(ctx, start, f, opts)
+	logPath := filepath.Join(t.Dir, GradientLogFile)
+	logged := func(ctx context.Context, m planner.Molecule) (float64, [][3]float64, error) {
+		e, g, err := f(ctx, m)
+		if err == nil && t.Dir != "" {
+			if lf, lerr := os.OpenFile(logPath, os.O_WRONLY|os.O_CREATE|os.O_APPEND, 0o600); lerr == nil {
+				fmt.Fprintf(lf, "%d %.12f\n", os.Getpid(), e)
+				lf.Close()
+			}
+		}
+		return e, g, err
+	}
+	res, err := Optimize(ctx, start, logged, opts)
 	pr.Result = res
 	if res == nil {
 		return pr, err
