@@ -25,6 +25,9 @@ type Backend struct {
 	basisName string
 	check     ColdCheck
 	spec      *planner.Spec // for relaxed scans (nil in backends built by hand)
+	// coldRelax starts relaxed points from their rigid geometry and the
+	// model Hessian even when a finished neighbour exists (benchmarks).
+	coldRelax bool
 }
 
 // ColdCheck selects when a UHF point that started from a neighbour's

@@ -80,7 +80,7 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task, opts Option
 		}
 		return e, g, err
 	}
-	po := geomopt.PointOptions{}
+	po := geomopt.PointOptions{NoNeighbourStart: b.coldRelax}
 	if t.GuessPath != "" {
 		po.NeighbourDir = filepath.Dir(t.GuessPath)
 	}
@@ -133,4 +133,14 @@ func b2f(b bool) float64 {
 		return 1
 	}
 	return 0
+}
+
+// WithoutNeighbourGeometry returns a copy of b whose relaxed points start
+// from their rigid geometry and the model Hessian, ignoring finished
+// neighbours (the orbitals guess is kept). It exists to measure what the
+// neighbour start saves.
+func (b *Backend) WithoutNeighbourGeometry() *Backend {
+	nb := *b
+	nb.coldRelax = true
+	return &nb
 }

@@ -19,9 +19,9 @@ const kcalPerHartree = 627.5094740631
 
 // optimisedXYZ optimises mol at RHF/6-31G* and returns its geometry as
 // spec geometry lines (Å).
-func optimisedGeometry(t *testing.T, mol planner.Molecule) (string, planner.Molecule) {
+func optimisedGeometry(t testing.TB, mol planner.Molecule) (string, planner.Molecule) {
 	t.Helper()
-	res, _, err := hf.Optimize(context.Background(), mol, hf.Options{Method: hf.RHF, Basis: lookupBasis(t, "6-31G*"), Workers: 2},
+	res, _, err := hf.Optimize(context.Background(), mol, hf.Options{Method: hf.RHF, Basis: lookupBasisTB(t, "6-31G*"), Workers: 2},
 		geomopt.Options{Criteria: geomopt.Criteria{}.Tight(10)})
 	if err != nil {
 		t.Fatal(err)
@@ -53,6 +53,24 @@ basis = "6-31G*"
 kind = "local"
 workers = 2
 `, geom, torsion, values, relax)
+}
+
+// angstromMolTB is a neutral singlet from symbols and positions in Å.
+func angstromMolTB(tb testing.TB, syms []string, pos [][3]float64) planner.Molecule {
+	tb.Helper()
+	var atoms []planner.Atom
+	for i, s := range syms {
+		el, err := planner.ElementBySymbol(s)
+		if err != nil {
+			tb.Fatal(err)
+		}
+		atoms = append(atoms, planner.NewAtom(el, [3]float64{pos[i][0] / planner.BohrInAngstrom, pos[i][1] / planner.BohrInAngstrom, pos[i][2] / planner.BohrInAngstrom}))
+	}
+	m, err := planner.NewMolecule(atoms, 0, 1)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return m
 }
 
 func byKey(t *testing.T, recs []runner.PointRecord) map[string]runner.PointRecord {
