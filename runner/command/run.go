@@ -47,6 +47,11 @@ const (
 	// Cancelled: the context was cancelled; the point did not fail on its
 	// own and should be run again later, without counting an attempt.
 	Cancelled FailureClass = "cancelled"
+	// GradientMissing: a gradient was asked for but the output has none
+	// where the extractor looks.
+	GradientMissing FailureClass = "gradient-missing"
+	// GradientInvalid: the gradient read is not N rows of finite numbers.
+	GradientInvalid FailureClass = "gradient-invalid"
 )
 
 // Retryable reports whether running the same point again may succeed. A
@@ -67,7 +72,10 @@ func (f FailureClass) Retryable() bool {
 // kept output files; ExitCode is -1 when the program did not exit on its
 // own (killed, or never started).
 type Outcome struct {
-	Energy   float64 // hartree; meaningful only when Class is empty
+	Energy float64 // hartree; meaningful only when Class is empty
+	// Gradient is dE/dR per atom (hartree/bohr) when Config.Gradient is
+	// set; nil otherwise.
+	Gradient [][3]float64
 	Class    FailureClass
 	ExitCode int
 	Input    string
@@ -148,6 +156,9 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	stale := append(slices.Clone(c.Outputs), ExitStatusFile)
 	if c.EnergyFrom != "" && c.EnergyFrom != Stdout && c.EnergyFrom != StderrFile {
 		stale = append(stale, c.EnergyFrom)
+	}
+	if c.GradientFrom != "" && c.GradientFrom != Stdout && c.GradientFrom != StderrFile {
+		stale = append(stale, c.GradientFrom)
 	}
 	for _, name := range stale {
 		if err := os.Remove(filepath.Join(dir, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
@@ -272,6 +283,30 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(EnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err))
 	}
 	out.Energy = e
+	if c.Gradient != nil {
+		gx, _ := c.Gradient.Compile() // Validate compiled it already
+		gsrc := filepath.Join(dir, StdoutFile)
+		switch c.GradientFrom {
+		case StderrFile:
+			gsrc = out.Stderr
+		case "", Stdout:
+		default:
+			gsrc = filepath.Join(dir, c.GradientFrom)
+		}
+		gtext, err := readCapped(gsrc)
+		if err != nil {
+			return fail(OutputMissing, fmt.Errorf("gradient: %w", err))
+		}
+		g, err := gx.Extract(gtext, len(job.Atoms))
+		if err != nil {
+			class := GradientMissing
+			if errors.Is(err, parsers.ErrGradientInvalid) {
+				class = GradientInvalid
+			}
+			return fail(class, fmt.Errorf("%s: %w", filepath.Base(gsrc), err))
+		}
+		out.Gradient = g
+	}
 	writeStatus(dir, out, nil)
 	return out, nil
 }
