@@ -50,6 +50,13 @@ import (
 // accumulator; the call returns when all have exited, with ctx.Err()
 // wrapped if the context ended.
 func TwoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, workers int, da, db *mat.SymDense, nAtoms int, threshold float64) ([][3]float64, error) {
+	return twoElectronGradient(ctx, shells, norm, workers, da, db, nAtoms, threshold, false)
+}
+
+// twoElectronGradient is TwoElectronGradient with the choice of the
+// shifted-class code: the one-pass recurrence, or separate quartets
+// (separate, for tests).
+func twoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, workers int, da, db *mat.SymDense, nAtoms int, threshold float64, separate bool) ([][3]float64, error) {
 	if threshold < 0 || math.IsNaN(threshold) {
 		return nil, fmt.Errorf("integral: two-electron gradient: threshold %v, want ≥ 0", threshold)
 	}
@@ -77,6 +84,7 @@ func TwoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 		return g, nil
 	}
 	dg := newDerivBasis(eb, shells)
+	dg.separate = separate
 	Da, Db := denseCopy(da, n), denseCopy(db, n)
 	Dt := make([]float64, n*n)
 	for i := range Dt {
@@ -162,16 +170,19 @@ func TwoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 // derivBasis holds, for every shell pair of an eriBasis, the pairs over
 // raw Cartesian and shifted shells the derivative quartets use.
 type derivBasis struct {
-	eb    *eriBasis
-	atom  []int       // atom of each shell
-	raw   []shellPair // pair P over raw Cartesian components
-	p1    []shellPair // first shell l+1, coefficients ×2α
-	m1    []shellPair // first shell l−1 (unused when l = 0)
-	p2    []shellPair // second shell l+1, coefficients ×2β
-	m2    []shellPair // second shell l−1 (unused when l = 0)
-	up    [][][3]int  // up[l][c][x]: index of component c + 1_x in shell l+1
-	down  [][][3]int  // down[l][c][x]: index of c − 1_x in shell l−1 (−1 if none)
-	power [][][3]int  // power[l][c][x]: exponent of x in component c
+	eb *eriBasis
+	// separate computes shifted classes as separate quartets instead of
+	// the one-pass recurrence (tests only).
+	separate bool
+	atom     []int       // atom of each shell
+	raw      []shellPair // pair P over raw Cartesian components
+	p1       []shellPair // first shell l+1, coefficients ×2α
+	m1       []shellPair // first shell l−1 (unused when l = 0)
+	p2       []shellPair // second shell l+1, coefficients ×2β
+	m2       []shellPair // second shell l−1 (unused when l = 0)
+	up       [][][3]int  // up[l][c][x]: index of component c + 1_x in shell l+1
+	down     [][][3]int  // down[l][c][x]: index of c − 1_x in shell l−1 (−1 if none)
+	power    [][][3]int  // power[l][c][x]: exponent of x in component c
 }
 
 func newDerivBasis(eb *eriBasis, shells []Shell) *derivBasis {
@@ -257,7 +268,7 @@ func rawPair(sp *shellPair, s1, s2 *prepShell) shellPair {
 			if k < primScreen {
 				continue
 			}
-			pp := primPair{p: p, inv2p: 0.5 / p, U: pref * s1.coefs[i] * s2.coefs[j] * k / p}
+			pp := primPair{p: p, inv2p: 0.5 / p, a: alpha, U: pref * s1.coefs[i] * s2.coefs[j] * k / p}
 			for d := range 3 {
 				pp.P[d] = (alpha*s1.center[d] + beta*s2.center[d]) / p
 				pp.PA[d] = pp.P[d] - s1.center[d]
@@ -273,13 +284,32 @@ type derivWork struct {
 	w            *eriWork
 	gam, gc, tmp []float64
 	bp1, bm1     []float64
+	// One-pass scratch (deriv2vrr.go): five contractions, per-bra-primitive
+	// sums, the class window and the class blocks.
+	cw         [5][]float64
+	s0, sc, sd []float64
+	win        []float64
+	cls        [4][2][]float64
+	tcls       [4][2][]float64 // transposed classes
 }
 
 func newDerivWork(maxl int) *derivWork {
 	nc, ncp := ncart(maxl), ncart(maxl+1)
 	big := ncp * nc * nc * nc
 	mk := func() []float64 { return make([]float64, big) }
-	return &derivWork{w: newERIWork(maxl + 1), gam: mk(), gc: mk(), tmp: mk(), bp1: mk(), bm1: mk()}
+	dw := &derivWork{w: newERIWork(maxl + 1), gam: mk(), gc: mk(), tmp: mk(), bp1: mk(), bm1: mk()}
+	n := ncum(2*maxl+1) * ncum(2*maxl+1)
+	for k := range dw.cw {
+		dw.cw[k] = make([]float64, n)
+	}
+	dw.s0, dw.sc, dw.sd, dw.win = make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
+	for k := range dw.cls {
+		for j := range 2 {
+			dw.cls[k][j] = mk()
+			dw.tcls[k][j] = mk()
+		}
+	}
+	return dw
 }
 
 // quartetGrad returns the contributions of shell quartet (P|Q) to the
@@ -357,47 +387,33 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 			skip = k
 		}
 	}
-	rawP, rawQ := &dg.raw[P], &dg.raw[Q]
-	keep := func(dst []float64, blk []float64) []float64 {
-		dst = dst[:len(blk)]
-		copy(dst, blk)
-		return dst
+	var need [4]bool
+	for k := range 4 {
+		need[k] = group[k] != skip
 	}
-	w := dw.w
+	var cl derivClasses
+	if dg.separate {
+		cl = dw.shiftedSeparately(dg, P, Q, need)
+	} else {
+		cl = dw.quartetShifted(bp, kp, need)
+	}
 	var total [3]float64
 	for k := range 4 {
-		if group[k] == skip {
+		if !need[k] {
 			continue
 		}
-		var plus, minus []float64
 		var outer, inner int
 		switch k {
 		case 0:
-			plus = keep(dw.bp1, w.quartet(&dg.p1[P], rawQ))
-			if ls[k] > 0 {
-				minus = keep(dw.bm1, w.quartet(&dg.m1[P], rawQ))
-			}
 			outer, inner = 1, nb*nc*nd
 		case 1:
-			plus = keep(dw.bp1, w.quartet(&dg.p2[P], rawQ))
-			if ls[k] > 0 {
-				minus = keep(dw.bm1, w.quartet(&dg.m2[P], rawQ))
-			}
 			outer, inner = na, nc*nd
 		case 2:
-			plus = keep(dw.bp1, w.quartet(rawP, &dg.p1[Q]))
-			if ls[k] > 0 {
-				minus = keep(dw.bm1, w.quartet(rawP, &dg.m1[Q]))
-			}
 			outer, inner = na*nb, nd
 		case 3:
-			plus = keep(dw.bp1, w.quartet(rawP, &dg.p2[Q]))
-			if ls[k] > 0 {
-				minus = keep(dw.bm1, w.quartet(rawP, &dg.m2[Q]))
-			}
 			outer, inner = na*nb*nc, 1
 		}
-		g[k] = contractShift(gc, plus, minus, outer, dims[k], inner, ls[k], dg)
+		g[k] = contractShift(gc, cl[k][0], cl[k][1], outer, dims[k], inner, ls[k], dg)
 		for x := range 3 {
 			total[x] += g[k][x]
 		}
@@ -440,4 +456,48 @@ func contractShift(gam, plus, minus []float64, outer, ncomp, inner, l int, dg *d
 		}
 	}
 	return g
+}
+
+// shiftedSeparately computes the shifted classes as separate quartets
+// over shifted shells (the first implementation, kept as an independent
+// check of the one-pass recurrence; derivBasis.separate selects it).
+func (dw *derivWork) shiftedSeparately(dg *derivBasis, P, Q int, need [4]bool) derivClasses {
+	w := dw.w
+	rawP, rawQ := &dg.raw[P], &dg.raw[Q]
+	bp, kp := &dg.eb.pairs[P], &dg.eb.pairs[Q]
+	ls := [4]int{bp.l1, bp.l2, kp.l1, kp.l2}
+	var out derivClasses
+	keep := func(k, j int, blk []float64) {
+		dst := dw.cls[k][j][:len(blk)]
+		copy(dst, blk)
+		out[k][j] = dst
+	}
+	for k := range 4 {
+		if !need[k] {
+			continue
+		}
+		switch k {
+		case 0:
+			keep(k, 0, w.quartet(&dg.p1[P], rawQ))
+			if ls[k] > 0 {
+				keep(k, 1, w.quartet(&dg.m1[P], rawQ))
+			}
+		case 1:
+			keep(k, 0, w.quartet(&dg.p2[P], rawQ))
+			if ls[k] > 0 {
+				keep(k, 1, w.quartet(&dg.m2[P], rawQ))
+			}
+		case 2:
+			keep(k, 0, w.quartet(rawP, &dg.p1[Q]))
+			if ls[k] > 0 {
+				keep(k, 1, w.quartet(rawP, &dg.m1[Q]))
+			}
+		case 3:
+			keep(k, 0, w.quartet(rawP, &dg.p2[Q]))
+			if ls[k] > 0 {
+				keep(k, 1, w.quartet(rawP, &dg.m2[Q]))
+			}
+		}
+	}
+	return out
 }
