@@ -14,6 +14,10 @@ type RelaxSpec struct {
 	// Hold lists extra coordinates held fixed, by 1-based atoms: two
 	// atoms a distance, three a bend, four a torsion.
 	Hold [][]int `toml:"hold"`
+	// Tie lists groups of coordinates (same atom-list forms as Hold, all
+	// of one kind) that stay equal to each other while they relax, for
+	// example [[[1, 2], [1, 3]]] for two bonds kept symmetric.
+	Tie [][][]int `toml:"tie"`
 	// MaxSteps bounds the gradients per point (0: 100).
 	MaxSteps int `toml:"max_steps"`
 	// Tighter divides every convergence threshold of the optimiser
@@ -78,6 +82,28 @@ func (s *Spec) Held() []HeldCoordinate {
 	return out
 }
 
+// Ties lists the [relax] tie groups as 0-based coordinates (each group
+// at least two of one kind). Nil for a rigid scan.
+func (s *Spec) Ties() [][]HeldCoordinate {
+	if !s.Relaxed() {
+		return nil
+	}
+	var out [][]HeldCoordinate
+	for gi, g := range s.Relax.Tie {
+		var grp []HeldCoordinate
+		for mi, m := range g {
+			atoms := make([]int, len(m))
+			for k, a := range m {
+				atoms[k] = a - 1
+			}
+			grp = append(grp, HeldCoordinate{Kind: CoordKind(len(m) - 1), Atoms: atoms,
+				Label: fmt.Sprintf("[relax] tie %d member %d", gi+1, mi+1), Value: math.NaN()})
+		}
+		out = append(out, grp)
+	}
+	return out
+}
+
 // RelaxLimits returns the per-point gradient limit (0: the optimiser's
 // default) and the threshold divisor (≥ 1 tightens).
 func (s *Spec) RelaxLimits() (maxSteps int, tighter float64) {
@@ -133,7 +159,7 @@ func (s *Spec) validateRelax() error {
 		return s.errAt("scan", "relax = true needs an engine that computes molecules (builtin or command); a model potential has no other coordinates to optimise")
 	}
 	r := s.Relax
-	if relaxed == 0 && (len(r.Hold) > 0 || r.MaxSteps != 0 || r.Tighter != 0) {
+	if relaxed == 0 && (len(r.Hold) > 0 || len(r.Tie) > 0 || r.MaxSteps != 0 || r.Tighter != 0) {
 		return s.errAt("relax", "[relax] settings apply to relaxed scans only; add relax = true to the [[scan]] blocks")
 	}
 	if r.MaxSteps < 0 {
@@ -143,6 +169,26 @@ func (s *Spec) validateRelax() error {
 		return s.errAt("relax.tighter", "tighter = %v, want a positive factor (1 = default thresholds)", r.Tighter)
 	}
 	n := len(s.mol.Atoms)
+	for gi, g := range r.Tie {
+		if len(g) < 2 {
+			return s.errAt("relax.tie", "group %d has %d coordinate(s); a tie needs at least two", gi+1, len(g))
+		}
+		for mi, m := range g {
+			if len(m) < 2 || len(m) > 4 {
+				return s.errAt("relax.tie", "group %d member %d lists %d atoms; give 2 (distance), 3 (bend) or 4 (torsion)", gi+1, mi+1, len(m))
+			}
+			if len(m) != len(g[0]) {
+				return s.errAt("relax.tie", "group %d mixes kinds (%d and %d atoms): tie distances to distances, bends to bends", gi+1, len(g[0]), len(m))
+			}
+			seen := map[int]bool{}
+			for _, a := range m {
+				if a < 1 || a > n || seen[a] {
+					return s.errAt("relax.tie", "group %d member %d: atom %d outside 1..%d or repeated", gi+1, mi+1, a, n)
+				}
+				seen[a] = true
+			}
+		}
+	}
 	for i, h := range r.Hold {
 		if len(h) < 2 || len(h) > 4 {
 			return s.errAt("relax.hold", "entry %d lists %d atoms; give 2 (distance), 3 (bend) or 4 (torsion)", i+1, len(h))
@@ -167,5 +213,5 @@ func (s *Spec) relaxFingerprint() any {
 	if !s.Relaxed() {
 		return nil
 	}
-	return map[string]any{"hold": s.Relax.Hold, "max_steps": s.Relax.MaxSteps, "tighter": s.Relax.Tighter}
+	return map[string]any{"hold": s.Relax.Hold, "tie": s.Relax.Tie, "max_steps": s.Relax.MaxSteps, "tighter": s.Relax.Tighter}
 }

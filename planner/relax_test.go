@@ -31,7 +31,10 @@ func relaxText(relax, extra string) string {
 
 func TestSpec_Relaxed_HeldAndFingerprint(t *testing.T) {
 	rigid := mustDecode(t, relaxText("", ""))
-	relaxed := mustDecode(t, relaxText("relax = true", "[relax]\nhold = [[1, 3], [2, 1, 3]]\nmax_steps = 40"))
+	relaxed := mustDecode(t, relaxText("relax = true", "[relax]\nhold = [[1, 3], [2, 1, 3]]\ntie = [[[1, 3], [2, 4]]]\nmax_steps = 40"))
+	if ties := relaxed.Ties(); len(ties) != 1 || len(ties[0]) != 2 || ties[0][1].Atoms[0] != 1 || ties[0][1].Kind != KindDistance {
+		t.Errorf("ties = %+v; want one group of two distances", ties)
+	}
 	if rigid.Relaxed() || rigid.ScanMode() != "rigid" || rigid.Held() != nil {
 		t.Errorf("rigid spec: Relaxed %v, mode %q, held %v", rigid.Relaxed(), rigid.ScanMode(), rigid.Held())
 	}
@@ -60,6 +63,8 @@ func TestSpec_Relax_Errors(t *testing.T) {
 		{"relax table without relaxed scan", relaxText("", "[relax]\nmax_steps = 3"), "relaxed scans only"},
 		{"bad hold", relaxText("relax = true", "[relax]\nhold = [[1]]"), "give 2 (distance)"},
 		{"hold atom range", relaxText("relax = true", "[relax]\nhold = [[1, 9]]"), "outside 1..4"},
+		{"tie of one", relaxText("relax = true", "[relax]\ntie = [[[1, 3]]]"), "at least two"},
+		{"tie mixed kinds", relaxText("relax = true", "[relax]\ntie = [[[1, 3], [2, 1, 3]]]"), "mixes kinds"},
 		{"negative steps", relaxText("relax = true", "[relax]\nmax_steps = -1"), "max_steps"},
 		{"model engine", strings.Replace(relaxText("relax = true", ""), "kind = \"builtin\"\nmethod = \"rhf\"\nbasis = \"sto-3g\"", "kind = \"model\"\n[[engine.model.term]]\nshape = \"harmonic\"\nforce = 1.0", 1), "model potential"},
 		{"mixed blocks", relaxText("relax = true", "") + "[[scan]]\nname = \"r\"\nbond = [1, 2]\nvalues = [1.4, 1.5]\n", "relax = true in 1 of 2"},

@@ -59,11 +59,27 @@ func (c Criteria) Tight(f float64) Criteria {
 	return Criteria{c.MaxForce / f, c.RMSForce / f, c.MaxStep / f, c.EnergyChange / f}
 }
 
-// Constraint holds one internal coordinate at Value (bohr or radians).
+// Constraint holds one internal coordinate at Value (bohr or radians),
+// or, when Tie is set, keeps Prim − Tie at Value (0: the two equal, free
+// otherwise; both of one kind).
 type Constraint struct {
 	Prim  Prim    `json:"prim"`
+	Tie   *Prim   `json:"tie,omitempty"`
 	Value float64 `json:"value"`
 }
+
+// Measure is the constrained quantity at x: q(Prim), or q(Prim) − q(Tie).
+func (c Constraint) Measure(x []float64) float64 {
+	v := c.Prim.Value(x)
+	if c.Tie != nil {
+		v = c.Prim.diff(v, c.Tie.Value(x))
+	}
+	return v
+}
+
+// Error is the deviation of the constrained quantity from Value at x
+// (wrapped for torsions).
+func (c Constraint) Error(x []float64) float64 { return c.Prim.diff(c.Measure(x), c.Value) }
 
 // Options configures [Optimize]. The zero value gives the defaults.
 type Options struct {
@@ -191,11 +207,20 @@ func Optimize(ctx context.Context, mol planner.Molecule, f Objective, opts Optio
 	} else {
 		prims := BuildPrims(mol)
 		for _, c := range opts.Constraints {
-			if err := c.Prim.validate(len(mol.Atoms)); err != nil {
-				return nil, err
+			ps := []Prim{c.Prim}
+			if c.Tie != nil {
+				if c.Tie.Kind != c.Prim.Kind {
+					return nil, fmt.Errorf("geomopt: cannot tie %s to %s: different kinds", c.Prim, *c.Tie)
+				}
+				ps = append(ps, *c.Tie)
 			}
-			if findPrim(prims, c.Prim) < 0 {
-				prims = append(prims, c.Prim)
+			for _, p := range ps {
+				if err := p.validate(len(mol.Atoms)); err != nil {
+					return nil, err
+				}
+				if findPrim(prims, p) < 0 {
+					prims = append(prims, p)
+				}
 			}
 		}
 		st = &State{Version: StateVersion, Prims: prims, Constraints: opts.Constraints, LastStep: -1}
@@ -349,25 +374,24 @@ func (o *optimizer) internals(st *State, x, gx []float64) (*internals, error) {
 			proj.SetSym(i, j, 0.5*(P.At(i, j)+P.At(j, i)))
 		}
 	}
-	if cs := constrainedIndices(st); len(cs) > 0 {
-		// P′ = P − P C (C P C)⁻¹ C P, C selecting the constrained
-		// coordinates.
-		k := len(cs)
+	if cv := constraintVectors(st); cv != nil {
+		// P′ = P − P C (Cᵀ P C)⁻¹ Cᵀ P, the columns of C the constrained
+		// directions (a unit vector for a held coordinate, e_i − e_j for a
+		// tie).
+		_, k := cv.Dims()
+		pc := mat.NewDense(m, k, nil)
+		pc.Mul(proj, cv)
+		var cpcD mat.Dense
+		cpcD.Mul(cv.T(), pc)
 		cpc := mat.NewSymDense(k, nil)
 		for a := range k {
 			for b := a; b < k; b++ {
-				cpc.SetSym(a, b, proj.At(cs[a], cs[b]))
+				cpc.SetSym(a, b, 0.5*(cpcD.At(a, b)+cpcD.At(b, a)))
 			}
 		}
 		inv, _, err := pinvSym(cpc, 1e-10)
 		if err != nil {
 			return nil, err
-		}
-		pc := mat.NewDense(m, k, nil)
-		for i := range m {
-			for a := range k {
-				pc.Set(i, a, proj.At(i, cs[a]))
-			}
 		}
 		var t, corr mat.Dense
 		t.Mul(pc, inv)
@@ -579,18 +603,35 @@ func (o *optimizer) impose(st *State, x []float64) ([]float64, error) {
 	if len(st.Constraints) == 0 {
 		return x, nil
 	}
-	prims := make([]Prim, len(st.Constraints))
-	for i, c := range st.Constraints {
-		prims[i] = c.Prim
-	}
 	x = append([]float64(nil), x...)
-	k := len(prims)
-	for it := 0; it < 100; it++ {
-		q, B := wilsonB(prims, x)
+	k := len(st.Constraints)
+	n := len(x)
+	rows := func(x []float64) ([]float64, *mat.Dense) {
 		r := make([]float64, k)
+		B := mat.NewDense(k, n, nil)
 		for i, c := range st.Constraints {
-			r[i] = c.Prim.diff(c.Value, q[i])
+			r[i] = -c.Error(x)
+			add := func(p Prim, s float64) {
+				_, g := p.valueGrad(x, true)
+				atoms := p.Atoms
+				if p.Kind == PrimCart {
+					atoms = atoms[:1]
+				}
+				for a, at := range atoms {
+					for d := range 3 {
+						B.Set(i, 3*at+d, B.At(i, 3*at+d)+s*g[a][d])
+					}
+				}
+			}
+			add(c.Prim, 1)
+			if c.Tie != nil {
+				add(*c.Tie, -1)
+			}
 		}
+		return r, B
+	}
+	for it := 0; it < 100; it++ {
+		r, B := rows(x)
 		if maxAbs(r) < 1e-12 {
 			return x, nil
 		}
@@ -602,29 +643,43 @@ func (o *optimizer) impose(st *State, x []float64) ([]float64, error) {
 		}
 		t := mat.NewVecDense(k, nil)
 		t.MulVec(Ginv, mat.NewVecDense(k, r))
-		dx := mat.NewVecDense(len(x), nil)
+		dx := mat.NewVecDense(n, nil)
 		dx.MulVec(B.T(), t)
 		for i := range x {
 			x[i] += dx.AtVec(i)
 		}
 	}
-	q, _ := wilsonB(prims, x)
-	for i, c := range st.Constraints {
-		if d := c.Prim.diff(c.Value, q[i]); math.Abs(d) > 1e-10 {
-			return nil, fmt.Errorf("geomopt: cannot hold %s at %.6g (reached %.6g): the constraints contradict each other", c.Prim, c.Value, q[i])
+	for _, c := range st.Constraints {
+		if d := c.Error(x); math.Abs(d) > 1e-10 {
+			what := c.Prim.String()
+			if c.Tie != nil {
+				what += " − " + c.Tie.String()
+			}
+			return nil, fmt.Errorf("geomopt: cannot hold %s at %.6g (off by %.2g): the constraints contradict each other", what, c.Value, d)
 		}
 	}
 	return x, nil
 }
 
-func constrainedIndices(st *State) []int {
-	var out []int
-	for _, c := range st.Constraints {
+// constraintVectors returns the constrained directions in the space of
+// st.Prims as the columns of an m×k matrix (nil without constraints).
+func constraintVectors(st *State) *mat.Dense {
+	if len(st.Constraints) == 0 {
+		return nil
+	}
+	m := len(st.Prims)
+	cv := mat.NewDense(m, len(st.Constraints), nil)
+	for a, c := range st.Constraints {
 		if i := findPrim(st.Prims, c.Prim); i >= 0 {
-			out = append(out, i)
+			cv.Set(i, a, 1)
+		}
+		if c.Tie != nil {
+			if j := findPrim(st.Prims, *c.Tie); j >= 0 {
+				cv.Set(j, a, cv.At(j, a)-1)
+			}
 		}
 	}
-	return out
+	return cv
 }
 
 // modelHessian is a diagonal starting Hessian: 0.5 Eh/bohr² for bonds,

@@ -149,7 +149,7 @@ func TestOptimize_HarmonicModel(t *testing.T) {
 	calls = 0
 	res, err = Optimize(context.Background(), start, model.objective(&calls), Options{
 		Criteria:    Criteria{}.Tight(100),
-		Constraints: []Constraint{{Prim{PrimAngle, []int{1, 0, 2}}, hold}},
+		Constraints: []Constraint{{Prim: Prim{PrimAngle, []int{1, 0, 2}}, Value: hold}},
 	})
 	if err != nil {
 		t.Fatal(err)
@@ -224,5 +224,51 @@ func TestOptimize_ResumeRepeatsNothing(t *testing.T) {
 		if res.Energy != full.Energy { // deterministic: exact equality intended
 			t.Errorf("stop %d: energy %.15g, uninterrupted %.15g", stop, res.Energy, full.Energy)
 		}
+	}
+}
+
+// TestOptimize_TiedBonds ties the two bonds of an asymmetric model of our
+// own (different r0) to each other: they must stay equal and settle at the
+// value that minimises the sum of both terms, (k1 r1 + k2 r2)/(k1 + k2)
+// (the closed-form minimum of two springs forced to one length).
+func TestOptimize_TiedBonds(t *testing.T) {
+	const k1, r1, k2, r2, kt, t0 = 1.1, 1.70, 0.6, 1.95, 0.35, 1.8
+	f := func(ctx context.Context, m planner.Molecule) (float64, [][3]float64, error) {
+		x := flatten(m)
+		g := make([][3]float64, 3)
+		var e float64
+		for i, b := range [][]int{{0, 1}, {0, 2}} {
+			k, r0 := []float64{k1, k2}[i], []float64{r1, r2}[i]
+			p := Prim{PrimBond, b}
+			r, d := p.valueGrad(x, true)
+			e += 0.5 * k * (r - r0) * (r - r0)
+			for j, a := range b {
+				for c := range 3 {
+					g[a][c] += k * (r - r0) * d[j][c]
+				}
+			}
+		}
+		p := Prim{PrimAngle, []int{1, 0, 2}}
+		th, d := p.valueGrad(x, true)
+		e += 0.5 * kt * (th - t0) * (th - t0)
+		for j, a := range p.Atoms {
+			for c := range 3 {
+				g[a][c] += kt * (th - t0) * d[j][c]
+			}
+		}
+		return e, g, nil
+	}
+	start := mol(t, []string{"O", "H", "H"}, [][3]float64{{0, 0, 0}, {1.6, 0.3, 0.1}, {-0.6, 1.9, -0.2}})
+	tie := Prim{PrimBond, []int{0, 2}}
+	res, err := Optimize(context.Background(), start, f, Options{Criteria: Criteria{}.Tight(100),
+		Constraints: []Constraint{{Prim: Prim{PrimBond, []int{0, 1}}, Tie: &tie}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	x := flatten(res.Mol)
+	a, b := Prim{PrimBond, []int{0, 1}}.Value(x), tie.Value(x)
+	want := (k1*r1 + k2*r2) / (k1 + k2) // closed form, see above
+	if math.Abs(a-b) > 1e-9 || math.Abs(a-want) > 1e-5 {
+		t.Errorf("tied bonds %.7f and %.7f bohr, want both %.7f", a, b, want)
 	}
 }

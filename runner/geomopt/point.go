@@ -91,6 +91,14 @@ func Constraints(spec *planner.Spec, values []float64) ([]Constraint, error) {
 		}
 		out = append(out, Constraint{Prim: Prim{Kind: kind, Atoms: h.Atoms}, Value: v})
 	}
+	kinds := map[planner.CoordKind]PrimKind{planner.KindDistance: PrimBond, planner.KindAngle: PrimAngle, planner.KindTorsion: PrimTorsion}
+	for _, g := range spec.Ties() {
+		ref := Prim{Kind: kinds[g[0].Kind], Atoms: g[0].Atoms}
+		for _, m := range g[1:] {
+			r := ref
+			out = append(out, Constraint{Prim: Prim{Kind: kinds[m.Kind], Atoms: m.Atoms}, Tie: &r})
+		}
+	}
 	return out, nil
 }
 
@@ -160,7 +168,7 @@ func RelaxPoint(ctx context.Context, spec *planner.Spec, t runner.Task, f Object
 	}
 	for _, fr := range res.State.Trajectory {
 		for _, c := range res.State.Constraints {
-			pr.MaxConstraintError = max(pr.MaxConstraintError, math.Abs(c.Prim.diff(c.Prim.Value(fr.X), c.Value)))
+			pr.MaxConstraintError = max(pr.MaxConstraintError, math.Abs(c.Error(fr.X)))
 		}
 	}
 	if res.State.Done {

@@ -172,3 +172,39 @@ func TestRelaxedScan_H2O2Barriers(t *testing.T) {
 		}
 	}
 }
+
+// TestRelaxedScan_TiedBonds relaxes H2O2 (RHF/STO-3G, our own rough
+// start) at a torsion of 75° with the two O–H bonds and the two O–O–H
+// bends tied: the tied pairs must come out equal to 1e-8 (bohr, rad),
+// the torsion held.
+func TestRelaxedScan_TiedBonds(t *testing.T) {
+	text := `[molecule]
+geometry = """
+O 0 0.70 0
+O 0 -0.70 0
+H 0.90 0.85 0.30
+H -0.35 -0.85 0.85
+"""
+[[scan]]
+name = "phi"
+torsion = [3, 1, 2, 4]
+values = [75]
+relax = true
+[relax]
+tie = [[[1, 3], [2, 4]], [[2, 1, 3], [1, 2, 4]]]
+[refine]
+adaptive = false
+[engine]
+kind = "builtin"
+method = "rhf"
+basis = "sto-3g"
+`
+	recs := byKey(t, runScanText(t, text, 1, func(b *hf.Backend) runner.Backend { return b }))
+	r := recs["phi=75.000"]
+	if e := r.Extra["relax_constraint_error"]; e > 1e-8 { // ties and the torsion, bohr or rad
+		t.Errorf("largest constraint error %.2e", e)
+	}
+	if r.Extra["relaxed"] != 1 || r.Energy == nil {
+		t.Fatalf("point not relaxed: %+v", r)
+	}
+}
