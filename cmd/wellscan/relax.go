@@ -15,7 +15,7 @@ import (
 
 	"wellscan/parsers"
 	"wellscan/planner"
-	"wellscan/runner/geomopt"
+	"wellscan/planner/geomopt"
 	"wellscan/runner/hf"
 	"wellscan/runner/hf/basis"
 )

@@ -9,7 +9,6 @@ import (
 
 	"wellscan/planner"
 	"wellscan/runner"
-	"wellscan/runner/geomopt"
 	"wellscan/runner/slurm"
 )
 
@@ -54,11 +53,11 @@ func TestNodeTask_RelaxedPoints(t *testing.T) {
 		if !ok || res.Status != "done" {
 			t.Fatalf("%s: no done result (%+v)", k, res)
 		}
-		st, err := geomopt.ReadState(runner.PointDir(scan, k))
+		st, err := runner.ReadRelaxState(runner.PointDir(scan, k))
 		if err != nil || !st.Done || !st.Converged {
 			t.Fatalf("%s: checkpoint %v, done %v", k, err, st != nil && st.Done)
 		}
-		if _, err := os.Stat(filepath.Join(runner.PointDir(scan, k), geomopt.RelaxedFile)); err != nil {
+		if _, err := os.Stat(filepath.Join(runner.PointDir(scan, k), runner.RelaxedFile)); err != nil {
 			t.Errorf("%s: no relaxed geometry: %v", k, err)
 		}
 		// The bound on held coordinates: 1e-4°.

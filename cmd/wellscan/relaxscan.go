@@ -8,7 +8,6 @@ import (
 	"wellscan/parsers"
 	"wellscan/planner"
 	"wellscan/runner"
-	"wellscan/runner/geomopt"
 	"wellscan/runner/report"
 )
 
@@ -22,7 +21,7 @@ func scanModeLine(spec *planner.Spec) string {
 }
 
 func modeOf(in report.Input) string {
-	if in.Conditions.Mode == "relaxed" {
+	if in.Conditions.ScanKind == "relaxed" {
 		return "relaxed"
 	}
 	return "rigid"
@@ -31,7 +30,7 @@ func modeOf(in report.Input) string {
 // relaxedGeometry reads the optimised geometry of a relaxed point
 // (points/<key>/relaxed.xyz, Å) onto a copy of mol.
 func relaxedGeometry(dir, key string, mol planner.Molecule) (planner.Molecule, error) {
-	path := filepath.Join(runner.PointDir(dir, key), geomopt.RelaxedFile)
+	path := filepath.Join(runner.PointDir(dir, key), runner.RelaxedFile)
 	f, err := os.Open(path)
 	if err != nil {
 		return mol, fmt.Errorf("relaxed geometry: %w", err)

@@ -10,8 +10,8 @@ import (
 	"sync"
 
 	"wellscan/planner"
+	"wellscan/planner/geomopt"
 	"wellscan/runner"
-	"wellscan/runner/geomopt"
 )
 
 // RelaxDir is the subdirectory of a relaxed point's directory that holds
@@ -94,11 +94,11 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task) (runner.Out
 		}
 		return out.Energy, grad, nil
 	}
-	po := geomopt.PointOptions{}
+	po := runner.RelaxPointOptions{}
 	if t.GuessPath != "" {
 		po.NeighbourDir = filepath.Dir(t.GuessPath)
 	}
-	pr, err := geomopt.RelaxPoint(ctx, b.spec, t, obj, po)
+	pr, err := runner.RelaxPoint(ctx, b.spec, t, obj, po)
 	if err != nil && !errors.Is(err, geomopt.ErrNotConverged) {
 		if ctx.Err() != nil {
 			return runner.Outcome{}, errors.Join(ctx.Err(), err)
@@ -131,7 +131,7 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task) (runner.Out
 	}
 	// The checkpoint is what a neighbour starts from (the runner hands
 	// its path to the next point as the continuation file).
-	out.OrbitalsPath = filepath.Join(t.Dir, geomopt.StateFile)
+	out.OrbitalsPath = filepath.Join(t.Dir, runner.RelaxStateFile)
 	return out, nil
 }
 

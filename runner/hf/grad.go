@@ -11,7 +11,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"wellscan/planner"
-	"wellscan/runner/geomopt"
+	"wellscan/planner/geomopt"
 	"wellscan/runner/hf/integral"
 )
 

@@ -7,8 +7,8 @@ import (
 	"path/filepath"
 
 	"wellscan/planner"
+	"wellscan/planner/geomopt"
 	"wellscan/runner"
-	"wellscan/runner/geomopt"
 )
 
 // GradientSource turns the built-in engine into a geometry-optimisation
@@ -80,11 +80,11 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task, opts Option
 		}
 		return e, g, err
 	}
-	po := geomopt.PointOptions{NoNeighbourStart: b.coldRelax}
+	po := runner.RelaxPointOptions{NoNeighbourStart: b.coldRelax}
 	if t.GuessPath != "" {
 		po.NeighbourDir = filepath.Dir(t.GuessPath)
 	}
-	pr, err := geomopt.RelaxPoint(ctx, b.spec, t, wrapped, po)
+	pr, err := runner.RelaxPoint(ctx, b.spec, t, wrapped, po)
 	if err != nil && !errors.Is(err, geomopt.ErrNotConverged) {
 		if ctx.Err() != nil {
 			return runner.Outcome{}, ctx.Err()

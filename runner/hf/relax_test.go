@@ -6,7 +6,7 @@ import (
 	"testing"
 
 	"wellscan/planner"
-	"wellscan/runner/geomopt"
+	"wellscan/planner/geomopt"
 	"wellscan/runner/hf"
 )
 

@@ -8,8 +8,8 @@ import (
 	"testing"
 
 	"wellscan/planner"
+	"wellscan/planner/geomopt"
 	"wellscan/runner"
-	"wellscan/runner/geomopt"
 	"wellscan/runner/hf"
 )
 

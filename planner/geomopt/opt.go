@@ -200,7 +200,7 @@ func Optimize(ctx context.Context, mol planner.Molecule, f Objective, opts Optio
 	o := &optimizer{mol: mol, f: f, crit: crit}
 	var st *State
 	if r := opts.Resume; r != nil {
-		if err := r.check(len(mol.Atoms)); err != nil {
+		if err := r.Check(len(mol.Atoms)); err != nil {
 			return nil, err
 		}
 		st = r
@@ -782,8 +782,9 @@ func (p Prim) validate(nat int) error {
 	return nil
 }
 
-// check validates a checkpoint before resuming from it.
-func (st *State) check(nat int) error {
+// Check validates a checkpoint before resuming from it: version,
+// dimensions for nat atoms, coordinates.
+func (st *State) Check(nat int) error {
 	switch {
 	case st.Version != StateVersion:
 		return fmt.Errorf("geomopt: checkpoint version %d, want %d", st.Version, StateVersion)

@@ -1,4 +1,4 @@
-package geomopt
+package runner
 
 import (
 	"bytes"
@@ -13,27 +13,27 @@ import (
 
 	"wellscan/parsers"
 	"wellscan/planner"
-	"wellscan/runner"
+	"wellscan/planner/geomopt"
 )
 
 // Files a relaxed scan point leaves in its directory.
 const (
-	// StateFile is the optimiser checkpoint, rewritten (atomically, by
+	// RelaxStateFile is the optimiser checkpoint, rewritten (atomically, by
 	// rename) after every gradient; a resumed point continues from it.
-	StateFile = "relax-state.json"
+	RelaxStateFile = "relax-state.json"
 	// RelaxedFile is the final geometry (XYZ, Å).
 	RelaxedFile = "relaxed.xyz"
-	// TrajectoryFile holds every gradient's geometry (XYZ, Å).
-	TrajectoryFile = "relax-trajectory.xyz"
-	// GradientLogFile gets one line per gradient computed for the point
+	// RelaxTrajectoryFile holds every gradient's geometry (XYZ, Å).
+	RelaxTrajectoryFile = "relax-trajectory.xyz"
+	// RelaxGradientLogFile gets one line per gradient computed for the point
 	// ("pid energy"), across interruptions: an audit of the work done,
 	// including gradients lost to a crash.
-	GradientLogFile = "relax-gradients.log"
+	RelaxGradientLogFile = "relax-gradients.log"
 )
 
-// PointResult is the outcome of [RelaxPoint].
-type PointResult struct {
-	*Result
+// RelaxPointResult is the outcome of [RelaxPoint].
+type RelaxPointResult struct {
+	*geomopt.Result
 	// FromNeighbour is set when the point started from a finished
 	// neighbour's relaxed geometry and Hessian.
 	FromNeighbour bool
@@ -46,8 +46,8 @@ type PointResult struct {
 	MaxConstraintError float64
 }
 
-// PointOptions configures [RelaxPoint].
-type PointOptions struct {
+// RelaxPointOptions configures [RelaxPoint].
+type RelaxPointOptions struct {
 	// NeighbourDir is the directory of a finished neighbouring point
 	// (usually the directory of Task.GuessPath); "" for none.
 	NeighbourDir string
@@ -56,24 +56,24 @@ type PointOptions struct {
 	NoNeighbourStart bool
 }
 
-// Constraints returns the optimiser constraints of a relaxed point of
+// RelaxConstraints returns the optimiser constraints of a relaxed point of
 // spec at t: every scanned member at t's value, every [relax] hold at its
 // value in the spec's geometry.
-func Constraints(spec *planner.Spec, values []float64) ([]Constraint, error) {
-	var out []Constraint
+func RelaxConstraints(spec *planner.Spec, values []float64) ([]geomopt.Constraint, error) {
+	var out []geomopt.Constraint
 	held := spec.Held()
 	scanIdx := 0
 	member := 0
 	coords := spec.Coordinates()
 	for _, h := range held {
-		var kind PrimKind
+		var kind geomopt.PrimKind
 		switch h.Kind {
 		case planner.KindDistance:
-			kind = PrimBond
+			kind = geomopt.PrimBond
 		case planner.KindAngle:
-			kind = PrimAngle
+			kind = geomopt.PrimAngle
 		case planner.KindTorsion:
-			kind = PrimTorsion
+			kind = geomopt.PrimTorsion
 		default:
 			return nil, fmt.Errorf("geomopt: %s: unknown coordinate kind", h.Label)
 		}
@@ -89,14 +89,14 @@ func Constraints(spec *planner.Spec, values []float64) ([]Constraint, error) {
 			v = values[scanIdx]
 			member++
 		}
-		out = append(out, Constraint{Prim: Prim{Kind: kind, Atoms: h.Atoms}, Value: v})
+		out = append(out, geomopt.Constraint{Prim: geomopt.Prim{Kind: kind, Atoms: h.Atoms}, Value: v})
 	}
-	kinds := map[planner.CoordKind]PrimKind{planner.KindDistance: PrimBond, planner.KindAngle: PrimAngle, planner.KindTorsion: PrimTorsion}
+	kinds := map[planner.CoordKind]geomopt.PrimKind{planner.KindDistance: geomopt.PrimBond, planner.KindAngle: geomopt.PrimAngle, planner.KindTorsion: geomopt.PrimTorsion}
 	for _, g := range spec.Ties() {
-		ref := Prim{Kind: kinds[g[0].Kind], Atoms: g[0].Atoms}
+		ref := geomopt.Prim{Kind: kinds[g[0].Kind], Atoms: g[0].Atoms}
 		for _, m := range g[1:] {
 			r := ref
-			out = append(out, Constraint{Prim: Prim{Kind: kinds[m.Kind], Atoms: m.Atoms}, Tie: &r})
+			out = append(out, geomopt.Constraint{Prim: geomopt.Prim{Kind: kinds[m.Kind], Atoms: m.Atoms}, Tie: &r})
 		}
 	}
 	return out, nil
@@ -111,26 +111,26 @@ func Constraints(spec *planner.Spec, values []float64) ([]Constraint, error) {
 // interrupted point loses at most the gradient in flight. It writes
 // StateFile after every gradient and RelaxedFile and TrajectoryFile at
 // the end. A point that did not converge returns its result with an
-// error wrapping ErrNotConverged.
-func RelaxPoint(ctx context.Context, spec *planner.Spec, t runner.Task, f Objective, po PointOptions) (*PointResult, error) {
-	cons, err := Constraints(spec, t.Values)
+// error wrapping geomopt.ErrNotConverged.
+func RelaxPoint(ctx context.Context, spec *planner.Spec, t Task, f geomopt.Objective, po RelaxPointOptions) (*RelaxPointResult, error) {
+	cons, err := RelaxConstraints(spec, t.Values)
 	if err != nil {
 		return nil, err
 	}
 	maxSteps, tighter := spec.RelaxLimits()
-	opts := Options{MaxSteps: maxSteps, Criteria: Criteria{}.Tight(tighter), Constraints: cons}
-	statePath := filepath.Join(t.Dir, StateFile)
-	opts.OnStep = func(st *State) error {
+	opts := geomopt.Options{MaxSteps: maxSteps, Criteria: geomopt.Criteria{}.Tight(tighter), Constraints: cons}
+	statePath := filepath.Join(t.Dir, RelaxStateFile)
+	opts.OnStep = func(st *geomopt.State) error {
 		b, err := json.Marshal(st)
 		if err != nil {
 			return err
 		}
-		return runner.WriteFileAtomic(statePath, b)
+		return WriteFileAtomic(statePath, b)
 	}
-	pr := &PointResult{}
+	pr := &RelaxPointResult{}
 	start := t.Mol
 	if st, err := readState(statePath); err == nil {
-		if err := st.check(len(t.Mol.Atoms)); err != nil {
+		if err := st.Check(len(t.Mol.Atoms)); err != nil {
 			return nil, fmt.Errorf("geomopt: %s: %w", statePath, err)
 		}
 		opts.Resume = st
@@ -138,7 +138,7 @@ func RelaxPoint(ctx context.Context, spec *planner.Spec, t runner.Task, f Object
 	} else if !errors.Is(err, fs.ErrNotExist) {
 		return nil, fmt.Errorf("geomopt: %s: %w (delete it to restart the point)", statePath, err)
 	} else if po.NeighbourDir != "" && !po.NoNeighbourStart {
-		if nb, err := readState(filepath.Join(po.NeighbourDir, StateFile)); err == nil && nb.Done && nb.Converged && nb.check(len(t.Mol.Atoms)) == nil {
+		if nb, err := readState(filepath.Join(po.NeighbourDir, RelaxStateFile)); err == nil && nb.Done && nb.Converged && nb.Check(len(t.Mol.Atoms)) == nil {
 			m := t.Mol.Clone()
 			for a := range m.Atoms {
 				copy(m.Atoms[a].Pos[:], nb.X[3*a:3*a+3])
@@ -150,7 +150,7 @@ func RelaxPoint(ctx context.Context, spec *planner.Spec, t runner.Task, f Object
 			}
 		}
 	}
-	logPath := filepath.Join(t.Dir, GradientLogFile)
+	logPath := filepath.Join(t.Dir, RelaxGradientLogFile)
 	logged := func(ctx context.Context, m planner.Molecule) (float64, [][3]float64, error) {
 		e, g, err := f(ctx, m)
 		if err == nil && t.Dir != "" {
@@ -161,7 +161,7 @@ func RelaxPoint(ctx context.Context, spec *planner.Spec, t runner.Task, f Object
 		}
 		return e, g, err
 	}
-	res, err := Optimize(ctx, start, logged, opts)
+	res, err := geomopt.Optimize(ctx, start, logged, opts)
 	pr.Result = res
 	if res == nil {
 		return pr, err
@@ -179,12 +179,12 @@ func RelaxPoint(ctx context.Context, spec *planner.Spec, t runner.Task, f Object
 	return pr, err
 }
 
-func readState(path string) (*State, error) {
+func readState(path string) (*geomopt.State, error) {
 	b, err := os.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}
-	var st State
+	var st geomopt.State
 	dec := json.NewDecoder(bytes.NewReader(b))
 	if err := dec.Decode(&st); err != nil {
 		return nil, fmt.Errorf("corrupt checkpoint: %w", err)
@@ -192,10 +192,12 @@ func readState(path string) (*State, error) {
 	return &st, nil
 }
 
-// ReadState reads a point's checkpoint (StateFile in dir).
-func ReadState(dir string) (*State, error) { return readState(filepath.Join(dir, StateFile)) }
+// ReadRelaxState reads a point's checkpoint (RelaxStateFile in dir).
+func ReadRelaxState(dir string) (*geomopt.State, error) {
+	return readState(filepath.Join(dir, RelaxStateFile))
+}
 
-func writePointFiles(t runner.Task, res *Result, mode string) error {
+func writePointFiles(t Task, res *geomopt.Result, mode string) error {
 	frame := func(x []float64, comment string) parsers.Frame {
 		f := parsers.Frame{Comment: comment}
 		for a, at := range t.Mol.Atoms {
@@ -212,7 +214,7 @@ func writePointFiles(t runner.Task, res *Result, mode string) error {
 	if err := parsers.WriteXYZ(&buf, []parsers.Frame{frame(res.State.X, fmt.Sprintf("%s point %s: E = %.10f Eh, optimisation %s", mode, t.Key, res.Energy, word))}); err != nil {
 		return err
 	}
-	if err := runner.WriteFileAtomic(filepath.Join(t.Dir, RelaxedFile), buf.Bytes()); err != nil {
+	if err := WriteFileAtomic(filepath.Join(t.Dir, RelaxedFile), buf.Bytes()); err != nil {
 		return err
 	}
 	buf.Reset()
@@ -227,5 +229,5 @@ func writePointFiles(t runner.Task, res *Result, mode string) error {
 	if err := parsers.WriteXYZ(&buf, frames); err != nil {
 		return err
 	}
-	return runner.WriteFileAtomic(filepath.Join(t.Dir, TrajectoryFile), buf.Bytes())
+	return WriteFileAtomic(filepath.Join(t.Dir, RelaxTrajectoryFile), buf.Bytes())
 }
