@@ -223,7 +223,7 @@ func massSets(o *fitOptions, kind fit.Kind) ([]fit.MassSet, error) {
 			if err != nil {
 				return nil, usageError{fmt.Errorf("fit: %w", err)}
 			}
-			s.Name += fmt.Sprintf("%d%s", a, el.Symbol)
+			s.Name += planner.IsotopeLabel(el.Symbol, a)
 			s.Masses = append(s.Masses, m)
 		}
 		sets = append(sets, s)

@@ -73,8 +73,8 @@ func TestFitCommand_Table_JSON(t *testing.T) {
 		t.Errorf("r_e = %v Å, want %v", got, 2.13*planner.BohrInAngstrom)
 	}
 	iso := m["isotopologues"].([]any)
-	if len(iso) != 2 || iso[1].(map[string]any)["name"] != "13C16O" {
-		t.Errorf("isotopologues = %v, want 12C16O and 13C16O", iso)
+	if len(iso) != 2 || iso[1].(map[string]any)["name"] != "¹³C¹⁶O" {
+		t.Errorf("isotopologues = %v, want ¹²C¹⁶O and ¹³C¹⁶O", iso)
 	}
 }
 
@@ -84,7 +84,7 @@ func TestFitCommand_Table_Text(t *testing.T) {
 	if err != nil {
 		t.Fatalf("fit: %v\n%s", err, out)
 	}
-	for _, want := range []string{"r_e = 1.1271", "12C16O", "G(v)/cm⁻¹"} {
+	for _, want := range []string{"r_e = 1.1271", "¹²C¹⁶O", "G(v)/cm⁻¹"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("text output lacks %q:\n%s", want, out)
 		}
