@@ -31,6 +31,7 @@ type Spec struct {
 	// ForceFieldInput is the [forcefield] table (see forcefield.go); a
 	// spec has either [[scan]] blocks or [forcefield].
 	ForceFieldInput ForceFieldSpec `toml:"forcefield"`
+	Relax           RelaxSpec      `toml:"relax"`
 
 	// Filled by Decode.
 	file   string // file name used in messages
@@ -92,6 +93,9 @@ type ScanSpec struct {
 	// the moving atoms by it must map them onto atoms of the same
 	// elements. Default 360.
 	Period *float64 `toml:"period"`
+	// Relax = true makes the scan relaxed: at every point the other
+	// coordinates are optimised (see RelaxSpec). Default rigid.
+	Relax *bool `toml:"relax"`
 }
 
 // RefineSpec is the [refine] table. Lengths in the molecule's units,
@@ -462,6 +466,9 @@ func (s *Spec) Fingerprint() Fingerprint {
 		}
 	}
 	eng = withoutKey(eng, "model", "delay")
+	if r := s.relaxFingerprint(); r != nil {
+		eng["relaxed scan"] = r
+	}
 	fh := s.files
 	if fh == nil {
 		fh = &fileHashes{}

@@ -79,6 +79,9 @@ func (s *Spec) validate() error {
 	if err := s.validateChecks(); err != nil {
 		return err
 	}
+	if err := s.validateRelax(); err != nil {
+		return err
+	}
 	// Every initial point must give a sensible geometry.
 	for _, p := range s.InitialPoints() {
 		if _, err := s.Geometry(p); err != nil {

@@ -138,7 +138,11 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 	for _, n := range spec.Notes() {
 		fmt.Fprintf(w, "note: %s\n", n)
 	}
-	fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned stays at the reference geometry)\n", scanKind(spec))
+	if spec.Relaxed() {
+		fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned is optimised at each point; %d held)\n", scanKind(spec), len(spec.Held()))
+	} else {
+		fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned stays at the reference geometry)\n", scanKind(spec))
+	}
 	e := spec.Engine
 	switch e.Kind {
 	case "builtin":

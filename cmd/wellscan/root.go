@@ -51,7 +51,7 @@ external program, and turned into spectroscopic constants.
 	}
 	root.AddCommand(newVersionCommand(a))
 	root.AddCommand(newReportCommand(a), newExportCommand(a))
-	root.AddCommand(newEnergyCommand(a))
+	root.AddCommand(newEnergyCommand(a), newRelaxCommand(a))
 	root.AddCommand(newBasisCommand(a))
 	root.AddCommand(newFitCommand(a))
 	root.AddCommand(newForcefieldCommand(a))

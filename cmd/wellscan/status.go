@@ -208,6 +208,9 @@ func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source stri
 		fmt.Fprintf(w, "scan: %s\n", sanitizeLine(s.Title))
 	}
 	fmt.Fprintf(w, "source: %s\n", source)
+	if spec != nil {
+		fmt.Fprintf(w, "%s\n", scanModeLine(spec))
+	}
 	var parts []string
 	for _, st := range runner.States {
 		parts = append(parts, fmt.Sprintf("%s %d", st, s.Counts[string(st)]))

@@ -62,6 +62,12 @@ type Config struct {
 	// AllowPositive accepts a positive extracted energy (a relative
 	// energy); otherwise a positive value fails the point as invalid.
 	AllowPositive bool
+	// Gradient, when set, says how to read the nuclear gradient (or
+	// forces) that relaxed scans need; without it they differentiate the
+	// program's energies by central differences.
+	Gradient *parsers.GradientSpec
+	// GradientFrom is like EnergyFrom, for the gradient.
+	GradientFrom string
 
 	// parsed is the template as read once by [Config.Load] (nil: Render
 	// reads the file each time). A scan reads it once, so that every
@@ -191,6 +197,24 @@ func (c Config) Validate() error {
 	if _, err := c.Energy.Compile(); err != nil {
 		return fmt.Errorf("command: energy: %w", err)
 	}
+	if c.Gradient != nil {
+		if _, err := c.Gradient.Compile(); err != nil {
+			return fmt.Errorf("command: gradient: %w", err)
+		}
+	}
+	switch c.GradientFrom {
+	case "", Stdout, StderrFile:
+	default:
+		if c.Gradient == nil {
+			return errors.New("command: gradient_from is set but gradient is not: say how to read the gradient")
+		}
+		if err := checkFileName("gradient_from", c.GradientFrom); err != nil {
+			return err
+		}
+		if c.GradientFrom == c.InputName || slices.Contains(reserved, c.GradientFrom) {
+			return fmt.Errorf("command: gradient_from %q is the input or a file wellscan writes itself; name stdout, stderr or a file the program writes", c.GradientFrom)
+		}
+	}
 	return nil
 }
 
@@ -210,7 +234,9 @@ func checkFileName(what, name string) error {
 
 // configKeys are the keys DecodeConfig accepts, in the order the README
 // lists them.
-var configKeys = []string{"kind", "template", "input", "command", "shell", "script", "env", "timeout", "kill_grace", "outputs", "energy", "energy_from", "allow_positive"}
+var configKeys = []string{"kind", "template", "input", "command", "shell", "script", "env", "timeout", "kill_grace", "outputs", "energy", "energy_from", "allow_positive", "gradient", "gradient_from"}
+
+var gradientKeys = []string{"kind", "label", "pattern", "path", "match", "unit", "sign"}
 
 var energyKeys = []string{"kind", "pattern", "label", "path", "match", "unit"}
 
@@ -269,6 +295,8 @@ func DecodeConfig(m map[string]any, file, table string) (Config, error) {
 	get("energy_from", func(v any) (e error) { c.EnergyFrom, e = d.str("energy_from", v); return })
 	get("allow_positive", func(v any) (e error) { c.AllowPositive, e = d.boolean("allow_positive", v); return })
 	get("energy", func(v any) (e error) { c.Energy, e = d.energy(v); return })
+	get("gradient", func(v any) (e error) { c.Gradient, e = d.gradient(v); return })
+	get("gradient_from", func(v any) (e error) { c.GradientFrom, e = d.str("gradient_from", v); return })
 	if err != nil {
 		return Config{}, err
 	}
@@ -459,4 +487,28 @@ func tomlKind(v any) string {
 		return "a date"
 	}
 	return fmt.Sprintf("a value of type %T", v)
+}
+
+func (d decoder) gradient(v any) (*parsers.GradientSpec, error) {
+	t, ok := v.(map[string]any)
+	if !ok {
+		return nil, d.errf("gradient", "expected a table such as { label = \"gradient\", unit = \"hartree/bohr\" }, got %s", tomlKind(v))
+	}
+	var s parsers.GradientSpec
+	fields := map[string]*string{"kind": &s.Kind, "label": &s.Label, "pattern": &s.Pattern, "path": &s.Path, "match": &s.Match, "unit": &s.Unit, "sign": &s.Sign}
+	for k, e := range t {
+		p, ok := fields[k]
+		if !ok {
+			return nil, d.errf("gradient."+k, "unknown key; expected one of %s", strings.Join(gradientKeys, ", "))
+		}
+		str, err := d.str("gradient."+k, e)
+		if err != nil {
+			return nil, err
+		}
+		*p = str
+	}
+	if _, err := s.Compile(); err != nil {
+		return nil, d.errf("gradient", "%v", err)
+	}
+	return &s, nil
 }

@@ -117,6 +117,42 @@ func TestConfig_Check_Program(t *testing.T) {
 	}
 }
 
+func TestDecodeConfig_Gradient(t *testing.T) {
+	base := func() map[string]any {
+		return map[string]any{"template": "t.tmpl", "input": "p.inp", "command": []any{"prog"},
+			"energy": map[string]any{"label": "E", "unit": "hartree"}}
+	}
+	m := base()
+	m["gradient"] = map[string]any{"label": "forces", "unit": "eV/angstrom", "sign": "force"}
+	m["gradient_from"] = "grad.out"
+	c, err := DecodeConfig(m, "/scan/scan.toml", "engine.command")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Gradient == nil || c.Gradient.Sign != "force" || c.GradientFrom != "grad.out" {
+		t.Errorf("decoded gradient %+v from %q", c.Gradient, c.GradientFrom)
+	}
+	for _, tc := range []struct {
+		name string
+		set  func(map[string]any)
+		want string
+	}{
+		{"unknown key", func(m map[string]any) { m["gradient"] = map[string]any{"label": "g", "unit": "au", "scale": "2"} }, "gradient.scale: unknown key"},
+		{"no unit", func(m map[string]any) { m["gradient"] = map[string]any{"label": "g"} }, "gradient unit missing"},
+		{"from without gradient", func(m map[string]any) { m["gradient_from"] = "g.out" }, "gradient_from is set but gradient is not"},
+		{"from outside", func(m map[string]any) {
+			m["gradient"] = map[string]any{"label": "g", "unit": "au"}
+			m["gradient_from"] = "../g.out"
+		}, "inside the point's directory"},
+	} {
+		m := base()
+		tc.set(m)
+		if _, err := DecodeConfig(m, "/scan/scan.toml", "engine.command"); err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: %v; want %q", tc.name, err, tc.want)
+		}
+	}
+}
+
 // TestDecodeConfig_ArgsResolvedAgainstSpec: an argument naming a file in
 // the spec's directory becomes its absolute path (the program runs in
 // points/<key>/); the input, options, missing names and paths leaving the

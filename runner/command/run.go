@@ -47,6 +47,11 @@ const (
 	// Cancelled: the context was cancelled; the point did not fail on its
 	// own and should be run again later, without counting an attempt.
 	Cancelled FailureClass = "cancelled"
+	// GradientMissing: a gradient was asked for but the output has none
+	// where the extractor looks.
+	GradientMissing FailureClass = "gradient-missing"
+	// GradientInvalid: the gradient read is not N rows of finite numbers.
+	GradientInvalid FailureClass = "gradient-invalid"
 )
 
 // Retryable reports whether running the same point again may succeed. A
@@ -67,7 +72,10 @@ func (f FailureClass) Retryable() bool {
 // kept output files; ExitCode is -1 when the program did not exit on its
 // own (killed, or never started).
 type Outcome struct {
-	Energy   float64 // hartree; meaningful only when Class is empty
+	Energy float64 // hartree; meaningful only when Class is empty
+	// Gradient is dE/dR per atom (hartree/bohr) when Config.Gradient is
+	// set; nil otherwise.
+	Gradient [][3]float64
 	Class    FailureClass
 	ExitCode int
 	Input    string
@@ -175,6 +183,9 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	stale := append(slices.Clone(c.Outputs), ExitStatusFile)
 	if c.EnergyFrom != "" && c.EnergyFrom != Stdout && c.EnergyFrom != StderrFile {
 		stale = append(stale, c.EnergyFrom)
+	}
+	if c.GradientFrom != "" && c.GradientFrom != Stdout && c.GradientFrom != StderrFile {
+		stale = append(stale, c.GradientFrom)
 	}
 	for _, name := range stale {
 		if err := pf.root.Remove(name); err != nil && !errors.Is(err, fs.ErrNotExist) {
@@ -299,8 +310,42 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(class, err)
 	}
 	out.Energy = e
+	if c.Gradient != nil {
+		g, class, err := c.collectGradient(pf, len(job.Atoms))
+		if err != nil {
+			return fail(class, err)
+		}
+		out.Gradient = g
+	}
 	pf.writeStatus(out, nil)
 	return out, nil
+}
+
+// collectGradient reads the nuclear gradient (hartree/bohr per atom) a
+// finished program printed, as c.Gradient says.
+func (c Config) collectGradient(pf *pointFiles, atoms int) ([][3]float64, FailureClass, error) {
+	gx, _ := c.Gradient.Compile() // Validate compiled it already
+	source := StdoutFile
+	switch c.GradientFrom {
+	case StderrFile:
+		source = StderrFile
+	case "", Stdout:
+	default:
+		source = c.GradientFrom
+	}
+	text, err := pf.readCapped(source)
+	if err != nil {
+		return nil, OutputMissing, fmt.Errorf("gradient: %w", err)
+	}
+	g, err := gx.Extract(text, atoms)
+	if err != nil {
+		class := GradientMissing
+		if errors.Is(err, parsers.ErrGradientInvalid) {
+			class = GradientInvalid
+		}
+		return nil, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
+	}
+	return g, "", nil
 }
 
 // collect checks the outputs a finished program left and extracts its

@@ -358,7 +358,7 @@ func WriteCSV(w io.Writer, in Input) error {
 		u, _ := otherUnit(a)
 		head = append(head, fmt.Sprintf("%s [%s]", a.Name, a.Unit), fmt.Sprintf("%s [%s]", a.Name, u))
 	}
-	head = append(head, "energy [hartree]", "relative [cm-1]", "relative [kJ/mol]", "state")
+	head = append(head, "energy [hartree]", "relative [cm-1]", "relative [kJ/mol]", "state", "scan")
 	diag := in.diagnosticColumns()
 	for _, d := range diag {
 		head = append(head, d.head)
@@ -381,7 +381,7 @@ func WriteCSV(w io.Writer, in Input) error {
 		} else {
 			row = append(row, "", "", "")
 		}
-		row = append(row, p.State)
+		row = append(row, p.State, modeWord(in.Conditions.ScanKind))
 		for _, d := range diag {
 			row = append(row, d.cell(p))
 		}

@@ -482,3 +482,11 @@ func WriteHTML(w io.Writer, in Input, svg []byte) error {
 	}
 	return nil
 }
+
+// modeWord is "relaxed" or "rigid".
+func modeWord(mode string) string {
+	if mode == "relaxed" {
+		return "relaxed"
+	}
+	return "rigid"
+}
