@@ -128,6 +128,9 @@ type Summary struct {
 	// Detached is true when Run returned with points left running on the
 	// queue (Runner.Detach); Status then describes the last finished round.
 	Detached bool
+	// Points are every point's record at the end of the run (internal
+	// units), so that the closing analysis reads nothing again.
+	Points []PointRecord
 }
 
 // errDetach ends a round early in detached mode (Runner.Detach).
@@ -1037,6 +1040,7 @@ func (r *Runner) summary() Summary {
 		rounds = append(rounds, *rr)
 	}
 	s.Warnings = ScanWarnings(recs, rounds)
+	s.Points = recs
 	return s
 }
 
