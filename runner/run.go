@@ -135,6 +135,15 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 		r.CPUs = runtime.NumCPU()
 	}
 	r.start = r.Now()
+	// Every path handed to a backend (Task.Dir, guess files) is absolute,
+	// so what a backend returns relative to the working directory cannot
+	// be mistaken for a path relative to the point directory; paths stored
+	// in the store and result files stay relative to the scan directory.
+	if abs, err := filepath.Abs(r.Dir); err == nil {
+		r.Dir = abs
+	} else {
+		return Summary{}, fmt.Errorf("runner: scan directory %s: %w", r.Dir, err)
+	}
 	r.host, _ = os.Hostname()
 	r.suffix = tmpSuffix()
 	fp, _ := json.Marshal(r.Spec.Fingerprint())
@@ -673,6 +682,12 @@ func (r *Runner) work(ctx context.Context, t Task) Completion {
 // compute-node side of a batch queue can call it. On cancellation it
 // returns a Completion with Interrupted set and writes nothing.
 func ComputePoint(ctx context.Context, spec *planner.Spec, dir string, b Backend, t Task) Completion {
+	if abs, err := filepath.Abs(dir); err == nil {
+		dir = abs
+	}
+	if abs, err := filepath.Abs(t.Dir); err == nil {
+		t.Dir = abs
+	}
 	host, _ := os.Hostname()
 	return pointComputer{spec: spec, dir: dir, fp: SpecFingerprint(spec), backend: b, now: time.Now,
 		host: host, suffix: tmpSuffix(), durable: true}.work(ctx, t)
@@ -772,13 +787,7 @@ func (r pointComputer) resultOf(t Task, start time.Time, o Outcome) Result {
 	res := r.base(t, start)
 	res.Energy, res.Converged, res.Iterations, res.SSquared, res.Extra = o.Energy, o.Converged, o.Iterations, o.SSquared, o.Extra
 	if o.OrbitalsPath != "" {
-		p := o.OrbitalsPath
-		if filepath.IsAbs(p) {
-			if rel, err := filepath.Rel(t.Dir, p); err == nil {
-				p = rel
-			}
-		}
-		res.Orbitals = p
+		res.Orbitals = orbitalsRel(t.Dir, o.OrbitalsPath)
 	}
 	if o.Converged && !math.IsNaN(o.Energy) && !math.IsInf(o.Energy, 0) {
 		res.Status = "done"
@@ -796,6 +805,36 @@ func (r pointComputer) resultOf(t Task, start time.Time, o Outcome) Result {
 		}
 	}
 	return res
+}
+
+// orbitalsRel returns the orbitals file p a backend reported for the
+// task in taskDir as a path relative to taskDir (what result files hold).
+// The backend contract allows an absolute path or one relative to
+// Task.Dir; a relative path is taken as it is.
+func orbitalsRel(taskDir, p string) string {
+	if !filepath.IsAbs(p) {
+		return filepath.Clean(p)
+	}
+	if abs, err := filepath.Abs(taskDir); err == nil {
+		if rel, err := filepath.Rel(abs, p); err == nil {
+			return rel
+		}
+	}
+	return p
+}
+
+// storedOrbitals turns the orbitals path of key's result file (relative
+// to the point directory; an absolute one from an older writer is
+// accepted) into the store's form: slash-separated, relative to the scan
+// directory.
+func (r *Runner) storedOrbitals(key, orb string) string {
+	p := filepath.Join(PointsDir, key, orb)
+	if filepath.IsAbs(orb) {
+		if rel, err := filepath.Rel(r.Dir, orb); err == nil {
+			p = rel
+		}
+	}
+	return filepath.ToSlash(p)
 }
 
 // retriable says whether a failure class may succeed on another try. A
@@ -850,7 +889,7 @@ func (r *Runner) apply(rec *PointRecord, res Result) {
 		rec.Class, rec.LastError = "", ""
 		rec.Seconds = res.Finished.Sub(res.Started).Seconds()
 		if res.Orbitals != "" {
-			rec.Orbitals = filepath.ToSlash(filepath.Join(PointsDir, rec.Key, res.Orbitals))
+			rec.Orbitals = r.storedOrbitals(rec.Key, res.Orbitals)
 		}
 		r.touch(rec)
 		r.emit(Event{Kind: string(Done), Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%.10f hartree", e)})

@@ -198,8 +198,10 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		return out, nil
 	}
 	if res.Orbitals != nil && t.Dir != "" {
-		if p, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
-			out.OrbitalsPath = p
+		if _, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
+			// Relative to t.Dir, as runner.Outcome asks: t.Dir itself may
+			// be relative to the working directory.
+			out.OrbitalsPath = OrbitalsFile
 		}
 	}
 	return out, nil

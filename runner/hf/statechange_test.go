@@ -54,7 +54,13 @@ workers = 2
 // are fine; any other error fails the test.
 func runScanText(t testing.TB, text string, workers int, wrap func(*hf.Backend) runner.Backend) []runner.PointRecord {
 	t.Helper()
-	dir := t.TempDir()
+	return runScanTextAt(t, t.TempDir(), text, workers, wrap)
+}
+
+// runScanTextAt is runScanText in the scan directory dir, which may be
+// relative to the working directory.
+func runScanTextAt(t testing.TB, dir, text string, workers int, wrap func(*hf.Backend) runner.Backend) []runner.PointRecord {
+	t.Helper()
 	path := filepath.Join(dir, "scan.toml")
 	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
 		t.Fatal(err)
