@@ -1,6 +1,7 @@
 package hf_test
 
 import (
+	"fmt"
 	"os"
 	"strings"
 	"testing"
@@ -85,4 +86,33 @@ func replaceGuess(s, mode string) string {
 		return strings.Replace(s, `guess = "GUESS"`, `guess = "fresh"`, 1)
 	}
 	return strings.Replace(s, `guess = "GUESS"`+"\n", "", 1)
+}
+
+// BenchmarkScanRunner_COWorkers runs the 30-point CO scan with the
+// continuation guess on one and two local workers and reports SCF
+// iterations per point and the share of points that started from a
+// neighbour. Issue 16: two workers ≤ 1.05 × the iterations of one.
+//
+//	go test -run '^$' -bench ScanRunner_COWorkers -benchtime=1x ./runner/hf/
+func BenchmarkScanRunner_COWorkers(b *testing.B) {
+	for _, workers := range []int{1, 2} {
+		b.Run(fmt.Sprintf("workers=%d", workers), func(b *testing.B) {
+			var iters, points, cont int
+			for b.Loop() {
+				recs := runScanText(b, replaceGuess(coScanSpec, "neighbour"), workers, func(be *hf.Backend) runner.Backend { return be })
+				for _, rec := range recs {
+					if rec.State != runner.Done {
+						b.Fatalf("%s: %s (%s)", rec.Key, rec.State, rec.LastError)
+					}
+					iters += rec.Iterations
+					points++
+					if rec.Extra["guess_from_neighbour"] == 1 {
+						cont++
+					}
+				}
+			}
+			b.ReportMetric(float64(iters)/float64(points), "iterations/point")
+			b.ReportMetric(float64(cont)/float64(points), "continued/point")
+		})
+	}
 }
