@@ -107,6 +107,10 @@ type EngineSpec struct {
 	MaxIterations int      `toml:"max_iterations"` // SCF iteration limit, 0: engine default
 	Convergence   *float64 `toml:"convergence"`    // SCF energy change threshold (hartree), nil: engine default
 	Guess         string   `toml:"guess"`          // "neighbour" (default) or "fresh": continuation guess on/off
+	// MemoryMB is the two-electron integral budget per point in MiB; 0:
+	// derived from the machine's available memory. It changes how fast a
+	// point runs, not its energy, so it is not part of the fingerprint.
+	MemoryMB int `toml:"memory_mb"`
 
 	// Model potentials.
 	Model ModelSpec `toml:"model"`
@@ -446,6 +450,7 @@ func (s *Spec) Fingerprint() Fingerprint {
 		}
 	}
 	eng = withoutKey(eng, "model", "delay")
+	delete(eng, "memory_mb") // a copy: how fast, not what
 	return Fingerprint{
 		Molecule: h(struct {
 			Atoms        []atom
