@@ -16,8 +16,8 @@ import (
 // so they can stay polite while looks follow the work.
 //
 // The first look comes First after a submission. Then, with point times
-// measured in this run, every half point time; before that, every quarter
-// of the time since the submission (so a result waits at most a quarter
+// measured in this run, every half point time; before that, every eighth
+// of the time since the submission (so a result waits at most an eighth
 // of its age to be seen). Never more often than Min, nor than 20 times
 // the last look's own duration (a large scan on a slow shared filesystem
 // spends at most 5 % of the time looking), and never less often than Max.
@@ -25,18 +25,18 @@ type LookPolicy struct {
 	First, Min, Max time.Duration
 }
 
-// DefaultLookPolicy: first look 1 s after a submission, then between
+// DefaultLookPolicy: first look 500 ms after a submission, then between
 // 250 ms and 30 s apart (ours: 30 s keeps a long task's results from
 // waiting long for the orchestrator).
 func DefaultLookPolicy() LookPolicy {
-	return LookPolicy{First: time.Second, Min: 250 * time.Millisecond, Max: 30 * time.Second}
+	return LookPolicy{First: 500 * time.Millisecond, Min: 250 * time.Millisecond, Max: 30 * time.Second}
 }
 
 // Next returns the wait before the next look: first is true right after a
 // submission, age is the time since it, point the expected compute time of
 // one point (0: not measured yet), cost how long the last look took.
 func (p LookPolicy) Next(first bool, age, point, cost time.Duration) time.Duration {
-	base := age / 4
+	base := age / 8
 	if point > 0 {
 		base = point / 2
 	}

@@ -13,7 +13,7 @@ import (
 )
 
 func TestLookPolicy_Next(t *testing.T) {
-	p := DefaultLookPolicy() // first 1 s, 250 ms – 30 s
+	p := DefaultLookPolicy() // first 500 ms, 250 ms – 30 s
 	ms := time.Millisecond
 	for _, tc := range []struct {
 		name             string
@@ -21,10 +21,10 @@ func TestLookPolicy_Next(t *testing.T) {
 		age, point, cost time.Duration
 		want             time.Duration
 	}{
-		{"first look, nothing measured", true, 0, 0, 0, time.Second},
+		{"first look, nothing measured", true, 0, 0, 0, 500 * ms},
 		{"first look, fast points", true, 0, 10 * ms, 0, 250 * ms},
-		{"first look, slow points", true, 0, time.Hour, 0, time.Second},
-		{"unmeasured: a quarter of the age", false, 4 * time.Second, 0, 0, time.Second},
+		{"first look, slow points", true, 0, time.Hour, 0, 500 * ms},
+		{"unmeasured: an eighth of the age", false, 8 * time.Second, 0, 0, time.Second},
 		{"unmeasured, young: the minimum", false, 400 * ms, 0, 0, 250 * ms},
 		{"unmeasured, old: the ceiling", false, time.Hour, 0, 0, 30 * time.Second},
 		{"measured: half a point", false, time.Hour, 20 * time.Second, 0, 10 * time.Second},
