@@ -189,7 +189,7 @@ func badInputs() []badInput {
 		{name: "table/too few points", base: "model", files: table(goodTableHeader + "1.0,-1.1\n"), args: fit(), code: 1,
 			want: []string{"tb.csv: fit: 1 usable points; a minimum needs at least 3"}},
 		{name: "table/repeated coordinate", base: "model", files: table(goodTableHeader + "1.0,-1.1\n1.0,-1.2\n1.2,-1.15\n1.3,-1.1\n"), args: fit(), code: 1,
-			want: []string{"tb.csv: fit: two points at the same coordinate"}},
+			want: []string{"tb.csv:3: r = 1 repeats the coordinate of line 2"}},
 		{name: "table/file missing", base: "model", args: fit(), code: 1,
 			want: []string{"fit: open ", "tb.csv: no such file or directory"}},
 		// paths that leave the scan directory, and size limits

@@ -349,7 +349,11 @@ func newCurve(in Input) (*Figure, error) {
 			if drawn == 40 {
 				break
 			}
-			e := m.EMin + g/planner.HartreeInCm1
+			zero := m.EMin
+			if len(m.Levels) > 0 && m.LevelZero != 0 {
+				zero = m.LevelZero // grid levels count from their potential's minimum
+			}
+			e := zero + g/planner.HartreeInCm1
 			l, lok := turningPoint(model.v, e, model.lo, xe)
 			r, rok := turningPoint(model.v, e, xe, model.hi)
 			if !lok || !rok {
