@@ -350,7 +350,7 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 		wells = append(wells, w)
 	}
 	if len(wells) == 0 {
-		res.Warnings = append(res.Warnings, noMinimumNote(xs, es, opt.Kind))
+		res.Warnings = append(res.Warnings, noMinimumNote(xs, es, opt.Kind, noiseTol))
 	}
 	// The global fits come first: the level grid uses the better of them as
 	// the shape of the curve between and beyond the points.

@@ -484,3 +484,19 @@ func TestCurve_LargeTable_Cancellable(t *testing.T) {
 		t.Errorf("returned %v after the deadline", d)
 	}
 }
+
+// TestCurve_FlatCurveSaysFlat is issue 15 item 15: identical energies
+// (a program whose output does not depend on the geometry) were reported
+// as "energies only rise or only fall".
+func TestCurve_FlatCurveSaysFlat(t *testing.T) {
+	r := []float64{1.8, 1.9, 2.0, 2.1, 2.2}
+	e := []float64{-1.5, -1.5, -1.5, -1.5, -1.5}
+	res, err := Curve(t.Context(), r, e, Options{})
+	said := err != nil && strings.Contains(err.Error(), "the curve is flat")
+	if res != nil {
+		said = said || strings.Contains(strings.Join(res.Warnings, "\n"), "the curve is flat")
+	}
+	if !said {
+		t.Fatalf("Curve(flat) = %+v, %v; want it to say the curve is flat", res, err)
+	}
+}

@@ -30,8 +30,15 @@ func wellRejected(x, e []float64, w well, tol float64, kind Kind) string {
 }
 
 // noMinimumNote describes a curve without any minimum.
-func noMinimumNote(x, e []float64, kind Kind) string {
+func noMinimumNote(x, e []float64, kind Kind, noiseTol float64) string {
 	n := len(x)
+	lo, hi := e[0], e[0]
+	for _, v := range e {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	if hi-lo <= noiseTol {
+		return fmt.Sprintf("the curve is flat: all %d energies lie within %.3g hartree of each other (the noise allowance is %.3g hartree), so there is no minimum to fit; check that the program's energy changes with the geometry", n, hi-lo, noiseTol)
+	}
 	rises, falls := 0, 0
 	for i := 1; i < n; i++ {
 		switch {

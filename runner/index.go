@@ -2,6 +2,7 @@ package runner
 
 import (
 	"math"
+	"os"
 	"path/filepath"
 	"slices"
 	"sort"
@@ -251,6 +252,11 @@ func (r *Runner) setGuess(t *Task, rec *PointRecord) {
 	}
 	t.GuessPath = filepath.Join(r.Dir, filepath.FromSlash(nb.Orbitals))
 	t.GuessLine, t.LineAt = r.guessLine(rec, nb)
+	if _, err := os.Stat(t.GuessPath); err != nil {
+		// The neighbour's file is gone (points/ deleted under a running
+		// scan): a cold start, not a failure.
+		t.GuessPath, t.GuessLine, t.LineAt = "", nil, 0
+	}
 }
 
 // guessLine returns the done points with orbitals on the line through rec

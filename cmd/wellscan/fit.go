@@ -81,6 +81,9 @@ Optional columns "converged" (true/false or 1/0) and "weight".`,
 				if err != nil {
 					return err
 				}
+				if err := notForceField(spec, args[0], "fit"); err != nil {
+					return err
+				}
 				res, err := fitScanDir(cmd.Context(), args[0], spec, o)
 				if err != nil {
 					return err
@@ -204,6 +207,9 @@ func checkTable(name string, tab *parsers.Table, xcol, ecol int, o *fitOptions) 
 
 // fitTable reads o.table, converts it to atomic units and fits it.
 func fitTable(ctx context.Context, o *fitOptions) (*fit.Result, error) {
+	if err := planner.CheckRegular(o.table); err != nil {
+		return nil, err
+	}
 	f, err := os.Open(o.table)
 	if err != nil {
 		return nil, fmt.Errorf("fit: %w", err)

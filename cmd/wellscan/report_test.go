@@ -313,7 +313,7 @@ func TestExport_Formats(t *testing.T) {
 		if err != nil {
 			t.Fatalf("export xyz does not read back: %v", err)
 		}
-		csvRows := strings.Count(string(readFile(t, filepath.Join(dir, "report", "curve.csv"))), ",done\n")
+		csvRows := strings.Count(string(readFile(t, filepath.Join(dir, "report", "curve.csv"))), ",done,")
 		if len(frames) != csvRows {
 			t.Errorf("%d frames, want one per done point (%d)", len(frames), csvRows)
 		}

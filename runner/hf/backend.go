@@ -26,6 +26,10 @@ type Backend struct {
 	useGuess  bool
 	basisName string
 	check     ColdCheck
+	spec      *planner.Spec // for relaxed scans (nil in backends built by hand)
+	// coldRelax starts relaxed points from their rigid geometry and the
+	// model Hessian even when a finished neighbour exists (benchmarks).
+	coldRelax bool
 }
 
 // ColdCheck selects when a UHF point that started from a neighbour's
@@ -104,7 +108,7 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 		return nil, fmt.Errorf("%s: engine.method = \"rhf\" needs a singlet, but the molecule has multiplicity %d; use \"uhf\"", spec.File(), mol.Multiplicity)
 	}
 	o.Memory = int64(e.MemoryMB) << 20 // 0: a share of the available memory per point (Compute)
-	return &Backend{opts: o, useGuess: e.Guess != "fresh", basisName: set.Name()}, nil
+	return &Backend{opts: o, useGuess: e.Guess != "fresh", basisName: set.Name(), spec: spec}, nil
 }
 
 // Name implements runner.Backend.
@@ -145,6 +149,9 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	}
 	if opts.Guess != nil {
 		b.coldCheck(t.Mol, &opts)
+	}
+	if b.spec != nil && b.spec.Relaxed() {
+		return b.computeRelaxed(ctx, t, opts)
 	}
 	res, err := Energy(ctx, t.Mol, opts)
 	if res == nil {

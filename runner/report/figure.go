@@ -110,6 +110,9 @@ func heading(c Conditions) string {
 			add = append(add, s)
 		}
 	}
+	if c.ScanKind != "" && !strings.Contains(c.Title, c.ScanKind) {
+		add = append(add, c.ScanKind+" scan")
+	}
 	switch {
 	case c.Title == "":
 		return strings.Join(add, " · ")

@@ -357,6 +357,7 @@ func mdCell(s string) string { return strings.ReplaceAll(s, "|", `\|`) }
 
 // WriteMarkdown writes summary.md.
 func WriteMarkdown(w io.Writer, in Input) error {
+	in = in.cleaned()
 	var b bytes.Buffer
 	title := in.Conditions.Title
 	if title == "" {
@@ -450,6 +451,7 @@ figure svg { width: 100%; height: auto; }
 // WriteHTML writes summary.html with the figure (SVG, as written by
 // [Figure.WriteSVG]) embedded inline.
 func WriteHTML(w io.Writer, in Input, svg []byte) error {
+	in = in.cleaned()
 	// The XML declaration and doctype are not allowed inside HTML.
 	s := string(svg)
 	if i := strings.Index(s, "<svg"); i >= 0 {
@@ -479,4 +481,12 @@ func WriteHTML(w io.Writer, in Input, svg []byte) error {
 		return fmt.Errorf("report: summary.html: %w", err)
 	}
 	return nil
+}
+
+// modeWord is "relaxed" or "rigid".
+func modeWord(mode string) string {
+	if mode == "relaxed" {
+		return "relaxed"
+	}
+	return "rigid"
 }
