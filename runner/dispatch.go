@@ -11,17 +11,22 @@ import (
 // (InProcessQueue) points are handed out by the squared distance to their
 // nearest done point with orbitals (smallest first, then round, then
 // coordinate order). A round with nothing done starts from the planned
-// point nearest the middle of all planned points, and the other workers
-// wait for it: a point started beside a running one would start cold, and
-// measured on the 30-point CO scan with two workers a second cold seed
-// cost 6.5 % more SCF iterations per point, waiting 1.2 % (BenchmarkScanRunner_COWorkers).
+// point nearest the middle of all planned points; with one or two slots
+// the other worker waits for it (a point started beside a running one
+// would start cold, and measured on the 30-point CO scan with two workers
+// a second cold seed cost 6.5 % more SCF iterations per point, waiting
+// 1.2 %, BenchmarkScanRunner_COWorkers); with more slots each further
+// worker seeds the planned point farthest from the running ones, since
+// holding them all back would cost more time than their cold starts cost
+// iterations.
 // The neighbours of each done point come next, so every worker soon has a
 // point one or two steps from a done one.
 //
 // Queues that compute elsewhere (a batch scheduler sorts and packs the
 // points itself, and its compute nodes pick their own guesses), scans
-// with the continuation guess off, and backends that leave no orbitals
-// get the points in plain order (round, then coordinate values).
+// with the continuation guess off, and backends that do not continue
+// from a neighbour (not a ContinuationBackend, or one that leaves no
+// orbitals) get the points in plain order (round, then coordinate values).
 //
 // Every operation costs O(log n) in the number of points, except the
 // re-scan when the queue of points with a done neighbour runs dry, which
@@ -34,7 +39,17 @@ type dispatcher struct {
 	running  map[string]*PointRecord
 	prepared map[string]Task // tasks built and not yet handed out: geometry kept
 	plain    bool            // hand out in round and coordinate order
+	wait     bool            // with nothing done, hold the other workers back (else seed far from the running points)
 	anyDone  bool            // some point is done: no more waiting for a first one
+}
+
+// ContinuationBackend is implemented by backends that start a point from
+// the orbitals of a done neighbour (Task.GuessPath) and leave their own
+// for the next (Outcome.OrbitalsPath); UsesGuess reports whether this one
+// does (a spec can turn the guess off). The round loop orders points for
+// continuation only for such backends; others get plain order.
+type ContinuationBackend interface {
+	UsesGuess() bool
 }
 
 // InProcessQueue is implemented by queues whose workers run tasks in this
@@ -49,7 +64,9 @@ func newDispatcher(r *Runner) *dispatcher {
 	d := &dispatcher{r: r, key: map[string]float64{}, planned: map[string]*PointRecord{},
 		running: map[string]*PointRecord{}, prepared: map[string]Task{}}
 	q, ok := r.Queue.(InProcessQueue)
-	d.plain = !ok || !q.InProcess() || r.Spec.Engine.Guess == "fresh"
+	cb, cont := r.Backend.(ContinuationBackend)
+	d.plain = !ok || !q.InProcess() || !cont || !cb.UsesGuess() || r.Spec.Engine.Guess == "fresh"
+	d.wait = r.Queue.Slots() <= 2
 	for _, rec := range r.recs {
 		if rec.State == Done {
 			d.anyDone = true
@@ -93,7 +110,14 @@ func (d *dispatcher) next() *PointRecord {
 	for len(d.planned) > 0 {
 		if len(d.h) == 0 {
 			if !d.anyDone && len(d.running) > 0 {
-				return nil // wait for the first point
+				if d.wait {
+					return nil // wait for the first point
+				}
+				if rec := d.farSeed(); rec != nil {
+					d.take(rec)
+					return rec
+				}
+				return nil
 			}
 			if rec := d.rescan(); rec != nil {
 				d.take(rec)
@@ -176,6 +200,28 @@ func (d *dispatcher) seed() *PointRecord {
 			}
 		}
 		if best == nil || s < bestScore || (s == bestScore && queueLess(rec, best)) {
+			best, bestScore = rec, s
+		}
+	}
+	return best
+}
+
+// farSeed picks, while nothing is done, the planned point farthest from
+// every running point: with more than two workers, holding all but one
+// back for the first point would cost more time than the cold starts of
+// a few more seeds cost iterations.
+func (d *dispatcher) farSeed() *PointRecord {
+	var best *PointRecord
+	bestScore := 0.0
+	for _, rec := range d.planned {
+		if rec.State != Planned {
+			continue
+		}
+		s := math.Inf(1)
+		for _, o := range d.running {
+			s = min(s, sqDist(rec.Values, o.Values))
+		}
+		if best == nil || s > bestScore || (s == bestScore && queueLess(rec, best)) {
 			best, bestScore = rec, s
 		}
 	}

@@ -106,12 +106,20 @@ func (q inProcessQueue) Run(context.Context, Worker, <-chan Task, chan<- Complet
 	return nil
 }
 
+// guessBackend is a backend stand-in that continues from neighbours; the
+// dispatcher tests never compute with it.
+type guessBackend struct{}
+
+func (guessBackend) Name() string                                   { return "test" }
+func (guessBackend) UsesGuess() bool                                { return true }
+func (guessBackend) Compute(context.Context, Task) (Outcome, error) { return Outcome{}, nil }
+
 // TestDispatcher_LineOrder follows the dispatcher over a 9-point line with
 // two workers: the middle point first, no second point until it is done
 // (a point beside a running one would start cold), then the points next
 // to done ones, nearest first.
 func TestDispatcher_LineOrder(t *testing.T) {
-	r := &Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{2}, recs: map[string]*PointRecord{}}
+	r := &Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{2}, Backend: guessBackend{}, recs: map[string]*PointRecord{}}
 	for i := range 9 {
 		k := fmt.Sprintf("x%d", i)
 		r.recs[k] = &PointRecord{Key: k, Values: []float64{float64(i)}, State: Planned, Round: 1}
@@ -148,6 +156,51 @@ func TestDispatcher_LineOrder(t *testing.T) {
 	}
 	if d.len() != 5 {
 		t.Errorf("%d points left, want 5", d.len())
+	}
+}
+
+// TestDispatcher_ManySlots_SeedsFarApart: with four slots and nothing
+// done, the workers after the first seed the points farthest from the
+// running ones instead of waiting.
+func TestDispatcher_ManySlots_SeedsFarApart(t *testing.T) {
+	r := &Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{4}, Backend: guessBackend{}, recs: map[string]*PointRecord{}}
+	for i := range 9 {
+		k := fmt.Sprintf("x%d", i)
+		r.recs[k] = &PointRecord{Key: k, Values: []float64{float64(i)}, State: Planned, Round: 1}
+	}
+	d := newDispatcher(r)
+	var got []string
+	for range 3 {
+		rec := d.next()
+		if rec == nil {
+			t.Fatalf("after %v: no point, want a seed", got)
+		}
+		rec.State = Running
+		d.dispatched(rec)
+		got = append(got, rec.Key)
+	}
+	// x4 (the middle), then x0 (farthest from x4, ties to the lower), then x8.
+	if want := []string{"x4", "x0", "x8"}; fmt.Sprint(got) != fmt.Sprint(want) {
+		t.Errorf("seeds %v, want %v", got, want)
+	}
+}
+
+// TestDispatcher_PlainOrder_WithoutContinuation: a backend that does not
+// continue from neighbours gets the points in coordinate order.
+func TestDispatcher_PlainOrder_WithoutContinuation(t *testing.T) {
+	r := &Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{2}, recs: map[string]*PointRecord{}}
+	for i := range 5 {
+		k := fmt.Sprintf("x%d", i)
+		r.recs[k] = &PointRecord{Key: k, Values: []float64{float64(i)}, State: Planned, Round: 1}
+	}
+	d := newDispatcher(r)
+	for i := range 5 {
+		rec := d.next()
+		if want := fmt.Sprintf("x%d", i); rec == nil || rec.Key != want {
+			t.Fatalf("point %d: %v, want %s", i, rec, want)
+		}
+		rec.State = Running
+		d.dispatched(rec)
 	}
 }
 

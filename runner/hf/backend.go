@@ -114,6 +114,11 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 // Name implements runner.Backend.
 func (b *Backend) Name() string { return "builtin" }
 
+// UsesGuess implements runner.ContinuationBackend: the SCF starts from
+// the nearest done neighbour's orbitals unless the spec says guess =
+// "fresh".
+func (b *Backend) UsesGuess() bool { return b.useGuess }
+
 // Compute implements runner.Backend: one SCF at the point's geometry,
 // started from the neighbour's orbitals when the runner found some. An SCF
 // that does not converge is an Outcome with Converged false and class
