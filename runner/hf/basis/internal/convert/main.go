@@ -138,7 +138,7 @@ type spec struct {
 	// harmonics is the set-wide d/f convention. Elements whose l ≥ 2 shells
 	// the library marks otherwise get their own harmonics line.
 	harmonics format.Harmonics
-	about     string   // appended to the JSON description
+	about     string // appended to the JSON description
 	// ownAbout, when set, replaces the JSON description: a one-line
 	// description in our own words.
 	ownAbout string
@@ -228,8 +228,8 @@ func specs() []spec {
 			ownAbout: "cc-pVTZ with one diffuse function added per angular momentum, for anions, weak interactions and properties that reach far from the nuclei"},
 		{slug: "cc-pcvtz", name: "cc-pCVTZ", harmonics: format.Spherical,
 			ownAbout: "cc-pVTZ with tight functions added to Li-Ar for correlating the core electrons (core-valence correlation); H and He are plain cc-pVTZ",
-			remarks: []string{"H and He have no core to correlate; their functions are those of cc-pVTZ, as the core-valence sets prescribe."},
-			fill:    &spec{slug: "cc-pvtz", name: "cc-pVTZ", harmonics: format.Spherical}, fillElements: []string{"H", "He"}},
+			remarks:  []string{"H and He have no core to correlate; their functions are those of cc-pVTZ, as the core-valence sets prescribe."},
+			fill:     &spec{slug: "cc-pvtz", name: "cc-pVTZ", harmonics: format.Spherical}, fillElements: []string{"H", "He"}},
 	}
 }
 
