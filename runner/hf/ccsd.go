@@ -159,8 +159,33 @@ type ccInts struct {
 	ooov   []float64 // (ij|ka)
 	ovvv   []float64 // (ia|bc)
 	ovvvT  []float64 // [m][b][c][a] = (mb|ac)
-	mo     *moERI    // all blocks, packed; (vv|vv) is read from here
+	mo     *moERI    // all blocks, packed; (vv|vv) is read from here unless vvvv is set
+	// vvvv, when the budget allows, holds [(a b)][e][f] = (ae|bf) for
+	// a ≥ b, pair index a(a+1)/2 + b; mo is then dropped.
+	vvvv   []float64
 	eo, ev []float64
+}
+
+// vvvvBytes is the size of ccInts.vvvv.
+func vvvvBytes(v int) int64 {
+	return 8 * int64(v) * int64(v+1) / 2 * int64(v) * int64(v)
+}
+
+// expandVVVV fills g.vvvv from the packed integrals and drops them.
+func (g *ccInts) expandVVVV(ctx context.Context, workers int) error {
+	v := g.v
+	v2 := v * v
+	g.vvvv = make([]float64, v*(v+1)/2*v2)
+	err := parallel(ctx, workers, v, func() []float64 { return make([]float64, v*v2) }, func(V []float64, a int) error {
+		g.vvvvRow(a, V)
+		copy(g.vvvv[a*(a+1)/2*v2:(a*(a+1)/2+a+1)*v2], V[:(a+1)*v2])
+		return nil
+	})
+	if err != nil {
+		return fmt.Errorf("hf: ccsd: %w", err)
+	}
+	g.mo = nil
+	return nil
 }
 
 func newCCInts(mo *moERI, o, v int, eo, ev []float64) *ccInts {
@@ -355,6 +380,15 @@ func RunCCSD(ctx context.Context, scf *SCFResult, src PairBlockSource, opts CCOp
 	}
 	res.TransformTime = tt
 	g := newCCInts(mo, o, v, sp.eo, sp.ev)
+	// Keep the (vv|vv) rows unpacked when they fit next to everything
+	// else (the packed integrals are dropped then): the ladder becomes one
+	// matrix product over a ≥ b instead of an unpacking per iteration.
+	if res.MemoryBytes+vvvvBytes(v) <= budget {
+		if err := g.expandVVVV(ctx, workers); err != nil {
+			return nil, err
+		}
+		res.MemoryBytes += vvvvBytes(v)
+	}
 	s := &ccsdSolver{g: g, workers: workers, t1: make([]float64, o*v), t2: make([]float64, o*o*v*v)}
 	ccStart := time.Now()
 	// First-order (MP2) amplitudes as the start.
@@ -692,14 +726,35 @@ func (s *ccsdSolver) update(ctx context.Context) (t1n, t2n []float64, err error)
 		gemm(false, true, o2, o2, v2, 1, Vmn, v2, tau, v2, 1, Wmn, o2)
 	}
 	gemm(true, false, o2, v2, o2, 1, Wmn, o2, tau, v2, 1, S, v2) // Σ_mn W_mnij τ_mn^ab
-	// Particle–particle ladder, one virtual a at a time.
-	err = parallel(ctx, s.workers, v, func() []float64 { return make([]float64, v*v2) }, func(V []float64, a int) error {
-		g.vvvvRow(a, V)
-		gemm(false, true, o2, v, v2, 1, tau, v2, V, v2, 1, S[a*v:], v2)
-		return nil
-	})
-	if err != nil {
-		return nil, nil, fmt.Errorf("hf: ccsd: %w", err)
+	// Particle–particle ladder S_ij^ab += Σ_ef τ_ij^ef (ae|bf). S_ij^ab =
+	// S_ji^ba, so only a ≥ b is computed when the (vv|vv) rows are kept.
+	if g.vvvv != nil {
+		nab := v * (v + 1) / 2
+		Y := make([]float64, o2*nab) // [(i j)][(a ≥ b)]
+		gemm(false, true, o2, nab, v2, 1, tau, v2, g.vvvv, v2, 0, Y, nab)
+		for i := range o {
+			for j := range o {
+				row := Y[(i*o+j)*nab : (i*o+j+1)*nab]
+				for a := range v {
+					for b := 0; b <= a; b++ {
+						y := row[a*(a+1)/2+b]
+						S[at(i, j, a, b)] += y
+						if a != b {
+							S[at(j, i, b, a)] += y
+						}
+					}
+				}
+			}
+		}
+	} else {
+		err = parallel(ctx, s.workers, v, func() []float64 { return make([]float64, v*v2) }, func(V []float64, a int) error {
+			g.vvvvRow(a, V)
+			gemm(false, true, o2, v, v2, 1, tau, v2, V, v2, 1, S[a*v:], v2)
+			return nil
+		})
+		if err != nil {
+			return nil, nil, fmt.Errorf("hf: ccsd: %w", err)
+		}
 	}
 
 	// Doubles: the part P that is symmetrised (P_ij^ab + P_ji^ba).
