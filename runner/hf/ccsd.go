@@ -152,14 +152,14 @@ var ErrCCNotConverged = errors.New("hf: ccsd: amplitude equations did not conver
 // ccInts are the MO integral blocks over o correlated occupied and v
 // virtual orbitals (chemists' notation, row-major in the order written).
 type ccInts struct {
-	o, v   int
-	ovov   []float64 // (ia|jb)
-	oovv   []float64 // (ij|ab)
-	oooo   []float64 // (ij|kl)
-	ooov   []float64 // (ij|ka)
-	ovvv   []float64 // (ia|bc)
-	ovvvT  []float64 // [m][b][c][a] = (mb|ac)
-	mo     *moERI    // all blocks, packed; (vv|vv) is read from here unless vvvv is set
+	o, v  int
+	ovov  []float64 // (ia|jb)
+	oovv  []float64 // (ij|ab)
+	oooo  []float64 // (ij|kl)
+	ooov  []float64 // (ij|ka)
+	ovvv  []float64 // (ia|bc)
+	ovvvT []float64 // [m][b][c][a] = (mb|ac)
+	mo    *moERI    // all blocks, packed; (vv|vv) is read from here unless vvvv is set
 	// vvvv, when the budget allows, holds [(a b)][e][f] = (ae|bf) for
 	// a ≥ b, pair index a(a+1)/2 + b; mo is then dropped.
 	vvvv   []float64
