@@ -103,16 +103,17 @@ type EngineSpec struct {
 	Method        string   `toml:"method"`         // "rhf", "uhf", "mp2" (RHF-MP2 for singlets, UMP2 otherwise), "ccsd" or "ccsd(t)" (closed shells)
 	FrozenCore    *bool    `toml:"frozen_core"`    // mp2, ccsd, ccsd(t): leave the atoms' noble-gas cores uncorrelated (default true)
 	Basis         string   `toml:"basis"`          // basis set name, e.g. "6-31G*"
+	Cartesian     *bool    `toml:"cartesian"`      // override the basis set's d/f convention
+	MaxIterations int      `toml:"max_iterations"` // SCF iteration limit, 0: engine default
+	Convergence   *float64 `toml:"convergence"`    // SCF energy change threshold (hartree), nil: engine default
+	Guess         string   `toml:"guess"`          // "neighbour" (default) or "fresh": continuation guess on/off
+
 	// BasisLimit, instead of Basis, names two correlation-consistent sets
 	// (["cc-pVTZ", "cc-pVQZ"]) whose energies are extrapolated to the
 	// basis-set limit; CoreCorrection adds E(all electrons) − E(frozen
 	// core) in a core–valence set ("cc-pCVTZ").
 	BasisLimit     []string `toml:"basis_limit"`
 	CoreCorrection string   `toml:"core_correction"`
-	Cartesian     *bool    `toml:"cartesian"`      // override the basis set's d/f convention
-	MaxIterations int      `toml:"max_iterations"` // SCF iteration limit, 0: engine default
-	Convergence   *float64 `toml:"convergence"`    // SCF energy change threshold (hartree), nil: engine default
-	Guess         string   `toml:"guess"`          // "neighbour" (default) or "fresh": continuation guess on/off
 
 	// Model potentials.
 	Model ModelSpec `toml:"model"`
