@@ -32,15 +32,19 @@ type energyOptions struct {
 	frozenCore   int
 	allElectron  bool
 	guess        string
+	basisLimit   []string
+	coreCorr     string
 }
 
 func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.StringVar(&o.basis, "basis", "6-31G*", "basis set from the built-in library (see 'wellscan basis list'); case-insensitive")
 	fs.StringVar(&o.basisFile, "basis-file", "", "read the basis set from this file (wellscan basis format) instead of the library")
 	fs.StringVar(&o.convention, "convention", "as-set", "d/f functions: as-set, cartesian (6D/10F) or spherical (5D/7F)")
-	fs.StringVar(&o.method, "method", "", "rhf, uhf or mp2 (default: rhf for singlets, uhf otherwise; mp2 runs on rhf for singlets, uhf otherwise)")
-	fs.IntVar(&o.frozenCore, "frozen-core", -1, "mp2: number of lowest occupied orbitals per spin left uncorrelated (default: the atoms' noble-gas cores, e.g. 1 for O)")
-	fs.BoolVar(&o.allElectron, "all-electron", false, "mp2: correlate all electrons (same as --frozen-core 0)")
+	fs.StringVar(&o.method, "method", "", "rhf, uhf, mp2, ccsd or ccsd(t) (default: rhf for singlets, uhf otherwise; mp2 runs on rhf for singlets, uhf otherwise; ccsd and ccsd(t) need a closed shell and run on rhf)")
+	fs.IntVar(&o.frozenCore, "frozen-core", -1, "mp2, ccsd, ccsd(t): number of lowest occupied orbitals per spin left uncorrelated (default: the atoms' noble-gas cores, e.g. 1 for O)")
+	fs.BoolVar(&o.allElectron, "all-electron", false, "mp2, ccsd, ccsd(t): correlate all electrons (same as --frozen-core 0)")
+	fs.StringSliceVar(&o.basisLimit, "basis-limit", nil, "instead of --basis: two correlation-consistent sets, smaller first (e.g. cc-pVTZ,cc-pVQZ), extrapolated to the basis-set limit (HF: Karton–Martin; correlation: X⁻³); needs mp2, ccsd or ccsd(t)")
+	fs.StringVar(&o.coreCorr, "core-correction", "", "with --basis-limit: add all-electron minus frozen-core energy in this core–valence set (e.g. cc-pCVTZ)")
 	fs.IntVar(&o.charge, "charge", 0, "total charge of the molecule")
 	fs.IntVar(&o.multiplicity, "multiplicity", 0, "spin multiplicity 2S+1 (default: the lowest consistent with the electron count)")
 	fs.StringVar(&o.units, "units", "angstrom", "units of the XYZ coordinates: angstrom or bohr")
@@ -54,17 +58,32 @@ func newEnergyCommand(a *app) *cobra.Command {
 	o := &energyOptions{}
 	cmd := &cobra.Command{
 		Use:   "energy FILE.xyz",
-		Short: "Single-point Hartree–Fock or MP2 energy of one geometry with the built-in engine",
-		Long: `Compute the RHF, UHF or MP2 energy of the molecule in an XYZ file with the
-built-in engine. MP2 freezes the atoms' noble-gas cores by default (O 1s,
-Si [Ne], …); --all-electron correlates every electron. Use "-" to read
-the XYZ from standard input. The exit
-status is 1 when the SCF does not converge (the last energy is still
-printed, marked as not converged).`,
+		Short: "Single-point Hartree–Fock, MP2, CCSD or CCSD(T) energy of one geometry with the built-in engine",
+		Long: `Compute the RHF, UHF, MP2, CCSD or CCSD(T) energy of the molecule in an XYZ
+file with the built-in engine.
+
+  rhf, uhf    Hartree–Fock.
+  mp2         second-order Møller–Plesset on RHF (closed shells) or UHF.
+  ccsd        coupled cluster with single and double excitations, closed
+              shells only (RHF reference; open shells are refused).
+  ccsd(t)     CCSD plus the perturbative triples correction of
+              Raghavachari, Trucks, Pople and Head-Gordon (1989); closed
+              shells only. Cost grows as N⁷: CO in cc-pVQZ (110 functions)
+              takes a few minutes on two cores.
+
+The correlated methods freeze the atoms' noble-gas cores by default (O 1s,
+Si [Ne], …); --all-electron correlates every electron. --basis-limit
+TZ,QZ extrapolates to the basis-set limit from two correlation-consistent
+sets (each a separate calculation), and --core-correction cc-pCVTZ adds
+the core–valence correction. Use "-" to read the XYZ from standard input.
+The exit status is 1 when the SCF or the coupled-cluster equations do not
+converge (the last energy is still printed, marked as not converged).`,
 		Example: `  wellscan energy water.xyz --basis cc-pVDZ
   wellscan energy oh.xyz --basis 6-31G* --multiplicity 2 --json
   wellscan energy h2.xyz --units bohr --basis-file mybasis.txt
-  wellscan energy water.xyz --basis cc-pVTZ --method mp2 --all-electron`,
+  wellscan energy water.xyz --basis cc-pVTZ --method mp2 --all-electron
+  wellscan energy co.xyz --basis cc-pVTZ --method "ccsd(t)"
+  wellscan energy co.xyz --method "ccsd(t)" --basis-limit cc-pVTZ,cc-pVQZ --core-correction cc-pCVTZ`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runEnergy(cmd, a, o, args[0])
@@ -104,6 +123,12 @@ type energyReport struct {
 	MP2TotalHartree        *float64 `json:"mp2_total_hartree,omitempty"`
 	FrozenCoreOrbitals     *int     `json:"frozen_core_orbitals,omitempty"`
 	FrozenCore             string   `json:"frozen_core,omitempty"`
+	// CCSD and CCSD(T) only (energy_hartree is then the CC total).
+	CCSDCorrelationHartree *float64 `json:"ccsd_correlation_hartree,omitempty"`
+	TriplesHartree         *float64 `json:"triples_hartree,omitempty"`
+	CCIterations           *int     `json:"cc_iterations,omitempty"`
+	CCConverged            *bool    `json:"cc_converged,omitempty"`
+	MaxT1                  *float64 `json:"max_t1,omitempty"`
 	// Guess is the starting guess whose SCF was kept; GuessTrials lists
 	// every cold-start guess run (UHF tries several and keeps the lowest).
 	Guess       string          `json:"guess"`
@@ -131,8 +156,18 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	case o.frozenCore < -1:
 		return usageError{fmt.Errorf("--frozen-core: %d orbitals, expected a count ≥ 0", o.frozenCore)}
 	}
-	if method != hf.MP2 && (o.allElectron || o.frozenCore >= 0) {
-		return usageError{errors.New("--all-electron and --frozen-core apply to --method mp2 only")}
+	correlated := method == hf.MP2 || method == hf.CCSD || method == hf.CCSDT
+	if !correlated && (o.allElectron || o.frozenCore >= 0) {
+		return usageError{errors.New("--all-electron and --frozen-core apply to the correlated methods (mp2, ccsd, ccsd(t)) only")}
+	}
+	if len(o.basisLimit) > 0 && len(o.basisLimit) != 2 {
+		return usageError{fmt.Errorf("--basis-limit: %d sets given, expected two (smaller first, e.g. cc-pVTZ,cc-pVQZ)", len(o.basisLimit))}
+	}
+	if len(o.basisLimit) == 0 && o.coreCorr != "" {
+		return usageError{errors.New("--core-correction applies to --basis-limit only")}
+	}
+	if len(o.basisLimit) == 2 && (cmd.Flags().Changed("basis") || o.basisFile != "") {
+		return usageError{errors.New("--basis-limit replaces --basis and --basis-file; give one of them")}
 	}
 	conv, err := basis.ParseConvention(o.convention)
 	if err != nil {
@@ -165,6 +200,18 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	if err != nil {
 		return err
 	}
+	if len(o.basisLimit) == 2 {
+		r := hf.LimitRecipe{Method: method, Small: o.basisLimit[0], Large: o.basisLimit[1], Core: o.coreCorr, FrozenCore: fc}
+		if err := r.Validate(); err != nil {
+			return usageError{err}
+		}
+		lr, err := hf.ComputeLimit(cmd.Context(), mol, r, hf.Options{Convention: conv, Workers: o.workers,
+			SCF: hf.SCFOptions{MaxIterations: o.maxIter}, ColdGuesses: cold})
+		if err != nil {
+			return err
+		}
+		return printLimit(a.stdout, o.json, lr, mol)
+	}
 	var set *basis.Set
 	if o.basisFile != "" {
 		set, err = basis.LoadFile(o.basisFile)
@@ -189,7 +236,7 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	} else {
 		printEnergy(a.stdout, rep, mol, res)
 	}
-	if errors.Is(err, hf.ErrNotConverged) {
+	if errors.Is(err, hf.ErrNotConverged) || errors.Is(err, hf.ErrCCNotConverged) {
 		return fmt.Errorf("%w: %v", errNotConverged, err)
 	}
 	return err
@@ -220,6 +267,16 @@ func newEnergyReport(res *hf.Result, mol planner.Molecule) energyReport {
 		rep.ReferenceMethod, rep.ReferenceEnergyHartree = string(m.Reference), &ref
 		rep.MP2CorrelationHartree, rep.MP2SameSpinHartree, rep.MP2OppositeSpinHartree, rep.MP2TotalHartree = &corr, &ss, &os, &tot
 		rep.FrozenCoreOrbitals, rep.FrozenCore = &n, frozenCoreText(m)
+	}
+	if c := res.CC; c != nil {
+		ref, corr, n, it, conv, t1 := c.ReferenceEnergy, c.Correlation, c.FrozenCore, c.Iterations, c.Converged, c.MaxT1
+		rep.ReferenceMethod, rep.ReferenceEnergyHartree = string(hf.RHF), &ref
+		rep.CCSDCorrelationHartree, rep.CCIterations, rep.CCConverged, rep.MaxT1 = &corr, &it, &conv, &t1
+		rep.FrozenCoreOrbitals, rep.FrozenCore = &n, frozenText(c.FrozenCore, c.FrozenCoreLabel)
+		if c.WithTriples {
+			tr := c.Triples
+			rep.TriplesHartree = &tr
+		}
 	}
 	if res.Reference == hf.UHF {
 		s2 := res.S2
@@ -267,6 +324,24 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 		fmt.Fprintf(w, "  same spin           %20.12f hartree\n", m.SameSpin)
 		fmt.Fprintf(w, "  opposite spin       %20.12f hartree\n", m.OppositeSpin)
 		fmt.Fprintf(w, "electronic energy (%s) %19.12f hartree\n", strings.ToUpper(string(m.Reference)), rep.ElectronicEnergyHartree)
+	} else if c := res.CC; c != nil {
+		name := "CCSD"
+		if c.WithTriples {
+			name = "CCSD(T)"
+		}
+		conv := fmt.Sprintf("converged in %d iterations", c.Iterations)
+		if !c.Converged {
+			conv = fmt.Sprintf("NOT converged after %d iterations (largest amplitude change %.1e): the energy below is NOT a result", c.Iterations, c.Residual)
+		}
+		fmt.Fprintf(w, "%-15s RHF reference, %s; %d occupied, %d virtual orbitals correlated; %s; largest |t1| %.4f\n\n",
+			name, frozenText(c.FrozenCore, c.FrozenCoreLabel), c.Occupied, c.Virtual, conv, c.MaxT1)
+		fmt.Fprintf(w, "%-21s %20.12f hartree  (%.6f eV)\n", "total energy ("+name+")", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
+		fmt.Fprintf(w, "reference (RHF)       %20.12f hartree\n", c.ReferenceEnergy)
+		fmt.Fprintf(w, "CCSD correlation      %20.12f hartree\n", c.Correlation)
+		if c.WithTriples {
+			fmt.Fprintf(w, "(T) correction        %20.12f hartree\n", c.Triples)
+		}
+		fmt.Fprintf(w, "electronic energy (RHF) %18.12f hartree\n", rep.ElectronicEnergyHartree)
 	} else {
 		fmt.Fprintf(w, "total energy          %20.12f hartree  (%.6f eV)\n", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
 		fmt.Fprintf(w, "electronic energy     %20.12f hartree\n", rep.ElectronicEnergyHartree)
@@ -279,6 +354,8 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 	dipole := "dipole moment        "
 	if res.MP2 != nil {
 		dipole = "dipole moment (" + strings.ToUpper(string(res.MP2.Reference)) + ")  "
+	} else if res.CC != nil {
+		dipole = "dipole moment (RHF)  "
 	}
 	fmt.Fprintf(w, "%s %20.6f debye    (x %.6f, y %.6f, z %.6f e·bohr)\n\n", dipole, rep.DipoleDebye, rep.DipoleAU[0], rep.DipoleAU[1], rep.DipoleAU[2])
 	fmt.Fprintln(w, "atom  element  Mulliken charge (e)")
@@ -296,14 +373,74 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 // frozenCoreText states what MP2 left uncorrelated, e.g. "frozen core:
 // 1 orbital (O 1s)" or "all electrons correlated".
 func frozenCoreText(m *hf.MP2Result) string {
-	if m.FrozenCore == 0 {
+	return frozenText(m.FrozenCore, m.FrozenCoreLabel)
+}
+
+// frozenText states what a correlated method left uncorrelated.
+func frozenText(n int, label string) string {
+	if n == 0 {
 		return "all electrons correlated"
 	}
 	unit := "orbitals"
-	if m.FrozenCore == 1 {
+	if n == 1 {
 		unit = "orbital"
 	}
-	return fmt.Sprintf("frozen core: %d %s per spin (%s)", m.FrozenCore, unit, m.FrozenCoreLabel)
+	return fmt.Sprintf("frozen core: %d %s per spin (%s)", n, unit, label)
+}
+
+// limitReport is the --json output of `wellscan energy --basis-limit`.
+type limitReport struct {
+	EnergyHartree           float64            `json:"energy_hartree"`
+	Method                  string             `json:"method"`
+	Recipe                  string             `json:"recipe"`
+	Charge                  int                `json:"charge"`
+	Multiplicity            int                `json:"multiplicity"`
+	HFLimitHartree          float64            `json:"hf_limit_hartree"`
+	CorrelationLimitHartree float64            `json:"correlation_limit_hartree"`
+	CoreCorrectionHartree   float64            `json:"core_correction_hartree"`
+	CardinalSmall           int                `json:"cardinal_small"`
+	CardinalLarge           int                `json:"cardinal_large"`
+	Components              []limitComponentJS `json:"components"`
+}
+
+type limitComponentJS struct {
+	Name                   string  `json:"name"`
+	Basis                  string  `json:"basis"`
+	BasisFunctions         int     `json:"basis_functions"`
+	FrozenCoreOrbitals     int     `json:"frozen_core_orbitals"`
+	ReferenceEnergyHartree float64 `json:"reference_energy_hartree"`
+	CorrelationHartree     float64 `json:"correlation_hartree"`
+	TriplesHartree         float64 `json:"triples_hartree"`
+	Seconds                float64 `json:"seconds"`
+}
+
+func printLimit(w io.Writer, asJSON bool, lr *hf.LimitResult, mol planner.Molecule) error {
+	r := lr.Recipe
+	if asJSON {
+		rep := limitReport{EnergyHartree: lr.Total, Method: string(r.Method), Recipe: r.String(), Charge: mol.Charge, Multiplicity: mol.Multiplicity,
+			HFLimitHartree: lr.HF, CorrelationLimitHartree: lr.Correlation, CoreCorrectionHartree: lr.CoreCorrection, CardinalSmall: lr.X, CardinalLarge: lr.Y}
+		for _, c := range lr.Components {
+			rep.Components = append(rep.Components, limitComponentJS{Name: c.Name, Basis: c.Basis, BasisFunctions: c.BasisFunctions, FrozenCoreOrbitals: c.Frozen,
+				ReferenceEnergyHartree: c.Reference, CorrelationHartree: c.Correlation, TriplesHartree: c.Triples, Seconds: c.Time.Seconds()})
+		}
+		enc := json.NewEncoder(w)
+		enc.SetIndent("", "  ")
+		return enc.Encode(rep)
+	}
+	fmt.Fprintf(w, "molecule        %s, charge %+d, multiplicity %d, %d electrons\n", mol.Formula(), mol.Charge, mol.Multiplicity, mol.Electrons())
+	fmt.Fprintf(w, "recipe          %s\n\n", r)
+	fmt.Fprintf(w, "%-12s %-12s %9s %6s %20s %20s %16s %9s\n", "component", "basis", "functions", "frozen", "reference/hartree", "correlation/hartree", "of which (T)", "time/s")
+	for _, c := range lr.Components {
+		fmt.Fprintf(w, "%-12s %-12s %9d %6d %20.10f %20.10f %16.10f %9.1f\n", c.Name, c.Basis, c.BasisFunctions, c.Frozen, c.Reference, c.Correlation, c.Triples, c.Time.Seconds())
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintf(w, "HF limit (X = %d, %d)        %20.12f hartree\n", lr.X, lr.Y, lr.HF)
+	fmt.Fprintf(w, "correlation limit (X⁻³)     %20.12f hartree\n", lr.Correlation)
+	if r.Core != "" {
+		fmt.Fprintf(w, "core–valence correction     %20.12f hartree  (%s, all electrons − frozen core)\n", lr.CoreCorrection, r.Core)
+	}
+	fmt.Fprintf(w, "total energy (limit)        %20.12f hartree  (%.6f eV)\n", lr.Total, lr.Total*planner.HartreeInEV)
+	return nil
 }
 
 func printOrbitals(w io.Writer, title string, e, occ []float64) {

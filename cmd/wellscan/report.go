@@ -105,8 +105,12 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	if err != nil {
 		abs = dir
 	}
+	method, basisLabel := spec.Engine.Label() // e.g. "CCSD(T)", "cc-pVQZ (frozen core)"
+	if spec.Engine.Kind != "builtin" {
+		method, basisLabel = strings.ToUpper(spec.Engine.Method), spec.Engine.Basis
+	}
 	in.Conditions = report.Conditions{Title: spec.Title, Dir: filepath.Base(abs), Formula: mol.Formula(), Charge: mol.Charge, Multiplicity: mol.Multiplicity,
-		Engine: spec.Engine.Kind, Method: strings.ToUpper(spec.Engine.Method), Basis: spec.Engine.Basis, Version: version}
+		Engine: spec.Engine.Kind, Method: method, Basis: basisLabel, Version: version}
 	for _, c := range spec.Coordinates() {
 		u := "degree"
 		if c.Kind == planner.KindDistance {
