@@ -58,13 +58,14 @@ func moERIBytes(m int) int64 {
 }
 
 // transformFull returns the packed MO integrals over the m columns of C
-// (n × m, row-major). budget bounds the result plus the half-transformed
-// batch and the per-worker scratch.
-func transformFull(ctx context.Context, src PairBlockSource, C []float64, m, workers int, budget int64) (*moERI, time.Duration, error) {
+// (n × m, row-major), the time taken and the bytes it allocated at its
+// peak. budget bounds the result plus the half-transformed batch and the
+// per-worker scratch.
+func transformFull(ctx context.Context, src PairBlockSource, C []float64, m, workers int, budget int64) (*moERI, time.Duration, int64, error) {
 	start := time.Now()
 	n := src.NumFunctions()
 	if len(C) != n*m {
-		return nil, 0, fmt.Errorf("hf: cc: %d orbital coefficients for %d functions × %d orbitals", len(C), n, m)
+		return nil, 0, 0, fmt.Errorf("hf: cc: %d orbital coefficients for %d functions × %d orbitals", len(C), n, m)
 	}
 	np := n * (n + 1) / 2
 	out := &moERI{m: m, data: nil}
@@ -74,7 +75,7 @@ func transformFull(ctx context.Context, src PairBlockSource, C []float64, m, wor
 	perP := 8 * int64(m) * int64(np)
 	nb := (budget - outBytes - scratch) / perP
 	if nb < 1 {
-		return nil, 0, fmt.Errorf("hf: cc: memory budget %d bytes is too small for the MO integrals: %d bytes for the %d-orbital result, %d for one batch row and %d of scratch", budget, outBytes, m, perP, scratch)
+		return nil, 0, 0, fmt.Errorf("hf: cc: memory budget %d bytes is too small for the MO integrals: %d bytes for the %d-orbital result, %d for one batch row and %d of scratch", budget, outBytes, m, perP, scratch)
 	}
 	nb = min(nb, int64(m))
 	out.data = make([]float64, outBytes/8)
@@ -111,7 +112,7 @@ func transformFull(ctx context.Context, src PairBlockSource, C []float64, m, wor
 			return nil
 		})
 		if err != nil {
-			return nil, 0, err
+			return nil, 0, 0, err
 		}
 		// Second half over the pairs (p, q ≤ p) of the batch.
 		type pair struct{ p, q int }
@@ -144,8 +145,8 @@ func transformFull(ctx context.Context, src PairBlockSource, C []float64, m, wor
 			return nil
 		})
 		if err != nil {
-			return nil, 0, err
+			return nil, 0, 0, err
 		}
 	}
-	return out, time.Since(start), nil
+	return out, time.Since(start), outBytes + 8*int64(len(H)) + scratch, nil
 }

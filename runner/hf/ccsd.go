@@ -141,7 +141,8 @@ type CCResult struct {
 	MaxT1, MaxT2 float64
 	// Wall-clock times: integral transformation, CCSD iterations, (T).
 	TransformTime, CCSDTime, TriplesTime, Time time.Duration
-	// MemoryBytes is the estimated peak of the arrays RunCCSD allocated.
+	// MemoryBytes is an upper estimate of the peak of the arrays RunCCSD
+	// allocated (the half-transformed integrals counted as if still held).
 	MemoryBytes int64
 }
 
@@ -374,16 +375,19 @@ func RunCCSD(ctx context.Context, scf *SCFResult, src PairBlockSource, opts CCOp
 		copy(C[mu*m:mu*m+o], sp.Co[mu*o:(mu+1)*o])
 		copy(C[mu*m+o:(mu+1)*m], sp.Cv[mu*v:(mu+1)*v])
 	}
-	mo, tt, err := transformFull(ctx, src, C, m, workers, budget-ccBytes(o, v, max(ndiis, 0), workers))
+	mo, tt, tb, err := transformFull(ctx, src, C, m, workers, budget-ccBytes(o, v, max(ndiis, 0), workers))
 	if err != nil {
 		return nil, err
 	}
+	// The half-transformed batch is garbage from here on, but the
+	// process may hold it until the collector returns it: count it.
+	res.MemoryBytes = tb + ccBytes(o, v, max(ndiis, 0), workers)
 	res.TransformTime = tt
 	g := newCCInts(mo, o, v, sp.eo, sp.ev)
 	// Keep the (vv|vv) rows unpacked when they fit next to everything
 	// else (the packed integrals are dropped then): the ladder becomes one
 	// matrix product over a ≥ b instead of an unpacking per iteration.
-	if res.MemoryBytes+vvvvBytes(v) <= budget {
+	if need+vvvvBytes(v) <= budget {
 		if err := g.expandVVVV(ctx, workers); err != nil {
 			return nil, err
 		}
