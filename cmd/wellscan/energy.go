@@ -335,18 +335,22 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 		}
 		fmt.Fprintf(w, "%-15s RHF reference, %s; %d occupied, %d virtual orbitals correlated; %s; largest |t1| %.4f\n\n",
 			name, frozenText(c.FrozenCore, c.FrozenCoreLabel), c.Occupied, c.Virtual, conv, c.MaxT1)
-		fmt.Fprintf(w, "%-21s %20.12f hartree  (%.6f eV)\n", "total energy ("+name+")", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
-		fmt.Fprintf(w, "reference (RHF)       %20.12f hartree\n", c.ReferenceEnergy)
-		fmt.Fprintf(w, "CCSD correlation      %20.12f hartree\n", c.Correlation)
+		line := func(label string, v float64) { fmt.Fprintf(w, "%-24s %20.12f hartree\n", label, v) }
+		fmt.Fprintf(w, "%-24s %20.12f hartree  (%.6f eV)\n", "total energy ("+name+")", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
+		line("reference (RHF)", c.ReferenceEnergy)
+		line("CCSD correlation", c.Correlation)
 		if c.WithTriples {
-			fmt.Fprintf(w, "(T) correction        %20.12f hartree\n", c.Triples)
+			line("(T) correction", c.Triples)
 		}
-		fmt.Fprintf(w, "electronic energy (RHF) %18.12f hartree\n", rep.ElectronicEnergyHartree)
+		line("electronic energy (RHF)", rep.ElectronicEnergyHartree)
+		fmt.Fprintf(w, "%-24s %20.12f hartree\n", "nuclear repulsion", rep.NuclearRepulsionHartree)
 	} else {
 		fmt.Fprintf(w, "total energy          %20.12f hartree  (%.6f eV)\n", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
 		fmt.Fprintf(w, "electronic energy     %20.12f hartree\n", rep.ElectronicEnergyHartree)
 	}
-	fmt.Fprintf(w, "nuclear repulsion     %20.12f hartree\n", rep.NuclearRepulsionHartree)
+	if res.CC == nil {
+		fmt.Fprintf(w, "nuclear repulsion     %20.12f hartree\n", rep.NuclearRepulsionHartree)
+	}
 	if rep.SSquared != nil {
 		s := float64(mol.Multiplicity-1) / 2
 		fmt.Fprintf(w, "<S^2>                 %20.6f          (exact %.4f)\n", *rep.SSquared, s*(s+1))
