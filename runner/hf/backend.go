@@ -170,6 +170,8 @@ func (b *Backend) computeLimit(ctx context.Context, t runner.Task, opts Options)
 			return runner.Outcome{Class: "scf-not-converged", Detail: err.Error()}, nil
 		case errors.Is(err, ErrCCNotConverged):
 			return runner.Outcome{Class: "cc-not-converged", Detail: err.Error()}, nil
+		case errors.Is(err, ErrCCMemory):
+			return runner.Outcome{Class: "memory-budget", Detail: err.Error(), Permanent: true}, nil
 		}
 		return runner.Outcome{}, err
 	}
@@ -236,6 +238,9 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if res == nil {
 		if ctx.Err() != nil {
 			return runner.Outcome{}, ctx.Err()
+		}
+		if errors.Is(err, ErrCCMemory) {
+			return runner.Outcome{Class: "memory-budget", Detail: err.Error(), Permanent: true}, nil
 		}
 		return runner.Outcome{}, err
 	}

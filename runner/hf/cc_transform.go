@@ -75,7 +75,7 @@ func transformFull(ctx context.Context, src PairBlockSource, C []float64, m, wor
 	perP := 8 * int64(m) * int64(np)
 	nb := (budget - outBytes - scratch) / perP
 	if nb < 1 {
-		return nil, 0, 0, fmt.Errorf("hf: cc: memory budget %d bytes is too small for the MO integrals: %d bytes for the %d-orbital result, %d for one batch row and %d of scratch", budget, outBytes, m, perP, scratch)
+		return nil, 0, 0, fmt.Errorf("%w: %d bytes cannot hold the MO integrals: %d bytes for the %d-orbital result, %d for one batch row and %d of scratch", ErrCCMemory, budget, outBytes, m, perP, scratch)
 	}
 	nb = min(nb, int64(m))
 	out.data = make([]float64, outBytes/8)

@@ -146,6 +146,11 @@ type CCResult struct {
 	MemoryBytes int64
 }
 
+// ErrCCMemory is wrapped by RunCCSD when the calculation does not fit its
+// memory budget; it is refused before anything large is allocated, and
+// would be refused again on another try.
+var ErrCCMemory = errors.New("hf: ccsd: memory budget too small")
+
 // ErrCCNotConverged is wrapped by RunCCSD when the amplitude equations do
 // not converge; the result is returned with Converged false.
 var ErrCCNotConverged = errors.New("hf: ccsd: amplitude equations did not converge")
@@ -361,7 +366,7 @@ func RunCCSD(ctx context.Context, scf *SCFResult, src PairBlockSource, opts CCOp
 	need := moERIBytes(m) + ccBytes(o, v, max(ndiis, 0), workers)
 	res.MemoryBytes = need
 	if need > budget {
-		return nil, fmt.Errorf("hf: ccsd: %d correlated occupied and %d virtual orbitals need about %d MB, more than the budget of %d MB (raise the coupled-cluster memory budget, or use a smaller basis)", o, v, need>>20, budget>>20)
+		return nil, fmt.Errorf("%w: %d correlated occupied and %d virtual orbitals need about %d MB, more than the budget of %d MB (raise the coupled-cluster memory budget, or use a smaller basis)", ErrCCMemory, o, v, need>>20, budget>>20)
 	}
 	if o == 0 || v == 0 {
 		res.Converged = true

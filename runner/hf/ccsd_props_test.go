@@ -269,7 +269,7 @@ func TestRunCCSD_MemoryWorkersDirect(t *testing.T) {
 			}
 		})
 	}
-	if _, err := hf.RunCCSD(t.Context(), res.SCFResult, eri, hf.CCOptions{Memory: 1000}); err == nil || !strings.Contains(err.Error(), "budget") {
+	if _, err := hf.RunCCSD(t.Context(), res.SCFResult, eri, hf.CCOptions{Memory: 1000}); !errors.Is(err, hf.ErrCCMemory) {
 		t.Errorf("1000-byte budget: %v, want a budget error", err)
 	}
 	ctx, cancel := context.WithCancel(t.Context())
