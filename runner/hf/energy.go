@@ -121,7 +121,10 @@ type Result struct {
 	*SCFResult
 	// Energy is the final total energy of Method in hartree: the SCF
 	// energy for rhf and uhf, the MP2 total (reference + correlation) for
-	// mp2. A scan that reads Result.Energy therefore gets the energies of
+	// mp2, the CCSD or CCSD(T) total for ccsd and ccsd(t) (when the
+	// amplitude equations did not converge, Energy also returns an error
+	// wrapping ErrCCNotConverged and this value is no result). A scan
+	// that reads Result.Energy therefore gets the energies of
 	// the method asked for. It shadows SCFResult.Energy, which always holds
 	// the Hartree–Fock energy (reach it as r.SCFResult.Energy; for mp2 also
 	// r.MP2.ReferenceEnergy). ElectronicEnergy, Mulliken and Dipole stay
@@ -133,7 +136,7 @@ type Result struct {
 	// CC holds the coupled-cluster energies when Method is CCSD or CCSDT
 	// and the SCF converged; nil otherwise. Energy is then CC.Total.
 	CC *CCResult
-	// Method is what was asked for (rhf, uhf or mp2); Reference is the
+	// Method is what was asked for (rhf, uhf, mp2, ccsd or ccsd(t)); Reference is the
 	// SCF that ran (rhf or uhf).
 	Method         Method
 	Reference      Method
