@@ -19,6 +19,9 @@ const (
 	// HartreeInKJPerMol is the molar hartree energy E_h N_A in kJ/mol
 	// (CODATA 2018).
 	HartreeInKJPerMol = 2625.4996394799
+	// HartreeInKcalPerMol is E_h N_A in thermochemical kcal/mol (1 kcal =
+	// 4.184 kJ exactly, by definition of the thermochemical calorie).
+	HartreeInKcalPerMol = HartreeInKJPerMol / 4.184
 	// AmuInElectronMass is m_u/m_e (CODATA 2018: electron mass
 	// 5.48579909065e-4 u).
 	AmuInElectronMass = 1 / 5.48579909065e-4

@@ -32,12 +32,14 @@ type SurfaceResult struct {
 	Degree      int           `json:"degree"`
 	Points      int           `json:"points"`
 	RMSResidual float64       `json:"rms_residual_hartree"`
-	Frequencies []float64     `json:"harmonic_cm1,omitempty"`
-	Modes       [][2]float64  `json:"modes,omitempty"`
-	Warnings    []string      `json:"warnings"`
-	coef        []float64     // in (dx, dy) about origin
-	origin      [2]float64    // lowest sampled point
-	powers      [][2]int      // exponent pairs of coef
+	// WindowEnergy (hartree) is the window of points the fit used.
+	WindowEnergy float64      `json:"window_energy_hartree"`
+	Frequencies  []float64    `json:"harmonic_cm1,omitempty"`
+	Modes        [][2]float64 `json:"modes,omitempty"`
+	Warnings     []string     `json:"warnings"`
+	coef         []float64    // in (dx, dy) about origin
+	origin       [2]float64   // lowest sampled point
+	powers       [][2]int     // exponent pairs of coef
 }
 
 // Surface2D fits a polynomial surface E(x, y) of total degree 2 or 4 by
@@ -83,7 +85,7 @@ func Surface2D(x, y, e []float64, opt SurfaceOptions) (*SurfaceResult, error) {
 			pw = append(pw, [2]int{i, d - i})
 		}
 	}
-	res := &SurfaceResult{Degree: opt.Degree, origin: [2]float64{x[lo], y[lo]}, powers: pw}
+	res := &SurfaceResult{Degree: opt.Degree, WindowEnergy: opt.WindowEnergy, origin: [2]float64{x[lo], y[lo]}, powers: pw}
 	if len(idx) < len(pw)+1 {
 		// Take the nearest points instead, and say so.
 		all := make([]int, len(e))
@@ -253,3 +255,18 @@ func (s *SurfaceResult) eval(x, y float64, i, j int) float64 {
 
 // Energy returns the fitted surface at (x, y).
 func (s *SurfaceResult) Energy(x, y float64) float64 { return s.eval(x, y, 0, 0) }
+
+// SetKinetic solves the GF problem again with the kinetic G matrix g
+// (the inverse of the kinetic metric, in 1/amu per unit², see
+// [SurfaceOptions.G]) evaluated at the fitted stationary point, replacing
+// Frequencies and Modes. Callers that know the metric only once the
+// stationary point is found (it moves with the geometry) use it after
+// [Surface2D].
+func (s *SurfaceResult) SetKinetic(g [2][2]float64) error {
+	w, modes, err := gfFrequencies(g, s.Hessian)
+	if err != nil {
+		return err
+	}
+	s.Frequencies, s.Modes = w, modes
+	return nil
+}

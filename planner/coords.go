@@ -44,6 +44,18 @@ type Coordinate struct {
 	Members [][]int // atoms defining each member
 	Moving  [][]int // atoms each member moves; disjoint between members
 	Digits  int     // decimals of the key, in display units
+	// Period is the period of a torsion in radians: 2π, or the shorter
+	// period the spec declares for a symmetric rotor (scan.period, e.g.
+	// 2π/3 for a methyl group). Zero for lengths and bond angles. Point
+	// values of a periodic coordinate are canonical: in [0, Period).
+	Period float64
+	// FullPeriod is true when the spec's grid covers the whole period,
+	// so that the first and last points are neighbours (the scan wraps).
+	FullPeriod bool
+	// Origin (display units, degrees) is where values of a periodic
+	// coordinate are unwrapped to for people: [Origin, Origin+period),
+	// the lowest value the spec's grid starts from.
+	Origin float64
 }
 
 // Display converts an internal value (bohr or radians) to display units
@@ -262,94 +274,181 @@ func defaultMoving(g [][]int, kind CoordKind, a []int) ([]int, error) {
 	}
 }
 
-// EffectiveMass is the mass (amu) that goes with coordinate c when it
-// moves along the scan path at point p, every other internal coordinate
-// fixed: μ = Σ_a m_a |dx_a/dq|² after removing the overall translation and
-// rotation the displacement causes (the path's kinetic energy is ½ μ q̇²).
-// For a diatomic this is the reduced mass m_A m_B/(m_A+m_B); for a bond
-// between two rigid fragments, their reduced mass. q is in bohr or
-// radians, so μ multiplies (bohr/unit)². dx/dq comes from a central
-// difference of Geometry.
-//
-// References: E. B. Wilson, J. C. Decius, P. C. Cross, "Molecular
-// Vibrations" (McGraw-Hill, 1955), ch. 4 (kinetic energy in internal
-// coordinates; translation and rotation conditions).
+// EffectiveMass is the mass that goes with coordinate c when it moves
+// along the scan path at point p, every other internal coordinate fixed:
+// the diagonal element of [Spec.KineticMetric]. amu for a length (the
+// reduced mass m_A m_B/(m_A+m_B) for a diatomic, the reduced mass of two
+// rigid fragments for a bond between them), amu·bohr² for an angle (for a
+// rotating group, Pitzer's reduced moment of inertia).
 func (s *Spec) EffectiveMass(p Point, c int) (float64, error) {
-	h := 1e-4
-	lo, hi := append([]float64(nil), p.Values...), append([]float64(nil), p.Values...)
-	lo[c] -= h
-	hi[c] += h
-	ml, err := s.Geometry(Point{Key: p.Key, Values: lo})
+	g, err := s.KineticMetric(p)
 	if err != nil {
 		return 0, err
 	}
-	mh, err := s.Geometry(Point{Key: p.Key, Values: hi})
-	if err != nil {
-		return 0, err
+	return g[c][c], nil
+}
+
+// KineticMetric is the kinetic-energy metric of the scanned coordinates
+// at point p: the kinetic energy of a motion along the scan surface is
+// T = ½ Σ_ij g_ij q̇_i q̇_j with
+//
+//	g_ij = Σ_a m_a (∂x_a/∂q_i)·(∂x_a/∂q_j),
+//
+// where ∂x_a/∂q_i is the displacement of atom a when coordinate i moves
+// with every other internal coordinate held (the rigid scan's own path,
+// from central differences of [Spec.Geometry]), after the overall
+// translation and rotation it causes are removed: the centre of mass stays
+// put and the total angular momentum is zero (Eckart–Sayvetz conditions to
+// first order), so g is the metric of the internal motion alone. Masses in
+// amu; q in bohr or radian, so g_ij is in amu·(bohr/unit_i)(bohr/unit_j).
+//
+// This one metric serves every coordinate: for a diatomic stretch g is the
+// reduced mass; for a group rotating about a bond it is the reduced moment
+// of inertia of the internal rotation (for two coaxial symmetric tops
+// I_A I_B/(I_A + I_B)); for a bend of a linear triatomic 1/G of Wilson's
+// G matrix; for a tied coordinate (a symmetric stretch) the mass of the
+// concerted motion. It is (G⁻¹)_qq of the complete internal coordinate set
+// restricted to the path, not 1/G_qq: along a rigid scan the other
+// coordinates are held, not free.
+//
+// References: E. B. Wilson, J. C. Decius, P. C. Cross, Molecular
+// Vibrations (McGraw-Hill 1955), ch. 4 and app. VI (kinetic energy in
+// internal coordinates, the translation and rotation conditions); W. H.
+// Miller, N. C. Handy, J. E. Adams, J. Chem. Phys. 72, 99 (1980) (the
+// mass-weighted path metric); K. S. Pitzer, J. Chem. Phys. 14, 239 (1946)
+// (the reduced moment of internal rotation).
+func (s *Spec) KineticMetric(p Point) ([][]float64, error) {
+	nc := len(s.coords)
+	vel := make([][][3]float64, nc) // per coordinate, per atom: ∂x/∂q
+	var ref Molecule
+	for c := range nc {
+		v, mol, err := s.pathVelocity(p, c)
+		if err != nil {
+			return nil, err
+		}
+		vel[c], ref = v, mol
 	}
-	n := len(ml.Atoms)
-	v := make([][3]float64, n)
-	r := make([][3]float64, n)
+	n := len(ref.Atoms)
 	var mt float64
-	var vcm, rcm [3]float64
+	var rcm [3]float64
 	for a := range n {
-		m := ml.Atoms[a].Mass
-		v[a] = scale(sub(mh.Atoms[a].Pos, ml.Atoms[a].Pos), 1/(2*h))
-		r[a] = scale(add(mh.Atoms[a].Pos, ml.Atoms[a].Pos), 0.5)
-		mt += m
-		vcm = add(vcm, scale(v[a], m))
-		rcm = add(rcm, scale(r[a], m))
+		mt += ref.Atoms[a].Mass
+		rcm = add(rcm, scale(ref.Atoms[a].Pos, ref.Atoms[a].Mass))
 	}
-	vcm, rcm = scale(vcm, 1/mt), scale(rcm, 1/mt)
-	// Angular momentum L = Σ m r×v and inertia tensor I about the centre of
-	// mass; the rigid rotation ω solves I ω = L (pseudo-inverse for linear
-	// molecules, whose inertia has a zero eigenvalue).
-	var L [3]float64
+	rcm = scale(rcm, 1/mt)
+	r := make([][3]float64, n)
 	I := mat.NewSymDense(3, nil)
 	for a := range n {
-		m := ml.Atoms[a].Mass
-		ra := sub(r[a], rcm)
-		va := sub(v[a], vcm)
-		v[a] = va
-		r[a] = ra
-		L = add(L, scale(cross(ra, va), m))
-		r2 := dot(ra, ra)
+		m := ref.Atoms[a].Mass
+		r[a] = sub(ref.Atoms[a].Pos, rcm)
+		r2 := dot(r[a], r[a])
 		for i := range 3 {
 			for j := i; j < 3; j++ {
 				d := 0.0
 				if i == j {
 					d = r2
 				}
-				I.SetSym(i, j, I.At(i, j)+m*(d-ra[i]*ra[j]))
+				I.SetSym(i, j, I.At(i, j)+m*(d-r[a][i]*r[a][j]))
 			}
 		}
 	}
 	var eig mat.EigenSym
 	if !eig.Factorize(I, true) {
-		return 0, fmt.Errorf("planner: effective mass of %s: inertia tensor eigendecomposition failed", s.coords[c].Name)
+		return nil, fmt.Errorf("planner: kinetic metric at %s: inertia tensor eigendecomposition failed", p.Key)
 	}
 	vals := eig.Values(nil)
 	var vecs mat.Dense
 	eig.VectorsTo(&vecs)
-	var w [3]float64
-	for k, lam := range vals {
-		if lam <= 1e-10*math.Max(1, vals[2]) {
-			continue
+	// Remove translation and rotation from each coordinate's velocity: the
+	// rigid rotation ω solves I ω = L (pseudo-inverse for linear
+	// molecules, whose inertia has a zero eigenvalue).
+	for c := range nc {
+		v := vel[c]
+		var vcm [3]float64
+		for a := range n {
+			vcm = add(vcm, scale(v[a], ref.Atoms[a].Mass))
 		}
-		proj := 0.0
-		for i := range 3 {
-			proj += vecs.At(i, k) * L[i]
+		vcm = scale(vcm, 1/mt)
+		var L [3]float64
+		for a := range n {
+			v[a] = sub(v[a], vcm)
+			L = add(L, scale(cross(r[a], v[a]), ref.Atoms[a].Mass))
 		}
-		for i := range 3 {
-			w[i] += vecs.At(i, k) * proj / lam
+		var w [3]float64
+		for k, lam := range vals {
+			if lam <= 1e-10*math.Max(1, vals[2]) {
+				continue
+			}
+			proj := 0.0
+			for i := range 3 {
+				proj += vecs.At(i, k) * L[i]
+			}
+			for i := range 3 {
+				w[i] += vecs.At(i, k) * proj / lam
+			}
+		}
+		for a := range n {
+			v[a] = sub(v[a], cross(w, r[a]))
 		}
 	}
-	mu := 0.0
+	g := make([][]float64, nc)
+	for i := range nc {
+		g[i] = make([]float64, nc)
+		for j := range nc {
+			for a := range n {
+				g[i][j] += ref.Atoms[a].Mass * dot(vel[i][a], vel[j][a])
+			}
+		}
+	}
+	return g, nil
+}
+
+// pathVelocity is ∂x_a/∂q_c at p (bohr per unit of q) by a central
+// difference of Geometry with step 1e-4 (bohr or radian), and the geometry
+// it refers to. A bend at (or within a step of) 180° cannot be stepped
+// past the linear geometry; there the derivative is taken one-sidedly
+// from below with the second-order three-point formula.
+func (s *Spec) pathVelocity(p Point, c int) ([][3]float64, Molecule, error) {
+	const h = 1e-4
+	at := func(dq float64) (Molecule, error) {
+		v := append([]float64(nil), p.Values...)
+		v[c] += dq
+		return s.Geometry(Point{Key: p.Key, Values: v})
+	}
+	mid, err := at(0)
+	if err != nil {
+		return nil, Molecule{}, err
+	}
+	n := len(mid.Atoms)
+	out := make([][3]float64, n)
+	if s.coords[c].Kind == KindAngle && p.Values[c]+h > math.Pi-1e-12 {
+		m1, err := at(-h)
+		if err != nil {
+			return nil, Molecule{}, err
+		}
+		m2, err := at(-2 * h)
+		if err != nil {
+			return nil, Molecule{}, err
+		}
+		for a := range n {
+			// f′(x) ≈ (3f(x) − 4f(x−h) + f(x−2h)) / 2h
+			d := add(sub(scale(mid.Atoms[a].Pos, 3), scale(m1.Atoms[a].Pos, 4)), m2.Atoms[a].Pos)
+			out[a] = scale(d, 1/(2*h))
+		}
+		return out, mid, nil
+	}
+	lo, err := at(-h)
+	if err != nil {
+		return nil, Molecule{}, err
+	}
+	hi, err := at(h)
+	if err != nil {
+		return nil, Molecule{}, err
+	}
 	for a := range n {
-		va := sub(v[a], cross(w, r[a]))
-		mu += ml.Atoms[a].Mass * dot(va, va)
+		out[a] = scale(sub(hi.Atoms[a].Pos, lo.Atoms[a].Pos), 1/(2*h))
 	}
-	return mu, nil
+	return out, mid, nil
 }
 
 // Harmonic frequency in cm⁻¹ from a curvature k (hartree per unit²) and an

@@ -6,6 +6,8 @@ import (
 	"strings"
 )
 
+//go:generate go run ./internal/ame2020gen -in testdata/ame2020/mass.mas20.txt -out ame2020_gen.go
+
 // Element is one chemical element as wellscan knows it.
 type Element struct {
 	Z      int
@@ -19,71 +21,67 @@ type Element struct {
 	CovalentRadius float64
 }
 
-// Isotope masses: AME2020, M. Wang, W. J. Huang, F. G. Kondev, G. Audi,
-// S. Naimi, "The AME 2020 atomic mass evaluation (II)", Chin. Phys. C 45,
-// 030003 (2021), doi:10.1088/1674-1137/abddaf. Values transcribed from
-// memory of that table (not machine-copied); they agree with the
-// evaluation to the digits given for the light elements checked in the
-// tests.
+// The element table. Masses are filled from the generated AME2020 table
+// (ame2020_gen.go, from the evaluation's own file: M. Wang, W. J. Huang,
+// F. G. Kondev, G. Audi, S. Naimi, "The AME 2020 atomic mass evaluation
+// (II)", Chin. Phys. C 45, 030003 (2021), doi:10.1088/1674-1137/abddaf);
+// the mass number given for each element is its most abundant isotope
+// (common practice; the AME has no abundances).
 //
 // Covalent radii: B. Cordero et al., "Covalent radii revisited", Dalton
 // Trans. 2008, 2832, doi:10.1039/B801115J (sp3 C; low-spin Mn, Fe, Co),
 // transcribed from memory; they only decide connectivity, where a few
 // hundredths of an Å do not matter.
-var elements = [...]Element{
-	{1, "H", "hydrogen", 1, 1.00782503223, 0.31},
-	{2, "He", "helium", 4, 4.00260325413, 0.28},
-	{3, "Li", "lithium", 7, 7.0160034366, 1.28},
-	{4, "Be", "beryllium", 9, 9.012183065, 0.96},
-	{5, "B", "boron", 11, 11.00930536, 0.84},
-	{6, "C", "carbon", 12, 12.0, 0.76},
-	{7, "N", "nitrogen", 14, 14.00307400443, 0.71},
-	{8, "O", "oxygen", 16, 15.99491461957, 0.66},
-	{9, "F", "fluorine", 19, 18.99840316273, 0.57},
-	{10, "Ne", "neon", 20, 19.9924401762, 0.58},
-	{11, "Na", "sodium", 23, 22.9897692820, 1.66},
-	{12, "Mg", "magnesium", 24, 23.985041697, 1.41},
-	{13, "Al", "aluminium", 27, 26.98153853, 1.21},
-	{14, "Si", "silicon", 28, 27.97692653465, 1.11},
-	{15, "P", "phosphorus", 31, 30.97376199842, 1.07},
-	{16, "S", "sulfur", 32, 31.9720711744, 1.05},
-	{17, "Cl", "chlorine", 35, 34.968852682, 1.02},
-	{18, "Ar", "argon", 40, 39.9623831237, 1.06},
-	{19, "K", "potassium", 39, 38.9637064864, 2.03},
-	{20, "Ca", "calcium", 40, 39.962590863, 1.76},
-	{21, "Sc", "scandium", 45, 44.95590828, 1.70},
-	{22, "Ti", "titanium", 48, 47.94794198, 1.60},
-	{23, "V", "vanadium", 51, 50.94395704, 1.53},
-	{24, "Cr", "chromium", 52, 51.94050623, 1.39},
-	{25, "Mn", "manganese", 55, 54.93804391, 1.39},
-	{26, "Fe", "iron", 56, 55.93493633, 1.32},
-	{27, "Co", "cobalt", 59, 58.93319429, 1.26},
-	{28, "Ni", "nickel", 58, 57.93534241, 1.24},
-	{29, "Cu", "copper", 63, 62.92959772, 1.32},
-	{30, "Zn", "zinc", 64, 63.92914201, 1.22},
-	{31, "Ga", "gallium", 69, 68.9255735, 1.22},
-	{32, "Ge", "germanium", 74, 73.921177761, 1.20},
-	{33, "As", "arsenic", 75, 74.92159457, 1.19},
-	{34, "Se", "selenium", 80, 79.9165218, 1.20},
-	{35, "Br", "bromine", 79, 78.9183376, 1.20},
-	{36, "Kr", "krypton", 84, 83.9114977282, 1.16},
-}
+var elements = withMasses([...]Element{
+	{1, "H", "hydrogen", 1, 0, 0.31},
+	{2, "He", "helium", 4, 0, 0.28},
+	{3, "Li", "lithium", 7, 0, 1.28},
+	{4, "Be", "beryllium", 9, 0, 0.96},
+	{5, "B", "boron", 11, 0, 0.84},
+	{6, "C", "carbon", 12, 0, 0.76},
+	{7, "N", "nitrogen", 14, 0, 0.71},
+	{8, "O", "oxygen", 16, 0, 0.66},
+	{9, "F", "fluorine", 19, 0, 0.57},
+	{10, "Ne", "neon", 20, 0, 0.58},
+	{11, "Na", "sodium", 23, 0, 1.66},
+	{12, "Mg", "magnesium", 24, 0, 1.41},
+	{13, "Al", "aluminium", 27, 0, 1.21},
+	{14, "Si", "silicon", 28, 0, 1.11},
+	{15, "P", "phosphorus", 31, 0, 1.07},
+	{16, "S", "sulfur", 32, 0, 1.05},
+	{17, "Cl", "chlorine", 35, 0, 1.02},
+	{18, "Ar", "argon", 40, 0, 1.06},
+	{19, "K", "potassium", 39, 0, 2.03},
+	{20, "Ca", "calcium", 40, 0, 1.76},
+	{21, "Sc", "scandium", 45, 0, 1.70},
+	{22, "Ti", "titanium", 48, 0, 1.60},
+	{23, "V", "vanadium", 51, 0, 1.53},
+	{24, "Cr", "chromium", 52, 0, 1.39},
+	{25, "Mn", "manganese", 55, 0, 1.39},
+	{26, "Fe", "iron", 56, 0, 1.32},
+	{27, "Co", "cobalt", 59, 0, 1.26},
+	{28, "Ni", "nickel", 58, 0, 1.24},
+	{29, "Cu", "copper", 63, 0, 1.32},
+	{30, "Zn", "zinc", 64, 0, 1.22},
+	{31, "Ga", "gallium", 69, 0, 1.22},
+	{32, "Ge", "germanium", 74, 0, 1.20},
+	{33, "As", "arsenic", 75, 0, 1.19},
+	{34, "Se", "selenium", 80, 0, 1.20},
+	{35, "Br", "bromine", 79, 0, 1.20},
+	{36, "Kr", "krypton", 84, 0, 1.16},
+})
 
-// isotopes lists the other isotopes a spectroscopist commonly substitutes
-// (same AME2020 source as above, from memory), keyed by Z then mass number.
-var isotopes = map[int]map[int]float64{
-	1:  {2: 2.01410177812, 3: 3.0160492779},
-	2:  {3: 3.0160293201},
-	3:  {6: 6.0151228874},
-	5:  {10: 10.01293695},
-	6:  {13: 13.00335483507, 14: 14.0032419884},
-	7:  {15: 15.00010889888},
-	8:  {17: 16.99913175650, 18: 17.99915961286},
-	14: {29: 28.97649466490, 30: 29.973770136},
-	16: {33: 32.9714589098, 34: 33.967867004},
-	17: {37: 36.965902602},
-	18: {36: 35.967545105},
-	35: {81: 80.9162897},
+// withMasses fills each element's Mass from the AME2020 table; a missing
+// entry is a programming error in the table above.
+func withMasses(es [36]Element) [36]Element {
+	for i := range es {
+		m, ok := ame2020[es[i].Z][es[i].MassNumber]
+		if !ok {
+			panic(fmt.Sprintf("planner: no AME2020 mass for %d%s", es[i].MassNumber, es[i].Symbol))
+		}
+		es[i].Mass = m
+	}
+	return es
 }
 
 // MaxZ is the heaviest element wellscan knows (krypton).
@@ -115,20 +113,16 @@ func ElementBySymbol(sym string) (Element, error) {
 }
 
 // IsotopeMass returns the mass in amu of the isotope with mass number a of
-// element z. Known isotopes are the most abundant one of every element and
-// those in the isotopes table.
+// element z: every isotope whose mass AME2020 gives as measured.
 func IsotopeMass(z, a int) (float64, error) {
 	e, err := ElementByZ(z)
 	if err != nil {
 		return 0, err
 	}
-	if a == e.MassNumber {
-		return e.Mass, nil
-	}
-	if m, ok := isotopes[z][a]; ok {
+	if m, ok := ame2020[z][a]; ok {
 		return m, nil
 	}
-	return 0, fmt.Errorf("planner: no mass known for isotope %d%s", a, e.Symbol)
+	return 0, fmt.Errorf("planner: no measured mass for isotope %d%s in AME2020", a, e.Symbol)
 }
 
 // ParseIsotope reads labels such as "13C", "2H", "D", "T" or "C" (most

@@ -15,30 +15,21 @@ func IsCorrelated(method string) bool {
 	return correlatedMethods[strings.ToLower(strings.TrimSpace(method))]
 }
 
-// Label says what the built-in engine computes, as a method ("CCSD(T)")
-// and a basis part that includes the frozen-core choice and any
-// basis-set-limit recipe ("cc-pVQZ (frozen core)", "limit from cc-pVTZ
-// and cc-pVQZ (frozen core) + core–valence correction in cc-pCVTZ"), so
+// BasisLabel is the basis part of the built-in engine's label: the basis
+// set, or for a basis-set limit its recipe — "cc-pVTZ→cc-pVQZ limit" and,
+// with a core correction, "cc-pVTZ→cc-pVQZ limit + cc-pCVTZ core" — so
 // that "method/basis" names the calculation exactly. Other engine kinds
-// give their kind and "".
-func (e EngineSpec) Label() (method, basis string) {
+// give "".
+func (e EngineSpec) BasisLabel() string {
 	if e.Kind != "builtin" {
-		return e.Kind, ""
+		return ""
 	}
-	method = strings.ToUpper(strings.TrimSpace(e.Method))
-	basis = e.Basis
-	if len(e.BasisLimit) == 2 {
-		basis = fmt.Sprintf("limit from %s and %s", e.BasisLimit[0], e.BasisLimit[1])
+	if len(e.BasisLimit) != 2 {
+		return e.Basis
 	}
-	if IsCorrelated(e.Method) {
-		if e.FrozenCore != nil && !*e.FrozenCore {
-			basis += " (all electrons)"
-		} else {
-			basis += " (frozen core)"
-		}
-	}
+	s := fmt.Sprintf("%s→%s limit", e.BasisLimit[0], e.BasisLimit[1])
 	if e.CoreCorrection != "" {
-		basis += " + core–valence correction in " + e.CoreCorrection
+		s += " + " + e.CoreCorrection + " core"
 	}
-	return method, basis
+	return s
 }

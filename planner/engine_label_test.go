@@ -35,24 +35,20 @@ func TestDecode_CorrelatedEngineErrors(t *testing.T) {
 	}
 }
 
-func TestEngineSpec_Label(t *testing.T) {
-	no := false
+func TestEngineSpec_BasisLabel(t *testing.T) {
 	tests := []struct {
-		name         string
-		e            EngineSpec
-		method, bset string
+		name string
+		e    EngineSpec
+		want string
 	}{
-		{"rhf", EngineSpec{Kind: "builtin", Method: "rhf", Basis: "6-31G*"}, "RHF", "6-31G*"},
-		{"ccsd(t) default", EngineSpec{Kind: "builtin", Method: "ccsd(t)", Basis: "cc-pVQZ"}, "CCSD(T)", "cc-pVQZ (frozen core)"},
-		{"mp2 all electrons", EngineSpec{Kind: "builtin", Method: "mp2", Basis: "cc-pVTZ", FrozenCore: &no}, "MP2", "cc-pVTZ (all electrons)"},
-		{"limit", EngineSpec{Kind: "builtin", Method: "ccsd(t)", BasisLimit: []string{"cc-pVTZ", "cc-pVQZ"}, CoreCorrection: "cc-pCVTZ"},
-			"CCSD(T)", "limit from cc-pVTZ and cc-pVQZ (frozen core) + core–valence correction in cc-pCVTZ"},
-		{"model", EngineSpec{Kind: "model"}, "model", ""},
+		{"basis", EngineSpec{Kind: "builtin", Method: "ccsd(t)", Basis: "cc-pVQZ"}, "cc-pVQZ"},
+		{"limit", EngineSpec{Kind: "builtin", Method: "ccsd(t)", BasisLimit: []string{"cc-pVTZ", "cc-pVQZ"}}, "cc-pVTZ→cc-pVQZ limit"},
+		{"limit and core", EngineSpec{Kind: "builtin", Method: "ccsd(t)", BasisLimit: []string{"cc-pVTZ", "cc-pVQZ"}, CoreCorrection: "cc-pCVTZ"}, "cc-pVTZ→cc-pVQZ limit + cc-pCVTZ core"},
+		{"model", EngineSpec{Kind: "model"}, ""},
 	}
 	for _, tc := range tests {
-		m, b := tc.e.Label()
-		if m != tc.method || b != tc.bset {
-			t.Errorf("%s: Label() = %q, %q; want %q, %q", tc.name, m, b, tc.method, tc.bset)
+		if got := tc.e.BasisLabel(); got != tc.want {
+			t.Errorf("%s: BasisLabel() = %q, want %q", tc.name, got, tc.want)
 		}
 	}
 	for _, s := range []string{co + scanR + builtinHead + "method = \"ccsd(t)\"\nbasis_limit = [\"cc-pVTZ\", \"cc-pVQZ\"]\ncore_correction = \"cc-pCVTZ\"\n",

@@ -34,7 +34,7 @@ func (s *Spec) PointAt(x []float64) Point {
 	var b strings.Builder
 	vals := make([]float64, len(x))
 	for i, c := range s.coords {
-		r := roundTo(x[i], c.Digits)
+		r := c.canonicalDisplay(x[i])
 		if i > 0 {
 			b.WriteByte(',')
 		}
@@ -46,17 +46,35 @@ func (s *Spec) PointAt(x []float64) Point {
 	return Point{Key: b.String(), Values: vals}
 }
 
-// DisplayValues converts a point's values to display units.
+// DisplayValues converts a point's values to display units; a periodic
+// coordinate is unwrapped into the window the spec's grid is written in
+// (Coordinate.Unwrap).
 func (s *Spec) DisplayValues(p Point) []float64 {
 	out := make([]float64, len(p.Values))
 	for i, c := range s.coords {
-		out[i] = roundTo(c.Display(p.Values[i], s.units), c.Digits)
+		out[i] = roundTo(c.Unwrap(p.Values[i], s.units), c.Digits)
 	}
 	return out
 }
 
-// ParseKey rebuilds the point a key stands for.
+// ParseKey rebuilds the point a key stands for; the key must be
+// canonical (as PointAt writes it).
 func (s *Spec) ParseKey(key string) (Point, error) {
+	p, err := s.CanonicalPoint(key)
+	if err != nil {
+		return Point{}, err
+	}
+	if p.Key != key {
+		return Point{}, fmt.Errorf("planner: key %q is not canonical (expected %q)", key, p.Key)
+	}
+	return p, nil
+}
+
+// CanonicalPoint reads a key that may not be canonical — written before a
+// torsion's values were kept modulo its period ("phi=-60.000"), or with
+// more digits — and returns the canonical point it stands for
+// ("phi=300.000").
+func (s *Spec) CanonicalPoint(key string) (Point, error) {
 	parts := strings.Split(key, ",")
 	if len(parts) != len(s.coords) {
 		return Point{}, fmt.Errorf("planner: key %q: expected %d coordinate values", key, len(s.coords))
@@ -71,13 +89,12 @@ func (s *Spec) ParseKey(key string) (Point, error) {
 		if err != nil {
 			return Point{}, fmt.Errorf("planner: key %q: %w", key, err)
 		}
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return Point{}, fmt.Errorf("planner: key %q: %s is not a finite number", key, val)
+		}
 		x[i] = v
 	}
-	p := s.PointAt(x)
-	if p.Key != key {
-		return Point{}, fmt.Errorf("planner: key %q is not canonical (expected %q)", key, p.Key)
-	}
-	return p, nil
+	return s.PointAt(x), nil
 }
 
 func roundTo(x float64, digits int) float64 {
@@ -91,17 +108,26 @@ func roundTo(x float64, digits int) float64 {
 
 // InitialPoints is round 1: the grid of every coordinate (a product grid
 // for two coordinates), sorted by key values.
+// A torsion's values that are equivalent modulo its period give one
+// point.
 func (s *Spec) InitialPoints() []Point {
 	var pts []Point
+	seen := map[string]bool{}
+	add := func(p Point) {
+		if !seen[p.Key] {
+			seen[p.Key] = true
+			pts = append(pts, p)
+		}
+	}
 	switch len(s.axes) {
 	case 1:
 		for _, x := range s.axes[0] {
-			pts = append(pts, s.PointAt([]float64{x}))
+			add(s.PointAt([]float64{x}))
 		}
 	case 2:
 		for _, x := range s.axes[0] {
 			for _, y := range s.axes[1] {
-				pts = append(pts, s.PointAt([]float64{x, y}))
+				add(s.PointAt([]float64{x, y}))
 			}
 		}
 	}

@@ -42,8 +42,9 @@ func NewAtom(e Element, pos [3]float64) Atom {
 }
 
 // NewMolecule checks the atoms, charge and multiplicity and returns the
-// molecule. multiplicity 0 means "the lowest consistent with the electron
-// count" (singlet for an even count, doublet for an odd one).
+// molecule. multiplicity 0 means the default of [DefaultMultiplicity]:
+// Hund's rules for a lone atom, the lowest consistent with the electron
+// count (singlet for an even count, doublet for an odd one) otherwise.
 func NewMolecule(atoms []Atom, charge, multiplicity int) (Molecule, error) {
 	if len(atoms) == 0 {
 		return Molecule{}, ErrNoAtoms
@@ -62,7 +63,7 @@ func NewMolecule(atoms []Atom, charge, multiplicity int) (Molecule, error) {
 		return Molecule{}, fmt.Errorf("%w: charge %+d leaves %d electrons", ErrChargeMultiplicy, charge, n)
 	}
 	if multiplicity == 0 {
-		multiplicity = 1 + n%2
+		multiplicity, _ = DefaultMultiplicity(atoms, charge)
 	}
 	if multiplicity < 1 {
 		return Molecule{}, fmt.Errorf("%w: multiplicity %d must be at least 1", ErrChargeMultiplicy, multiplicity)
@@ -125,44 +126,6 @@ func (m Molecule) Clone() Molecule {
 	c := m
 	c.Atoms = append([]Atom(nil), m.Atoms...)
 	return c
-}
-
-// Formula is the Hill-order formula (C, H, then alphabetical), e.g. "CH4O".
-func (m Molecule) Formula() string {
-	counts := map[string]int{}
-	var order []string
-	for _, a := range m.Atoms {
-		if counts[a.Element.Symbol] == 0 {
-			order = append(order, a.Element.Symbol)
-		}
-		counts[a.Element.Symbol]++
-	}
-	sortHill(order, counts["C"] > 0)
-	s := ""
-	for _, sym := range order {
-		s += sym
-		if counts[sym] > 1 {
-			s += fmt.Sprint(counts[sym])
-		}
-	}
-	return s
-}
-
-func sortHill(syms []string, hasC bool) {
-	rank := func(s string) string {
-		if hasC && s == "C" {
-			return "\x00"
-		}
-		if hasC && s == "H" {
-			return "\x01"
-		}
-		return s
-	}
-	for i := 1; i < len(syms); i++ {
-		for j := i; j > 0 && rank(syms[j]) < rank(syms[j-1]); j-- {
-			syms[j], syms[j-1] = syms[j-1], syms[j]
-		}
-	}
 }
 
 // Distance is the Euclidean distance between two points.

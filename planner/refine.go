@@ -132,7 +132,7 @@ func (s *Spec) unconverged(ex []Extremum) string {
 func (s *Spec) describe(v []float64) string {
 	var parts []string
 	for i, c := range s.coords {
-		parts = append(parts, fmt.Sprintf("%s=%.*f %s", c.Name, c.Digits, c.Display(v[i], s.units), c.UnitLabel(s.units)))
+		parts = append(parts, fmt.Sprintf("%s=%.*f %s", c.Name, c.Digits, c.Unwrap(v[i], s.units), c.UnitLabel(s.units)))
 	}
 	return strings.Join(parts, ", ")
 }
@@ -267,6 +267,94 @@ func fitLocal(xs, es []float64, i int, e *est1) {
 	}
 }
 
+// LineView is the samples of a 1-D scan laid out on a line for the
+// search for extrema: a full-period torsion as three copies shifted by
+// −period, 0 and +period (so that the extrema of the middle copy have
+// neighbours on both sides and the scan wraps), a partial torsion arc
+// unwrapped so that it is contiguous, and a bend that reaches 180° mirrored
+// about 180° (the energy is even there, so a minimum at 180° is interior).
+type LineView struct {
+	Xs, Es []float64
+	// Lo, Hi: only extrema with Lo ≤ x ≤ Hi are kept (the middle copy, or
+	// the unmirrored half).
+	Lo, Hi float64
+	// rangeEdges: the ends of the line are the ends of a partial torsion
+	// range, which is refined inside its range only (never extended).
+	RangeEdges bool
+	// Wrapped: a full-period torsion laid out as three copies; Mirrored:
+	// a bend mirrored about 180°.
+	Wrapped, Mirrored bool
+	// back maps a line position to the coordinate's own value (canonical
+	// for a torsion, folded back below 180° for a mirrored bend).
+	Back func(x float64) float64
+	// inside reports whether a line position may get a new point.
+	Inside func(x float64) bool
+}
+
+// View1D lays the sorted samples (xs, es; internal units, canonical) of
+// coordinate c out as a line.
+func View1D(c Coordinate, xs, es []float64) LineView {
+	v := LineView{Xs: xs, Es: es, Lo: math.Inf(-1), Hi: math.Inf(1),
+		Back: func(x float64) float64 { return x }, Inside: func(float64) bool { return true }}
+	switch {
+	case c.Periodic() && c.FullPeriod && len(xs) >= 3:
+		n := len(xs)
+		v.Xs, v.Es = make([]float64, 0, 3*n), make([]float64, 0, 3*n)
+		for _, shift := range []float64{-c.Period, 0, c.Period} {
+			for i := range xs {
+				v.Xs = append(v.Xs, xs[i]+shift)
+				v.Es = append(v.Es, es[i])
+			}
+		}
+		v.Lo, v.Hi = 0, math.Nextafter(c.Period, 0)
+		v.Back = c.Canonical
+		v.Wrapped = true
+	case c.Periodic() && len(xs) >= 2:
+		start := arcStart(xs, c.Period)
+		type xe struct{ x, e float64 }
+		u := make([]xe, len(xs))
+		for i := range xs {
+			u[i] = xe{start + c.Canonical(xs[i]-start), es[i]}
+		}
+		sort.Slice(u, func(a, b int) bool { return u[a].x < u[b].x })
+		v.Xs, v.Es = make([]float64, len(u)), make([]float64, len(u))
+		for i := range u {
+			v.Xs[i], v.Es[i] = u[i].x, u[i].e
+		}
+		lo, hi := v.Xs[0], v.Xs[len(v.Xs)-1]
+		v.RangeEdges = true
+		v.Back = c.Canonical
+		v.Inside = func(x float64) bool { return x >= lo && x <= hi }
+	case c.Kind == KindAngle && len(xs) > 0 && xs[len(xs)-1] >= math.Pi-1e-9:
+		n := len(xs)
+		v.Xs, v.Es = append([]float64(nil), xs...), append([]float64(nil), es...)
+		for i := n - 2; i >= 0; i-- {
+			v.Xs = append(v.Xs, 2*math.Pi-xs[i])
+			v.Es = append(v.Es, es[i])
+		}
+		v.Hi = math.Pi + 1e-9
+		v.Mirrored = true
+		v.Back = func(x float64) float64 {
+			if x > math.Pi {
+				return 2*math.Pi - x
+			}
+			return x
+		}
+	}
+	return v
+}
+
+// extrema finds the extrema of the view that lie in its kept range.
+func (v LineView) extrema(maxima bool) []est1 {
+	var out []est1
+	for _, e := range extrema1D(v.Xs, v.Es, maxima) {
+		if x := v.Xs[e.idx]; x >= v.Lo && x <= v.Hi {
+			out = append(out, e)
+		}
+	}
+	return out
+}
+
 func refine1D(s *Spec, done, ok []Sample, round int) RefinePlan {
 	set := s.refine
 	c := s.coords[0]
@@ -278,7 +366,7 @@ func refine1D(s *Spec, done, ok []Sample, round int) RefinePlan {
 		var v []xe
 		for _, d := range ok {
 			if d.Round <= maxRound {
-				v = append(v, xe{d.Values[0], d.Energy, d.Round})
+				v = append(v, xe{c.Canonical(d.Values[0]), d.Energy, d.Round})
 			}
 		}
 		sort.Slice(v, func(a, b int) bool { return v[a].x < v[b].x })
@@ -292,9 +380,15 @@ func refine1D(s *Spec, done, ok []Sample, round int) RefinePlan {
 	if len(xs) < 3 {
 		return RefinePlan{Status: RefineStalled, Reason: fmt.Sprintf("only %d points succeeded; refinement needs at least 3", len(xs))}
 	}
-	cur := extrema1D(xs, es, set.Maxima)
+	view := View1D(c, xs, es)
+	cur := view.extrema(set.Maxima)
 	pxs, pes := pick(round - 1)
-	prev := extrema1D(pxs, pes, set.Maxima)
+	var prev []est1
+	var pview LineView
+	if len(pxs) >= 3 {
+		pview = View1D(c, pxs, pes)
+		prev = pview.extrema(set.Maxima)
+	}
 
 	// Every key planned or attempted so far, failed ones included, so a
 	// point is never planned twice.
@@ -302,7 +396,7 @@ func refine1D(s *Spec, done, ok []Sample, round int) RefinePlan {
 	var all []float64
 	for _, d := range done {
 		known[d.Key] = true
-		all = append(all, d.Values[0])
+		all = append(all, c.Canonical(d.Values[0]))
 	}
 	axis := s.axes[0]
 	lo0, hi0 := c.Internal(axis[0], s.units), c.Internal(axis[len(axis)-1], s.units)
@@ -311,13 +405,17 @@ func refine1D(s *Spec, done, ok []Sample, round int) RefinePlan {
 
 	plan := RefinePlan{Status: RefineConverged}
 	var reasons, stalls []string
+	// add plans a point at line position x (if it is new and allowed).
 	add := func(x float64) bool {
-		p := s.PointAt([]float64{c.Display(x, s.units)})
+		if !view.Inside(x) {
+			return false
+		}
+		p := s.PointAt([]float64{c.Display(view.Back(x), s.units)})
 		if known[p.Key] {
 			return false
 		}
 		for _, a := range all {
-			if math.Abs(a-p.Values[0]) < tgt/2 {
+			if c.Separation(a, p.Values[0]) < tgt/2 {
 				return false
 			}
 		}
@@ -330,14 +428,22 @@ func refine1D(s *Spec, done, ok []Sample, round int) RefinePlan {
 		return true
 	}
 	for _, e := range cur {
-		ex := Extremum{Kind: e.kind, Values: []float64{e.x}, Energy: e.e, Frequency: math.NaN(), AtEdge: e.edge != 0}
+		pos := view.Back(e.x)
+		ex := Extremum{Kind: e.kind, Values: []float64{pos}, Energy: e.e, Frequency: math.NaN(), AtEdge: e.edge != 0}
 		if e.freqOK {
-			if mu, err := s.EffectiveMass(Point{Key: "fit", Values: []float64{e.x}}, 0); err == nil {
+			if mu, err := s.EffectiveMass(Point{Key: "fit", Values: []float64{pos}}, 0); err == nil {
 				ex.Mass = mu
 				ex.Frequency = Harmonic(e.k, mu)
 			}
 		}
 		where := s.describe(ex.Values)
+		if e.edge != 0 && view.RangeEdges {
+			side := map[int]string{-1: "lower", 1: "upper"}[e.edge]
+			ex.Note = fmt.Sprintf("at the %s end of the torsion range; a torsion is refined inside its range only", side)
+			stalls = append(stalls, fmt.Sprintf("the %s at %s is at the %s end of the scanned torsion range, which is not extended: widen from/to, or scan the whole period (%g°) to analyse it", e.kind, where, side, c.PeriodDegrees()))
+			plan.Extrema = append(plan.Extrema, ex)
+			continue
+		}
 		if e.edge != 0 {
 			// Extend outward by the spacing at that edge.
 			var step, next float64
@@ -357,6 +463,11 @@ func refine1D(s *Spec, done, ok []Sample, round int) RefinePlan {
 					if a > hi0+1e-12 {
 						ext++
 					}
+				}
+				if c.Kind == KindAngle && next > math.Pi && xs[len(xs)-1] < math.Pi {
+					// A bend grows up to the linear geometry, where its
+					// energy is even; past it the points repeat.
+					next = math.Pi
 				}
 			}
 			side := map[int]string{-1: "lower", 1: "upper"}[e.edge]
@@ -380,15 +491,19 @@ func refine1D(s *Spec, done, ok []Sample, round int) RefinePlan {
 			if p.kind != e.kind || p.edge != 0 {
 				continue
 			}
-			if pe == nil || math.Abs(p.x-e.x) < math.Abs(pe.x-e.x) {
+			if pe == nil || c.Separation(pview.Back(p.x), pos) < c.Separation(pview.Back(pe.x), pos) {
 				pe = p
 			}
 		}
-		if pe != nil && math.Abs(pe.x-e.x) < 2*math.Max(e.gap, pe.gap) {
-			dx := c.Display(e.x, s.units) - c.Display(pe.x, s.units)
+		if pe != nil && c.Separation(pview.Back(pe.x), pos) < 2*math.Max(e.gap, pe.gap) {
+			ppos := pview.Back(pe.x)
+			dx := c.Display(pos, s.units) - c.Display(ppos, s.units)
+			if c.Periodic() {
+				dx = math.Remainder(dx, c.PeriodDegrees())
+			}
 			ex.Shift = []float64{dx}
 			dw := math.NaN()
-			if pm, err := s.EffectiveMass(Point{Key: "fit", Values: []float64{pe.x}}, 0); err == nil && pe.freqOK {
+			if pm, err := s.EffectiveMass(Point{Key: "fit", Values: []float64{ppos}}, 0); err == nil && pe.freqOK {
 				dw = ex.Frequency - Harmonic(pe.k, pm)
 			}
 			if math.Abs(dx) < tol && (math.Abs(dw) < set.FrequencyTolerance || math.IsNaN(ex.Frequency)) {
@@ -438,7 +553,6 @@ func valid(c Coordinate, x float64, u LengthUnit) bool {
 		d := c.Display(x, u)
 		return d > 0 && d <= 180
 	default:
-		d := c.Display(x, u)
-		return d >= -360 && d <= 360
+		return !math.IsNaN(x) && !math.IsInf(x, 0)
 	}
 }

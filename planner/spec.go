@@ -39,6 +39,7 @@ type Spec struct {
 	coords []Coordinate
 	axes   [][]float64 // initial grid per coordinate, in spec units, rounded to key precision
 	refine RefineSettings
+	notes  []string // remarks that are not errors (Notes)
 }
 
 // MoleculeSpec is the [molecule] table.
@@ -80,6 +81,12 @@ type ScanSpec struct {
 	// (each step Growth times the one before), for scans out toward
 	// dissociation.
 	Growth *float64 `toml:"growth"`
+	// Period (degrees), torsions only: the period of the potential when
+	// the rotating group is a symmetric rotor (120 for a methyl group,
+	// 180 for a planar two-fold rotor). It must divide 360 and rotating
+	// the moving atoms by it must map them onto atoms of the same
+	// elements. Default 360.
+	Period *float64 `toml:"period"`
 }
 
 // RefineSpec is the [refine] table. Lengths in the molecule's units,
@@ -92,7 +99,7 @@ type RefineSpec struct {
 	MaxRounds          *int     `toml:"max_rounds"`          // default 12
 	MaxPoints          *int     `toml:"max_points"`          // default 400
 	MaxExtensions      *int     `toml:"max_extensions"`      // per edge, default 6
-	Maxima             bool     `toml:"maxima"`              // also refine local maxima (barriers)
+	Maxima             *bool    `toml:"maxima"`              // also refine local maxima (barriers); default true for torsions
 }
 
 // EngineSpec is the [engine] table.
@@ -147,6 +154,7 @@ type ModelTerm struct {
 	Sigma      float64 `toml:"sigma"`      // lennard-jones σ (bohr)
 	Force      float64 `toml:"force"`      // harmonic force constant k (hartree/bohr² or /rad²), E = k/2 (q−c)²
 	Tilt       float64 `toml:"tilt"`       // double-well linear tilt (hartree per bohr or rad)
+	Fold       int     `toml:"fold"`       // cosine: wells per turn n, E = depth/2 (1 − cos n(q − center))
 }
 
 // ChecksSpec is the [checks] table: plausibility rules the runner applies
@@ -271,11 +279,11 @@ func suggest(k toml.Key) string {
 	allowed := map[string]string{
 		"":                  "title, molecule, scan, refine, engine, queue, checks",
 		"molecule":          "charge, multiplicity, units, geometry, file, isotopes",
-		"scan":              "name, bond, angle, torsion, bonds, angles, torsions, moving, from, to, step, count, values, growth",
+		"scan":              "name, bond, angle, torsion, bonds, angles, torsions, moving, from, to, step, count, values, growth, period",
 		"refine":            "adaptive, target_step, tolerance, frequency_tolerance, max_rounds, max_points, max_extensions, maxima",
-		"engine":            "kind, method, basis, cartesian, max_iterations, convergence, guess, model, command",
+		"engine":            "kind, method, frozen_core, basis, cartesian, max_iterations, convergence, guess, model, command",
 		"engine.model":      "offset, delay, fail, spikes, term",
-		"engine.model.term": "coordinate, shape, depth, center, width, sigma, force, tilt",
+		"engine.model.term": "coordinate, shape, depth, center, width, sigma, force, tilt, fold",
 		"queue":             "kind, workers, threads, attempts, timeout, slurm",
 		"checks":            "max_jump_hartree",
 	}

@@ -29,6 +29,7 @@ func TestLoad_Examples(t *testing.T) {
 		{"water-stretch", "builtin", 11},
 		{"water-bend", "builtin", 9},
 		{"water-stretch-bend", "builtin", 20},
+		{"ethane-torsion", "builtin", 6},
 	}
 	for _, tc := range tests {
 		t.Run(tc.dir, func(t *testing.T) {

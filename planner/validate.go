@@ -274,7 +274,9 @@ func (s *Spec) buildCoordinates() error {
 				owner[a] = mi
 			}
 		}
-		s.coords = append(s.coords, c)
+		if err := s.resolvePeriod(&c, sc, key("period")); err != nil {
+			return err
+		}
 		ax, k, msg := axisValues(sc, c.Digits)
 		if msg != "" {
 			return s.errAt(key(k), "%s", msg)
@@ -290,6 +292,8 @@ func (s *Spec) buildCoordinates() error {
 				return s.errAt(key(grideKey(sc)), "torsion %g° is outside [−360°, 360°]", x)
 			}
 		}
+		s.finishPeriodicAxis(&c, ax, c.Name)
+		s.coords = append(s.coords, c)
 		s.axes = append(s.axes, ax)
 	}
 	return nil
@@ -391,7 +395,17 @@ func containsInt(xs []int, x int) bool {
 func (s *Spec) buildRefine() error {
 	r := s.Refine
 	out := RefineSettings{Adaptive: true, FrequencyTolerance: DefaultFrequencyTolerance,
-		MaxRounds: DefaultMaxRounds, MaxPoints: DefaultMaxPoints, MaxExtensions: DefaultMaxExtensions, Maxima: r.Maxima}
+		MaxRounds: DefaultMaxRounds, MaxPoints: DefaultMaxPoints, MaxExtensions: DefaultMaxExtensions}
+	// Barriers are what a torsion scan is for: maxima are refined by
+	// default when a coordinate is a torsion.
+	for _, c := range s.coords {
+		if c.Kind == KindTorsion {
+			out.Maxima = true
+		}
+	}
+	if r.Maxima != nil {
+		out.Maxima = *r.Maxima
+	}
 	if r.Adaptive != nil {
 		out.Adaptive = *r.Adaptive
 	}
@@ -447,7 +461,7 @@ func (s *Spec) buildRefine() error {
 	return nil
 }
 
-var modelShapes = map[string]bool{"morse": true, "lennard-jones": true, "harmonic": true, "double-well": true}
+var modelShapes = map[string]bool{"morse": true, "lennard-jones": true, "harmonic": true, "double-well": true, "cosine": true}
 
 func (s *Spec) validateEngine() error {
 	e := s.Engine
@@ -476,7 +490,9 @@ func (s *Spec) validateEngine() error {
 			}
 		case "uhf", "mp2":
 		case "":
-			return s.errAt("engine.method", "missing: give method = \"rhf\", \"uhf\", \"mp2\", \"ccsd\" or \"ccsd(t)\"")
+			// The default of `wellscan energy` too: RHF for a singlet,
+			// UHF otherwise.
+			s.Engine.Method = DefaultMethod(s.mol.Multiplicity)
 		default:
 			return s.errAt("engine.method", "unknown method %q (the built-in engine does \"rhf\", \"uhf\", \"mp2\", \"ccsd\" and \"ccsd(t)\")", e.Method)
 		}
@@ -527,7 +543,7 @@ func (s *Spec) validateEngine() error {
 				return s.errAt(key("coordinate"), "no [[scan]] block is named %q", t.Coordinate)
 			}
 			if !modelShapes[t.Shape] {
-				return s.errAt(key("shape"), "unknown shape %q (use morse, lennard-jones, harmonic or double-well)", t.Shape)
+				return s.errAt(key("shape"), "unknown shape %q (use morse, lennard-jones, harmonic, double-well or cosine)", t.Shape)
 			}
 			pos := func(name string, v float64) error {
 				if !(v > 0) {
@@ -550,6 +566,10 @@ func (s *Spec) validateEngine() error {
 			case "double-well":
 				if err = pos("depth", t.Depth); err == nil {
 					err = pos("width", t.Width)
+				}
+			case "cosine":
+				if err = pos("depth", t.Depth); err == nil && !(t.Fold >= 1 && t.Fold <= 12) {
+					err = s.errAt(key("fold"), "a cosine term needs fold = n, the number of wells per turn (1 to 12), got %d", t.Fold)
 				}
 			}
 			if err != nil {
@@ -632,4 +652,13 @@ func (s *Spec) CoordinateIndex(name string) int {
 		}
 	}
 	return -1
+}
+
+// DefaultMethod is the built-in engine's method when a spec or `wellscan
+// energy` names none: "rhf" for a singlet, "uhf" otherwise.
+func DefaultMethod(multiplicity int) string {
+	if multiplicity == 1 {
+		return "rhf"
+	}
+	return "uhf"
 }

@@ -174,6 +174,16 @@ type Jump struct {
 // sorted by key, one entry per key; the same records always give the
 // same result.
 func FindJumps(recs []PointRecord, maxJump float64) []Jump {
+	return FindJumpsPeriodic(recs, maxJump, nil)
+}
+
+// FindJumpsPeriodic is [FindJumps] for scans with periodic coordinates:
+// periods[d] > 0 (radian) marks coordinate d as a torsion whose grid
+// covers its whole period, so that its first and last points are
+// neighbours across the seam. Each such line is judged twice, as written
+// and turned by half a period, so every point is judged between two
+// neighbours.
+func FindJumpsPeriodic(recs []PointRecord, maxJump float64, periods []float64) []Jump {
 	if !(maxJump > 0) {
 		return nil
 	}
@@ -190,7 +200,11 @@ func FindJumps(recs []PointRecord, maxJump float64) []Jump {
 	found := map[string]Jump{}
 	dim := len(done[0].Values)
 	for d := range dim {
-		for _, line := range scanLines(done, d) {
+		lines := scanLines(done, d)
+		if d < len(periods) && periods[d] > 0 {
+			lines = append(lines, turnedLines(lines, d, periods[d])...)
+		}
+		for _, line := range lines {
 			for len(line) >= 4 {
 				worst, wj, wdev := -1, Jump{}, 0.0
 				for i := 1; i+1 < len(line); i++ {
@@ -307,4 +321,26 @@ func closestCurve(line []PointRecord, i, d int) (float64, bool) {
 		}
 	}
 	return best, ok
+}
+
+// turnedLines returns copies of the lines of a periodic coordinate d with
+// the values in the upper half of the period moved down by one period and
+// re-sorted: the seam of the copy lies opposite the original's, so points
+// at the ends of one are interior in the other. Keys are kept.
+func turnedLines(lines [][]PointRecord, d int, period float64) [][]PointRecord {
+	var out [][]PointRecord
+	for _, line := range lines {
+		c := make([]PointRecord, len(line))
+		for i, r := range line {
+			v := append([]float64(nil), r.Values...)
+			if v[d] >= period/2 {
+				v[d] -= period
+			}
+			r.Values = v
+			c[i] = r
+		}
+		sort.SliceStable(c, func(a, b int) bool { return c[a].Values[d] < c[b].Values[d] })
+		out = append(out, c)
+	}
+	return out
 }

@@ -19,7 +19,9 @@ import (
 // OpenScan opens the store of the scan in dir for a run of spec: a new
 // store records the spec and its fingerprint; an existing one must have
 // the same fingerprint (molecule, coordinates, engine), otherwise
-// OpenScan fails with ErrSpecChanged and leaves the store as it was.
+// OpenScan fails with ErrSpecChanged and leaves the store as it was —
+// except that the engine settings may change while no point has
+// finished (its failed points are then planned again).
 // Changes to the grid, refinement or queue are accepted.
 func OpenScan(dir string, spec *planner.Spec, opts OpenOptions) (*Store, error) {
 	st, err := Open(dir, opts)
@@ -36,6 +38,16 @@ func OpenScan(dir string, spec *planner.Spec, opts OpenOptions) (*Store, error) 
 		var old planner.Fingerprint
 		_ = json.Unmarshal([]byte(meta.Fingerprint), &old)
 		diff := old.Diff(spec.Fingerprint())
+		if ok, err := acceptEngineChange(st, old, spec.Fingerprint()); ok || err != nil {
+			if err == nil {
+				err = st.SetSpec(spec.Text(), string(fp))
+			}
+			if err != nil {
+				st.Close()
+				return nil, err
+			}
+			return st, nil
+		}
 		st.Close()
 		return nil, fmt.Errorf("%w since this scan started: %s changed, which changes the energy of every point; restore the old settings or start a new scan in another directory",
 			ErrSpecChanged, strings.Join(diff, " and "))
@@ -86,6 +98,7 @@ type Runner struct {
 	start     time.Time
 	computed  int
 	reused    int
+	earlier   int // done in the store when Run started
 	round     int
 	lastPlan  planner.RefinePlan
 	host      string // this machine, for result files
@@ -102,7 +115,14 @@ type Summary struct {
 	Failed   []PointRecord
 	Computed int // points computed by this run
 	Reused   int // results taken from result files left by an earlier run
-	Elapsed  time.Duration
+	// Warnings are the scan's warnings at the end of the run, most
+	// serious first ([ScanWarnings]), as `status` shows them.
+	Warnings []Warning
+	// Earlier counts the points that were already done in the store when
+	// this run started (finished by earlier runs); with Reused, what this
+	// run did not compute itself.
+	Earlier int
+	Elapsed time.Duration
 	// Detached is true when Run returned with points left running on the
 	// queue (Runner.Detach); Status then describes the last finished round.
 	Detached bool
@@ -246,6 +266,28 @@ func (r *Runner) load() error {
 	for i := range recs {
 		r.recs[recs[i].Key] = &recs[i]
 		r.round = max(r.round, recs[i].Round)
+		if recs[i].State == Done {
+			r.earlier++
+		}
+	}
+	if renamed, removed, evs := canonicalKeys(r.Spec, r.recs); len(removed) > 0 {
+		put := make([]PointRecord, len(renamed))
+		for i, rec := range renamed {
+			put[i] = *rec
+		}
+		for i := range evs {
+			evs[i].Time = r.Now()
+		}
+		if err := r.Store.Rekey(put, removed, evs); err != nil {
+			return err
+		}
+		if r.OnEvent != nil {
+			pr := r.progress()
+			for _, e := range evs {
+				e.Progress = &pr
+				r.OnEvent(e)
+			}
+		}
 	}
 	rounds, err := r.Store.Rounds()
 	if err != nil {
@@ -788,8 +830,8 @@ func (r pointComputer) resultOf(t Task, start time.Time, o Outcome) Result {
 			res.Class = "not-converged"
 		}
 		res.Error = fmt.Sprintf("backend %s: %s", r.backend.Name(), res.Class)
-		if o.Detail != "" {
-			res.Error += ": " + o.Detail
+		if o.Detail != "" { // the class is in res.Class: not twice in the text
+			res.Error = fmt.Sprintf("backend %s: %s", r.backend.Name(), o.Detail)
 		}
 		if o.Permanent {
 			res.Permanent = true
@@ -885,7 +927,15 @@ func (r *Runner) checkJumps() int {
 		recs = append(recs, *r.recs[k])
 	}
 	replanned := 0
-	for _, j := range FindJumps(recs, limit) {
+	var periods []float64
+	for _, c := range r.Spec.Coordinates() {
+		p := 0.0
+		if c.Periodic() && c.FullPeriod {
+			p = c.Period
+		}
+		periods = append(periods, p)
+	}
+	for _, j := range FindJumpsPeriodic(recs, limit, periods) {
 		rec := r.recs[j.Key]
 		rec.Jumps++
 		msg := jumpMessage(r.Spec, rec, j, limit)
@@ -954,12 +1004,19 @@ func Samples(recs map[string]*PointRecord) []planner.Sample {
 
 func (r *Runner) summary() Summary {
 	s := Summary{Rounds: r.round, Counts: r.counts(), Status: r.lastPlan.Status, Reason: r.lastPlan.Reason,
-		Extrema: r.lastPlan.Extrema, Computed: r.computed, Reused: r.reused, Elapsed: r.Now().Sub(r.start)}
+		Extrema: r.lastPlan.Extrema, Computed: r.computed, Reused: r.reused, Earlier: r.earlier, Elapsed: r.Now().Sub(r.start)}
+	recs := make([]PointRecord, 0, len(r.recs))
 	for _, k := range r.keys() {
+		recs = append(recs, *r.recs[k])
 		if r.recs[k].State == Failed {
 			s.Failed = append(s.Failed, *r.recs[k])
 		}
 	}
+	rounds := make([]RoundRecord, 0, len(r.rounds))
+	for _, rr := range r.rounds {
+		rounds = append(rounds, *rr)
+	}
+	s.Warnings = ScanWarnings(recs, rounds)
 	return s
 }
 

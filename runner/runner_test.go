@@ -325,3 +325,40 @@ func TestRunner_Run_RebuildsLostResultFiles(t *testing.T) {
 		}
 	}
 }
+
+// TestOpenScan_EngineChangeBeforeAnyPointFinished: while no point is
+// done, the engine settings may change (a wrong setting that failed every
+// point is fixed); the failed points run again with fresh attempts. Once
+// a point is done the same change is refused (TestOpenScan_SpecChange).
+func TestOpenScan_EngineChangeBeforeAnyPointFinished(t *testing.T) {
+	all := `fail = ["r=1.00000", "r=1.05000", "r=1.10000", "r=1.15000", "r=1.20000", "r=1.25000", "r=1.30000"]` + "\n"
+	broken := strings.Replace(morseSpec, "offset = -112.7\n", "offset = -112.7\n"+all, 1)
+	dir, spec := scanDir(t, broken)
+	sum, err := runScan(t, t.Context(), dir, spec, 2)
+	if !errors.Is(err, runner.ErrPointsFailed) || sum.Counts[runner.Failed] != 7 {
+		t.Fatalf("broken engine: %v, counts %v; want every one of the 7 points failed", err, sum.Counts)
+	}
+	fixed, err := planner.Decode([]byte(morseSpec), filepath.Join(dir, "scan.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum, err = runScan(t, t.Context(), dir, fixed, 2)
+	if err != nil || sum.Counts[runner.Failed] != 0 || sum.Counts[runner.Done] < 7 {
+		t.Fatalf("fixed engine: %v, counts %v; want every point done", err, sum.Counts)
+	}
+}
+
+// TestRun_Resume_CountsEarlierPoints: a rerun of a finished scan
+// computes nothing and says how many points earlier runs finished.
+func TestRun_Resume_CountsEarlierPoints(t *testing.T) {
+	dir, spec := scanDir(t, morseSpec)
+	first, err := runScan(t, t.Context(), dir, spec, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	again, err := runScan(t, t.Context(), dir, spec, 2)
+	if err != nil || again.Computed != 0 || again.Earlier != first.Counts[runner.Done] || first.Earlier != 0 {
+		t.Errorf("rerun: %v, computed %d, earlier %d (first run: earlier %d, done %d); want 0 computed and every done point counted as earlier",
+			err, again.Computed, again.Earlier, first.Earlier, first.Counts[runner.Done])
+	}
+}

@@ -3,7 +3,6 @@ package runner
 import (
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -33,6 +32,8 @@ type Snapshot struct {
 	// Suspects are done points that break with their neighbours (see
 	// [FindDiscontinuities]).
 	Suspects []Suspect `json:"suspects,omitempty"`
+	// Warnings are the scan's warnings, most serious first ([ScanWarnings]).
+	Warnings []Warning `json:"warnings,omitempty"`
 }
 
 // RefineJSON is a round's refinement status.
@@ -47,7 +48,6 @@ type ExtremumJSON struct {
 	Kind          string             `json:"kind"`
 	Coordinates   map[string]float64 `json:"coordinates"`
 	EnergyHartree float64            `json:"energy_hartree"`
-	FrequencyCm1  *float64           `json:"harmonic_cm-1,omitempty"`
 	AtEdge        bool               `json:"at_edge"`
 	Converged     bool               `json:"converged"`
 	Note          string             `json:"note,omitempty"`
@@ -57,10 +57,14 @@ type ExtremumJSON struct {
 type PointJSON struct {
 	Key           string             `json:"key"`
 	Coordinates   map[string]float64 `json:"coordinates"`
+	Values        []float64          `json:"values"` // internal units (bohr, radian), in [[scan]] order
 	State         State              `json:"state"`
 	EnergyHartree *float64           `json:"energy_hartree"`
 	Round         int                `json:"round"`
 	Attempts      int                `json:"attempts"`
+	// Diagnostics of a done point, where the backend reported them.
+	Iterations int      `json:"scf_iterations,omitempty"`
+	SSquared   *float64 `json:"s_squared,omitempty"`
 }
 
 // PointErrorJSON is the last error of a point.
@@ -90,8 +94,8 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 		m[r.Key] = r
 		snap.Counts[string(r.State)]++
 		snap.Round = max(snap.Round, r.Round)
-		snap.Points = append(snap.Points, PointJSON{Key: r.Key, Coordinates: coords(spec, r.Values), State: r.State,
-			EnergyHartree: r.Energy, Round: r.Round, Attempts: r.Attempts})
+		snap.Points = append(snap.Points, PointJSON{Key: r.Key, Coordinates: coords(spec, r.Values), Values: r.Values, State: r.State,
+			EnergyHartree: r.Energy, Round: r.Round, Attempts: r.Attempts, Iterations: r.Iterations, SSquared: r.SSquared})
 		if r.LastError != "" {
 			snap.LastErrors = append(snap.LastErrors, PointErrorJSON{Key: r.Key, Class: r.Class, Error: r.LastError, State: r.State})
 		}
@@ -111,6 +115,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	if len(snap.LastErrors) > 10 {
 		snap.LastErrors = snap.LastErrors[:10]
 	}
+	snap.Warnings = ScanWarnings(recs, rounds)
 	sort.Slice(rounds, func(a, b int) bool { return rounds[a].Round < rounds[b].Round })
 	for i := len(rounds) - 1; i >= 0; i-- {
 		if rounds[i].Status != "" {
@@ -122,10 +127,6 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	plan := planner.Refine(spec, Samples(m), snap.Round)
 	for _, e := range plan.Extrema {
 		ej := ExtremumJSON{Kind: e.Kind, Coordinates: coords(spec, e.Values), EnergyHartree: e.Energy, AtEdge: e.AtEdge, Converged: e.Converged, Note: e.Note}
-		if !math.IsNaN(e.Frequency) {
-			f := e.Frequency
-			ej.FrequencyCm1 = &f
-		}
 		snap.Extrema = append(snap.Extrema, ej)
 	}
 	return snap

@@ -85,6 +85,7 @@ type Store struct {
 	readOnly bool
 	seq      uint64
 	stale    *LockInfo // lock record of a run that died, found by Open
+	notes    []string  // what OpenScan accepted that the user should hear of
 }
 
 // OpenOptions tune Open.

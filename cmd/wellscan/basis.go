@@ -21,7 +21,7 @@ func newBasisCommand(a *app) *cobra.Command {
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			tw := tabwriter.NewWriter(a.stdout, 2, 4, 2, ' ', 0)
-			fmt.Fprintln(tw, "NAME\tELEMENTS\tD/F FUNCTIONS\tDESCRIPTION")
+			fmt.Fprintln(tw, "NAME\tELEMENTS\tD AND F SHELLS\tDESCRIPTION")
 			for _, in := range basis.List() {
 				fmt.Fprintf(tw, "%s\t%s\t%s\t%s\n", in.Name, in.Coverage, in.Convention, in.Description)
 			}
@@ -30,7 +30,7 @@ func newBasisCommand(a *app) *cobra.Command {
 	})
 	cmd.AddCommand(&cobra.Command{
 		Use:   "show NAME [ELEMENT...]",
-		Short: "Print a basis set (or some of its elements) in wellscan's basis format",
+		Short: "Print a basis set (or some of its elements) in wellscan's basis format, numbers as plain decimals",
 		Example: `  wellscan basis show 6-31G* O H
   wellscan basis show cc-pvdz > my-cc-pvdz.basis   # edit, then --basis-file my-cc-pvdz.basis`,
 		Args: cobra.MinimumNArgs(1),
@@ -39,7 +39,7 @@ func newBasisCommand(a *app) *cobra.Command {
 			if err != nil {
 				return err
 			}
-			return set.Write(a.stdout, args[1:]...)
+			return set.WritePlain(a.stdout, args[1:]...)
 		},
 	})
 	return cmd

@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"runtime/debug"
 	"strings"
 	"testing"
 
@@ -196,5 +197,43 @@ func TestDemo_Runs(t *testing.T) {
 		if _, err := planner.Decode(spec, "demo.toml"); err != nil {
 			t.Errorf("embedded demo spec: %v", err)
 		}
+	}
+}
+
+func TestVersionText(t *testing.T) {
+	info := &debug.BuildInfo{Settings: []debug.BuildSetting{{Key: "vcs.revision", Value: "0123456789abcdef0123"},
+		{Key: "vcs.time", Value: "2026-12-03T10:00:00Z"}, {Key: "vcs.modified", Value: "true"}}}
+	if got, want := versionText("1.2.3", info, true), "wellscan 1.2.3 (commit 0123456789ab + local changes, 2026-12-03T10:00:00Z)"; got != want {
+		t.Errorf("versionText = %q, want %q", got, want)
+	}
+	if got := versionText("1.2.3", nil, false); !strings.Contains(got, "commit unknown") {
+		t.Errorf("versionText without build info = %q", got)
+	}
+	code, out, _ := wellscan(t, "help")
+	if code != 0 || strings.Contains(out, "node-task") {
+		t.Errorf("help lists the internal node-task command:\n%s", out)
+	}
+}
+
+// TestDemo_CleansUp: without --dir the demo's temporary directory is gone
+// afterwards; with --keep it stays and its path is printed (TMPDIR points
+// at a fresh directory to look in).
+func TestDemo_CleansUp(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs the demo scan twice")
+	}
+	tmp := t.TempDir()
+	t.Setenv("TMPDIR", tmp)
+	code, _, errs := wellscan(t, "demo", "-q")
+	if code != 0 {
+		t.Fatalf("demo: exit %d: %s", code, errs)
+	}
+	if left, _ := filepath.Glob(filepath.Join(tmp, "wellscan-demo-*")); len(left) != 0 {
+		t.Errorf("demo left %v behind", left)
+	}
+	code, _, errs = wellscan(t, "demo", "-q", "--keep")
+	left, _ := filepath.Glob(filepath.Join(tmp, "wellscan-demo-*"))
+	if code != 0 || len(left) != 1 || !strings.Contains(errs, "demo scan kept in "+left[0]) {
+		t.Errorf("demo --keep: exit %d, dirs %v, stderr %q; want one kept directory, named", code, left, errs)
 	}
 }

@@ -290,7 +290,7 @@ func TestScan_WaterSymmetricStretchMP2(t *testing.T) {
 // HF is about 0.920 Å (T. H. Dunning Jr., K. A. Peterson and D. E. Woon,
 // in Encyclopedia of Computational Chemistry (1998), from memory), so the
 // minimum must lie in 0.91–0.93 Å; every point carries its CCSD and (T)
-// energies; the report names the method, basis and frozen core exactly.
+// energies; the report names the method, frozen core and basis exactly.
 func TestScan_HFStretchCCSDT(t *testing.T) {
 	if testing.Short() {
 		t.Skip("runs a CCSD(T) scan")
@@ -345,7 +345,7 @@ basis = "cc-pVDZ"
 		t.Fatalf("report: exit %d\n%s", code, errs)
 	}
 	sum, err := os.ReadFile(filepath.Join(dir, "report", "summary.md"))
-	if err != nil || !strings.Contains(string(sum), "CCSD(T)/cc-pVDZ (frozen core)") {
-		t.Errorf("summary does not name CCSD(T)/cc-pVDZ (frozen core): %v\n%s", err, sum)
+	if err != nil || !strings.Contains(string(sum), "CCSD(T)(fc)/cc-pVDZ") {
+		t.Errorf("summary does not name CCSD(T)(fc)/cc-pVDZ: %v\n%s", err, sum)
 	}
 }

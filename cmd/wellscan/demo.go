@@ -4,7 +4,6 @@ import (
 	"bytes"
 	_ "embed"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
 
@@ -29,12 +28,14 @@ var (
 func demoSpec() []byte { return demoCO }
 
 type demoOptions struct {
-	dir string
-	run runOptions
+	dir  string
+	keep bool
+	run  runOptions
 }
 
 func (o *demoOptions) AddFlags(fs *pflag.FlagSet) {
-	fs.StringVar(&o.dir, "dir", "", "scan directory to use (default: a new temporary directory)")
+	fs.StringVar(&o.dir, "dir", "", "scan directory to use and keep (default: a new temporary directory, removed at the end)")
+	fs.BoolVar(&o.keep, "keep", false, "keep the temporary scan directory (its path is printed)")
 	o.run.AddFlags(fs)
 }
 
@@ -44,8 +45,10 @@ func newDemoCommand(a *app) *cobra.Command {
 		Use:   "demo",
 		Short: "Run the built-in demonstration scan (carbon monoxide bond stretch, adaptive)",
 		Long: `Run an embedded scan — the carbon monoxide bond stretch, refined
-adaptively around its minimum — in a temporary directory (or --dir), and
-print the located minimum. Rerunning with the same --dir resumes.`,
+adaptively around its minimum — and print the located minimum. Without
+--dir the scan runs in a temporary directory that is removed at the end
+(--keep keeps it and prints where it is); with --dir it runs there and
+stays, and rerunning with the same --dir resumes.`,
 		Example: `  wellscan demo
   wellscan demo --dir co-demo && wellscan report co-demo`,
 		Args: cobra.NoArgs,
@@ -57,6 +60,11 @@ print the located minimum. Rerunning with the same --dir resumes.`,
 					return err
 				}
 				dir = d
+				if o.keep {
+					defer fmt.Fprintf(a.stderr, "demo scan kept in %s (wellscan report %s draws it)\n", dir, dir)
+				} else {
+					defer os.RemoveAll(dir)
+				}
 			}
 			text := demoSpec()
 			path := filepath.Join(dir, "scan.toml")
@@ -76,16 +84,17 @@ print the located minimum. Rerunning with the same --dir resumes.`,
 			if err != nil {
 				return err
 			}
-			fmt.Fprintf(a.stderr, "demo scan in %s\n", dir)
+			if o.dir == "" && !o.keep {
+				fmt.Fprintf(a.stderr, "demo scan in %s (removed at the end; --keep keeps it)\n", dir)
+			} else {
+				fmt.Fprintf(a.stderr, "demo scan in %s\n", dir)
+			}
 			sum, err := runScan(cmd.Context(), a, dir, spec, o.run)
 			if sum != nil {
 				printSummary(a.stdout, spec, dir, *sum)
 				for _, e := range sum.Extrema {
 					if e.Kind == "minimum" && spec.Coordinates()[0].Kind == planner.KindDistance {
 						fmt.Fprintf(a.stdout, "located minimum: r = %.5f Å (%.5f bohr), E = %.8f hartree", e.Values[0]*planner.BohrInAngstrom, e.Values[0], e.Energy)
-						if !math.IsNaN(e.Frequency) {
-							fmt.Fprintf(a.stdout, ", harmonic ≈ %.1f cm⁻¹", e.Frequency)
-						}
 						fmt.Fprintln(a.stdout)
 					}
 				}

@@ -32,6 +32,7 @@ type energyOptions struct {
 	frozenCore   int
 	allElectron  bool
 	guess        string
+	alsoUnits    []string
 	basisLimit   []string
 	coreCorr     string
 }
@@ -39,19 +40,20 @@ type energyOptions struct {
 func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.StringVar(&o.basis, "basis", "6-31G*", "basis set from the built-in library (see 'wellscan basis list'); case-insensitive")
 	fs.StringVar(&o.basisFile, "basis-file", "", "read the basis set from this file (wellscan basis format) instead of the library")
-	fs.StringVar(&o.convention, "convention", "as-set", "d/f functions: as-set, cartesian (6D/10F) or spherical (5D/7F)")
+	fs.StringVar(&o.convention, "convention", "as-set", "d and f shells: as-set (as the basis set defines them), cartesian (every x^a y^b z^c product, 6 d and 10 f functions per shell) or spherical (2l+1 real solid harmonics, 5 d and 7 f)")
 	fs.StringVar(&o.method, "method", "", "rhf, uhf, mp2, ccsd or ccsd(t) (default: rhf for singlets, uhf otherwise; mp2 runs on rhf for singlets, uhf otherwise; ccsd and ccsd(t) need a closed shell and run on rhf)")
 	fs.IntVar(&o.frozenCore, "frozen-core", -1, "mp2, ccsd, ccsd(t): number of lowest occupied orbitals per spin left uncorrelated (default: the atoms' noble-gas cores, e.g. 1 for O)")
 	fs.BoolVar(&o.allElectron, "all-electron", false, "mp2, ccsd, ccsd(t): correlate all electrons (same as --frozen-core 0)")
 	fs.StringSliceVar(&o.basisLimit, "basis-limit", nil, "instead of --basis: two correlation-consistent sets, smaller first (e.g. cc-pVTZ,cc-pVQZ), extrapolated to the basis-set limit (HF: Karton–Martin; correlation: X⁻³); needs mp2, ccsd or ccsd(t)")
 	fs.StringVar(&o.coreCorr, "core-correction", "", "with --basis-limit: add all-electron minus frozen-core energy in this core–valence set (e.g. cc-pCVTZ)")
 	fs.IntVar(&o.charge, "charge", 0, "total charge of the molecule")
-	fs.IntVar(&o.multiplicity, "multiplicity", 0, "spin multiplicity 2S+1 (default: the lowest consistent with the electron count)")
+	fs.IntVar(&o.multiplicity, "multiplicity", 0, "spin multiplicity 2S+1 (default: Hund's rules for a lone atom, the lowest consistent with the electron count for a molecule)")
 	fs.StringVar(&o.units, "units", "angstrom", "units of the XYZ coordinates: angstrom or bohr")
-	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the table")
+	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the text")
+	fs.StringSliceVar(&o.alsoUnits, "also-units", nil, "also show the energy in these units (eV, kJ/mol, kcal/mol, cm-1) and, with au, the dipole in e·bohr")
 	fs.IntVar(&o.workers, "workers", 0, "goroutines for integrals and Fock builds (default: all CPUs)")
 	fs.IntVar(&o.maxIter, "max-iterations", 0, "SCF iteration cap (default 128)")
-	fs.StringVar(&o.guess, "guess", "auto", "starting guess: auto (rhf: atoms; uhf: try core, gwh, atoms, atoms-spin and for singlets core-mixed, keep the lowest), core, gwh, atoms, atoms-spin or core-mixed")
+	fs.StringVar(&o.guess, "guess", "auto", "starting guess: auto (rhf: atoms; uhf: try core, gwh, atoms, atoms-spin and for singlets core-twist, keep the lowest), core, gwh, atoms, atoms-spin or core-twist")
 }
 
 func newEnergyCommand(a *app) *cobra.Command {
@@ -60,7 +62,9 @@ func newEnergyCommand(a *app) *cobra.Command {
 		Use:   "energy FILE.xyz",
 		Short: "Single-point Hartree–Fock, MP2, CCSD or CCSD(T) energy of one geometry with the built-in engine",
 		Long: `Compute the RHF, UHF, MP2, CCSD or CCSD(T) energy of the molecule in an XYZ
-file with the built-in engine.
+file with the built-in engine. The file may be a standard XYZ file (atom
+count and comment line first) or bare "element x y z" lines, as in a spec.
+Use "-" to read the geometry from standard input.
 
   rhf, uhf    Hartree–Fock.
   mp2         second-order Møller–Plesset on RHF (closed shells) or UHF.
@@ -75,10 +79,17 @@ The correlated methods freeze the atoms' noble-gas cores by default (O 1s,
 Si [Ne], …); --all-electron correlates every electron. --basis-limit
 TZ,QZ extrapolates to the basis-set limit from two correlation-consistent
 sets (each a separate calculation), and --core-correction cc-pCVTZ adds
-the core–valence correction. Use "-" to read the XYZ from standard input.
+the core–valence correction.
+
+Without --method: RHF for a singlet, UHF otherwise (as in a spec). Without
+--multiplicity: Hund's rules for a lone atom (N is a quartet), the lowest
+for the electron count for a molecule; the output says which.
+
 The exit status is 1 when the SCF or the coupled-cluster equations do not
-converge (the last energy is still printed, marked as not converged).`,
+converge: no energy is shown then (the last iterate is in --json, with
+"converged": false or "cc_converged": false).`,
 		Example: `  wellscan energy water.xyz --basis cc-pVDZ
+  wellscan energy water.xyz --basis cc-pVDZ --also-units eV,au
   wellscan energy oh.xyz --basis 6-31G* --multiplicity 2 --json
   wellscan energy h2.xyz --units bohr --basis-file mybasis.txt
   wellscan energy water.xyz --basis cc-pVTZ --method mp2 --all-electron
@@ -95,25 +106,27 @@ converge (the last energy is still printed, marked as not converged).`,
 
 // energyReport is the --json output of `wellscan energy`.
 type energyReport struct {
-	EnergyHartree           float64    `json:"energy_hartree"`
-	ElectronicEnergyHartree float64    `json:"electronic_energy_hartree"`
-	NuclearRepulsionHartree float64    `json:"nuclear_repulsion_hartree"`
-	Converged               bool       `json:"converged"`
-	Status                  string     `json:"status"`
-	Iterations              int        `json:"iterations"`
-	BasisFunctions          int        `json:"basis_functions"`
-	DroppedFunctions        int        `json:"dropped_functions"`
-	Method                  string     `json:"method"`
-	Basis                   string     `json:"basis"`
-	Convention              string     `json:"convention"`
-	Charge                  int        `json:"charge"`
-	Multiplicity            int        `json:"multiplicity"`
-	SSquared                *float64   `json:"s_squared,omitempty"`
-	OrbitalEnergiesAlpha    []float64  `json:"orbital_energies_alpha_hartree"`
-	OrbitalEnergiesBeta     []float64  `json:"orbital_energies_beta_hartree,omitempty"`
-	MullikenCharges         []float64  `json:"mulliken_charges"`
-	DipoleAU                [3]float64 `json:"dipole_e_bohr"`
-	DipoleDebye             float64    `json:"dipole_debye"`
+	EnergyHartree           float64 `json:"energy_hartree"`
+	ElectronicEnergyHartree float64 `json:"electronic_energy_hartree"`
+	NuclearRepulsionHartree float64 `json:"nuclear_repulsion_hartree"`
+	Converged               bool    `json:"converged"`
+	Status                  string  `json:"status"`
+	Iterations              int     `json:"iterations"`
+	BasisFunctions          int     `json:"basis_functions"`
+	DroppedFunctions        int     `json:"dropped_functions"`
+	Method                  string  `json:"method"`
+	// Label is the method as wellscan labels it: "RHF", "MP2(fc)", …
+	Label                string     `json:"method_label"`
+	Basis                string     `json:"basis"`
+	Convention           string     `json:"convention"`
+	Charge               int        `json:"charge"`
+	Multiplicity         int        `json:"multiplicity"`
+	SSquared             *float64   `json:"s_squared,omitempty"`
+	OrbitalEnergiesAlpha []float64  `json:"orbital_energies_alpha_hartree"`
+	OrbitalEnergiesBeta  []float64  `json:"orbital_energies_beta_hartree,omitempty"`
+	MullikenCharges      []float64  `json:"mulliken_charges"`
+	DipoleAU             [3]float64 `json:"dipole_e_bohr"`
+	DipoleDebye          float64    `json:"dipole_debye"`
 	// MP2 only (energy_hartree is then the MP2 total).
 	ReferenceMethod        string   `json:"reference_method,omitempty"`
 	ReferenceEnergyHartree *float64 `json:"reference_energy_hartree,omitempty"`
@@ -173,6 +186,10 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	if err != nil {
 		return usageError{fmt.Errorf("--convention: %w", err)}
 	}
+	units, err := parseAlsoUnits(o.alsoUnits)
+	if err != nil {
+		return usageError{err}
+	}
 	var cold []hf.GuessKind
 	if g := strings.ToLower(strings.TrimSpace(o.guess)); g != "auto" {
 		k, err := hf.ParseGuess(g)
@@ -192,11 +209,16 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	} else {
 		path = "<stdin>"
 	}
-	frames, err := parsers.ReadXYZ(io.LimitReader(r, 64<<20), path)
+	text, err := io.ReadAll(io.LimitReader(r, 64<<20))
+	if err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	// A standard XYZ frame or bare "element x y z" lines, as in a spec.
+	frame, err := parsers.ReadGeometryBlock(string(text), path, 1)
 	if err != nil {
 		return err
 	}
-	mol, err := planner.MoleculeFromFrame(frames[0], unit, o.charge, o.multiplicity, path)
+	mol, err := planner.MoleculeFromFrame(frame, unit, o.charge, o.multiplicity, path)
 	if err != nil {
 		return err
 	}
@@ -234,10 +256,15 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 			return e
 		}
 	} else {
-		printEnergy(a.stdout, rep, mol, res)
+		printEnergy(a.stdout, energyView{rep: rep, mol: mol, res: res, set: set, conv: conv,
+			multGiven: o.multiplicity != 0, methodGiven: o.method != "", units: units})
 	}
-	if errors.Is(err, hf.ErrNotConverged) || errors.Is(err, hf.ErrCCNotConverged) {
-		return fmt.Errorf("%w: %v", errNotConverged, err)
+	if errors.Is(err, hf.ErrNotConverged) {
+		// Said once, without the hf error's own "not converged" again.
+		return fmt.Errorf("%w: the SCF stopped after %d iterations (%s); no energy is reported", errNotConverged, res.Iterations, res.Reason)
+	}
+	if errors.Is(err, hf.ErrCCNotConverged) {
+		return fmt.Errorf("%w: the coupled-cluster equations stopped after %d iterations; no energy is reported", errNotConverged, res.CC.Iterations)
 	}
 	return err
 }
@@ -282,20 +309,111 @@ func newEnergyReport(res *hf.Result, mol planner.Molecule) energyReport {
 		s2 := res.S2
 		rep.SSquared = &s2
 	}
+	frozen := (res.MP2 != nil && res.MP2.FrozenCore > 0) || (res.CC != nil && res.CC.FrozenCore > 0)
+	rep.Label = methodName(rep.Method, mol.Multiplicity, frozen)
+	if (res.Method == hf.MP2 && res.MP2 == nil) || ((res.Method == hf.CCSD || res.Method == hf.CCSDT) && res.CC == nil) { // the SCF did not converge: no correlation ran
+		rep.Label = strings.TrimSuffix(rep.Label, "(full)")
+	}
 	return rep
 }
 
-func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Result) {
-	if !rep.Converged {
-		fmt.Fprintf(w, "!! SCF NOT CONVERGED after %d iterations (%s): the energy below is NOT a result !!\n\n", rep.Iterations, res.Reason)
+// energyView is what the text output of `wellscan energy` shows.
+type energyView struct {
+	rep                    energyReport
+	mol                    planner.Molecule
+	res                    *hf.Result
+	set                    *basis.Set
+	conv                   basis.Convention
+	multGiven, methodGiven bool
+	units                  alsoUnits
+}
+
+// alsoUnits are the extra units of --also-units.
+type alsoUnits struct {
+	energy   []string // eV, kJ/mol, kcal/mol, cm-1, in the order asked
+	dipoleAU bool
+}
+
+// energyUnits converts hartree to the units --also-units accepts.
+var energyUnits = map[string]float64{"eV": planner.HartreeInEV, "kJ/mol": planner.HartreeInKJPerMol,
+	"kcal/mol": planner.HartreeInKcalPerMol, "cm-1": planner.HartreeInCm1}
+
+func parseAlsoUnits(list []string) (alsoUnits, error) {
+	var u alsoUnits
+	for _, s := range list {
+		s = strings.TrimSpace(s)
+		switch {
+		case strings.EqualFold(s, "au") || strings.EqualFold(s, "a.u."):
+			u.dipoleAU = true
+			continue
+		case strings.EqualFold(s, "cm⁻¹"):
+			s = "cm-1"
+		}
+		found := false
+		for k := range energyUnits {
+			if strings.EqualFold(k, s) {
+				u.energy, found = append(u.energy, k), true
+			}
+		}
+		if !found {
+			return u, fmt.Errorf("--also-units: unknown unit %q (expected eV, kJ/mol, kcal/mol, cm-1 or au)", s)
+		}
 	}
-	fmt.Fprintf(w, "molecule        %s, charge %+d, multiplicity %d, %d electrons\n", mol.Formula(), mol.Charge, mol.Multiplicity, mol.Electrons())
-	fmt.Fprintf(w, "method / basis  %s / %s (%d functions, d/f %s", strings.ToUpper(rep.Method), rep.Basis, rep.BasisFunctions, rep.Convention)
+	return u, nil
+}
+
+// printEnergy writes the result of `wellscan energy` in wellscan's own
+// layout: a heading with the formula and method, the one energy in
+// hartree, then how it was obtained. A calculation that did not converge
+// shows no energy (and no property of its unconverged density).
+func printEnergy(w io.Writer, v energyView) {
+	rep, mol, res := v.rep, v.mol, v.res
+	label := rep.Label
+	fmt.Fprintf(w, "%s · %s/%s · single point\n\n", mol.Isotopologue(), label, rep.Basis)
+	if c := res.CC; c != nil && !c.Converged {
+		fmt.Fprintf(w, "!! COUPLED-CLUSTER EQUATIONS NOT CONVERGED after %d iterations (largest amplitude change %.1e).\n", c.Iterations, c.Residual)
+		fmt.Fprintf(w, "!! No energy is reported: the last amplitudes are not a result (--json has them, with \"cc_converged\": false).\n\n")
+	} else if !rep.Converged {
+		fmt.Fprintf(w, "!! SCF NOT CONVERGED after %d iterations (%s).\n", rep.Iterations, res.Reason)
+		fmt.Fprintf(w, "!! No energy is reported: the last iterate is not a result (--json has it, with \"converged\": false).\n")
+		fmt.Fprintf(w, "!! Try --max-iterations, another --guess, or check the geometry and multiplicity.\n\n")
+	} else {
+		fmt.Fprintf(w, "  %-12s %.12f Eh\n", "E("+label+")", rep.EnergyHartree)
+		for _, u := range v.units.energy {
+			fmt.Fprintf(w, "  %-12s %.6f %s\n", "", rep.EnergyHartree*energyUnits[u], u)
+		}
+		if m := res.MP2; m != nil {
+			fmt.Fprintf(w, "  %-12s %s reference %.12f Eh, correlation %.12f Eh\n", "", strings.ToUpper(string(m.Reference)), m.ReferenceEnergy, m.Correlation)
+			fmt.Fprintf(w, "  %-12s   correlation by spin pairs: same %.12f Eh, opposite %.12f Eh\n", "", m.SameSpin, m.OppositeSpin)
+		}
+		if c := res.CC; c != nil {
+			if c.WithTriples {
+				fmt.Fprintf(w, "  %-12s RHF reference %.12f Eh, CCSD correlation %.12f Eh, (T) %.12f Eh\n", "", c.ReferenceEnergy, c.Correlation, c.Triples)
+			} else {
+				fmt.Fprintf(w, "  %-12s RHF reference %.12f Eh, CCSD correlation %.12f Eh\n", "", c.ReferenceEnergy, c.Correlation)
+			}
+		}
+		fmt.Fprintln(w)
+	}
+	method := "given"
+	if !v.methodGiven {
+		method = "default for multiplicity " + fmt.Sprint(mol.Multiplicity)
+	}
+	fmt.Fprintf(w, "  %-12s %s (%s)\n", "method", label, method)
+	fmt.Fprintf(w, "  %-12s %s, %d electrons, charge %s, multiplicity %d%s\n", "molecule", plural(len(mol.Atoms), "atom"), mol.Electrons(), signed(mol.Charge), mol.Multiplicity, multiplicityNote(v.multGiven, mol))
+	if iso := mol.Isotopes(); len(iso) > 0 {
+		fmt.Fprintf(w, "  %-12s %s (masses do not change the energy)\n", "isotopes", strings.Join(iso, "; "))
+	}
+	fmt.Fprintf(w, "  %-12s %s: %d functions, %s", "basis", rep.Basis, rep.BasisFunctions, shellForms(v.set, mol, v.conv))
 	if rep.DroppedFunctions > 0 {
-		fmt.Fprintf(w, ", %d near-linear-dependent combinations dropped", rep.DroppedFunctions)
+		fmt.Fprintf(w, "; %d near-linear-dependent combinations dropped", rep.DroppedFunctions)
 	}
-	fmt.Fprintln(w, ")")
-	fmt.Fprintf(w, "SCF             %d iterations, %s, from the %s guess", rep.Iterations, map[bool]string{true: "converged", false: "NOT converged"}[rep.Converged], rep.Guess)
+	fmt.Fprintln(w)
+	state := "converged"
+	if !rep.Converged {
+		state = "NOT converged"
+	}
+	fmt.Fprintf(w, "  %-12s %s in %d iterations, started from the %s guess\n", "SCF", state, rep.Iterations, rep.Guess)
 	if n := len(rep.GuessTrials); n > 1 {
 		parts := make([]string, len(rep.GuessTrials))
 		for i, tr := range rep.GuessTrials {
@@ -308,70 +426,105 @@ func printEnergy(w io.Writer, rep energyReport, mol planner.Molecule, res *hf.Re
 				parts[i] = fmt.Sprintf("%s %.8f", tr.Guess, tr.Energy)
 			}
 		}
-		fmt.Fprintf(w, "\n                lowest of %d guesses tried (hartree): %s", n, strings.Join(parts, ", "))
+		fmt.Fprintf(w, "  %-12s kept the lowest of %d guesses tried (Eh): %s\n", "", n, strings.Join(parts, ", "))
 	}
-	fmt.Fprintln(w)
 	for _, n := range rep.GuessNotes {
-		fmt.Fprintf(w, "                note: %s\n", n)
+		fmt.Fprintf(w, "  %-12s note: %s\n", "", n)
 	}
-	fmt.Fprintln(w)
 	if m := res.MP2; m != nil {
-		fmt.Fprintf(w, "MP2             %s reference, %s; %d+%d occupied, %d+%d virtual orbitals (α+β) correlated\n\n",
-			strings.ToUpper(string(m.Reference)), frozenCoreText(m), m.OccupiedAlpha, m.OccupiedBeta, m.VirtualAlpha, m.VirtualBeta)
-		fmt.Fprintf(w, "total energy (MP2)    %20.12f hartree  (%.6f eV)\n", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
-		fmt.Fprintf(w, "reference (%s)       %20.12f hartree\n", strings.ToUpper(string(m.Reference)), m.ReferenceEnergy)
-		fmt.Fprintf(w, "MP2 correlation       %20.12f hartree\n", m.Correlation)
-		fmt.Fprintf(w, "  same spin           %20.12f hartree\n", m.SameSpin)
-		fmt.Fprintf(w, "  opposite spin       %20.12f hartree\n", m.OppositeSpin)
-		fmt.Fprintf(w, "electronic energy (%s) %19.12f hartree\n", strings.ToUpper(string(m.Reference)), rep.ElectronicEnergyHartree)
-	} else if c := res.CC; c != nil {
+		fmt.Fprintf(w, "  %-12s %s; %d+%d occupied and %d+%d virtual orbitals (α+β) correlated\n", "MP2", frozenCoreText(m), m.OccupiedAlpha, m.OccupiedBeta, m.VirtualAlpha, m.VirtualBeta)
+	}
+	if c := res.CC; c != nil {
 		name := "CCSD"
 		if c.WithTriples {
 			name = "CCSD(T)"
 		}
-		conv := fmt.Sprintf("converged in %d iterations", c.Iterations)
+		state := fmt.Sprintf("converged in %d iterations", c.Iterations)
 		if !c.Converged {
-			conv = fmt.Sprintf("NOT converged after %d iterations (largest amplitude change %.1e): the energy below is NOT a result", c.Iterations, c.Residual)
+			state = fmt.Sprintf("NOT converged in %d iterations", c.Iterations)
 		}
-		fmt.Fprintf(w, "%-15s RHF reference, %s; %d occupied, %d virtual orbitals correlated; %s; largest |t1| %.4f\n\n",
-			name, frozenText(c.FrozenCore, c.FrozenCoreLabel), c.Occupied, c.Virtual, conv, c.MaxT1)
-		line := func(label string, v float64) { fmt.Fprintf(w, "%-24s %20.12f hartree\n", label, v) }
-		fmt.Fprintf(w, "%-24s %20.12f hartree  (%.6f eV)\n", "total energy ("+name+")", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
-		line("reference (RHF)", c.ReferenceEnergy)
-		line("CCSD correlation", c.Correlation)
-		if c.WithTriples {
-			line("(T) correction", c.Triples)
-		}
-		line("electronic energy (RHF)", rep.ElectronicEnergyHartree)
-		fmt.Fprintf(w, "%-24s %20.12f hartree\n", "nuclear repulsion", rep.NuclearRepulsionHartree)
-	} else {
-		fmt.Fprintf(w, "total energy          %20.12f hartree  (%.6f eV)\n", rep.EnergyHartree, rep.EnergyHartree*planner.HartreeInEV)
-		fmt.Fprintf(w, "electronic energy     %20.12f hartree\n", rep.ElectronicEnergyHartree)
-	}
-	if res.CC == nil {
-		fmt.Fprintf(w, "nuclear repulsion     %20.12f hartree\n", rep.NuclearRepulsionHartree)
+		fmt.Fprintf(w, "  %-12s %s; %d occupied and %d virtual orbitals correlated; amplitudes %s; largest |t1| %.4f\n", name, frozenText(c.FrozenCore, c.FrozenCoreLabel), c.Occupied, c.Virtual, state, c.MaxT1)
 	}
 	if rep.SSquared != nil {
 		s := float64(mol.Multiplicity-1) / 2
-		fmt.Fprintf(w, "<S^2>                 %20.6f          (exact %.4f)\n", *rep.SSquared, s*(s+1))
+		fmt.Fprintf(w, "  %-12s %.6f (a pure multiplicity-%d state has %.4f)\n", "⟨S²⟩", *rep.SSquared, mol.Multiplicity, s*(s+1))
 	}
-	dipole := "dipole moment        "
+	if !rep.Converged {
+		return
+	}
+	of := ""
 	if res.MP2 != nil {
-		dipole = "dipole moment (" + strings.ToUpper(string(res.MP2.Reference)) + ")  "
+		of = " of the " + strings.ToUpper(string(res.MP2.Reference)) + " density"
 	} else if res.CC != nil {
-		dipole = "dipole moment (RHF)  "
+		of = " of the RHF density"
 	}
-	fmt.Fprintf(w, "%s %20.6f debye    (x %.6f, y %.6f, z %.6f e·bohr)\n\n", dipole, rep.DipoleDebye, rep.DipoleAU[0], rep.DipoleAU[1], rep.DipoleAU[2])
-	fmt.Fprintln(w, "atom  element  Mulliken charge (e)")
-	for i, q := range rep.MullikenCharges {
-		fmt.Fprintf(w, "%4d  %-7s  %+.6f\n", i+1, mol.Atoms[i].Element.Symbol, q)
-	}
-	if o := res.Orbitals; o != nil {
-		printOrbitals(w, "orbital energies (hartree)", o.EnergiesAlpha, o.OccAlpha)
-		if !o.Restricted {
-			printOrbitals(w, "beta orbital energies (hartree)", o.EnergiesBeta, o.OccBeta)
+	d := rep.DipoleAU
+	for i := range d {
+		if math.Abs(d[i]) < 5e-7 { // no "-0.000000"
+			d[i] = 0
 		}
 	}
+	k := planner.BohrElectronInDebye
+	fmt.Fprintf(w, "  %-12s %.6f D%s, components x %.6f, y %.6f, z %.6f D (about the origin of the input coordinates)\n", "dipole", rep.DipoleDebye, of, d[0]*k, d[1]*k, d[2]*k)
+	if v.units.dipoleAU {
+		fmt.Fprintf(w, "  %-12s %.6f e·bohr, components x %.6f, y %.6f, z %.6f e·bohr\n", "", rep.DipoleDebye/k, d[0], d[1], d[2])
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "  atom  element  Mulliken charge / e")
+	for i, q := range rep.MullikenCharges {
+		fmt.Fprintf(w, "  %4d  %-7s  %+.6f\n", i+1, mol.Atoms[i].Element.Symbol, q)
+	}
+	if o := res.Orbitals; o != nil {
+		printOrbitals(w, "orbital energies / Eh", o.EnergiesAlpha, o.OccAlpha)
+		if !o.Restricted {
+			printOrbitals(w, "β orbital energies / Eh", o.EnergiesBeta, o.OccBeta)
+		}
+	}
+}
+
+// shellForms says in words how the d and f shells of the molecule's
+// elements became basis functions.
+func shellForms(set *basis.Set, mol planner.Molecule, conv basis.Convention) string {
+	if set == nil {
+		return ""
+	}
+	high := false
+	cart, sph := false, false
+	seen := map[string]bool{}
+	for _, a := range mol.Atoms {
+		sym := a.Element.Symbol
+		if seen[sym] {
+			continue
+		}
+		seen[sym] = true
+		cs, err := set.Contractions(sym)
+		if err != nil {
+			continue
+		}
+		for _, c := range cs {
+			high = high || c.L >= 2
+		}
+		if ec, err := set.ElementConvention(sym); err == nil {
+			cart = cart || ec == basis.ConventionCartesian
+			sph = sph || ec == basis.ConventionSpherical
+		}
+	}
+	forced := ""
+	switch conv {
+	case basis.ConventionCartesian:
+		cart, sph, forced = true, false, ", forced by --convention"
+	case basis.ConventionSpherical:
+		cart, sph, forced = false, true, ", forced by --convention"
+	}
+	switch {
+	case !high:
+		return "no d or f shells"
+	case cart && sph:
+		return "d and f shells in the form the set gives each element (some Cartesian, some spherical)"
+	case sph:
+		return "d and f shells as real solid harmonics (2l+1 functions each)" + forced
+	}
+	return "d and f shells as Cartesian products (every x^a y^b z^c, 6 d and 10 f functions)" + forced
 }
 
 // frozenCoreText states what MP2 left uncorrelated, e.g. "frozen core:
@@ -390,6 +543,33 @@ func frozenText(n int, label string) string {
 		unit = "orbital"
 	}
 	return fmt.Sprintf("frozen core: %d %s per spin (%s)", n, unit, label)
+}
+
+func printOrbitals(w io.Writer, title string, e, occ []float64) {
+	fmt.Fprintf(w, "\n  %s (occupied marked *):\n ", title)
+	lastOcc := -1
+	for i, x := range occ {
+		if x > 0 {
+			lastOcc = i
+		}
+	}
+	shown := 0
+	for i, x := range e {
+		if i > lastOcc+5 {
+			fmt.Fprintf(w, "  … %d more virtual", len(e)-i)
+			break
+		}
+		mark := " "
+		if i < len(occ) && occ[i] > 0 {
+			mark = "*"
+		}
+		fmt.Fprintf(w, " %s%12.6f", mark, x)
+		shown++
+		if shown%6 == 0 {
+			fmt.Fprintln(w)
+		}
+	}
+	fmt.Fprintln(w)
 }
 
 // limitReport is the --json output of `wellscan energy --basis-limit`.
@@ -431,45 +611,23 @@ func printLimit(w io.Writer, asJSON bool, lr *hf.LimitResult, mol planner.Molecu
 		enc.SetIndent("", "  ")
 		return enc.Encode(rep)
 	}
-	fmt.Fprintf(w, "molecule        %s, charge %+d, multiplicity %d, %d electrons\n", mol.Formula(), mol.Charge, mol.Multiplicity, mol.Electrons())
-	fmt.Fprintf(w, "recipe          %s\n\n", r)
-	fmt.Fprintf(w, "%-12s %-12s %9s %6s %20s %20s %16s %9s\n", "component", "basis", "functions", "frozen", "reference/hartree", "correlation/hartree", "of which (T)", "time/s")
-	for _, c := range lr.Components {
-		fmt.Fprintf(w, "%-12s %-12s %9d %6d %20.10f %20.10f %16.10f %9.1f\n", c.Name, c.Basis, c.BasisFunctions, c.Frozen, c.Reference, c.Correlation, c.Triples, c.Time.Seconds())
-	}
-	fmt.Fprintln(w)
-	fmt.Fprintf(w, "HF limit (X = %d, %d)        %20.12f hartree\n", lr.X, lr.Y, lr.HF)
-	fmt.Fprintf(w, "correlation limit (X⁻³)     %20.12f hartree\n", lr.Correlation)
+	label := methodName(string(r.Method), mol.Multiplicity, lr.Components[1].Frozen > 0)
+	basisLabel := planner.EngineSpec{Kind: "builtin", BasisLimit: []string{r.Small, r.Large}, CoreCorrection: r.Core}.BasisLabel()
+	fmt.Fprintf(w, "%s · %s/%s · single point\n\n", mol.Isotopologue(), label, basisLabel)
+	fmt.Fprintf(w, "  %-12s %.12f Eh\n", "E("+label+")", lr.Total)
+	fmt.Fprintf(w, "  %-12s HF limit %.12f Eh (X = %d, %d), correlation limit %.12f Eh", "", lr.HF, lr.X, lr.Y, lr.Correlation)
 	if r.Core != "" {
-		fmt.Fprintf(w, "core–valence correction     %20.12f hartree  (%s, all electrons − frozen core)\n", lr.CoreCorrection, r.Core)
+		fmt.Fprintf(w, ", core–valence correction %.12f Eh", lr.CoreCorrection)
 	}
-	fmt.Fprintf(w, "total energy (limit)        %20.12f hartree  (%.6f eV)\n", lr.Total, lr.Total*planner.HartreeInEV)
+	fmt.Fprintf(w, "\n\n  %-12s %s\n", "recipe", r)
+	fmt.Fprintf(w, "  %-12s %s, %d electrons, charge %s, multiplicity %d\n\n", "molecule", plural(len(mol.Atoms), "atom"), mol.Electrons(), signed(mol.Charge), mol.Multiplicity)
+	fmt.Fprintf(w, "  %-12s %-12s %9s %6s %20s %20s %16s %9s\n", "component", "basis", "functions", "frozen", "reference / Eh", "correlation / Eh", "of which (T)", "time / s")
+	for _, c := range lr.Components {
+		tr := c.Triples
+		if math.Abs(tr) < 5e-11 { // no "-0.0000000000"
+			tr = 0
+		}
+		fmt.Fprintf(w, "  %-12s %-12s %9d %6d %20.10f %20.10f %16.10f %9.1f\n", c.Name, c.Basis, c.BasisFunctions, c.Frozen, c.Reference, c.Correlation, tr, c.Time.Seconds())
+	}
 	return nil
-}
-
-func printOrbitals(w io.Writer, title string, e, occ []float64) {
-	fmt.Fprintf(w, "\n%s, occupied marked *:\n", title)
-	lastOcc := -1
-	for i, x := range occ {
-		if x > 0 {
-			lastOcc = i
-		}
-	}
-	shown := 0
-	for i, x := range e {
-		if i > lastOcc+5 {
-			fmt.Fprintf(w, "  … %d more virtual", len(e)-i)
-			break
-		}
-		mark := " "
-		if i < len(occ) && occ[i] > 0 {
-			mark = "*"
-		}
-		fmt.Fprintf(w, " %s%12.6f", mark, x)
-		shown++
-		if shown%6 == 0 {
-			fmt.Fprintln(w)
-		}
-	}
-	fmt.Fprintln(w)
 }

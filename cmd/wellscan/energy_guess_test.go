@@ -33,7 +33,7 @@ func TestEnergyCommand_Guess(t *testing.T) {
 		t.Errorf("auto: guess %q, %d trials, E = %.8f, ⟨S²⟩ = %.4f; want atoms-spin of 5, ≤ −108.76 Eh, ⟨S²⟩ ≈ 3", rep.Guess, len(rep.Trials), rep.Energy, rep.S2)
 	}
 	code, out, errs = runCLI(t, n2, "energy", "-", "--basis", "6-31G", "--method", "uhf", "--guess", "core")
-	if code != 0 || !strings.Contains(out, "from the core guess") || strings.Contains(out, "guesses tried") {
+	if code != 0 || !strings.Contains(out, "started from the core guess") || strings.Contains(out, "guesses tried") {
 		t.Errorf("--guess core: exit %d, output:\n%s%s", code, out, errs)
 	}
 	code, _, errs = runCLI(t, n2, "energy", "-", "--guess", "huckel")

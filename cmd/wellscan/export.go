@@ -29,13 +29,20 @@ func newExportCommand(a *app) *cobra.Command {
 		Long: `Write the points of the scan in DIR to stdout:
 
   --format csv   the table of report's curve.csv (coordinates in both units,
-                 energies in hartree, cm-1 and kJ/mol, state)
-  --format json  one object per point: key, coordinates (spec units), state,
-                 energy_hartree (null when not done), attempts, last_error
+                 energies in hartree, cm-1 and kJ/mol, state, and the
+                 diagnostics the engine reported: SCF iterations, <S^2>,
+                 dipole in debye, MP2 parts in hartree)
+  --format json  JSON Lines: one object per point on its own line: key,
+                 coordinates and coordinate_units (spec units), state,
+                 energy_hartree (null when not done), attempts, last_error,
+                 and where known scf_iterations, s_squared, dipole_debye,
+                 mp2_reference_hartree, mp2_correlation_hartree,
+                 mp2_same_spin_hartree, mp2_opposite_spin_hartree
   --format xyz   every done geometry as one frame of a multi-frame XYZ file
                  (Å), the comment line holding the point key and its energy
                  in hartree, for molecule viewers`,
 		Example: `  wellscan export myscan > points.csv
+  wellscan export myscan --format json | jq -c 'select(.state == "done") | [.key, .s_squared]'
   wellscan export myscan --format xyz > scan.xyz`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -65,34 +72,47 @@ func newExportCommand(a *app) *cobra.Command {
 	return cmd
 }
 
+// exportPoint is one line of `export --format json` (JSON Lines).
 type exportPoint struct {
 	Key           string             `json:"key"`
 	Coordinates   map[string]float64 `json:"coordinates"`
+	Units         map[string]string  `json:"coordinate_units"`
 	State         string             `json:"state"`
 	EnergyHartree *float64           `json:"energy_hartree"`
 	Attempts      int                `json:"attempts"`
 	LastError     string             `json:"last_error,omitempty"`
+	Iterations    int                `json:"scf_iterations,omitempty"`
+	SSquared      *float64           `json:"s_squared,omitempty"`
+	DipoleDebye   *float64           `json:"dipole_debye,omitempty"`
+	MP2Reference  *float64           `json:"mp2_reference_hartree,omitempty"`
+	MP2Corr       *float64           `json:"mp2_correlation_hartree,omitempty"`
+	MP2SameSpin   *float64           `json:"mp2_same_spin_hartree,omitempty"`
+	MP2OppSpin    *float64           `json:"mp2_opposite_spin_hartree,omitempty"`
 }
 
+// exportJSON writes one JSON object per point, one per line.
 func exportJSON(a *app, in report.Input) error {
 	units := map[string]string{}
 	for _, ax := range in.Axes {
 		units[ax.Name] = ax.Unit
 	}
-	out := struct {
-		Units  map[string]string `json:"coordinate_units"`
-		Points []exportPoint     `json:"points"`
-	}{Units: units, Points: []exportPoint{}}
+	enc := json.NewEncoder(a.stdout)
 	for _, p := range in.Points {
 		c := map[string]float64{}
 		for i, ax := range in.Axes {
 			c[ax.Name] = p.Values[i]
 		}
-		out.Points = append(out.Points, exportPoint{Key: p.Key, Coordinates: c, State: p.State, EnergyHartree: p.Energy, Attempts: p.Attempts, LastError: p.Error})
+		e := exportPoint{Key: p.Key, Coordinates: c, Units: units, State: p.State, EnergyHartree: p.Energy, Attempts: p.Attempts, LastError: p.Error,
+			Iterations: p.Iterations, SSquared: p.SSquared, DipoleDebye: p.DipoleDebye}
+		if m := p.MP2; m != nil {
+			ref, corr, ss, os := m.Reference, m.Correlation, m.SameSpin, m.OppositeSpin
+			e.MP2Reference, e.MP2Corr, e.MP2SameSpin, e.MP2OppSpin = &ref, &corr, &ss, &os
+		}
+		if err := enc.Encode(e); err != nil {
+			return fmt.Errorf("export: %w", err)
+		}
 	}
-	enc := json.NewEncoder(a.stdout)
-	enc.SetIndent("", "  ")
-	return enc.Encode(out)
+	return nil
 }
 
 // exportXYZ writes every done point's geometry (rebuilt from its key, as

@@ -265,7 +265,12 @@ func printFitTable(w io.Writer, res *fit.Result) {
 			if c.OneD {
 				name += " (1-D along the scan)"
 			}
-			fmt.Fprintf(w, "  %-14s %9.3f±%-6.2g %12.4f %12.6f %12.6f %10.2f %12.3f\n", name, c.OmegaE, c.OmegaEStderr, c.OmegaExe, c.Be, c.AlphaE, c.ZPE, c.Fundamental)
+			be, ae := fmt.Sprintf("%12.6f", c.Be), fmt.Sprintf("%12.6f", c.AlphaE)
+			if c.OneD {
+				// Rotational constants belong to a rotating diatomic.
+				be, ae = fmt.Sprintf("%12s", "—"), fmt.Sprintf("%12s", "—")
+			}
+			fmt.Fprintf(w, "  %-14s %9.3f±%-6.2g %12.4f %s %s %10.2f %12.3f\n", name, c.OmegaE, c.OmegaEStderr, c.OmegaExe, be, ae, c.ZPE, c.Fundamental)
 			if len(c.Levels) > 0 {
 				n := min(len(c.Levels), 8)
 				parts := make([]string, n)

@@ -22,8 +22,10 @@ func (o *nodeTaskOptions) AddFlags(fs *pflag.FlagSet) {
 func newNodeTaskCommand(a *app) *cobra.Command {
 	var o nodeTaskOptions
 	cmd := &cobra.Command{
-		Use:   slurm.NodeSubcommand + " --job-dir DIR --task N",
-		Short: "Compute one array task's points (run by the job scripts of a cluster scan)",
+		Use: slurm.NodeSubcommand + " --job-dir DIR --task N",
+		// Internal: the job scripts run it; users never type it.
+		Hidden: true,
+		Short:  "Compute one array task's points (run by the job scripts of a cluster scan)",
 		Long: `Compute the points that array task N of a submission lists in
 DIR/tasks.tsv, writing each points/<key>/result.json. Points that already
 have a done result are skipped, so a requeued task repeats nothing. The

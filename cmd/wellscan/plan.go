@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 	"time"
 
@@ -16,53 +17,142 @@ import (
 	"wellscan/runner/command"
 )
 
+type planOptions struct {
+	geometries bool
+}
+
 func newPlanCommand(a *app) *cobra.Command {
-	return &cobra.Command{
+	var o planOptions
+	cmd := &cobra.Command{
 		Use:   "plan DIR",
 		Short: "Show what a run of DIR would compute, without computing anything",
-		Long: `Dry run: check DIR/scan.toml, then print the points of round 1 with
-their geometry's coordinates, the refinement settings and budgets, and an
-estimate of the cost. Nothing is computed and the store is not touched.
-With an external program (engine.kind = "command") every input of round 1
-is rendered into DIR/plan-inputs/ and the first template error stops the
-plan with the template's file and line.`,
-		Example: `  wellscan plan co-stretch`,
-		Args:    cobra.ExactArgs(1),
+		Long: `Dry run: check DIR/scan.toml, then print the scan's label, the molecule
+with its reference geometry (Å), the defaults chosen for what the spec
+leaves out (method, multiplicity), the keys of the points of round 1, the
+refinement settings and budgets, and an estimate of the cost; with
+--geometries also every round-1 point's geometry (Å). Nothing is computed
+and the store is not touched.
+
+With an external program (engine.kind = "command") plan also finds the
+program as the runs will (and checks that it is executable), lists the
+arguments that name files in the scan directory (they are passed as
+absolute paths, since the program runs in points/<key>/), and renders
+every input of round 1 into DIR/plan-inputs/; the first template error
+stops the plan with the template's file and line.`,
+		Example: `  wellscan plan co-stretch
+  wellscan plan co-stretch --geometries`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			spec, err := planner.Load(filepath.Join(args[0], "scan.toml"))
 			if err != nil {
 				return err
 			}
-			if _, err := newBackend(spec); err != nil {
+			backend, err := newBackend(spec)
+			if err != nil {
 				return err
 			}
-			if err := renderInputs(a.stdout, args[0], spec); err != nil {
-				return err
+			printPlan(a.stdout, args[0], spec, o)
+			if cb, ok := backend.(*command.Backend); ok {
+				if err := printProgram(a.stdout, cb.Config()); err != nil {
+					return err
+				}
 			}
-			printPlan(a.stdout, args[0], spec)
-			return nil
+			return renderInputs(a.stdout, args[0], spec)
 		},
 	}
+	cmd.Flags().BoolVar(&o.geometries, "geometries", false, "also print the geometry (Å) of every point of round 1")
+	return cmd
 }
 
-func printPlan(w io.Writer, dir string, spec *planner.Spec) {
+// num prints a setting without binary round-off: 0.002, not
+// 0.0019999999999999974.
+func num(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
+
+// printProgram says how the external program and its file arguments
+// will be found from a point's directory.
+func printProgram(w io.Writer, c command.Config) error {
+	p, err := c.Program()
+	if err != nil {
+		return fmt.Errorf("plan: engine.command: %w", err)
+	}
+	what := "program"
+	if c.Shell {
+		what = "shell"
+	}
+	fmt.Fprintf(w, "%s: %s (found, executable); it runs in points/<key>/\n", what, p)
+	for _, r := range c.Resolved {
+		fmt.Fprintf(w, "  argument %d %q names a file in the scan directory: passed as %s\n", r.Index, r.Written, r.Path)
+	}
+	resolved := map[int]bool{}
+	for _, r := range c.Resolved {
+		resolved[r.Index] = true
+	}
+	for i, a := range c.Args {
+		if i == 0 || resolved[i] || filepath.IsAbs(a) || strings.HasPrefix(a, "-") || !strings.ContainsRune(a, '/') {
+			continue
+		}
+		fmt.Fprintf(w, "  note: argument %d %q names no file in the scan directory; the program looks for it from points/<key>/\n", i, a)
+	}
+	for i, a := range c.Args {
+		if i > 0 && filepath.IsAbs(a) && !resolved[i] {
+			if _, err := os.Stat(a); err != nil {
+				fmt.Fprintf(w, "  note: argument %d %q does not exist on this machine\n", i, a)
+			}
+		}
+	}
+	fmt.Fprintln(w)
+	return nil
+}
+
+func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 	mol, _ := spec.Molecule()
 	if spec.Title != "" {
 		fmt.Fprintf(w, "scan: %s\n", spec.Title)
 	}
-	fmt.Fprintf(w, "molecule: %s, %d atoms, charge %+d, multiplicity %d\n", mol.Formula(), len(mol.Atoms), mol.Charge, mol.Multiplicity)
+	fmt.Fprintf(w, "label: %s\n", scanLabel(spec, mol))
+	fmt.Fprintf(w, "molecule: %s, %s, %d electrons, charge %s, multiplicity %d%s\n", mol.Isotopologue(), plural(len(mol.Atoms), "atom"), mol.Electrons(), signed(mol.Charge),
+		mol.Multiplicity, multiplicityNote(spec.IsDefined("molecule", "multiplicity") && spec.MoleculeInput.Multiplicity != 0, mol))
+	if iso := mol.Isotopes(); len(iso) > 0 {
+		fmt.Fprintf(w, "isotopes: %s (masses change frequencies, not energies)\n", strings.Join(iso, "; "))
+	}
+	fmt.Fprintln(w, "reference geometry (Å):")
+	writeGeometry(w, mol)
 	for _, c := range spec.Coordinates() {
 		var members, moving []string
 		for i, m := range c.Members {
 			members = append(members, atoms1(m))
 			moving = append(moving, atoms1(c.Moving[i]))
 		}
-		fmt.Fprintf(w, "coordinate %s: %s %s, moving atoms %s (%s)\n", c.Name, c.Kind, strings.Join(members, " = "), strings.Join(moving, " / "), c.UnitLabel(spec.Units()))
+		fmt.Fprintf(w, "coordinate %s: %s %s, moving atoms %s (%s)", c.Name, c.Kind, strings.Join(members, " = "), strings.Join(moving, " / "), c.UnitLabel(spec.Units()))
+		if c.Periodic() {
+			cover := "part of the period: refined inside the range only"
+			if c.FullPeriod {
+				cover = "the whole period: the scan wraps"
+			}
+			fmt.Fprintf(w, "; period %s°, %s", num(c.PeriodDegrees()), cover)
+		}
+		fmt.Fprintln(w)
 	}
+	for _, n := range spec.Notes() {
+		fmt.Fprintf(w, "note: %s\n", n)
+	}
+	fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned stays at the reference geometry)\n", scanKind(spec))
 	e := spec.Engine
 	switch e.Kind {
 	case "builtin":
-		fmt.Fprintf(w, "engine: built-in %s/%s\n", strings.ToUpper(e.Method), e.Basis)
+		how := "given"
+		if !spec.IsDefined("engine", "method") {
+			how = fmt.Sprintf("default for multiplicity %d", mol.Multiplicity)
+		}
+		fmt.Fprintf(w, "engine: built-in %s/%s (method %s)", specMethod(spec, mol), e.Basis, how)
+		if strings.EqualFold(e.Method, "mp2") {
+			if e.FrozenCore == nil || *e.FrozenCore {
+				fmt.Fprint(w, "; MP2 with the atoms' noble-gas cores frozen")
+			} else {
+				fmt.Fprint(w, "; MP2 with every electron correlated")
+			}
+		}
+		fmt.Fprintln(w)
 	case "model":
 		fmt.Fprintf(w, "engine: model potential (%d terms), no electronic structure\n", len(e.Model.Terms))
 	default:
@@ -75,7 +165,7 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec) {
 			workers = q.Slots()
 		}
 	}
-	fmt.Fprintf(w, "queue: %s, %d workers, %d attempts per point", spec.Queue.Kind, workers, spec.Queue.Attempts)
+	fmt.Fprintf(w, "queue: %s, %s, %s per point", spec.Queue.Kind, plural(workers, "worker"), plural(spec.Queue.Attempts, "attempt"))
 	if spec.Queue.Timeout.Duration > 0 {
 		fmt.Fprintf(w, ", timeout %s per point", spec.Queue.Timeout.Duration)
 	}
@@ -84,15 +174,22 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec) {
 	fmt.Fprintf(w, "\nround 1: %d points\n", len(pts))
 	for _, p := range pts {
 		fmt.Fprintf(w, "  %s\n", p.Key)
+		if o.geometries {
+			if g, err := spec.Geometry(p); err == nil {
+				writeGeometry(w, g)
+			} else {
+				fmt.Fprintf(w, "    (no geometry: %v)\n", err)
+			}
+		}
 	}
 	r := spec.Refinement()
 	fmt.Fprintln(w)
 	if r.Adaptive {
 		var ts []string
 		for i, c := range spec.Coordinates() {
-			ts = append(ts, fmt.Sprintf("%s: target step %g %s, tolerance %g %s", c.Name, r.TargetStep[i], c.UnitLabel(spec.Units()), r.Tolerance[i], c.UnitLabel(spec.Units())))
+			ts = append(ts, fmt.Sprintf("%s: target step %s %s, tolerance %s %s", c.Name, num(r.TargetStep[i]), c.UnitLabel(spec.Units()), num(r.Tolerance[i]), c.UnitLabel(spec.Units())))
 		}
-		fmt.Fprintf(w, "refinement: adaptive; %s; harmonic frequency tolerance %g cm⁻¹\n", strings.Join(ts, "; "), r.FrequencyTolerance)
+		fmt.Fprintf(w, "refinement: adaptive; %s; harmonic frequency tolerance %s cm⁻¹\n", strings.Join(ts, "; "), num(r.FrequencyTolerance))
 		what := "minima"
 		if r.Maxima {
 			what = "minima and maxima"
@@ -131,10 +228,18 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec) {
 	}
 	if per > 0 {
 		wall := time.Duration(float64(per) * float64(typical) / float64(max(1, workers)))
-		fmt.Fprintf(w, "cost: about %d points (at most %d) × %s per point (%s) ≈ %s wall time on %d workers\n",
-			typical, max(len(pts), r.MaxPoints), per.Round(time.Millisecond), basis, wall.Round(time.Second), workers)
+		fmt.Fprintf(w, "cost: about %d points (at most %d) × %s per point (%s) ≈ %s wall time on %s\n",
+			typical, max(len(pts), r.MaxPoints), per.Round(time.Millisecond), basis, wall.Round(time.Second), plural(workers, "worker"))
 	} else {
 		fmt.Fprintf(w, "cost: about %d points (at most %d); time per point unknown until the first points finish\n", typical, max(len(pts), r.MaxPoints))
+	}
+}
+
+// writeGeometry prints a molecule's atoms in Å, indented, numbered from 1.
+func writeGeometry(w io.Writer, mol planner.Molecule) {
+	for i, a := range mol.Atoms {
+		fmt.Fprintf(w, "    %3d %-2s %12.6f %12.6f %12.6f\n", i+1, a.Element.Symbol,
+			a.Pos[0]*planner.BohrInAngstrom+0, a.Pos[1]*planner.BohrInAngstrom+0, a.Pos[2]*planner.BohrInAngstrom+0)
 	}
 }
 

@@ -54,4 +54,7 @@ func TestRun_NonTerminalOutput(t *testing.T) {
 	if n < 3 || last["kind"] != "summary" {
 		t.Errorf("%d JSON lines, last %v; want several ending with kind summary", n, last)
 	}
+	if c, ok := last["computed"].(float64); !ok || c < 3 || last["from_earlier_runs"] != 0.0 {
+		t.Errorf("summary %v: want computed ≥ 3 and from_earlier_runs 0", last)
+	}
 }

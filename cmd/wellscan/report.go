@@ -15,6 +15,7 @@ import (
 
 	"wellscan/planner"
 	"wellscan/runner"
+	"wellscan/runner/hf"
 	"wellscan/runner/report"
 )
 
@@ -78,7 +79,13 @@ stopped part-way; what is missing is said loudly in the summary.`,
 				return err
 			}
 			for _, f := range report.Files() {
+				if !in.HasEnergies() && (f == "curve.svg" || f == "curve.png") {
+					continue
+				}
 				fmt.Fprintln(a.stdout, filepath.Join(out, f))
+			}
+			if !in.HasEnergies() {
+				fmt.Fprintln(a.stderr, "wellscan: report: no point has an energy, so there is no figure; the summary lists the failures")
 			}
 			return nil
 		},
@@ -105,12 +112,9 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	if err != nil {
 		abs = dir
 	}
-	method, basisLabel := spec.Engine.Label() // e.g. "CCSD(T)", "cc-pVQZ (frozen core)"
-	if spec.Engine.Kind != "builtin" {
-		method, basisLabel = strings.ToUpper(spec.Engine.Method), spec.Engine.Basis
-	}
-	in.Conditions = report.Conditions{Title: spec.Title, Dir: filepath.Base(abs), Formula: mol.Formula(), Charge: mol.Charge, Multiplicity: mol.Multiplicity,
-		Engine: spec.Engine.Kind, Method: method, Basis: basisLabel, Version: version}
+	in.Conditions = report.Conditions{Title: spec.Title, Dir: filepath.Base(abs), Formula: mol.Isotopologue(), Charge: mol.Charge, Multiplicity: mol.Multiplicity,
+		Engine: spec.Engine.Kind, Basis: spec.Engine.BasisLabel(), Version: version}
+	reportConditions(&in.Conditions, spec, mol)
 	for _, c := range spec.Coordinates() {
 		u := "degree"
 		if c.Kind == planner.KindDistance {
@@ -129,21 +133,15 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 			return in, err
 		}
 		for _, r := range recs {
-			in.Points = append(in.Points, report.Point{Key: r.Key, Values: spec.DisplayValues(planner.Point{Values: r.Values}),
-				State: string(r.State), Energy: r.Energy, Attempts: r.Attempts, Error: r.LastError})
+			p := report.Point{Key: r.Key, Values: spec.DisplayValues(planner.Point{Values: r.Values}),
+				State: string(r.State), Energy: r.Energy, Attempts: r.Attempts, Error: r.LastError}
+			addDiagnostics(&p, r, spec.Engine.Kind)
+			in.Points = append(in.Points, p)
 			if r.Backend != "" {
 				backends[r.Backend] = true
 			}
 		}
-		sort.Slice(rounds, func(i, j int) bool { return rounds[i].Round < rounds[j].Round })
-		for i := len(rounds) - 1; i >= 0; i-- {
-			if rounds[i].Status != "" {
-				if rounds[i].Status != string(planner.RefineConverged) && rounds[i].Status != string(planner.RefineOff) {
-					in.Notes = append(in.Notes, fmt.Sprintf("refinement after round %d: %s — %s", rounds[i].Round, rounds[i].Status, rounds[i].Reason))
-				}
-				break
-			}
-		}
+		in.Warnings = reportWarnings(runner.ScanWarnings(recs, rounds))
 	case errors.Is(err, runner.ErrLocked):
 		snap, serr := runner.ReadSnapshot(dir)
 		if serr != nil {
@@ -159,8 +157,13 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 			for i, a := range in.Axes {
 				v[i] = p.Coordinates[a.Name]
 			}
-			in.Points = append(in.Points, report.Point{Key: p.Key, Values: v, State: string(p.State), Energy: p.EnergyHartree, Attempts: p.Attempts, Error: errs[p.Key]})
+			rp := report.Point{Key: p.Key, Values: v, State: string(p.State), Energy: p.EnergyHartree, Attempts: p.Attempts, Error: errs[p.Key], SSquared: p.SSquared}
+			if spec.Engine.Kind == "builtin" {
+				rp.Iterations = p.Iterations
+			}
+			in.Points = append(in.Points, rp)
 		}
+		in.Warnings = reportWarnings(snap.Warnings)
 	case errors.Is(err, runner.ErrNoStore):
 		return in, fmt.Errorf("report: %s has not been run yet (wellscan run %s)", dir, dir)
 	default:
@@ -176,9 +179,6 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 		in.Conditions.Backend = spec.Engine.Kind + " engine"
 	}
 	in.Conditions.Backend += ", queue " + orDefault(spec.Queue.Kind, "local")
-	if n := countNotFinished(in.Points); n > 0 {
-		in.Notes = append(in.Notes, fmt.Sprintf("%d point(s) not computed yet (planned, submitted or running)", n))
-	}
 	res, err := fitScanDir(ctx, dir, spec, o)
 	switch {
 	case err != nil && ctx.Err() != nil:
@@ -186,7 +186,7 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	case err != nil:
 		in.FitError = err.Error()
 	default:
-		in.Fit, in.Curve, in.Surface, in.MassModel = res, res.Curve, res.Surface, res.Mass
+		in.Fit, in.Curve, in.Surface, in.MassModel, in.Analysis = res, res.Curve, res.Surface, res.MassModel, res
 	}
 	return in, nil
 }
@@ -198,12 +198,71 @@ func orDefault(s, d string) string {
 	return s
 }
 
-func countNotFinished(ps []report.Point) int {
-	n := 0
-	for _, p := range ps {
-		if p.State != string(runner.Done) && p.State != string(runner.Failed) {
-			n++
+// reportWarnings converts the scan's warnings for the report.
+func reportWarnings(ws []runner.Warning) []report.Warning {
+	out := make([]report.Warning, len(ws))
+	for i, w := range ws {
+		text := w.Text
+		if w.Key != "" {
+			text = w.Key + ": " + text
+		}
+		out[i] = report.Warning{Level: w.Severity.String(), Text: text}
+	}
+	return out
+}
+
+// addDiagnostics copies what the backend reported besides the energy
+// into a report point: SCF iterations, ⟨S²⟩, the dipole's magnitude in
+// debye and the MP2 parts.
+func addDiagnostics(p *report.Point, r runner.PointRecord, engine string) {
+	if r.Energy == nil {
+		return
+	}
+	p.SSquared = r.SSquared
+	if engine == "builtin" { // other engines have no SCF iterations to count
+		p.Iterations = r.Iterations
+	}
+	x, okx := r.Extra["dipole_x_e_bohr"]
+	y, oky := r.Extra["dipole_y_e_bohr"]
+	z, okz := r.Extra["dipole_z_e_bohr"]
+	if okx && oky && okz {
+		d := math.Sqrt(x*x+y*y+z*z) * planner.BohrElectronInDebye
+		p.DipoleDebye = &d
+	}
+	if c, ok := r.Extra["mp2_correlation_hartree"]; ok {
+		p.MP2 = &report.MP2Parts{Reference: r.Extra["reference_energy_hartree"], Correlation: c,
+			SameSpin: r.Extra["mp2_same_spin_hartree"], OppositeSpin: r.Extra["mp2_opposite_spin_hartree"]}
+	}
+}
+
+// reportConditions fills in what the report's conditions say about the
+// method: its label, rigid or relaxed, the reference geometry, the
+// isotopes, the SCF convergence criteria and the frozen core.
+func reportConditions(c *report.Conditions, spec *planner.Spec, mol planner.Molecule) {
+	c.ScanKind = scanKind(spec)
+	for _, a := range mol.Atoms {
+		c.Geometry = append(c.Geometry, fmt.Sprintf("%s %.6f %.6f %.6f", a.Element.Symbol,
+			a.Pos[0]*planner.BohrInAngstrom+0, a.Pos[1]*planner.BohrInAngstrom+0, a.Pos[2]*planner.BohrInAngstrom+0))
+	}
+	c.Isotopes = mol.Isotopes()
+	e := spec.Engine
+	if e.Kind != "builtin" {
+		return
+	}
+	c.Method = specMethod(spec, mol)
+	d := hf.DefaultSCFOptions()
+	tol, iters := d.EnergyTol, d.MaxIterations
+	if e.Convergence != nil {
+		tol = *e.Convergence
+	}
+	if e.MaxIterations > 0 {
+		iters = e.MaxIterations
+	}
+	c.SCF = fmt.Sprintf("energy change below %g Eh, orbital gradient and density change below %g, at most %d iterations", tol, d.ErrorTol, iters)
+	if planner.IsCorrelated(e.Method) {
+		c.FrozenCore = "yes: each atom's noble-gas core is not correlated (O 1s, Si [Ne], …)"
+		if e.FrozenCore != nil && !*e.FrozenCore {
+			c.FrozenCore = "no: every electron is correlated"
 		}
 	}
-	return n
 }

@@ -243,10 +243,18 @@ func TestReport_ModelMorse_Pictures(t *testing.T) {
 	})
 	t.Run("html", func(t *testing.T) {
 		h := string(readFile(t, filepath.Join(dir, "report", "summary.html")))
-		for _, want := range []string{"<svg", "</svg>", "<table>", "12C16O", "r=1.35000", `class="alert"`, "Failed points (1)"} {
+		for _, want := range []string{"<svg", "</svg>", "<table>", "12C16O", "r=1.35000", "Failed points (1)"} {
 			if !strings.Contains(h, want) {
 				t.Errorf("summary.html lacks %q", want)
 			}
+		}
+		// A failed point and a note on the levels cannot mislead: no
+		// alarm box, but both at the top, before the conditions.
+		if strings.Contains(h, `class="alert"`) {
+			t.Error("summary.html raises the alarm for benign warnings")
+		}
+		if w, f, c := strings.Index(h, "Warnings ("), strings.Index(h, "Failed points (1)"), strings.Index(h, "Conditions"); w < 0 || f < w || c < f {
+			t.Errorf("summary.html: warnings at %d, failed points at %d, conditions at %d; want warnings and failures first", w, f, c)
 		}
 		if strings.Contains(h, "<?xml") {
 			t.Error("summary.html embeds the SVG with its XML declaration")
@@ -270,12 +278,18 @@ func TestExport_Formats(t *testing.T) {
 		if code != 0 {
 			t.Fatalf("export exit %d: %s", code, errs)
 		}
+		// JSON Lines: one object per point, one per line.
 		var v struct {
-			Units  map[string]string `json:"coordinate_units"`
-			Points []exportPoint     `json:"points"`
+			Units  map[string]string
+			Points []exportPoint
 		}
-		if err := json.Unmarshal([]byte(out), &v); err != nil {
-			t.Fatalf("export json: %v\n%s", err, out)
+		for i, line := range strings.Split(strings.TrimSuffix(out, "\n"), "\n") {
+			var p exportPoint
+			if err := json.Unmarshal([]byte(line), &p); err != nil {
+				t.Fatalf("export json line %d: %v\n%s", i+1, err, line)
+			}
+			v.Units = p.Units
+			v.Points = append(v.Points, p)
 		}
 		failed := 0
 		for _, p := range v.Points {

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"runtime/debug"
 
 	"github.com/spf13/cobra"
 )
@@ -15,8 +16,13 @@ type app struct {
 	stdout, stderr io.Writer
 }
 
-// version is set at build time with -ldflags "-X main.version=…".
-var version = "0.1.0-dev"
+// version is set at build time with -ldflags "-X main.version=…"; commit
+// likewise ("-X main.commit=$(git rev-parse HEAD)") for builds without the
+// toolchain's version-control stamping (-buildvcs=false).
+var (
+	version = "0.1.0-dev"
+	commit  = ""
+)
 
 const exitCodeTable = `Exit codes:
   0    success
@@ -57,10 +63,50 @@ func newVersionCommand(a *app) *cobra.Command {
 		Example: "  wellscan version",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			fmt.Fprintf(a.stdout, "wellscan %s\n", version)
+			info, ok := debug.ReadBuildInfo()
+			fmt.Fprintln(a.stdout, versionText(version, info, ok))
 			return nil
 		},
 	}
+}
+
+// versionText is what `wellscan version` prints: the version, the commit
+// it was built from (with "+ local changes" when the tree was modified)
+// and the commit's time, from the build information the Go toolchain
+// records; "commit unknown" when the build recorded none (go run, or a
+// build outside a git checkout).
+func versionText(v string, info *debug.BuildInfo, ok bool) string {
+	var rev, when string
+	modified := false
+	if ok && info != nil {
+		for _, s := range info.Settings {
+			switch s.Key {
+			case "vcs.revision":
+				rev = s.Value
+			case "vcs.time":
+				when = s.Value
+			case "vcs.modified":
+				modified = s.Value == "true"
+			}
+		}
+	}
+	if rev == "" {
+		rev = commit
+	}
+	if rev == "" {
+		return fmt.Sprintf("wellscan %s (commit unknown: built without version-control information)", v)
+	}
+	if len(rev) > 12 {
+		rev = rev[:12]
+	}
+	s := fmt.Sprintf("wellscan %s (commit %s", v, rev)
+	if modified {
+		s += " + local changes"
+	}
+	if when != "" {
+		s += ", " + when
+	}
+	return s + ")"
 }
 
 // Exit-code errors returned by commands.

@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -113,6 +112,12 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	if li := st.StaleLock(); li != nil {
 		fmt.Fprintf(a.stderr, "wellscan: note: %s; resuming\n", runner.StaleLockMessage(dir, li))
 	}
+	for _, n := range spec.Notes() {
+		fmt.Fprintf(a.stderr, "wellscan: note: %s\n", n)
+	}
+	for _, n := range st.Notes() {
+		fmt.Fprintf(a.stderr, "wellscan: note: %s\n", n)
+	}
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue, Detach: o.detach}
 	if d, ok := queue.(interface{ SetDetach(bool) }); ok {
 		d.SetDetach(o.detach)
@@ -133,7 +138,8 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 	switch {
 	case err == nil:
 	case errors.Is(err, runner.ErrPointsFailed):
-		err = fmt.Errorf("%w: %w", errSomePointsFailed, err)
+		// "some points failed: 1 of 16", not the runner's words twice.
+		err = fmt.Errorf("%w: %s", errSomePointsFailed, strings.TrimPrefix(err.Error(), runner.ErrPointsFailed.Error()+": "))
 	case ctx.Err() != nil:
 		fmt.Fprintf(a.stderr, "wellscan: interrupted; the store is intact, rerun `wellscan run %s` to resume\n", dir)
 		if d, ok := queue.(interface{ DetachNote() string }); ok {
@@ -212,17 +218,21 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 	if spec.Title != "" {
 		fmt.Fprintf(w, "scan: %s (%s)\n", spec.Title, dir)
 	}
+	if mol, err := spec.Molecule(); err == nil {
+		fmt.Fprintf(w, "label: %s\n", scanLabel(spec, mol))
+		if d := specDefaults(spec, mol); d != "" {
+			fmt.Fprintf(w, "defaults used: %s\n", d)
+		}
+	}
+	printWarnings(w, s.Warnings)
 	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed, %d not run · computed now %d, from earlier runs %d · %s\n",
 		s.Rounds, s.Counts[runner.Done], s.Counts[runner.Failed], s.Counts[runner.Planned]+s.Counts[runner.Running]+s.Counts[runner.Submitted],
-		s.Computed, s.Reused, s.Elapsed.Round(time.Millisecond))
+		s.Computed, s.Earlier+s.Reused, s.Elapsed.Round(time.Millisecond))
 	if s.Status != "" {
 		fmt.Fprintf(w, "refinement: %s — %s\n", s.Status, s.Reason)
 	}
 	for _, e := range s.Extrema {
 		fmt.Fprintf(w, "%s: %s  E = %.8f hartree", e.Kind, spec.Describe(e.Values), e.Energy)
-		if !math.IsNaN(e.Frequency) {
-			fmt.Fprintf(w, "  harmonic ≈ %.1f cm⁻¹ (refinement fit, μ = %.5f amu)", e.Frequency, e.Mass)
-		}
 		if e.Note != "" {
 			fmt.Fprintf(w, "  [%s]", e.Note)
 		}
@@ -233,7 +243,19 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 			fmt.Fprintf(w, "… and %d more failed points (wellscan status %s)\n", len(s.Failed)-5, dir)
 			break
 		}
-		fmt.Fprintf(w, "failed: %s (%s, %d attempts): %s\n", f.Key, f.Class, f.Attempts, strings.TrimSpace(f.LastError))
+		fmt.Fprintf(w, "failed: %s (%s, %s): %s\n", f.Key, f.Class, plural(f.Attempts, "attempt"), strings.TrimSpace(f.LastError))
+	}
+}
+
+// printWarnings lists a scan's warnings, most serious first (the order
+// runner.ScanWarnings gives), as `status` and `run` show them.
+func printWarnings(w io.Writer, ws []runner.Warning) {
+	if len(ws) == 0 {
+		return
+	}
+	fmt.Fprintf(w, "warnings (%d, most serious first):\n", len(ws))
+	for _, x := range ws {
+		fmt.Fprintf(w, "  %s\n", x)
 	}
 }
 
@@ -254,13 +276,17 @@ type eventJSON struct {
 	// Detached is set on the summary of a `run --detach` that left points
 	// with the batch queue.
 	Detached bool `json:"detached,omitempty"`
+	// On the summary: the points computed by this run and by earlier
+	// ones, and the scan's warnings, most serious first.
+	Computed *int             `json:"computed,omitempty"`
+	Earlier  *int             `json:"from_earlier_runs,omitempty"`
+	Warnings []runner.Warning `json:"warnings,omitempty"`
 }
 
 type extremumJSON struct {
 	Kind          string             `json:"kind"`
 	Coordinates   map[string]float64 `json:"coordinates"`
 	EnergyHartree float64            `json:"energy_hartree"`
-	HarmonicCm1   *float64           `json:"harmonic_cm1,omitempty"`
 }
 
 func jsonEvent(e runner.Event) eventJSON {
@@ -277,7 +303,9 @@ func jsonEvent(e runner.Event) eventJSON {
 }
 
 func summaryEvent(spec *planner.Spec, s runner.Summary, err error) eventJSON {
-	out := eventJSON{Time: time.Now(), Kind: "summary", Round: s.Rounds, Counts: map[string]int{}, Status: string(s.Status), Message: s.Reason, Detached: s.Detached}
+	computed, earlier := s.Computed, s.Earlier+s.Reused
+	out := eventJSON{Time: time.Now(), Kind: "summary", Round: s.Rounds, Counts: map[string]int{}, Status: string(s.Status), Message: s.Reason, Detached: s.Detached,
+		Computed: &computed, Earlier: &earlier, Warnings: s.Warnings}
 	for st, n := range s.Counts {
 		out.Counts[string(st)] = n
 		out.Total += n
@@ -287,10 +315,6 @@ func summaryEvent(spec *planner.Spec, s runner.Summary, err error) eventJSON {
 		x := extremumJSON{Kind: e.Kind, Coordinates: map[string]float64{}, EnergyHartree: e.Energy}
 		for i, c := range coords {
 			x.Coordinates[c.Name] = c.Display(e.Values[i], spec.Units())
-		}
-		if !math.IsNaN(e.Frequency) {
-			f := e.Frequency
-			x.HarmonicCm1 = &f
 		}
 		out.Extrema = append(out.Extrema, x)
 	}

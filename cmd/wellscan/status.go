@@ -190,10 +190,8 @@ func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source stri
 	for _, st := range runner.States {
 		parts = append(parts, fmt.Sprintf("%s %d", st, s.Counts[string(st)]))
 	}
+	printWarnings(w, s.Warnings)
 	fmt.Fprintf(w, "round %d · %d points: %s\n", s.Round, s.Total, strings.Join(parts, ", "))
-	for _, x := range s.Suspects {
-		fmt.Fprintf(w, "warning: %s: %s (another SCF state? recompute it with engine.guess = \"fresh\")\n", x.Key, x.Reason)
-	}
 	if s.Refine != nil {
 		fmt.Fprintf(w, "refinement after round %d: %s — %s\n", s.Refine.Round, s.Refine.Status, s.Refine.Reason)
 	}
@@ -203,9 +201,6 @@ func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source stri
 			cs = append(cs, fmt.Sprintf("%s = %.*f %s", c.Name, c.Digits, e.Coordinates[c.Name], c.UnitLabel(spec.Units())))
 		}
 		line := fmt.Sprintf("%s: %s, E = %.8f hartree", e.Kind, strings.Join(cs, ", "), e.EnergyHartree)
-		if e.FrequencyCm1 != nil {
-			line += fmt.Sprintf(", harmonic ≈ %.1f cm⁻¹", *e.FrequencyCm1)
-		}
 		if e.Converged {
 			line += " (converged)"
 		}

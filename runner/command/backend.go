@@ -57,6 +57,9 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	return &Backend{cfg: cfg, spec: spec, title: spec.Title}, nil
 }
 
+// Config is the backend's decoded config (a copy).
+func (b *Backend) Config() Config { return b.cfg }
+
 // Name implements runner.Backend.
 func (b *Backend) Name() string { return "command" }
 
@@ -96,5 +99,11 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if out.Class == Cancelled || ctx.Err() != nil {
 		return runner.Outcome{}, errors.Join(ctx.Err(), err)
 	}
-	return runner.Outcome{Class: string(out.Class), Detail: err.Error(), Permanent: !out.Class.Retryable()}, nil
+	// The class travels in Outcome.Class; the detail is what happened.
+	detail := err.Error()
+	var re *RunError
+	if errors.As(err, &re) && re.Err != nil {
+		detail = re.Err.Error()
+	}
+	return runner.Outcome{Class: string(out.Class), Detail: detail, Permanent: !out.Class.Retryable()}, nil
 }

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"os"
+	"os/exec"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -25,7 +27,14 @@ type Config struct {
 	// Args is the program and its arguments, Args[0] being the program:
 	// a bare name is looked up in wellscan's own PATH; a name with a slash
 	// is a path. No shell is involved; no argument is templated.
+	// [DecodeConfig] makes an argument that names an existing file in the
+	// spec's directory absolute (see Resolved).
 	Args []string
+	// Resolved lists the arguments DecodeConfig replaced by an absolute
+	// path because they named a file or directory in the spec's
+	// directory; the program, which runs in the point's directory, finds
+	// them there.
+	Resolved []ResolvedArg
 	// Shell opts in to running Script with /bin/sh. Args must then be
 	// empty: the script gets the point's values only as WELLSCAN_*
 	// environment variables and as files in its working directory.
@@ -52,6 +61,15 @@ type Config struct {
 	// AllowPositive accepts a positive extracted energy (a relative
 	// energy); otherwise a positive value fails the point as invalid.
 	AllowPositive bool
+}
+
+// ResolvedArg is one argument of the command that named a file in the
+// spec's directory: Index into Args, the text as written, and the
+// absolute path it was replaced by.
+type ResolvedArg struct {
+	Index   int
+	Written string
+	Path    string
 }
 
 // DefaultKillGrace is the time a stopped program has between SIGTERM and
@@ -227,6 +245,16 @@ func DecodeConfig(m map[string]any, file, table string) (Config, error) {
 	if len(c.Args) > 0 && strings.ContainsRune(c.Args[0], '/') {
 		c.Args[0] = rel(c.Args[0])
 	}
+	c.resolveArgs(base)
+	// A bare program name is looked up in PATH only; one that is not
+	// there but sits next to the spec was almost surely meant as that file.
+	if len(c.Args) > 0 && c.Args[0] != "" && !strings.ContainsRune(c.Args[0], '/') {
+		if _, lerr := exec.LookPath(c.Args[0]); lerr != nil {
+			if st, serr := os.Stat(filepath.Join(base, c.Args[0])); serr == nil && !st.IsDir() {
+				return Config{}, d.errf("command", "program %q is not in PATH but is a file in the spec's directory: write it as \"./%s\"", c.Args[0], c.Args[0])
+			}
+		}
+	}
 	if _, ok := m["energy"]; !ok {
 		return Config{}, d.errf("energy", "missing: say how to find the energy, e.g. energy = { label = \"total energy\", unit = \"eV\" }")
 	}
@@ -236,6 +264,37 @@ func DecodeConfig(m map[string]any, file, table string) (Config, error) {
 		return Config{}, fmt.Errorf("command: %s: [%s]: %s", file, table, strings.TrimPrefix(err.Error(), "command: "))
 	}
 	return c, nil
+}
+
+// resolveArgs replaces every argument after the program that names an
+// existing file or directory in the spec's directory base by its absolute
+// path, so that the program, started in the point's directory, finds it:
+// paths in a spec are relative to the spec. Left as written are options
+// (a leading "-"), paths that leave the directory ("..", absolute), names
+// that exist nowhere there, and the point's own files (the input, the
+// outputs, the energy file and the files wellscan writes), which live in
+// the point's directory.
+func (c *Config) resolveArgs(base string) {
+	own := map[string]bool{c.InputName: true, c.EnergyFrom: true, StdoutFile: true, StderrFile: true, ExitStatusFile: true, GeometryFile: true}
+	for _, o := range c.Outputs {
+		own[o] = true
+	}
+	for i := 1; i < len(c.Args); i++ {
+		a := c.Args[i]
+		if a == "" || own[a] || strings.HasPrefix(a, "-") || !filepath.IsLocal(a) {
+			continue
+		}
+		p := filepath.Join(base, a)
+		if _, err := os.Stat(p); err != nil {
+			continue
+		}
+		abs, err := filepath.Abs(p)
+		if err != nil {
+			continue
+		}
+		c.Args[i] = abs
+		c.Resolved = append(c.Resolved, ResolvedArg{Index: i, Written: a, Path: abs})
+	}
 }
 
 type decoder struct{ file, table string }

@@ -1,6 +1,7 @@
 package command
 
 import (
+	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
@@ -108,5 +109,50 @@ func TestConfig_Check_Program(t *testing.T) {
 	c.Args = []string{"wellscan-test-no-such-program"}
 	if err := c.Check(); ClassOf(err) != ProgramMissing {
 		t.Errorf("Check with a missing program = %v, want class %s", err, ProgramMissing)
+	}
+}
+
+// TestDecodeConfig_ArgsResolvedAgainstSpec: an argument naming a file in
+// the spec's directory becomes its absolute path (the program runs in
+// points/<key>/); the input, options, missing names and paths leaving the
+// directory stay as written.
+func TestDecodeConfig_ArgsResolvedAgainstSpec(t *testing.T) {
+	dir := t.TempDir()
+	for _, f := range []string{"morse.awk", "point.inp", "data/params.txt"} {
+		if err := os.MkdirAll(filepath.Dir(filepath.Join(dir, f)), 0o700); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, f), []byte("x"), 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+	m := fullTable()
+	m["command"] = []any{"awk", "-f", "morse.awk", "data/params.txt", "-v", "point.inp", "absent.txt", "../morse.awk"}
+	m["outputs"], m["energy_from"] = []any{}, "stdout"
+	c, err := DecodeConfig(m, filepath.Join(dir, "scan.toml"), "engine.command")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []string{"awk", "-f", filepath.Join(dir, "morse.awk"), filepath.Join(dir, "data/params.txt"), "-v", "point.inp", "absent.txt", "../morse.awk"}
+	if !reflect.DeepEqual(c.Args, want) {
+		t.Errorf("Args = %q, want %q", c.Args, want)
+	}
+	if len(c.Resolved) != 2 || c.Resolved[0] != (ResolvedArg{2, "morse.awk", filepath.Join(dir, "morse.awk")}) {
+		t.Errorf("Resolved = %+v, want morse.awk and data/params.txt", c.Resolved)
+	}
+}
+
+// TestDecodeConfig_BareProgramInSpecDir: a bare program name is looked up
+// in PATH; one that is only a file next to the spec gets a hint.
+func TestDecodeConfig_BareProgramInSpecDir(t *testing.T) {
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "toyprog"), []byte("#!/bin/sh\n"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	m := fullTable()
+	m["command"] = []any{"toyprog", "point.inp"}
+	_, err := DecodeConfig(m, filepath.Join(dir, "scan.toml"), "engine.command")
+	if err == nil || !strings.Contains(err.Error(), `write it as "./toyprog"`) {
+		t.Errorf("DecodeConfig = %v, want a hint to write ./toyprog", err)
 	}
 }

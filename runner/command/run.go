@@ -292,6 +292,17 @@ func (c Config) Check() error {
 	return nil
 }
 
+// Program is the absolute path of what runs each point (the program, or
+// /bin/sh for a script), found and checked as the runs will find it;
+// an error says why it would fail with class program-missing.
+func (c Config) Program() (string, error) {
+	p, _, err := c.program()
+	if err != nil {
+		return "", &RunError{Class: ProgramMissing, Err: err}
+	}
+	return p, nil
+}
+
 // program resolves what to start: an absolute path and its arguments.
 func (c Config) program() (string, []string, error) {
 	if c.Shell {

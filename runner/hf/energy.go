@@ -87,7 +87,7 @@ type Options struct {
 	// left at its zero value (measured to converge in fewer iterations than
 	// the core guess; runner/hf/sad_test.go); for UHF SCF.Guess first, then
 	// core, GWH, atoms, atoms-spin when at least two atoms have unpaired
-	// electrons in their ground state, and core-mixed for singlets (a UHF started cold can
+	// electrons in their ground state, and core-twist for singlets (a UHF started cold can
 	// settle on an excited or symmetric determinant: OH from the core
 	// guess lies 0.155 Eh above the GWH solution in 6-31G, stretched N2
 	// from core or GWH 0.52 Eh above the broken-symmetry state;
@@ -403,7 +403,7 @@ func coldGuesses(mol planner.Molecule, opts Options, restricted bool) []GuessKin
 		cands = append(cands, GuessAtomsSpin)
 	}
 	if mol.Multiplicity == 1 {
-		cands = append(cands, GuessCoreMixed)
+		cands = append(cands, GuessCoreTwist)
 	}
 	for _, g := range cands {
 		if g != first {

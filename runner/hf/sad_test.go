@@ -35,7 +35,7 @@ func TestEnergy_StretchedDiatomics_ColdStartFindsBrokenSymmetry(t *testing.T) {
 		// guess state and requires the cold start to reach it.
 		//
 		// F2 has a still lower state (−198.72148 Eh, ⟨S²⟩ 1.002, π
-		// degeneracy broken) that the core-mixed guess reaches, 0.38 mEh
+		// degeneracy broken) that the core-twist guess reaches, 0.38 mEh
 		// below atoms-spin (−198.72111, π degenerate) and 2.4 mEh below
 		// the fragment guess (−198.71904); this engine's runs, logged here.
 		bound      float64
@@ -43,7 +43,7 @@ func TestEnergy_StretchedDiatomics_ColdStartFindsBrokenSymmetry(t *testing.T) {
 		s2Lo, s2Hi float64 // as in robust_test.go: n unpaired per atom → ⟨S²⟩ → n
 	}{
 		{"N", 4, -108.76, hf.GuessAtomsSpin, 2.8, 3.05},
-		{"F", 2, -198.7214, hf.GuessCoreMixed, 0.8, 1.05},
+		{"F", 2, -198.7214, hf.GuessCoreTwist, 0.8, 1.05},
 	}
 	for _, tc := range cases {
 		t.Run(tc.sym+"2", func(t *testing.T) {
@@ -69,7 +69,7 @@ func TestEnergy_StretchedDiatomics_ColdStartFindsBrokenSymmetry(t *testing.T) {
 				t.Errorf("⟨S²⟩ = %.4f, want %.2f–%.2f", res.S2, tc.s2Lo, tc.s2Hi)
 			}
 			if res.Guess != tc.kept || res.GuessesTried != 5 {
-				t.Errorf("kept guess %v after %d guesses; want %v after 5 (core, gwh, atoms, atoms-spin, core-mixed)", res.Guess, res.GuessesTried, tc.kept)
+				t.Errorf("kept guess %v after %d guesses; want %v after 5 (core, gwh, atoms, atoms-spin, core-twist)", res.Guess, res.GuessesTried, tc.kept)
 			}
 		})
 	}
@@ -87,7 +87,7 @@ func TestEnergy_WorkedWater_EveryGuessSameEnergy(t *testing.T) {
 	for _, m := range []hf.Method{hf.RHF, hf.UHF} {
 		guesses := []hf.GuessKind{hf.GuessCore, hf.GuessGWH, hf.GuessAtoms}
 		if m == hf.UHF {
-			guesses = append(guesses, hf.GuessAtomsSpin, hf.GuessCoreMixed)
+			guesses = append(guesses, hf.GuessAtomsSpin, hf.GuessCoreTwist)
 		}
 		for _, g := range guesses {
 			res, err := hf.Energy(t.Context(), mol, hf.Options{Basis: set, Method: m, ColdGuesses: []hf.GuessKind{g}})

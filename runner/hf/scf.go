@@ -95,12 +95,12 @@ const (
 	// started from a density extrapolated from two neighbouring points
 	// (Options.GuessPrevious); it uses SCFInput.GuessDensity.
 	GuessExtrapolated
-	// GuessCoreMixed is the core guess with the α HOMO and LUMO rotated
+	// GuessCoreTwist is the core guess with the α HOMO and LUMO rotated
 	// into each other by π/4 (or by GuessMixAngle when that is set), for
 	// UHF: a start that breaks spin and spatial symmetry (it finds the
 	// lowest state of stretched F2 in 6-31G, 0.38 mEh below the atoms-spin
 	// state, which keeps the π degeneracy; runner/hf/sad_test.go).
-	GuessCoreMixed
+	GuessCoreTwist
 )
 
 func (g GuessKind) String() string {
@@ -117,21 +117,21 @@ func (g GuessKind) String() string {
 		return "atoms-spin"
 	case GuessExtrapolated:
 		return "extrapolated"
-	case GuessCoreMixed:
-		return "core-mixed"
+	case GuessCoreTwist:
+		return "core-twist"
 	}
 	return fmt.Sprintf("GuessKind(%d)", int(g))
 }
 
 // ParseGuess reads a cold-start guess name: core, gwh, atoms, atoms-spin
-// or core-mixed.
+// or core-twist.
 func ParseGuess(s string) (GuessKind, error) {
-	for _, g := range []GuessKind{GuessCore, GuessGWH, GuessAtoms, GuessAtomsSpin, GuessCoreMixed} {
+	for _, g := range []GuessKind{GuessCore, GuessGWH, GuessAtoms, GuessAtomsSpin, GuessCoreTwist} {
 		if s == g.String() {
 			return g, nil
 		}
 	}
-	return 0, fmt.Errorf("hf: unknown guess %q (expected core, gwh, atoms, atoms-spin or core-mixed)", s)
+	return 0, fmt.Errorf("hf: unknown guess %q (expected core, gwh, atoms, atoms-spin or core-twist)", s)
 }
 
 // MarshalText encodes the guess by name (for JSON records).
@@ -396,7 +396,7 @@ func (o *SCFOptions) withDefaults() (SCFOptions, error) {
 		return r, fmt.Errorf("hf: scf options: LinDepThreshold %g, want > 0", r.LinDepThreshold)
 	case r.Orthogonalization != OrthCanonical && r.Orthogonalization != OrthSymmetric:
 		return r, fmt.Errorf("hf: scf options: unknown orthogonalisation %d", int(r.Orthogonalization))
-	case r.Guess != GuessCore && r.Guess != GuessGWH && r.Guess != GuessAtoms && r.Guess != GuessAtomsSpin && r.Guess != GuessExtrapolated && r.Guess != GuessCoreMixed:
+	case r.Guess != GuessCore && r.Guess != GuessGWH && r.Guess != GuessAtoms && r.Guess != GuessAtomsSpin && r.Guess != GuessExtrapolated && r.Guess != GuessCoreTwist:
 		return r, fmt.Errorf("hf: scf options: unknown guess %d", int(r.Guess))
 	case r.DIISError != DIISErrorOrthogonal && r.DIISError != DIISErrorAO:
 		return r, fmt.Errorf("hf: scf options: unknown DIIS error kind %d", int(r.DIISError))

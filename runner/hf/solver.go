@@ -307,7 +307,7 @@ func (st *scfState) startGuess(kind GuessKind) error {
 		return fmt.Errorf("hf: scf guess: %w", err)
 	}
 	st.lumoReady = st.nocc[0] < st.m
-	if kind == GuessCoreMixed && st.opts.GuessMixAngle == 0 {
+	if kind == GuessCoreTwist && st.opts.GuessMixAngle == 0 {
 		st.opts.GuessMixAngle = math.Pi / 4
 		st.mixGuess()
 		st.opts.GuessMixAngle = 0

@@ -118,7 +118,7 @@ func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanR
 func coldLowest(t *testing.T, mol planner.Molecule, bs string) *hf.Result {
 	t.Helper()
 	res, err := hf.Energy(t.Context(), mol, hf.Options{Basis: testBasis(t, bs), Method: hf.UHF,
-		ColdGuesses: []hf.GuessKind{hf.GuessCore, hf.GuessGWH, hf.GuessAtoms, hf.GuessAtomsSpin, hf.GuessCoreMixed}})
+		ColdGuesses: []hf.GuessKind{hf.GuessCore, hf.GuessGWH, hf.GuessAtoms, hf.GuessAtomsSpin, hf.GuessCoreTwist}})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -105,6 +105,10 @@ func (t term) energy(q float64) float64 {
 		d := q - t.Center
 		u := d*d/(t.Width*t.Width) - 1
 		return t.Depth*u*u + t.Tilt*d
+	case "cosine":
+		// (V_n/2)(1 − cos n(q − c)): a hindered-rotor term with n equal
+		// wells per turn, barrier V_n (depth) between them.
+		return t.Depth / 2 * (1 - math.Cos(float64(t.Fold)*(q-t.Center)))
 	}
 	return math.NaN()
 }

@@ -101,18 +101,22 @@ func fromInternal(a Axis, x float64) float64 {
 	return x * 180 / math.Pi
 }
 
+// heading is the title with the molecule and method added, each only
+// when the title does not already say it.
 func heading(c Conditions) string {
-	s := c.Formula
-	if m := methodLabel(c); m != "" {
-		s += " · " + m
+	var add []string
+	for _, s := range []string{c.Formula, methodLabel(c)} {
+		if s != "" && !strings.Contains(c.Title, s) {
+			add = append(add, s)
+		}
 	}
 	switch {
 	case c.Title == "":
-		return s
-	case strings.Contains(c.Title, methodLabel(c)) && strings.Contains(c.Title, c.Formula):
+		return strings.Join(add, " · ")
+	case len(add) == 0:
 		return c.Title
 	}
-	return c.Title + " (" + s + ")"
+	return c.Title + " (" + strings.Join(add, " · ") + ")"
 }
 
 func methodLabel(c Conditions) string {
@@ -138,6 +142,12 @@ type curveModel struct {
 func fittedCurve(in Input, xs, es []float64) (curveModel, bool) {
 	a := in.Axes[0]
 	lo, hi := xs[0], xs[len(xs)-1]
+	if an := in.Analysis; an != nil && an.Torsion != nil {
+		fs := an.Torsion.Series
+		// Drawn over the data only: the window the points cover.
+		return curveModel{label: fmt.Sprintf("Fourier series, order %d (all points)", fs.Order),
+			v: func(x float64) float64 { return fs.Eval(x*math.Pi/180, 0) }, lo: lo, hi: hi}, true
+	}
 	if c := in.Curve; c != nil {
 		mf, name := c.ExtendedMorse, "extended Morse fit"
 		if mf == nil {
@@ -152,8 +162,9 @@ func fittedCurve(in Input, xs, es []float64) (curveModel, bool) {
 			if !a.IsLength() {
 				k = m.KAngle
 			}
+			xe := minimumX(a, m)
 			v := func(x float64) float64 {
-				d := toInternal(a, x) - m.XE
+				d := toInternal(a, x) - xe
 				return m.EMin + d*d*(k/2+d*(m.F3/6+d*m.F4/24))
 			}
 			// The Taylor series holds in the fit window only.
@@ -187,6 +198,16 @@ func lowestMinimum(c *fit.Result) fit.Minimum {
 	return m
 }
 
+// minimumX is the position of a fitted minimum in internal units on the
+// figure's axis: for an angle the displayed θ_e (a torsion unwrapped into
+// the spec's window, a mirrored bend folded back), else x_e.
+func minimumX(a Axis, m fit.Minimum) float64 {
+	if !a.IsLength() && m.ThetaEDegree != 0 {
+		return m.ThetaEDegree * math.Pi / 180
+	}
+	return m.XE
+}
+
 func newCurve(in Input) (*Figure, error) {
 	a := in.Axes[0]
 	ref, refWhat, ok := in.Reference()
@@ -194,6 +215,19 @@ func newCurve(in Input) (*Figure, error) {
 		return nil, errors.New("report: no point has an energy yet; nothing to draw")
 	}
 	ps := in.sortedPoints()
+	if an := in.Analysis; an != nil && an.Torsion != nil && len(ps) > 0 {
+		// A full period is drawn closed: the points at its start appear
+		// again at its end (the same geometries).
+		period := an.Torsion.Series.Period * 180 / math.Pi
+		first := ps[0].Values[0]
+		for _, p := range ps {
+			if math.Abs(p.Values[0]-first) < 1e-9 {
+				q := p
+				q.Values = []float64{first + period}
+				ps = append(ps, q)
+			}
+		}
+	}
 	var xs, es []float64
 	for _, p := range ps {
 		if p.Energy != nil {
@@ -202,18 +236,24 @@ func newCurve(in Input) (*Figure, error) {
 		}
 	}
 	cm := func(e float64) float64 { return (e - ref) * planner.HartreeInCm1 }
+	fonts, err := newFonts()
+	if err != nil {
+		return nil, err
+	}
 	top := plot.New()
 	top.Title.Text = heading(in.Conditions)
-	top.Y.Label.Text = "E − E_min / cm-1"
+	top.Y.Label.Text = "E − E_min / cm⁻¹"
 	top.X.Label.Text = ""
 	top.Add(plotter.NewGrid())
 	top.Legend.Top = true
 	top.Legend.Left = false
 	bottom := plot.New()
 	bottom.X.Label.Text = axisLabel(a)
-	bottom.Y.Label.Text = "residual / cm-1"
+	bottom.Y.Label.Text = "residual / cm⁻¹"
 	bottom.Add(plotter.NewGrid())
 	fig := &Figure{top: top, bottom: bottom}
+	fonts.plot(top)
+	fonts.plot(bottom)
 	smallerLegend(top, bottom)
 
 	model, fitted := fittedCurve(in, xs, es)
@@ -229,8 +269,8 @@ func newCurve(in Input) (*Figure, error) {
 		for i := range n {
 			x := model.lo + (model.hi-model.lo)*float64(i)/(n-1)
 			y := cm(model.v(x))
-			if y > 1.05*ymax+1 {
-				continue // the Taylor series can rise steeply past the window
+			if y > 1.05*ymax+1 || y < -0.05*ymax-1 {
+				continue // the Taylor series can turn steeply past the window
 			}
 			line = append(line, plotter.XY{X: x, Y: y})
 		}
@@ -244,16 +284,61 @@ func newCurve(in Input) (*Figure, error) {
 			top.Legend.Add(model.label, l)
 		}
 	}
+	// Hindered-rotor levels of a torsion: below the lowest barrier between
+	// the turning points of the global well, above it across the period.
+	if an := in.Analysis; an != nil && an.Torsion != nil && an.Torsion.Rotor != nil && model.v != nil && len(an.Torsion.Minima) > 0 {
+		tr := an.Torsion
+		lowBar := math.Inf(1)
+		for _, b := range tr.Barriers {
+			lowBar = math.Min(lowBar, b.HeightCm1)
+		}
+		xe := tr.Minima[0].XDegree
+		emin := tr.Minima[0].Energy
+		drawn := 0
+		var last float64
+		for _, g := range tr.Rotor.Levels {
+			if drawn == 30 {
+				break
+			}
+			if drawn > 0 && g-last < 0.004*(ymax+1) {
+				continue // a tunnelling multiplet: one line at this scale
+			}
+			e := emin + g/planner.HartreeInCm1
+			if cm(e) > 1.05*ymax {
+				break // above the data: the legend lives there
+			}
+			l, r := model.lo, model.hi
+			if g < lowBar {
+				var lok, rok bool
+				l, lok = turningPoint(model.v, e, model.lo, xe)
+				r, rok = turningPoint(model.v, e, xe, model.hi)
+				if !lok || !rok {
+					continue
+				}
+			}
+			line, err := plotter.NewLine(plotter.XYs{{X: l, Y: cm(e)}, {X: r, Y: cm(e)}})
+			if err != nil {
+				return nil, fmt.Errorf("report: levels: %w", err)
+			}
+			line.Color, line.Width = colLevel, vg.Points(0.8)
+			top.Add(line)
+			if drawn == 0 {
+				top.Legend.Add(fmt.Sprintf("hindered-rotor levels (I = %.3g amu·bohr²)", tr.Rotor.Inertia), line)
+			}
+			last = g
+			drawn++
+		}
+	}
 	// Vibrational levels of the principal isotopologue, between their
 	// classical turning points on the curve.
-	if in.Curve != nil && len(in.Curve.Minima) > 0 && model.v != nil {
+	if in.Curve != nil && len(in.Curve.Minima) > 0 && model.v != nil && (in.Analysis == nil || in.Analysis.Torsion == nil) {
 		m := lowestMinimum(in.Curve)
-		xe := fromInternal(a, m.XE)
+		xe := fromInternal(a, minimumX(a, m))
 		levels, what := m.Levels, "vibrational levels G(v) (grid), "+m.Name
 		if len(levels) == 0 && m.OmegaE > 0 {
 			// The grid levels were not trusted (the data stop too low);
 			// the Dunham-type series still says where they lie.
-			what = "vibrational levels G(v) from ω_e, ω_e x_e, " + m.Name
+			what = "vibrational levels G(v) from ωₑ, ωₑxₑ, " + m.Name
 			for v := range 40 {
 				h := float64(v) + 0.5
 				levels = append(levels, m.OmegaE*h-m.OmegaExe*h*h)
@@ -282,6 +367,7 @@ func newCurve(in Input) (*Figure, error) {
 			if v == 0 || (v+1)%5 == 0 {
 				lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: r, Y: cm(e)}}, Labels: []string{fmt.Sprintf(" v=%d", v)}})
 				if err == nil {
+					fonts.labels(lab)
 					lab.TextStyle[0].Color = colLevel
 					lab.TextStyle[0].Font.Size = vg.Points(7)
 					lab.Offset = vg.Point{X: vg.Points(2), Y: vg.Points(-3)}
@@ -302,6 +388,10 @@ func newCurve(in Input) (*Figure, error) {
 	}
 	groups := map[string]*group{}
 	order := []string{}
+	states := map[string]int{} // points per state, each geometry once
+	for _, p := range in.Points {
+		states[p.State]++
+	}
 	for _, p := range ps {
 		g, seen := groups[p.State]
 		if !seen {
@@ -342,7 +432,7 @@ func newCurve(in Input) (*Figure, error) {
 			s.GlyphStyle.Radius = vg.Points(4.5) // a missing point must catch the eye
 		}
 		top.Add(s)
-		top.Legend.Add(fmt.Sprintf("%s (%d)", g.label, len(g.xy)), s)
+		top.Legend.Add(fmt.Sprintf("%s (%d)", g.label, states[st]), s)
 		if len(g.res) > 0 {
 			rs, err := plotter.NewScatter(g.res)
 			if err != nil {
@@ -352,10 +442,13 @@ func newCurve(in Input) (*Figure, error) {
 			bottom.Add(rs)
 		}
 	}
-	// The minimum.
+	// The minima, and the barriers with their heights.
+	if err := markTorsion(in, top, fonts, cm); err != nil {
+		return nil, err
+	}
 	if in.Curve != nil && len(in.Curve.Minima) > 0 {
 		for _, m := range in.Curve.Minima {
-			xe := fromInternal(a, m.XE)
+			xe := fromInternal(a, minimumX(a, m))
 			s, err := plotter.NewScatter(plotter.XYs{{X: xe, Y: cm(m.EMin)}})
 			if err != nil {
 				return nil, fmt.Errorf("report: minimum: %w", err)
@@ -364,19 +457,23 @@ func newCurve(in Input) (*Figure, error) {
 			top.Add(s)
 			text := fmt.Sprintf("fitted minimum (%s): %s_e = %.5f %s", m.Label, a.Name, xe, unitSymbol(a.Unit))
 			if m.OmegaE > 0 {
-				text += fmt.Sprintf(", ω_e = %.1f cm-1", m.OmegaE)
+				text += fmt.Sprintf(", ωₑ = %.1f cm⁻¹", m.OmegaE)
 			}
 			top.Legend.Add(text, s)
 		}
-	} else {
-		top.Y.Label.Text = "E − E_ref / cm-1 (" + refWhat + ")"
+	} else if in.Analysis == nil || in.Analysis.Torsion == nil {
+		top.Y.Label.Text = "E − E_ref / cm⁻¹ (" + refWhat + ")"
 	}
+
 	// Residual panel: a zero line and, when there is no fit, a note.
 	lo, hi := xs[0], xs[len(xs)-1]
 	for _, p := range ps {
 		lo, hi = math.Min(lo, p.Values[0]), math.Max(hi, p.Values[0])
 	}
 	pad := 0.03 * (hi - lo)
+	if err := markBarriers(in, top, fonts, cm, lo, hi); err != nil {
+		return nil, err
+	}
 	zero, err := plotter.NewLine(plotter.XYs{{X: lo - pad, Y: 0}, {X: hi + pad, Y: 0}})
 	if err != nil {
 		return nil, fmt.Errorf("report: residuals: %w", err)
@@ -393,6 +490,9 @@ func newCurve(in Input) (*Figure, error) {
 	for _, p := range []*plot.Plot{top, bottom} {
 		p.X.Min, p.X.Max = lo-pad, hi+pad
 		p.X.Tick.Marker = preciseTicks{}
+		if !a.IsLength() {
+			p.X.Tick.Marker = angleTicks{}
+		}
 	}
 	top.Y.Min = math.Min(top.Y.Min, -0.03*ymax)
 	// Headroom for the legend above the data.
@@ -546,41 +646,52 @@ func newMap(in Input) (*Figure, error) {
 		py = append(py, p.Values[1])
 		pz = append(pz, (*p.Energy-ref)*planner.HartreeInCm1)
 	}
+	fonts, err := newFonts()
+	if err != nil {
+		return nil, err
+	}
 	p := plot.New()
 	p.Title.Text = heading(in.Conditions)
 	p.X.Label.Text = axisLabel(ax)
 	p.Y.Label.Text = axisLabel(ay)
 	fig := &Figure{top: p}
+	fonts.plot(p)
 	smallerLegend(p)
-	g := grid{xs: distinctValues(px, ax.Digits), ys: distinctValues(py, ay.Digits)}
-	if len(g.xs) >= 2 && len(g.ys) >= 2 {
-		sx, sy := g.xs[len(g.xs)-1]-g.xs[0], g.ys[len(g.ys)-1]-g.ys[0]
-		g.z = make([][]float64, len(g.xs))
-		for c, x := range g.xs {
-			g.z[c] = make([]float64, len(g.ys))
-			for r, y := range g.ys {
-				best, bd := 0.0, math.Inf(1)
-				for k := range px {
-					d := math.Hypot((px[k]-x)/sx, (py[k]-y)/sy)
-					if d < bd {
-						best, bd = pz[k], d
+	if sr := in.Surface; sr != nil {
+		if err := surfaceContours(p, in, sr, px, py, pz); err != nil {
+			return nil, err
+		}
+	} else {
+		g := grid{xs: distinctValues(px, ax.Digits), ys: distinctValues(py, ay.Digits)}
+		if len(g.xs) >= 2 && len(g.ys) >= 2 {
+			sx, sy := g.xs[len(g.xs)-1]-g.xs[0], g.ys[len(g.ys)-1]-g.ys[0]
+			g.z = make([][]float64, len(g.xs))
+			for c, x := range g.xs {
+				g.z[c] = make([]float64, len(g.ys))
+				for r, y := range g.ys {
+					best, bd := 0.0, math.Inf(1)
+					for k := range px {
+						d := math.Hypot((px[k]-x)/sx, (py[k]-y)/sy)
+						if d < bd {
+							best, bd = pz[k], d
+						}
 					}
+					g.z[c][r] = best
 				}
-				g.z[c][r] = best
 			}
+			g = g.smooth(60)
+			zmax := g.Max()
+			// Contours every 1/12 of the range, denser near the bottom:
+			// the well is what the map is for.
+			var levels []float64
+			for i := 1; i <= 12; i++ {
+				t := float64(i) / 12
+				levels = append(levels, zmax*t*t)
+			}
+			c := plotter.NewContour(g, levels, palette.Heat(len(levels), 1))
+			p.Add(c)
+			p.Legend.Add(fmt.Sprintf("contours of the points (no surface fit), %.0f to %.0f cm⁻¹", levels[0], levels[len(levels)-1]))
 		}
-		g = g.smooth(60)
-		zmax := g.Max()
-		// Contours every 1/12 of the range, denser near the bottom: the
-		// well is what the map is for.
-		var levels []float64
-		for i := 1; i <= 12; i++ {
-			t := float64(i) / 12
-			levels = append(levels, zmax*t*t)
-		}
-		c := plotter.NewContour(g, levels, palette.Heat(len(levels), 1))
-		p.Add(c)
-		p.Legend.Add(fmt.Sprintf("contours of E − E_min, %.0f to %.0f cm-1 (quadratic spacing)", levels[0], levels[len(levels)-1]))
 	}
 	var pts plotter.XYs
 	for k := range px {
@@ -630,7 +741,11 @@ func newMap(in Input) (*Figure, error) {
 	// Room around the grid, and above it for the legend.
 	dx, dy := p.X.Max-p.X.Min, p.Y.Max-p.Y.Min
 	p.X.Min, p.X.Max = p.X.Min-0.04*dx, p.X.Max+0.04*dx
-	p.Y.Min, p.Y.Max = p.Y.Min-0.04*dy, p.Y.Max+0.22*dy
+	head := 0.22
+	if in.Surface != nil {
+		head = 0.45 // the contour levels are listed in the legend
+	}
+	p.Y.Min, p.Y.Max = p.Y.Min-0.04*dy, p.Y.Max+head*dy
 	p.X.Tick.Marker, p.Y.Tick.Marker = preciseTicks{}, preciseTicks{}
 	return fig, nil
 }
@@ -666,9 +781,8 @@ func (preciseTicks) Ticks(lo, hi float64) []plot.Tick {
 	return ts
 }
 
-// smallerLegend sets the legend font (the default 12 pt crowds the
-// panel). Units in the figure are written "cm-1": the embedded fonts have
-// no superscript minus.
+// smallerLegend sets the legend font size (the default 12 pt crowds the
+// panel).
 func smallerLegend(ps ...*plot.Plot) {
 	for _, p := range ps {
 		p.Legend.TextStyle.Font.Size = vg.Points(10)

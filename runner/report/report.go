@@ -18,6 +18,7 @@ import (
 
 	"wellscan/fit"
 	"wellscan/planner"
+	"wellscan/runner/analysis"
 )
 
 // Axis is one scanned coordinate as the spec names it.
@@ -47,12 +48,36 @@ type Point struct {
 	Attempts int
 	// Error is the point's last error, if any.
 	Error string
+
+	// Diagnostics of the calculation, where the backend reported them:
+	// SCF iterations (0: unknown), ⟨S²⟩ of a UHF reference, the dipole
+	// moment's magnitude in debye, and the MP2 energy parts.
+	Iterations  int
+	SSquared    *float64
+	DipoleDebye *float64
+	MP2         *MP2Parts
+}
+
+// MP2Parts are the pieces of an MP2 energy, in hartree: the reference
+// (Hartree–Fock) energy and the correlation energy, split into its
+// same-spin and opposite-spin pair contributions.
+type MP2Parts struct {
+	Reference, Correlation, SameSpin, OppositeSpin float64
+}
+
+// Warning is one warning of the report. Level is "serious" (a number may
+// be wrong without looking wrong: shown in the alarm box), "caution" or
+// "note"; warnings are listed in that order.
+type Warning struct {
+	Level string
+	Text  string
 }
 
 // Conditions describe how the scan was computed.
 type Conditions struct {
-	Title        string
-	Dir          string
+	Title string
+	Dir   string
+	// Formula names the molecule as its isotopologue ("HDO", "¹³CO").
 	Formula      string
 	Charge       int
 	Multiplicity int
@@ -63,6 +88,19 @@ type Conditions struct {
 	Backend string
 	Version string
 	Date    time.Time
+	// ScanKind is "rigid" (the coordinates not scanned stay at the
+	// reference geometry) or "relaxed".
+	ScanKind string
+	// Geometry is the reference geometry, one "symbol x y z" line per
+	// atom in Å.
+	Geometry []string
+	// Isotopes lists the atoms with an isotope other than the most
+	// abundant one; empty: every atom has its most abundant isotope.
+	Isotopes []string
+	// SCF states the SCF convergence criteria; FrozenCore whether MP2
+	// left the cores uncorrelated (empty when not MP2).
+	SCF        string
+	FrozenCore string
 }
 
 // Input is everything a report is made from. Curve (1-D) or Surface (2-D)
@@ -74,18 +112,36 @@ type Input struct {
 	Curve      *fit.Result
 	Surface    *fit.SurfaceResult
 	// Fit is written as fit.json (the command's full fit record).
-	Fit       any
-	FitError  string
+	Fit      any
+	FitError string
+	// Analysis is the scan's analysis (torsion series, barriers, kinetic
+	// model); nil for a table that is not a scan.
+	Analysis  *analysis.Result
 	MassModel string
 	// Notes are further warnings of the scan itself (refinement status,
 	// round budget), shown with the fit's warnings.
 	Notes []string
+	// Warnings are the scan's own warnings with their level (those
+	// `wellscan status` shows), most serious first.
+	Warnings []Warning
 }
 
 // Files returns the names of the files [Write] writes, relative to the
-// report directory.
+// report directory. The figure (curve.svg, curve.png) is left out when no
+// point has an energy ([Input.HasEnergies]).
 func Files() []string {
 	return []string{"curve.csv", "fit.json", "curve.svg", "curve.png", "summary.md", "summary.html"}
+}
+
+// HasEnergies reports whether any point has an energy (and so whether
+// there is a figure to draw).
+func (in Input) HasEnergies() bool {
+	for _, p := range in.Points {
+		if p.Energy != nil {
+			return true
+		}
+	}
+	return false
 }
 
 // Write writes every report file into dir (created if needed), each
@@ -118,16 +174,20 @@ func Write(ctx context.Context, dir string, in Input) (err error) {
 	if err := ctx.Err(); err != nil {
 		return err
 	}
-	fig, err := NewFigure(in)
-	if err != nil {
-		return err
-	}
+	// With no energy at all (every point failed) there is nothing to
+	// draw; the summary still reports the failures.
 	var svg, png bytes.Buffer
-	if err := fig.WriteSVG(&svg); err != nil {
-		return err
-	}
-	if err := fig.WritePNG(&png); err != nil {
-		return err
+	if in.HasEnergies() {
+		fig, err := NewFigure(in)
+		if err != nil {
+			return err
+		}
+		if err := fig.WriteSVG(&svg); err != nil {
+			return err
+		}
+		if err := fig.WritePNG(&png); err != nil {
+			return err
+		}
 	}
 	if err := ctx.Err(); err != nil {
 		return err
@@ -140,6 +200,13 @@ func Write(ctx context.Context, dir string, in Input) (err error) {
 	}
 	for name, b := range map[string][]byte{"curve.csv": csvb.Bytes(), "fit.json": jsonb.Bytes(), "curve.svg": svg.Bytes(),
 		"curve.png": png.Bytes(), "summary.md": md.Bytes(), "summary.html": html.Bytes()} {
+		if b == nil && (name == "curve.svg" || name == "curve.png") {
+			// A figure of an earlier report must not pass for this one's.
+			if err := os.Remove(filepath.Join(dir, name)); err != nil && !errors.Is(err, os.ErrNotExist) {
+				return fmt.Errorf("report: %w", err)
+			}
+			continue
+		}
 		if err := writeAtomic(filepath.Join(dir, name), b); err != nil {
 			return err
 		}
@@ -250,6 +317,10 @@ func WriteCSV(w io.Writer, in Input) error {
 		head = append(head, fmt.Sprintf("%s [%s]", a.Name, a.Unit), fmt.Sprintf("%s [%s]", a.Name, u))
 	}
 	head = append(head, "energy [hartree]", "relative [cm-1]", "relative [kJ/mol]", "state")
+	diag := in.diagnosticColumns()
+	for _, d := range diag {
+		head = append(head, d.head)
+	}
 	if err := cw.Write(head); err != nil {
 		return fmt.Errorf("report: curve.csv: %w", err)
 	}
@@ -269,6 +340,9 @@ func WriteCSV(w io.Writer, in Input) error {
 			row = append(row, "", "", "")
 		}
 		row = append(row, p.State)
+		for _, d := range diag {
+			row = append(row, d.cell(p))
+		}
 		if err := cw.Write(row); err != nil {
 			return fmt.Errorf("report: curve.csv: %w", err)
 		}
@@ -278,6 +352,64 @@ func WriteCSV(w io.Writer, in Input) error {
 		return fmt.Errorf("report: curve.csv: %w", err)
 	}
 	return nil
+}
+
+// diagColumn is one diagnostic column of curve.csv.
+type diagColumn struct {
+	head string
+	cell func(Point) string
+}
+
+// diagnosticColumns are the diagnostic columns some point has data for,
+// in a fixed order: SCF iterations, ⟨S²⟩, dipole (debye), MP2 parts
+// (hartree). A scan whose backend reports none (a model potential, most
+// external programs) gets none.
+func (in Input) diagnosticColumns() []diagColumn {
+	var it, s2, dip, mp2 bool
+	for _, p := range in.Points {
+		it = it || p.Iterations > 0
+		s2 = s2 || p.SSquared != nil
+		dip = dip || p.DipoleDebye != nil
+		mp2 = mp2 || p.MP2 != nil
+	}
+	f := func(v *float64, prec int) string {
+		if v == nil {
+			return ""
+		}
+		return strconv.FormatFloat(*v, 'f', prec, 64)
+	}
+	mp := func(get func(MP2Parts) float64) func(Point) string {
+		return func(p Point) string {
+			if p.MP2 == nil {
+				return ""
+			}
+			v := get(*p.MP2)
+			return f(&v, 10)
+		}
+	}
+	var out []diagColumn
+	if it {
+		out = append(out, diagColumn{"scf iterations", func(p Point) string {
+			if p.Iterations == 0 {
+				return ""
+			}
+			return strconv.Itoa(p.Iterations)
+		}})
+	}
+	if s2 {
+		out = append(out, diagColumn{"<S^2>", func(p Point) string { return f(p.SSquared, 6) }})
+	}
+	if dip {
+		out = append(out, diagColumn{"dipole [debye]", func(p Point) string { return f(p.DipoleDebye, 6) }})
+	}
+	if mp2 {
+		out = append(out,
+			diagColumn{"mp2 reference [hartree]", mp(func(m MP2Parts) float64 { return m.Reference })},
+			diagColumn{"mp2 correlation [hartree]", mp(func(m MP2Parts) float64 { return m.Correlation })},
+			diagColumn{"mp2 same-spin [hartree]", mp(func(m MP2Parts) float64 { return m.SameSpin })},
+			diagColumn{"mp2 opposite-spin [hartree]", mp(func(m MP2Parts) float64 { return m.OppositeSpin })})
+	}
+	return out
 }
 
 // WriteFitJSON writes fit.json: in.Fit, indented; or, when there is no

@@ -131,8 +131,8 @@ func TestWrite_Surface2D_Map(t *testing.T) {
 		t.Errorf("png %v, want %dx%d", img.Bounds(), w, h)
 	}
 	md, _ := os.ReadFile(filepath.Join(dir, "summary.md"))
-	if !strings.Contains(string(md), "FAILED POINTS (1)") {
-		t.Errorf("summary.md does not show the failed point loudly:\n%s", md)
+	if i, j := strings.Index(string(md), "## Failed points (1)"), strings.Index(string(md), "## Conditions"); i < 0 || i > j {
+		t.Errorf("summary.md does not show the failed point at the top:\n%s", md)
 	}
 }
 
@@ -145,7 +145,6 @@ func TestWrite_BadInput_Errors(t *testing.T) {
 		{"no axes", Input{}, "0 scanned coordinates"},
 		{"values", Input{Axes: []Axis{{Name: "r"}}, Points: []Point{{Key: "k", Values: []float64{1, 2}}}}, "point k has 2 coordinate values"},
 		{"nan", Input{Axes: []Axis{{Name: "r"}}, Points: []Point{{Key: "k", Values: []float64{1}, Energy: ptr(math.NaN())}}}, "non-finite"},
-		{"no energies", Input{Axes: []Axis{{Name: "r", Kind: "distance", Unit: "bohr"}}, Points: []Point{{Key: "k", Values: []float64{1}, State: "planned"}}}, "no point has an energy"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -196,5 +195,116 @@ func TestWrite_DegenerateScans_NoPanic(t *testing.T) {
 				t.Errorf("Write: %v", err)
 			}
 		})
+	}
+}
+
+// TestWrite_AllFailed_ReportsFailures: a scan whose every point failed
+// still gets a report: the failures at the top, no figure (and no stale
+// one from an earlier report).
+func TestWrite_AllFailed_ReportsFailures(t *testing.T) {
+	in := Input{Conditions: Conditions{Formula: "CO", Engine: "command", Version: "test"},
+		Axes: []Axis{{Name: "r", Kind: "distance", Unit: "angstrom", Digits: 5}},
+		Points: []Point{{Key: "r=1.00000", Values: []float64{1}, State: "failed", Attempts: 3, Error: "backend command: awk exited with status 2"},
+			{Key: "r=1.10000", Values: []float64{1.1}, State: "failed", Attempts: 3, Error: "backend command: awk exited with status 2"}},
+		FitError: "no done points"}
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "curve.svg"), []byte("<svg/>"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := Write(context.Background(), dir, in); err != nil {
+		t.Fatalf("Write: %v", err)
+	}
+	md, err := os.ReadFile(filepath.Join(dir, "summary.md"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"## Failed points (2)", "awk exited with status 2", "No figure and no fit"} {
+		if !strings.Contains(string(md), want) {
+			t.Errorf("summary.md lacks %q:\n%s", want, md)
+		}
+	}
+	if strings.Contains(string(md), "curve.svg") || strings.Contains(string(md), "ATTENTION") {
+		t.Errorf("summary.md shows a figure or an alarm for plain failures:\n%s", md)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "curve.svg")); !os.IsNotExist(err) {
+		t.Errorf("a stale curve.svg is left: %v", err)
+	}
+}
+
+// TestSummary_WarningsAtTop_AlarmOnlyForSerious: warnings come first,
+// most serious first; the alarm box holds only what could mislead.
+func TestSummary_WarningsAtTop_AlarmOnlyForSerious(t *testing.T) {
+	base := Input{Conditions: Conditions{Formula: "H2", Engine: "model", Version: "test"},
+		Axes:   []Axis{{Name: "r", Kind: "distance", Unit: "bohr", Digits: 5}},
+		Points: []Point{{Key: "r=1.40000", Values: []float64{1.4}, State: "done", Energy: ptr(-1.1)}},
+		Notes:  []string{"a benign note"}}
+	var b strings.Builder
+	if err := WriteMarkdown(&b, base); err != nil {
+		t.Fatal(err)
+	}
+	md := b.String()
+	if strings.Contains(md, "ATTENTION") || !strings.Contains(md, "- note: a benign note") {
+		t.Errorf("benign note: alarm box shown or note missing:\n%s", md)
+	}
+	base.Warnings = []Warning{{"serious", "r=1.40000: ⟨S²⟩ jumps from 0.000 to 1.000"}, {"caution", "1 point(s) failed"}}
+	b.Reset()
+	if err := WriteMarkdown(&b, base); err != nil {
+		t.Fatal(err)
+	}
+	md = b.String()
+	att, warn, cond := strings.Index(md, "## ⚠ ATTENTION"), strings.Index(md, "## Warnings (2)"), strings.Index(md, "## Conditions")
+	if att < 0 || warn < att || cond < warn {
+		t.Fatalf("want ATTENTION, then Warnings (2), then Conditions:\n%s", md)
+	}
+	box := md[att:warn]
+	if !strings.Contains(box, "⟨S²⟩ jumps") || strings.Contains(box, "point(s) failed") || strings.Contains(box, "benign") {
+		t.Errorf("alarm box holds more or less than the serious warning:\n%s", box)
+	}
+	if c, n := strings.Index(md, "- caution: 1 point(s) failed"), strings.Index(md, "- note: a benign note"); c < 0 || n < c {
+		t.Errorf("cautions must come before notes:\n%s", md)
+	}
+}
+
+// TestWriteCSV_Diagnostics: ⟨S²⟩, iterations, dipole and MP2 parts are
+// exported when the points carry them, and no empty columns otherwise.
+func TestWriteCSV_Diagnostics(t *testing.T) {
+	ax := []Axis{{Name: "r", Kind: "distance", Unit: "angstrom", Digits: 5}}
+	plain := Input{Axes: ax, Points: []Point{{Key: "r=1.00000", Values: []float64{1}, State: "done", Energy: ptr(-1)}}}
+	var b strings.Builder
+	if err := WriteCSV(&b, plain); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(b.String(), "S^2") || strings.Contains(b.String(), "mp2") {
+		t.Errorf("diagnostic columns without data:\n%s", b.String())
+	}
+	rich := Input{Axes: ax, Points: []Point{{Key: "r=1.00000", Values: []float64{1}, State: "done", Energy: ptr(-1.2),
+		Iterations: 12, SSquared: ptr(0.7532), DipoleDebye: ptr(1.5),
+		MP2: &MP2Parts{Reference: -1.0, Correlation: -0.2, SameSpin: -0.05, OppositeSpin: -0.15}}}}
+	b.Reset()
+	if err := WriteCSV(&b, rich); err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSpace(b.String()), "\n")
+	wantHead := "scf iterations,<S^2>,dipole [debye],mp2 reference [hartree],mp2 correlation [hartree],mp2 same-spin [hartree],mp2 opposite-spin [hartree]"
+	if len(lines) != 2 || !strings.HasSuffix(lines[0], wantHead) || !strings.HasSuffix(lines[1], "12,0.753200,1.500000,-1.0000000000,-0.2000000000,-0.0500000000,-0.1500000000") {
+		t.Errorf("curve.csv with diagnostics:\n%s", b.String())
+	}
+}
+
+// TestHeading_NoRepeats: the figure's heading adds the molecule and the
+// method only when the title does not already say them.
+func TestHeading_NoRepeats(t *testing.T) {
+	for _, tc := range []struct {
+		c    Conditions
+		want string
+	}{
+		{Conditions{Title: "water stretch at RHF/6-31G*", Formula: "H2O", Method: "RHF", Basis: "6-31G*"}, "water stretch at RHF/6-31G* (H2O)"},
+		{Conditions{Title: "HDO stretch", Formula: "HDO", Method: "MP2(fc)", Basis: "cc-pVDZ"}, "HDO stretch (MP2(fc)/cc-pVDZ)"},
+		{Conditions{Title: "CO at RHF/6-31G*", Formula: "CO", Method: "RHF", Basis: "6-31G*"}, "CO at RHF/6-31G*"},
+		{Conditions{Formula: "CO", Method: "RHF", Basis: "6-31G*"}, "CO · RHF/6-31G*"},
+	} {
+		if got := heading(tc.c); got != tc.want {
+			t.Errorf("heading(%q) = %q, want %q", tc.c.Title, got, tc.want)
+		}
 	}
 }

@@ -22,7 +22,8 @@ type table struct {
 
 type section struct {
 	Title  string
-	Alert  bool // warnings and failures: rendered loudly
+	Alert  bool // what could mislead: rendered loudly (the alarm box)
+	Warn   bool // other warnings and failures: marked, at the top
 	Paras  []string
 	List   []string
 	Tables []table
@@ -61,24 +62,40 @@ func countStates(ps []Point) (map[string]int, []string) {
 	return n, keys
 }
 
-// warnings gathers every warning of the fit and the scan.
-func (in Input) warnings() []string {
-	var w []string
-	w = append(w, in.Notes...)
+// warnings gathers every warning of the scan and the fit, most serious
+// first: the scan's own (with their level), then the fit's and the
+// report's notes as cautions and notes.
+func (in Input) warnings() []Warning {
+	var w []Warning
+	w = append(w, in.Warnings...)
 	if in.FitError != "" {
-		w = append(w, "no fit: "+in.FitError)
+		w = append(w, Warning{"caution", "no fit: " + in.FitError})
 	}
 	if c := in.Curve; c != nil {
-		w = append(w, c.Warnings...)
+		for _, s := range c.Warnings {
+			w = append(w, Warning{"caution", s})
+		}
 		for _, m := range c.Minima {
 			for _, s := range m.Warnings {
-				w = append(w, m.Label+": "+s)
+				w = append(w, Warning{"caution", m.Label + ": " + s})
 			}
 		}
 	}
 	if s := in.Surface; s != nil {
-		w = append(w, s.Warnings...)
+		for _, x := range s.Warnings {
+			w = append(w, Warning{"caution", x})
+		}
 	}
+	if an := in.Analysis; an != nil {
+		for _, x := range an.Warnings {
+			w = append(w, Warning{"caution", x})
+		}
+	}
+	for _, n := range in.Notes {
+		w = append(w, Warning{"note", n})
+	}
+	rank := map[string]int{"serious": 0, "caution": 1, "note": 2}
+	sort.SliceStable(w, func(i, j int) bool { return rank[w[i].Level] < rank[w[j].Level] })
 	return w
 }
 
@@ -90,58 +107,146 @@ func (in Input) sections() []section {
 	for _, k := range keys {
 		counts = append(counts, fmt.Sprintf("%d %s", n[k], k))
 	}
-	warn := in.warnings()
 	var failed []Point
 	for _, p := range in.sortedPoints() {
 		if p.State == "failed" {
 			failed = append(failed, p)
 		}
 	}
-	if len(warn) > 0 || len(failed) > 0 {
-		out = append(out, section{Title: "ATTENTION", Alert: true, Paras: []string{
-			fmt.Sprintf("This scan has %d warning(s) and %d failed point(s); read them below before using the numbers.", len(warn), len(failed))}})
+	// At the top: the alarm box, for what could mislead only; then every
+	// other warning and the failed points.
+	var serious, other []string
+	for _, w := range in.warnings() {
+		if w.Level == "serious" {
+			serious = append(serious, w.Text)
+		} else {
+			other = append(other, w.Level+": "+w.Text)
+		}
 	}
-	var coords []string
-	for _, a := range in.Axes {
-		coords = append(coords, fmt.Sprintf("%s (%s, %s)", a.Name, a.Kind, unitSymbol(a.Unit)))
+	if len(serious) > 0 {
+		out = append(out, section{Title: "ATTENTION", Alert: true, List: serious, Paras: []string{
+			"These results may be wrong without looking wrong; check them before using the numbers."}})
 	}
-	cond := table{Head: []string{"condition", "value"}, Rows: [][]string{
-		{"molecule", fmt.Sprintf("%s, charge %d, multiplicity %d", c.Formula, c.Charge, c.Multiplicity)},
-		{"method", methodLabel(c)},
-		{"basis", orDash(c.Basis)},
-		{"backend", orDash(c.Backend)},
-		{"scanned", strings.Join(coords, "; ")},
-		{"points", fmt.Sprintf("%d: %s", len(in.Points), strings.Join(counts, ", "))},
-		{"mass model", orDash(in.MassModel)},
-		{"program", "wellscan " + c.Version},
-		{"date", c.Date.UTC().Format("2006-01-02")},
-	}}
-	if c.Dir != "" {
-		cond.Rows = append([][]string{{"scan directory", c.Dir}}, cond.Rows...)
-	}
-	out = append(out, section{Title: "Conditions", Tables: []table{cond}})
-	if c.Engine == "model" {
-		out[len(out)-1].Paras = []string{"The energies come from an analytic MODEL potential, not from an electronic-structure calculation."}
-	}
-	out = append(out, section{Title: "Curve", Figure: true, Paras: []string{"Figure: curve.svg (also curve.png); the numbers behind it are in curve.csv and fit.json."}})
-	if cr := in.Curve; cr != nil {
-		out = append(out, curveSections(in, cr)...)
-	}
-	if sr := in.Surface; sr != nil {
-		out = append(out, surfaceSection(in, sr))
-	}
-	if len(warn) > 0 {
-		out = append(out, section{Title: fmt.Sprintf("Warnings (%d)", len(warn)), Alert: true, List: warn})
+	if len(other) > 0 {
+		out = append(out, section{Title: fmt.Sprintf("Warnings (%d)", len(other)), Warn: true, List: other})
 	}
 	if len(failed) > 0 {
 		t := table{Head: []string{"point", "attempts", "last error"}}
 		for _, p := range failed {
 			t.Rows = append(t.Rows, []string{p.Key, fmt.Sprint(p.Attempts), oneLine(p.Error)})
 		}
-		out = append(out, section{Title: fmt.Sprintf("Failed points (%d)", len(failed)), Alert: true, Tables: []table{t},
+		out = append(out, section{Title: fmt.Sprintf("Failed points (%d)", len(failed)), Warn: true, Tables: []table{t},
 			Paras: []string{"These points have no energy and are not in the fit."}})
 	}
+	var coords []string
+	for _, a := range in.Axes {
+		coords = append(coords, fmt.Sprintf("%s (%s, %s)", a.Name, a.Kind, unitSymbol(a.Unit)))
+	}
+	isotopes := "the most abundant isotope of every atom"
+	if len(c.Isotopes) > 0 {
+		isotopes = strings.Join(c.Isotopes, "; ")
+	}
+	cond := table{Head: []string{"condition", "value"}, Rows: [][]string{
+		{"molecule", fmt.Sprintf("%s, charge %d, multiplicity %d", c.Formula, c.Charge, c.Multiplicity)},
+		{"isotopes", isotopes},
+		{"method", methodLabel(c)},
+		{"basis", orDash(c.Basis)},
+	}}
+	if c.FrozenCore != "" {
+		cond.Rows = append(cond.Rows, []string{"frozen core", c.FrozenCore})
+	}
+	if c.SCF != "" {
+		cond.Rows = append(cond.Rows, []string{"SCF convergence", c.SCF})
+	}
+	cond.Rows = append(cond.Rows,
+		[]string{"backend", orDash(c.Backend)},
+		[]string{"scan", orDash(c.ScanKind)},
+		[]string{"scanned", strings.Join(coords, "; ")},
+		[]string{"points", fmt.Sprintf("%d: %s", len(in.Points), strings.Join(counts, ", "))},
+		[]string{"mass model", orDash(in.MassModel)},
+		[]string{"program", "wellscan " + c.Version},
+		[]string{"date", c.Date.UTC().Format("2006-01-02")})
+	if c.Dir != "" {
+		cond.Rows = append([][]string{{"scan directory", c.Dir}}, cond.Rows...)
+	}
+	sec := section{Title: "Conditions", Tables: []table{cond}}
+	if len(c.Geometry) > 0 {
+		g := table{Head: []string{"atom", "x / Å", "y / Å", "z / Å"}}
+		for _, line := range c.Geometry {
+			f := strings.Fields(line)
+			if len(f) == 4 {
+				g.Rows = append(g.Rows, f)
+			}
+		}
+		sec.Tables = append(sec.Tables, g)
+		sec.Paras = append(sec.Paras, "Reference geometry (the second table): the scan moves only the scanned coordinates away from it.")
+	}
+	if c.Engine == "model" {
+		sec.Paras = append([]string{"The energies come from an analytic MODEL potential, not from an electronic-structure calculation."}, sec.Paras...)
+	}
+	out = append(out, sec)
+	if in.HasEnergies() {
+		out = append(out, section{Title: "Curve", Figure: true, Paras: []string{"Figure: curve.svg (also curve.png); the numbers behind it are in curve.csv and fit.json."}})
+	} else {
+		out = append(out, section{Title: "Curve", Paras: []string{"No figure and no fit: no point has an energy yet."}})
+	}
+	out = append(out, analysisSections(in)...)
+	if cr := in.Curve; cr != nil {
+		out = append(out, curveSections(in, cr)...)
+	}
+	if sr := in.Surface; sr != nil {
+		out = append(out, surfaceSection(in, sr))
+	}
+	if s := spinSection(in); s != nil {
+		out = append(out, *s)
+	}
 	return out
+}
+
+// spinSection is the ⟨S²⟩ table of a scan whose points carry ⟨S²⟩ (UHF
+// references): the exact value S(S+1) of the multiplicity, the range over
+// the done points, and the points that deviate by more than 0.1 (common
+// practice for flagging spin contamination). nil when no point has ⟨S²⟩.
+func spinSection(in Input) *section {
+	var have []Point
+	for _, p := range in.sortedPoints() {
+		if p.SSquared != nil && p.Energy != nil {
+			have = append(have, p)
+		}
+	}
+	if len(have) == 0 {
+		return nil
+	}
+	s := float64(in.Conditions.Multiplicity-1) / 2
+	exact := s * (s + 1)
+	lo, hi := have[0], have[0]
+	var off []string
+	for _, p := range have {
+		if *p.SSquared < *lo.SSquared {
+			lo = p
+		}
+		if *p.SSquared > *hi.SSquared {
+			hi = p
+		}
+		if math.Abs(*p.SSquared-exact) > 0.1 {
+			off = append(off, p.Key)
+		}
+	}
+	t := table{Head: []string{"quantity", "value"}, Rows: [][]string{
+		{"exact S(S+1) for multiplicity " + fmt.Sprint(in.Conditions.Multiplicity), fmt.Sprintf("%.4f", exact)},
+		{"lowest ⟨S²⟩", fmt.Sprintf("%.4f at %s", *lo.SSquared, lo.Key)},
+		{"highest ⟨S²⟩", fmt.Sprintf("%.4f at %s", *hi.SSquared, hi.Key)},
+		{"points off by more than 0.1", fmt.Sprintf("%d of %d", len(off), len(have))},
+	}}
+	sec := section{Title: "Spin (⟨S²⟩ of the UHF reference)", Tables: []table{t},
+		Paras: []string{"⟨S²⟩ of every point is in curve.csv. A value well above S(S+1) means spin contamination; a jump between neighbours, another electronic state."}}
+	if len(off) > 0 {
+		if len(off) > 12 {
+			off = append(off[:12], fmt.Sprintf("… %d more", len(off)-12))
+		}
+		sec.List = []string{"off by more than 0.1: " + strings.Join(off, ", ")}
+	}
+	return &sec
 }
 
 func orDash(s string) string {
@@ -171,7 +276,11 @@ func curveSections(in Input, cr *fit.Result) []section {
 			[]string{"local polynomial", fmt.Sprintf("degree %d, %d points within %.3g E_h, rms residual %.1e E_h", m.Degree, m.WindowPoints, m.WindowEnergy, m.RMSResidual), ""})
 		sec := section{Title: "Minimum: " + m.Label, Tables: []table{pos}}
 		if len(m.Isotopologues) > 0 {
-			t := table{Head: []string{"isotopologue", "μ / amu", "ω_e / cm⁻¹", "ω_e x_e / cm⁻¹", "B_e / cm⁻¹", "α_e / cm⁻¹", "ZPE / cm⁻¹", "G(1)−G(0) / cm⁻¹", "D_e / eV", "D_0 / eV"}}
+			mu := "μ / amu"
+			if !a.IsLength() {
+				mu = "I / (amu·bohr²)" // effective moment of an angle (per rad²)
+			}
+			t := table{Head: []string{"isotopologue", mu, "ω_e / cm⁻¹", "ω_e x_e / cm⁻¹", "B_e / cm⁻¹", "α_e / cm⁻¹", "ZPE / cm⁻¹", "G(1)−G(0) / cm⁻¹", "D_e / eV", "D_0 / eV"}}
 			var lv []string
 			for _, k := range m.Isotopologues {
 				name := k.Name
@@ -303,6 +412,7 @@ h1 { border-bottom: 3px solid #0072b2; padding-bottom: .2em; }
 h2 { color: #0072b2; margin-top: 1.6em; }
 section.alert { border: 3px solid #d55e00; background: #fff3ec; padding: .2em 1em 1em; }
 section.alert h2 { color: #d55e00; }
+section.warn { border-left: 8px solid #e69f00; background: #fff8e6; padding: .2em 1em .6em; }
 table { border-collapse: collapse; margin: .6em 0; }
 th, td { border: 1px solid #bbb; padding: .25em .6em; text-align: left; font-variant-numeric: tabular-nums; }
 th { background: #eef4f9; }
@@ -312,7 +422,7 @@ figure svg { width: 100%; height: auto; }
 </head>
 <body>
 <h1>Scan report: {{.Title}}</h1>
-{{range .Sections}}<section{{if .Alert}} class="alert"{{end}}>
+{{range .Sections}}<section{{if .Alert}} class="alert"{{else if .Warn}} class="warn"{{end}}>
 <h2>{{if .Alert}}⚠ {{end}}{{.Title}}</h2>
 {{range .Paras}}<p>{{if call $.Bold .}}<strong>{{.}}</strong>{{else}}{{.}}{{end}}</p>
 {{end}}{{if .Figure}}<figure id="curve">{{$.SVG}}</figure>

@@ -26,6 +26,9 @@ var data embed.FS
 type Set struct {
 	f     *format.File
 	index map[int]int // atomic number → index in f.Elements
+	// own is wellscan's description of an embedded set (descriptions);
+	// empty for a user file.
+	own string
 }
 
 // Reference is one literature reference of a set: the key element blocks
@@ -124,6 +127,7 @@ func Lookup(name string) (*Set, error) {
 			if Slug(s.Name()) != slug {
 				return nil, fmt.Errorf("basis: embedded %s.basis holds the set %q", slug, s.Name())
 			}
+			s.own = descriptions[slug]
 			return s, nil
 		}
 		if !errors.Is(err, fs.ErrNotExist) {
@@ -229,8 +233,14 @@ func LoadFile(path string) (*Set, error) {
 // Name is the set's name, e.g. "cc-pVDZ".
 func (s *Set) Name() string { return s.f.Title }
 
-// Description is the set's one-line description (may be empty).
-func (s *Set) Description() string { return s.f.About }
+// Description is the set's one-line description: wellscan's own for an
+// embedded set, the file's "about" line for a user file (may be empty).
+func (s *Set) Description() string {
+	if s.own != "" {
+		return s.own
+	}
+	return s.f.About
+}
 
 // References lists the set's literature in the order of the file.
 func (s *Set) References() []Reference {
@@ -396,9 +406,9 @@ func (s *Set) conventionSummary() string {
 	case len(cart) > 0:
 		return "Cartesian"
 	case s.f.Harmonics == format.Spherical:
-		return "spherical (no shells with l ≥ 2)"
+		return "spherical (no d or f shells)"
 	case s.f.Harmonics == format.Cartesian:
-		return "Cartesian (no shells with l ≥ 2)"
+		return "Cartesian (no d or f shells)"
 	}
-	return "none needed (no shells with l ≥ 2)"
+	return "none needed (no d or f shells)"
 }

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
+	"reflect"
 	"slices"
 	"strconv"
 	"strings"
@@ -351,7 +352,7 @@ func TestList_All_Described(t *testing.T) {
 		{"STO-3G", "", "H–Kr", "spherical"},
 		{"STO-3G-v0", "", "H–Kr", "spherical"},
 		{"3-21G", "", "H–Kr", "Cartesian"},
-		{"6-31G", "", "H–Ar", "Cartesian (no shells with l ≥ 2)"},
+		{"6-31G", "", "H–Ar", "Cartesian (no d or f shells)"},
 		{"6-31G*", "", "H–Ar", "Cartesian"},
 		{"6-31G**", "", "H–Ar", "Cartesian"},
 		{"6-311G**", "", "H–Ar", "mixed: Li–Ne spherical, Na–Ar Cartesian"},
@@ -545,9 +546,9 @@ func TestParseConvention_Names(t *testing.T) {
 		{"", basis.ConventionAsSet, true},
 		{"as-set", basis.ConventionAsSet, true},
 		{"Cartesian", basis.ConventionCartesian, true},
-		{"6D", basis.ConventionCartesian, true},
+		{"6D", 0, false},
 		{"spherical", basis.ConventionSpherical, true},
-		{"5d", basis.ConventionSpherical, true},
+		{"5d", 0, false}, // no shorthand tokens: the names are ours
 		{"pure", basis.ConventionSpherical, true},
 		{"cubic", 0, false},
 	}
@@ -559,6 +560,47 @@ func TestParseConvention_Names(t *testing.T) {
 		if tc.ok && tc.in != "" {
 			if back, _ := basis.ParseConvention(got.String()); back != got {
 				t.Errorf("ParseConvention(%v.String()) = %v", got, back)
+			}
+		}
+	}
+}
+
+// TestSet_WritePlain: plain decimals, no exponent notation, our
+// description, and the same numbers read back (bit for bit: the text is
+// the shortest that parses to the same float64).
+func TestSet_WritePlain(t *testing.T) {
+	for _, in := range basis.List() {
+		s := lookup(t, in.Name)
+		var buf bytes.Buffer
+		if err := s.WritePlain(&buf); err != nil {
+			t.Fatal(err)
+		}
+		text := buf.String()
+		if !strings.Contains(text, "\nabout "+in.Description+"\n") {
+			t.Errorf("%s: about line is not the set's description %q", in.Name, in.Description)
+		}
+		shellLines := false
+		for _, line := range strings.Split(text, "\n") {
+			if strings.HasPrefix(line, "shell ") {
+				shellLines = true
+				continue
+			}
+			if strings.HasPrefix(line, "element ") || line == "" {
+				shellLines = false
+			}
+			if shellLines && strings.ContainsAny(line, "eEdD") {
+				t.Fatalf("%s: number in exponent notation: %q", in.Name, line)
+			}
+		}
+		back, err := basis.Parse(strings.NewReader(text), "plain")
+		if err != nil {
+			t.Fatalf("%s: %v", in.Name, err)
+		}
+		for _, el := range s.Elements() {
+			a, _ := s.Contractions(el)
+			b, _ := back.Contractions(el)
+			if !reflect.DeepEqual(a, b) {
+				t.Fatalf("%s %s: contractions differ after WritePlain", in.Name, el)
 			}
 		}
 	}

@@ -6,8 +6,8 @@ import (
 )
 
 // Convention chooses how shells with l ≥ 2 become basis functions: as the
-// (l+1)(l+2)/2 Cartesian components (6D, 10F) or the 2l+1 real solid
-// harmonics (5D, 7F). Shells with l ≤ 1 are Cartesian either way.
+// (l+1)(l+2)/2 Cartesian components (six for d, ten for f) or the 2l+1
+// real solid harmonics (five for d, seven for f). Shells with l ≤ 1 are Cartesian either way.
 type Convention int
 
 const (
@@ -42,15 +42,14 @@ func (c Convention) valid() error {
 }
 
 // ParseConvention reads a convention name, case-insensitively: "" or
-// "as-set" (the set's own), "cartesian" (also "6d"), "spherical" (also
-// "pure", "5d").
+// "as-set" (the set's own), "cartesian", "spherical" (also "pure").
 func ParseConvention(s string) (Convention, error) {
 	switch strings.ToLower(strings.TrimSpace(s)) {
 	case "", "as-set":
 		return ConventionAsSet, nil
-	case "cartesian", "6d":
+	case "cartesian":
 		return ConventionCartesian, nil
-	case "spherical", "pure", "5d":
+	case "spherical", "pure":
 		return ConventionSpherical, nil
 	}
 	return 0, fmt.Errorf("basis: unknown d/f convention %q (expected as-set, cartesian or spherical)", s)

@@ -14,8 +14,9 @@
 // elements) in the file format.
 //
 // Each set records how its shells with l ≥ 2 are meant to be used, per
-// element: Cartesian (6D, 10F) for the Pople sets, spherical (5D, 7F) for
-// the correlation-consistent sets, and for 6-311G** what the source data
+// element: Cartesian products (six d and ten f functions per shell) for the
+// Pople sets, real solid harmonics (five d, seven f) for the
+// correlation-consistent sets, and for 6-311G** what the source data
 // says (Li–Ne spherical, Na–Ar Cartesian). [ConventionCartesian] and
 // [ConventionSpherical] override this for a whole calculation.
 //

@@ -2,6 +2,8 @@ package basis
 
 import (
 	"io"
+	"slices"
+	"strconv"
 
 	"wellscan/planner"
 	"wellscan/runner/hf/basis/internal/format"
@@ -94,13 +96,58 @@ func (s *Set) NumFunctions(mol planner.Molecule, conv Convention) (int, error) {
 // elements (in the set's order) and only the references they cite; an
 // element the set lacks gives a *[MissingElementError].
 func (s *Set) Write(w io.Writer, elements ...string) error {
+	f, err := s.subset(elements)
+	if err != nil {
+		return err
+	}
+	return format.Write(w, f)
+}
+
+// WritePlain is [Set.Write] for people: every number as a plain decimal
+// (the shortest that reads back to the same float64, never in exponent
+// notation), and the about line holding [Set.Description]. Read back, it
+// gives the same set.
+func (s *Set) WritePlain(w io.Writer, elements ...string) error {
+	f, err := s.subset(elements)
+	if err != nil {
+		return err
+	}
+	f.About = s.Description()
+	plain := func(ns []format.Number) []format.Number {
+		out := make([]format.Number, len(ns))
+		for i, n := range ns {
+			out[i] = format.Number{Text: strconv.FormatFloat(n.Value, 'f', -1, 64), Value: n.Value}
+		}
+		return out
+	}
+	els := make([]format.Element, len(f.Elements))
+	for i, el := range f.Elements {
+		el.Shells = slices.Clone(el.Shells)
+		for k, sh := range el.Shells {
+			sh.Exps = plain(sh.Exps)
+			cols := make([][]format.Number, len(sh.Coefs))
+			for c, col := range sh.Coefs {
+				cols[c] = plain(col)
+			}
+			sh.Coefs = cols
+			el.Shells[k] = sh
+		}
+		els[i] = el
+	}
+	f.Elements = els
+	return format.Write(w, f)
+}
+
+// subset is a shallow copy of the set's file with only the given
+// elements (all when none is given) and the references they cite.
+func (s *Set) subset(elements []string) (*format.File, error) {
 	f := *s.f
 	if len(elements) > 0 {
 		want := map[int]bool{}
 		for _, sym := range elements {
 			el, err := s.elementBySymbol(sym)
 			if err != nil {
-				return err
+				return nil, err
 			}
 			want[el.Z] = true
 		}
@@ -121,5 +168,5 @@ func (s *Set) Write(w io.Writer, elements ...string) error {
 			}
 		}
 	}
-	return format.Write(w, &f)
+	return &f, nil
 }

@@ -59,3 +59,20 @@ func TestLookup_NumberText_Unchanged(t *testing.T) {
 		t.Errorf("only %d numbers checked", n)
 	}
 }
+
+// TestList_OwnDescriptions: every embedded set has wellscan's own
+// description, not the data's about line.
+func TestList_OwnDescriptions(t *testing.T) {
+	for _, in := range List() {
+		s, err := Lookup(in.Name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if descriptions[Slug(in.Name)] == "" || in.Description != descriptions[Slug(in.Name)] || in.Description == s.f.About {
+			t.Errorf("%s: description %q (data about line %q); want our own from descriptions", in.Name, in.Description, s.f.About)
+		}
+	}
+	if len(descriptions) != len(List()) {
+		t.Errorf("%d descriptions for %d embedded sets", len(descriptions), len(List()))
+	}
+}

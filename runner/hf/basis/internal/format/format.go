@@ -34,9 +34,9 @@ const (
 	// Unstated means the file does not say (allowed only when no shell it
 	// governs has l ≥ 2, or, on an element, when the set-wide line applies).
 	Unstated Harmonics = iota
-	// Cartesian components (6D, 10F, …).
+	// Cartesian components (six d, ten f, …).
 	Cartesian
-	// Spherical (pure) functions (5D, 7F, …).
+	// Spherical (pure) functions (five d, seven f, …).
 	Spherical
 )
 
