@@ -73,7 +73,7 @@ Use "-" to read the geometry from standard input.
   ccsd(t)     CCSD plus the perturbative triples correction of
               Raghavachari, Trucks, Pople and Head-Gordon (1989); closed
               shells only. Cost grows as N⁷: CO in cc-pVQZ (110 functions)
-              takes a few minutes on two cores.
+              takes about 30 s on two idle cores.
 
 The correlated methods freeze the atoms' noble-gas cores by default (O 1s,
 Si [Ne], …); --all-electron correlates every electron. --basis-limit
