@@ -2,6 +2,7 @@ package fit
 
 import (
 	"context"
+	"fmt"
 	"testing"
 )
 
@@ -35,4 +36,30 @@ func BenchmarkLevels(b *testing.B) {
 			}
 		}
 	})
+}
+
+// largeCurve is a CO-like Morse curve on n even points from 1.6 to 6 bohr
+// (deterministic; no noise).
+func largeCurve(n int) ([]float64, []float64) {
+	r := linspace(1.6, 6, n)
+	return r, sampleAt(coLike.v, r)
+}
+
+// BenchmarkCurve_LargeN measures the cost growth with the number of
+// points: issue 14 asks for 10,000 points in at most 1 s and 50 MB, and a
+// bounded 200,000-point fit (the interpolant is a banded spline, the global
+// fits thin to maxGlobalPoints, the level grid is set by the well).
+func BenchmarkCurve_LargeN(b *testing.B) {
+	opt := Options{Isotopologues: []MassSet{{Masses: []float64{mass12C, mass16O}}}}
+	for _, n := range []int{1000, 10000, 200000} {
+		r, e := largeCurve(n)
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := Curve(context.Background(), r, e, opt); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
 }

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"math"
 	"slices"
-	"sort"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -30,8 +29,8 @@ func (k Kind) String() string {
 
 // MassSet is one isotopologue: either the two atomic masses of a diatomic
 // (amu), or, for a one-dimensional scan of a polyatomic, the effective mass
-// 1/G of the scanned coordinate (amu for a length, amu·bohr² for an angle;
-// see [GElement]).
+// of the scanned coordinate (amu for a length, amu·bohr² for an angle; the
+// scan's kinetic metric, computed by the caller from the geometry).
 type MassSet struct {
 	Name          string    `json:"name"`
 	Masses        []float64 `json:"masses_amu,omitempty"`
@@ -88,7 +87,8 @@ type Options struct {
 	// D_0. Without it the largest-r points are used if the curve has
 	// flattened out there.
 	Asymptote *float64
-	// GridPoints for the level calculation (0: chosen from the well).
+	// GridPoints for the level calculation (0: chosen from the well, at
+	// most 600; the end, resolution and interpolation checks still run).
 	GridPoints int
 	// NoLevels skips the grid level calculation; NoGlobal skips the Morse
 	// and extended Morse fits.
@@ -140,6 +140,24 @@ type Minimum struct {
 	WindowEnergy   float64 `json:"window_energy_hartree"`
 	RMSResidual    float64 `json:"rms_residual_hartree"`
 	LevelPotential string  `json:"level_potential,omitempty"`
+	// LevelZero is the minimum of the level potential (hartree): the zero
+	// of levels_cm1, which may differ from e_min_hartree of the local
+	// polynomial by the interpolation error.
+	LevelZero float64 `json:"levels_zero_hartree,omitempty"`
+	// The *_uncertainty fields are the calibrated uncertainties printed
+	// as ±: one standard error and the window/degree spread added in
+	// quadrature (see the package doc). Absent (0) when the points cannot
+	// give one; Warnings then say so.
+	XEUnc     float64 `json:"x_e_uncertainty,omitempty"`
+	REUncAng  float64 `json:"r_e_uncertainty_angstrom,omitempty"`
+	ThetaEUnc float64 `json:"theta_e_uncertainty_degree,omitempty"`
+	EMinUnc   float64 `json:"e_min_uncertainty_hartree,omitempty"`
+	KUnc      float64 `json:"k_uncertainty_hartree_per_bohr2,omitempty"`
+	KAngleUnc float64 `json:"k_uncertainty_hartree_per_rad2,omitempty"`
+	// Withheld names each quantity of this minimum that failed a sanity
+	// gate (by its JSON key) with the reason; the quantity itself is
+	// zeroed and not printed.
+	Withheld map[string]string `json:"withheld,omitempty"`
 	Constants
 	Isotopologues []Constants `json:"isotopologues"`
 	Warnings      []string    `json:"warnings"`
@@ -155,36 +173,57 @@ type Minimum struct {
 // end, whichever is larger: a measure of how much the level depends on where
 // the data stop. Levels moving more than 1 cm⁻¹ are not listed.
 type Constants struct {
-	Name             string    `json:"name"`
-	Mass             float64   `json:"mass_amu"`
-	OneD             bool      `json:"one_dimensional_along_scan"`
-	OmegaE           float64   `json:"omega_e_cm1"`
-	OmegaEStderr     float64   `json:"omega_e_stderr_cm1"`
-	OmegaESpread     float64   `json:"omega_e_spread_cm1"`
-	OmegaExe         float64   `json:"omega_e_x_e_cm1"`
-	OmegaExeStderr   float64   `json:"omega_e_x_e_stderr_cm1"`
-	OmegaExeSpread   float64   `json:"omega_e_x_e_spread_cm1"`
-	Be               float64   `json:"b_e_cm1,omitempty"`
-	BeStderr         float64   `json:"b_e_stderr_cm1,omitempty"`
-	AlphaE           float64   `json:"alpha_e_cm1,omitempty"`
-	AlphaEStderr     float64   `json:"alpha_e_stderr_cm1,omitempty"`
-	AlphaESpread     float64   `json:"alpha_e_spread_cm1,omitempty"`
-	DbarE            float64   `json:"dbar_e_cm1,omitempty"`
-	Y00              float64   `json:"y00_cm1"`
-	ZPE              float64   `json:"zpe_cm1"`
-	ZPEGrid          float64   `json:"zpe_grid_cm1,omitempty"`
-	Levels           []float64 `json:"levels_cm1"`
-	LevelsWallShift  []float64 `json:"levels_wall_shift_cm1"`
-	DeltaG           []float64 `json:"delta_g_cm1"`
-	Fundamental      float64   `json:"fundamental_cm1"`
-	FundamentalGrid  bool      `json:"fundamental_from_grid"`
-	Bv               []float64 `json:"b_v_cm1,omitempty"`
-	AlphaEGrid       float64   `json:"alpha_e_grid_cm1,omitempty"`
-	DeCm1            float64   `json:"d_e_cm1,omitempty"`
-	D0Cm1            float64   `json:"d_0_cm1,omitempty"`
-	DeEV             float64   `json:"d_e_ev,omitempty"`
-	D0EV             float64   `json:"d_0_ev,omitempty"`
-	ConstantWarnings []string  `json:"-"`
+	Name            string    `json:"name"`
+	Mass            float64   `json:"mass_amu"`
+	OneD            bool      `json:"one_dimensional_along_scan"`
+	OmegaE          float64   `json:"omega_e_cm1"`
+	OmegaEStderr    float64   `json:"omega_e_stderr_cm1"`
+	OmegaESpread    float64   `json:"omega_e_spread_cm1"`
+	OmegaExe        float64   `json:"omega_e_x_e_cm1"`
+	OmegaExeStderr  float64   `json:"omega_e_x_e_stderr_cm1"`
+	OmegaExeSpread  float64   `json:"omega_e_x_e_spread_cm1"`
+	Be              float64   `json:"b_e_cm1,omitempty"`
+	BeStderr        float64   `json:"b_e_stderr_cm1,omitempty"`
+	AlphaE          float64   `json:"alpha_e_cm1,omitempty"`
+	AlphaEStderr    float64   `json:"alpha_e_stderr_cm1,omitempty"`
+	AlphaESpread    float64   `json:"alpha_e_spread_cm1,omitempty"`
+	DbarE           float64   `json:"dbar_e_cm1,omitempty"`
+	Y00             float64   `json:"y00_cm1"`
+	ZPE             float64   `json:"zpe_cm1"`
+	ZPEGrid         float64   `json:"zpe_grid_cm1,omitempty"`
+	Levels          []float64 `json:"levels_cm1"`
+	LevelsWallShift []float64 `json:"levels_wall_shift_cm1"`
+	DeltaG          []float64 `json:"delta_g_cm1"`
+	Fundamental     float64   `json:"fundamental_cm1"`
+	FundamentalGrid bool      `json:"fundamental_from_grid"`
+	Bv              []float64 `json:"b_v_cm1,omitempty"`
+	AlphaEGrid      float64   `json:"alpha_e_grid_cm1,omitempty"`
+	DeCm1           float64   `json:"d_e_cm1,omitempty"`
+	D0Cm1           float64   `json:"d_0_cm1,omitempty"`
+	DeEV            float64   `json:"d_e_ev,omitempty"`
+	D0EV            float64   `json:"d_0_ev,omitempty"`
+	// Calibrated uncertainties (printed as ±; absent when the points cannot
+	// give one). levels_uncertainty_cm1 covers, per level, the grid, the
+	// interpolation between the points, the continuation past the data and
+	// the noise of the energies (see the package doc).
+	OmegaEUnc         float64   `json:"omega_e_uncertainty_cm1,omitempty"`
+	OmegaExeUnc       float64   `json:"omega_e_x_e_uncertainty_cm1,omitempty"`
+	BeUnc             float64   `json:"b_e_uncertainty_cm1,omitempty"`
+	AlphaEUnc         float64   `json:"alpha_e_uncertainty_cm1,omitempty"`
+	ZPEUnc            float64   `json:"zpe_uncertainty_cm1,omitempty"`
+	ZPEGridUnc        float64   `json:"zpe_grid_uncertainty_cm1,omitempty"`
+	FundamentalUnc    float64   `json:"fundamental_uncertainty_cm1,omitempty"`
+	DeUnc             float64   `json:"d_e_uncertainty_cm1,omitempty"`
+	D0Unc             float64   `json:"d_0_uncertainty_cm1,omitempty"`
+	LevelsUncertainty []float64 `json:"levels_uncertainty_cm1,omitempty"`
+	// NoBoundLevel is set when the well reaches its dissociation limit but
+	// holds no vibrational level.
+	NoBoundLevel bool `json:"no_bound_level,omitempty"`
+	// Withheld names each quantity of this isotopologue that failed a
+	// sanity gate (by its JSON key) with the reason.
+	Withheld         map[string]string `json:"withheld,omitempty"`
+	e0Hartree        float64           // absolute energy of v = 0 (hartree), for D_0
+	ConstantWarnings []string          `json:"-"`
 }
 
 // massInfo is an isotopologue resolved to its 1-D mass.
@@ -199,11 +238,18 @@ type massInfo struct {
 // polynomial, reports the minimum, the force constants and, for each
 // isotopologue in opt, the spectroscopic constants and the vibrational
 // levels on a grid through an interpolant of all points, continued past the
-// data ends. Problems with the data
-// are reported in the Warnings of the result and of each minimum; an error
-// is returned only when nothing can be fitted.
+// data ends. Every constant carries a calibrated uncertainty, and sanity
+// gates withhold (zero, name in Withheld, explain in Warnings) any
+// quantity that is impossible or not determined by the data; a dip that
+// is no minimum (at the data edge, within the noise, or whose fitted
+// minimum lies outside its points) is not listed at all, and the result's
+// Warnings say why. Problems with the data are reported in the Warnings of
+// the result and of each minimum; an error is returned only for invalid
+// input or when no point can be used.
 //
-// ctx is checked between the fits and level calculations.
+// Time and memory are linear in the number of points (the interpolant is a
+// banded spline; the global Morse fits use at most [maxGlobalPoints]
+// points); ctx is checked between the steps and inside the long loops.
 func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 	if len(r) != len(e) {
 		return nil, fmt.Errorf("fit: %d coordinates but %d energies", len(r), len(e))
@@ -213,6 +259,9 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 	}
 	if opt.Converged != nil && len(opt.Converged) != len(r) {
 		return nil, fmt.Errorf("fit: %d converged flags for %d points", len(opt.Converged), len(r))
+	}
+	if err := checkOptions(opt); err != nil {
+		return nil, err
 	}
 	opt = withDefaults(opt)
 	if opt.MinDegree < 2 || opt.MaxDegree > 8 || opt.MinDegree > opt.MaxDegree {
@@ -236,11 +285,19 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 		r, e, w float64
 		conv    bool
 	}
-	var pts []pt
+	pts := make([]pt, 0, len(r))
 	skipped := 0
 	for i := range r {
+		if i%ctxEvery == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+		}
 		if math.IsNaN(r[i]) || math.IsInf(r[i], 0) || math.IsNaN(e[i]) || math.IsInf(e[i], 0) {
 			return nil, fmt.Errorf("fit: point %d (r = %g, E = %g) is not finite", i, r[i], e[i])
+		}
+		if opt.Kind == Distance && !(r[i] > 0) {
+			return nil, fmt.Errorf("fit: point %d: distance r = %g bohr is not positive", i, r[i])
 		}
 		w := 1.0
 		if opt.Weights != nil {
@@ -262,7 +319,7 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 	if skipped > 0 {
 		res.Warnings = append(res.Warnings, fmt.Sprintf("%d unconverged point(s) left out of every fit", skipped))
 	}
-	sort.SliceStable(pts, func(i, j int) bool { return pts[i].r < pts[j].r })
+	slices.SortStableFunc(pts, func(a, b pt) int { return cmpFloat(a.r, b.r) })
 	for i := 1; i < len(pts); i++ {
 		if pts[i].r == pts[i-1].r {
 			return nil, fmt.Errorf("fit: two points at the same coordinate %g", pts[i].r)
@@ -279,10 +336,21 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 	for i, p := range pts {
 		xs[i], es[i], ws[i], conv[i] = p.r, p.e, p.w, p.conv
 	}
+	pts = nil
 
-	wells := findWells(es, 10*opt.EnergyNoise)
+	noiseTol := 10 * opt.EnergyNoise
+	all := findWells(es, noiseTol)
+	// A minimum must be bracketed by the data and deeper than the noise.
+	var wells []well
+	for _, w := range all {
+		if why := wellRejected(xs, es, w, noiseTol, opt.Kind); why != "" {
+			res.Warnings = append(res.Warnings, why)
+			continue
+		}
+		wells = append(wells, w)
+	}
 	if len(wells) == 0 {
-		return nil, errors.New("fit: the curve has no minimum (energies only rise or only fall)")
+		res.Warnings = append(res.Warnings, noMinimumNote(xs, es, opt.Kind, noiseTol))
 	}
 	// The global fits come first: the level grid uses the better of them as
 	// the shape of the curve between and beyond the points.
@@ -290,56 +358,78 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		if mf, err := Morse(xs, es); err == nil {
+		gx, ge := thinForGlobal(xs, es, wells[0].min)
+		if mf, err := morseFit(ctx, gx, ge, 0); err == nil {
 			res.Morse = mf
+		} else if ctx.Err() != nil {
+			return nil, ctx.Err()
 		} else {
 			res.Warnings = append(res.Warnings, "Morse fit: "+err.Error())
 		}
-		if mf, err := ExtendedMorse(xs, es, 2); err == nil {
+		if mf, err := morseFit(ctx, gx, ge, 2); err == nil {
 			res.ExtendedMorse = mf
+		} else if ctx.Err() != nil {
+			return nil, ctx.Err()
 		} else {
 			res.Warnings = append(res.Warnings, "extended Morse fit: "+err.Error())
 		}
+		if len(gx) < len(xs) {
+			res.Warnings = append(res.Warnings, fmt.Sprintf("the global Morse fits use %d of the %d points (evenly thinned; every point is in the local fits and the level interpolant)", len(gx), len(xs)))
+		}
 	}
-	lp, lpOK := newLevelPotential(xs, es, res.Morse, res.ExtendedMorse)
+	var lp *levelPotential
+	lpOK := false
+	if !opt.NoLevels && len(masses) > 0 && len(wells) > 0 {
+		var err error
+		lp, lpOK, err = newLevelPotential(ctx, xs, es, res.Morse, res.ExtendedMorse)
+		if err != nil {
+			return nil, err
+		}
+	}
 
-	asym, asymNote := asymptote(xs, es, opt)
-	for wi, w := range wells {
+	asym, asymNote, asymUnc := asymptote(xs, es, opt)
+	for _, w := range wells {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		m, err := analyseWell(ctx, xs, es, ws, conv, w, masses, opt)
+		m, fitInfo, err := analyseWell(ctx, xs, es, ws, conv, w, masses, opt)
 		if err != nil {
-			res.Warnings = append(res.Warnings, fmt.Sprintf("well %d near %s: %v", wi+1, formatX(xs[w.min], opt.Kind), err))
+			res.Warnings = append(res.Warnings, fmt.Sprintf("dip near %s: %v; no constants", formatX(xs[w.min], opt.Kind), err))
 			continue
 		}
-		m.Label = fmt.Sprintf("well %d", wi+1)
-		if !opt.NoLevels && lpOK && len(masses) > 0 {
+		if why := minimumRejected(xs, es, w, m, fitInfo, opt); why != "" {
+			res.Warnings = append(res.Warnings, why)
+			continue
+		}
+		m.Label = fmt.Sprintf("well %d", len(res.Minima)+1)
+		sigma := math.Max(opt.EnergyNoise, fitInfo.sigma)
+		if lpOK {
 			m.LevelPotential = lp.label
 			for k := range masses {
 				if err := ctx.Err(); err != nil {
 					return nil, err
 				}
 				c := &m.Isotopologues[k]
-				gridLevels(c, lp, xs, es, w, m, masses[k], opt)
+				if err := gridLevels(ctx, c, lp, xs, es, ws, w, m, masses[k], opt, sigma, asym); err != nil {
+					return nil, err
+				}
+			}
+			if m.LevelZero != 0 {
+				if d := math.Abs(m.LevelZero - m.EMin); d > 2*m.EMinUnc && d*HartreeInCm1 > 0.01 {
+					m.Warnings = append(m.Warnings, fmt.Sprintf("the level potential's minimum lies %.3g cm⁻¹ from the local fit's E_min (uncertainty %.2g cm⁻¹); the levels are measured from the former, the potential they are solved on", (m.LevelZero-m.EMin)*HartreeInCm1, m.EMinUnc*HartreeInCm1))
+				}
 			}
 		}
 		if asym != nil && opt.Kind == Distance {
 			for k := range m.Isotopologues {
-				c := &m.Isotopologues[k]
-				de := (*asym - m.EMin) * HartreeInCm1
-				c.DeCm1 = de
-				c.DeEV = de / HartreeInCm1 * HartreeInEV
-				zpe := c.ZPE
-				if c.ZPEGrid > 0 {
-					zpe = c.ZPEGrid
-				}
-				c.D0Cm1 = de - zpe
-				c.D0EV = c.D0Cm1 / HartreeInCm1 * HartreeInEV
+				dissociation(&m.Isotopologues[k], m, *asym, asymUnc)
 			}
 			if asymNote != "" {
 				m.Warnings = append(m.Warnings, asymNote)
 			}
+		}
+		for k := range m.Isotopologues {
+			gateConstants(&m.Isotopologues[k], m, len(wells) == 1)
 		}
 		if len(m.Isotopologues) > 0 {
 			m.Constants = m.Isotopologues[0]
@@ -352,11 +442,41 @@ func Curve(ctx context.Context, r, e []float64, opt Options) (*Result, error) {
 		}
 		res.Minima = append(res.Minima, *m)
 	}
-	if len(res.Minima) == 0 {
-		return nil, fmt.Errorf("fit: no well could be fitted: %v", res.Warnings)
+	if asym != nil && opt.Kind == Distance {
+		if note := humpAboveLimit(xs, es, *asym, asymUnc, noiseTol, res.Minima); note != "" {
+			res.Warnings = append(res.Warnings, note)
+		}
 	}
 	sanitize(res)
 	return res, nil
+}
+
+func cmpFloat(a, b float64) int {
+	switch {
+	case a < b:
+		return -1
+	case a > b:
+		return 1
+	}
+	return 0
+}
+
+// checkOptions rejects settings that are not numbers of the right sign.
+func checkOptions(o Options) error {
+	bad := func(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) || v < 0 }
+	switch {
+	case bad(o.WindowEnergy):
+		return fmt.Errorf("fit: window energy %g hartree is not a non-negative finite number", o.WindowEnergy)
+	case bad(o.EnergyNoise):
+		return fmt.Errorf("fit: energy noise %g hartree is not a non-negative finite number", o.EnergyNoise)
+	case o.WindowPoints < 0:
+		return fmt.Errorf("fit: window of %d points is negative", o.WindowPoints)
+	case o.GridPoints < 0 || o.GridPoints > 5000:
+		return fmt.Errorf("fit: %d grid points; need 0 (automatic) or up to 5000", o.GridPoints)
+	case o.Asymptote != nil && (math.IsNaN(*o.Asymptote) || math.IsInf(*o.Asymptote, 0)):
+		return fmt.Errorf("fit: dissociation limit %g hartree is not a finite number", *o.Asymptote)
+	}
+	return nil
 }
 
 func withDefaults(o Options) Options {
@@ -380,50 +500,62 @@ func withDefaults(o Options) Options {
 type well struct{ lo, min, hi int }
 
 // findWells returns the basins of the sampled energies, merging minima
-// separated by barriers lower than tol.
+// separated by barriers lower than tol. The merge runs over a stack of
+// basins from left to right (each minimum is pushed once and popped at
+// most once), so it is linear in the number of points even for noisy data
+// with thousands of local minima.
 func findWells(e []float64, tol float64) []well {
 	n := len(e)
-	var mins []int
+	// A basin: its lowest point and the barrier in front of it (the
+	// highest point between the previous basin's last raw minimum and its
+	// own first one; +Inf for the first basin).
+	type basin struct {
+		min     int
+		leftBar float64
+	}
+	var stack []basin
+	prev := -1 // the last raw minimum seen
+	top := 0   // index of the highest point since prev
 	for i := range n {
+		if prev >= 0 && e[i] > e[top] {
+			top = i
+		}
 		left := i == 0 || e[i] < e[i-1]
 		right := i == n-1 || e[i] < e[i+1]
 		if i == 0 && n > 1 && !(e[0] < e[1]) {
 			continue
 		}
-		if left && right {
-			mins = append(mins, i)
+		if !(left && right) {
+			continue
 		}
-	}
-	// Merge minima whose separating barrier is at the noise level.
-	for changed := true; changed && len(mins) > 1; {
-		changed = false
-		for k := 0; k+1 < len(mins); k++ {
-			a, b := mins[k], mins[k+1]
-			top := a
-			for i := a; i <= b; i++ {
-				if e[i] > e[top] {
-					top = i
-				}
-			}
-			if e[top]-math.Max(e[a], e[b]) < tol {
-				if e[a] <= e[b] {
-					mins = slices.Delete(mins, k+1, k+2)
-				} else {
-					mins = slices.Delete(mins, k, k+1)
-				}
-				changed = true
+		cur := basin{min: i, leftBar: math.Inf(1)}
+		if prev >= 0 {
+			cur.leftBar = e[top]
+		}
+		for len(stack) > 0 {
+			last := stack[len(stack)-1]
+			if cur.leftBar-math.Max(e[last.min], e[cur.min]) >= tol {
 				break
 			}
+			// Merge: the basin keeps the lower minimum and takes over the
+			// barrier in front of last.
+			if e[last.min] <= e[cur.min] {
+				cur.min = last.min
+			}
+			cur.leftBar = last.leftBar
+			stack = stack[:len(stack)-1]
 		}
+		stack = append(stack, cur)
+		prev, top = i, i
 	}
-	var ws []well
-	for k, m := range mins {
-		w := well{lo: 0, min: m, hi: n - 1}
+	ws := make([]well, 0, len(stack))
+	for k, b := range stack {
+		w := well{lo: 0, min: b.min, hi: n - 1}
 		if k > 0 {
-			w.lo = argmax(e, mins[k-1], m)
+			w.lo = argmax(e, stack[k-1].min, b.min)
 		}
-		if k+1 < len(mins) {
-			w.hi = argmax(e, m, mins[k+1])
+		if k+1 < len(stack) {
+			w.hi = argmax(e, b.min, stack[k+1].min)
 		}
 		ws = append(ws, w)
 	}
@@ -444,22 +576,25 @@ func argmax(e []float64, a, b int) int {
 // largest-r point when the curve has flattened there (the last two points
 // differ by less than 1e-5 E_h and the slope is below 1e-4 E_h/bohr —
 // common practice for "reached the limit").
-func asymptote(x, e []float64, opt Options) (*float64, string) {
+//
+// The third result is the limit's uncertainty (hartree): 0 for the user's
+// value, else the noise and the last step's change added in quadrature.
+func asymptote(x, e []float64, opt Options) (*float64, string, float64) {
 	if opt.Asymptote != nil {
 		a := *opt.Asymptote
-		return &a, ""
+		return &a, "", 0
 	}
 	n := len(x)
 	if opt.Kind != Distance || n < 4 {
-		return nil, ""
+		return nil, "", 0
 	}
 	d := e[n-1] - e[n-2]
 	slope := d / (x[n-1] - x[n-2])
 	if math.Abs(d) < 1e-5 && math.Abs(slope) < 1e-4 && e[n-1] > e[0]-1 {
 		a := e[n-1]
-		return &a, fmt.Sprintf("dissociation limit taken from the largest-r point (r = %.4f Å, E = %.8f E_h); give the asymptote explicitly if the curve has not flattened there", x[n-1]*BohrInAngstrom, a)
+		return &a, fmt.Sprintf("dissociation limit taken from the largest-r point (r = %.4f Å, E = %.8f E_h); give the asymptote explicitly if the curve has not flattened there", x[n-1]*BohrInAngstrom, a), math.Hypot(opt.EnergyNoise, d)
 	}
-	return nil, ""
+	return nil, "", 0
 }
 
 func formatX(x float64, k Kind) string {
@@ -640,9 +775,31 @@ func stderrs(lf localFit, masses []massInfo) []float64 {
 	return out
 }
 
+// wellFit is what the gates need to know about the chosen local fit.
+type wellFit struct {
+	sigma      float64 // residual standard deviation (hartree); 0 without degrees of freedom
+	deg        int
+	xlo, xhi   float64 // the fit window
+	inside     bool    // the polynomial's minimum is inside the window
+	noDOF      bool    // as many coefficients as points: no uncertainty
+	unc        []float64
+	lowestNear [2]float64 // the lowest point's neighbours (or itself at an end)
+}
+
 // analyseWell runs the local polynomial analysis of one well.
-func analyseWell(ctx context.Context, x, e, w []float64, conv []bool, wl well, masses []massInfo, opt Options) (*Minimum, error) {
+func analyseWell(ctx context.Context, x, e, w []float64, conv []bool, wl well, masses []massInfo, opt Options) (*Minimum, wellFit, error) {
 	m := &Minimum{}
+	// A shallow well bounded by a barrier, or by a data end where the
+	// curve has flattened, is fitted in its lower half only: a window
+	// reaching over the barrier would fit the curve beyond it.
+	n := len(x)
+	depth := math.Min(e[wl.lo], e[wl.hi]) - e[wl.min]
+	flat := func(i, j int) bool { return math.Abs(e[i]-e[j]) < 0.01*depth }
+	bounded := (e[wl.lo] <= e[wl.hi] && (wl.lo > 0 || flat(0, 1))) || (e[wl.hi] < e[wl.lo] && (wl.hi < n-1 || flat(n-1, n-2)))
+	if bounded && opt.WindowPoints == 0 && opt.WindowEnergy > depth/2 {
+		opt.WindowEnergy = depth / 2
+		m.Warnings = append(m.Warnings, fmt.Sprintf("shallow well (%.4g cm⁻¹ deep): the fit window is its lower half (%.3g E_h)", depth*HartreeInCm1, depth/2))
+	}
 	idx := window(x, e, wl, opt, 1)
 	if len(idx) < minPoints {
 		// Widen to the nearest points: better a wider window than none, but
@@ -654,7 +811,7 @@ func analyseWell(ctx context.Context, x, e, w []float64, conv []bool, wl well, m
 		idx = wide
 	}
 	if len(idx) < 3 {
-		return nil, fmt.Errorf("only %d point(s) in the well; a minimum needs 3", len(idx))
+		return nil, wellFit{}, fmt.Errorf("only %d point(s) in the well; a minimum needs 3", len(idx))
 	}
 	if len(idx) < minPoints {
 		m.Warnings = append(m.Warnings, fmt.Sprintf("too few points: the well has only %d; constants beyond the harmonic ones are not determined", len(idx)))
@@ -681,10 +838,10 @@ func analyseWell(ctx context.Context, x, e, w []float64, conv []bool, wl well, m
 		}
 	}
 	if best.q == nil {
-		return nil, errors.New("no polynomial of degree 2–8 through the points near the lowest point has a minimum")
+		return nil, wellFit{}, errors.New("no polynomial of degree 2–8 through the points near the lowest point has a minimum")
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return nil, wellFit{}, err
 	}
 	se := stderrs(best, masses)
 	// Sensitivity to the degree and to the window.
@@ -711,28 +868,48 @@ func analyseWell(ctx context.Context, x, e, w []float64, conv []bool, wl well, m
 			spread[i] = math.Max(spread[i], math.Abs(a.q[i]-best.q[i]))
 		}
 	}
+	// The calibrated uncertainty: the standard error and the model spread
+	// in quadrature (see the package doc for the calibration).
+	info := wellFit{deg: best.deg, xlo: x[best.idx[0]], xhi: x[best.idx[len(best.idx)-1]], inside: best.inside}
+	info.lowestNear = [2]float64{x[max(wl.min-1, 0)], x[min(wl.min+1, len(x)-1)]}
+	if best.pf.n > best.deg+1 {
+		info.sigma = math.Sqrt(best.pf.s2 / (wsum(w, best.idx) / float64(len(best.idx))))
+	} else {
+		info.noDOF = true
+	}
+	unc := make([]float64, len(best.q))
+	if !info.noDOF {
+		for i := range unc {
+			unc[i] = math.Hypot(se[i], spread[i])
+		}
+	} else {
+		m.Warnings = append(m.Warnings, fmt.Sprintf("too few points for an uncertainty: %d points for the %d coefficients of a degree-%d polynomial; no ± is given", len(best.idx), best.deg+1, best.deg))
+	}
+	info.unc = unc
 
 	q := best.q
 	m.Degree = best.deg
 	m.WindowPoints = len(best.idx)
 	m.WindowEnergy = maxE(e, best.idx) - e[wl.min]
 	m.RMSResidual = math.Sqrt(best.pf.rss / wsum(w, best.idx))
-	m.XE, m.XEStderr = q[qX], se[qX]
-	m.EMin, m.EMinStderr = q[qE], se[qE]
+	m.XE, m.XEStderr, m.XEUnc = q[qX], se[qX], unc[qX]
+	m.EMin, m.EMinStderr, m.EMinUnc = q[qE], se[qE], unc[qE]
 	m.F3, m.F4 = q[qF3], q[qF4]
 	if opt.Kind == Distance {
 		m.XEUnit = "bohr"
 		m.REAngstrom = q[qX] * BohrInAngstrom
 		m.REStderrAng = se[qX] * BohrInAngstrom
 		m.RESpreadAng = spread[qX] * BohrInAngstrom
-		m.K, m.KStderr, m.KSpread = q[qF2], se[qF2], spread[qF2]
+		m.REUncAng = unc[qX] * BohrInAngstrom
+		m.K, m.KStderr, m.KSpread, m.KUnc = q[qF2], se[qF2], spread[qF2], unc[qF2]
 		m.KMdynPerAng = q[qF2] * HartreePerBohr2InMdynPerAngstrom
 		m.KNPerM = q[qF2] * HartreePerBohr2InNPerM
 	} else {
 		m.XEUnit = "radian"
 		m.ThetaEDegree = q[qX] * 180 / math.Pi
 		m.ThetaEStderr = se[qX] * 180 / math.Pi
-		m.KAngle, m.KAngleStderr = q[qF2], se[qF2]
+		m.ThetaEUnc = unc[qX] * 180 / math.Pi
+		m.KAngle, m.KAngleStderr, m.KAngleUnc = q[qF2], se[qF2], unc[qF2]
 	}
 	m.KThreePoint = threePoint(x, e, wl)
 
@@ -777,17 +954,19 @@ func analyseWell(ctx context.Context, x, e, w []float64, conv []bool, wl well, m
 			OmegaExe: q[o+1], OmegaExeStderr: se[o+1], OmegaExeSpread: spread[o+1],
 			ZPE:         q[o+4],
 			Fundamental: q[o] - 2*q[o+1],
+			OmegaEUnc:   unc[o], OmegaExeUnc: unc[o+1], ZPEUnc: unc[o+4],
+			FundamentalUnc: math.Hypot(unc[o], 2*unc[o+1]),
 		}
 		a, _ := AnharmonicConstants(ForceConstants{X: q[qX], F2: q[qF2], F3: q[qF3], F4: q[qF4]}, mi.mu)
 		c.Y00 = a.Y00
 		if mi.diatomic {
-			c.Be, c.BeStderr = q[o+2], se[o+2]
-			c.AlphaE, c.AlphaEStderr, c.AlphaESpread = q[o+3], se[o+3], spread[o+3]
+			c.Be, c.BeStderr, c.BeUnc = q[o+2], se[o+2], unc[o+2]
+			c.AlphaE, c.AlphaEStderr, c.AlphaESpread, c.AlphaEUnc = q[o+3], se[o+3], spread[o+3], unc[o+3]
 			c.DbarE = 4 * c.Be * c.Be * c.Be / (c.OmegaE * c.OmegaE)
 		}
 		m.Isotopologues = append(m.Isotopologues, c)
 	}
-	return m, nil
+	return m, info, nil
 }
 
 func maxE(e []float64, idx []int) float64 {
@@ -838,128 +1017,6 @@ const edgeTol = 1 / HartreeInCm1
 // 0.1 cm⁻¹.
 const tailDecay = 12
 
-// extension returns how far the level grid reaches past the data end at
-// edge (dir −1: the low end, +1: the high end): until the softer of the two
-// continuations has taken tailDecay of WKB decay at energy top, at most one
-// sampled well width span, and for a distance never below half the first
-// coordinate.
-func extension(model, alt func(float64) float64, at float64, dir int, top, mu, span float64, kind Kind) float64 {
-	m := mu * AmuInElectronMass
-	const steps = 4000
-	h := span / steps
-	sum := 0.0
-	for k := 1; k <= steps; k++ {
-		r := at + float64(dir*k)*h
-		if kind == Distance && r <= at/2 {
-			return float64(k-1) * h
-		}
-		v := math.Min(model(r), alt(r))
-		if v > top {
-			sum += math.Sqrt(2*m*(v-top)) * h
-		}
-		if sum >= tailDecay {
-			return float64(k) * h
-		}
-	}
-	return span
-}
-
-// gridLevels fills the level results of one isotopologue from a DVR on the
-// level potential over the well. At a data end the grid runs on past the
-// data (the curve continued as in [levelPotential.continuations]); at an
-// interior barrier it stops there, a hard wall.
-func gridLevels(c *Constants, lp *levelPotential, x, e []float64, w well, m *Minimum, mi massInfo, opt Options) {
-	rlo, rhi := x[w.lo], x[w.hi]
-	top := math.Min(e[w.lo], e[w.hi])
-	depth := top - m.EMin
-	if !(depth > 0) {
-		c.ConstantWarnings = append(c.ConstantWarnings, "no vibrational levels: the well does not rise on both sides within the data")
-		return
-	}
-	span := rhi - rlo
-	model, alt := lp.continuations()
-	glo, ghi := rlo, rhi
-	if w.lo == 0 {
-		if g := lp.edgeAt(0, 1); g.d1 < 0 {
-			glo = rlo - extension(model, alt, rlo, -1, top, mi.mu, span, opt.Kind)
-		}
-	}
-	if w.hi == len(x)-1 {
-		if g := lp.edgeAt(len(x)-1, -1); g.d1 > 0 {
-			ghi = rhi + extension(model, alt, rhi, 1, top, mi.mu, span, opt.Kind)
-		}
-	}
-	n := opt.GridPoints
-	if n == 0 {
-		// About 2.5 points per de Broglie half-wavelength at the top of the
-		// well (the sinc DVR converges exponentially past ~2, Colbert & Miller
-		// 1992).
-		kmax := math.Sqrt(2 * mi.mu * AmuInElectronMass * depth)
-		n = int(math.Ceil(2.5 * (ghi - glo) * kmax / math.Pi))
-		n = min(max(n, 120), 600)
-	}
-	ls, err := Levels(model, mi.mu, glo, ghi, n, 0)
-	if err != nil {
-		c.ConstantWarnings = append(c.ConstantWarnings, "grid levels: "+err.Error())
-		return
-	}
-	shift := make([]float64, len(ls.Energies))
-	if ls.WallShift != nil {
-		copy(shift, ls.WallShift)
-	}
-	if glo < rlo || ghi > rhi {
-		ea, err := levelValues(alt, mi.mu, glo, ghi, n)
-		if err != nil {
-			c.ConstantWarnings = append(c.ConstantWarnings, "grid levels: "+err.Error())
-			return
-		}
-		for k := range shift {
-			shift[k] = math.Max(shift[k], math.Abs(ea[k]-ls.Energies[k]))
-		}
-	}
-	below := ls.Below(top)
-	nb := 0
-	for nb < below && shift[nb] <= edgeTol {
-		nb++
-	}
-	if below == 0 {
-		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("no vibrational level is determined by the data: the sampled well reaches only %.4g cm⁻¹ above the minimum, below v = 0 (%.4g cm⁻¹ on the grid); extend the scan", depth*HartreeInCm1, (ls.Energies[0]-m.EMin)*HartreeInCm1))
-		return
-	}
-	if nb == 0 {
-		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("no vibrational level is determined by the data: the sampled well reaches %.4g cm⁻¹ above the minimum, and even v = 0 moves by %.3g cm⁻¹ with the way the curve is continued past the data; extend the scan", depth*HartreeInCm1, shift[0]*HartreeInCm1))
-		return
-	}
-	if nb < below {
-		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("level v = %d (%.1f cm⁻¹) and those above it move by more than %.3g cm⁻¹ with the way the curve is continued past the data (v = %d: %.3g cm⁻¹) and are omitted; extend the scan", nb, (ls.Energies[nb]-m.EMin)*HartreeInCm1, edgeTol*HartreeInCm1, nb, shift[nb]*HartreeInCm1))
-	}
-	g0 := ls.Energies[0]
-	c.ZPEGrid = (g0 - m.EMin) * HartreeInCm1
-	c.Levels = make([]float64, nb)
-	for v := range nb {
-		c.Levels[v] = (ls.Energies[v] - m.EMin) * HartreeInCm1
-		c.LevelsWallShift = append(c.LevelsWallShift, shift[v]*HartreeInCm1)
-		if mi.diatomic {
-			c.Bv = append(c.Bv, BFromInvR2(ls.InvR2[v], mi.mu))
-		}
-	}
-	for v := 0; v+1 < nb; v++ {
-		c.DeltaG = append(c.DeltaG, c.Levels[v+1]-c.Levels[v])
-	}
-	if nb >= 2 {
-		c.Fundamental = c.DeltaG[0]
-		c.FundamentalGrid = true
-		if mi.diatomic {
-			c.AlphaEGrid = c.Bv[0] - c.Bv[1]
-		}
-	} else {
-		c.ConstantWarnings = append(c.ConstantWarnings, "only v = 0 lies within the sampled energies; the fundamental is the perturbative ω_e − 2ω_e x_e")
-	}
-	if opt.Asymptote == nil || *opt.Asymptote > top {
-		c.ConstantWarnings = append(c.ConstantWarnings, fmt.Sprintf("levels above %.1f cm⁻¹ (the lowest edge of the sampled well) are not determined by the data: %d level(s) listed, higher ones omitted", depth*HartreeInCm1, nb))
-	}
-}
-
 // sanitize replaces NaN and Inf, which JSON cannot carry, with 0, and nil
 // warning lists with empty ones.
 func sanitize(r *Result) {
@@ -974,7 +1031,7 @@ func sanitize(r *Result) {
 		if m.Isotopologues == nil {
 			m.Isotopologues = []Constants{}
 		}
-		for _, p := range []*float64{&m.XE, &m.XEStderr, &m.REAngstrom, &m.REStderrAng, &m.RESpreadAng, &m.ThetaEDegree, &m.ThetaEStderr, &m.EMin, &m.EMinStderr, &m.K, &m.KStderr, &m.KSpread, &m.KAngle, &m.KAngleStderr, &m.KMdynPerAng, &m.KNPerM, &m.KThreePoint, &m.F3, &m.F4, &m.RMSResidual, &m.WindowEnergy} {
+		for _, p := range []*float64{&m.XE, &m.XEStderr, &m.REAngstrom, &m.REStderrAng, &m.RESpreadAng, &m.ThetaEDegree, &m.ThetaEStderr, &m.EMin, &m.EMinStderr, &m.K, &m.KStderr, &m.KSpread, &m.KAngle, &m.KAngleStderr, &m.KMdynPerAng, &m.KNPerM, &m.KThreePoint, &m.F3, &m.F4, &m.RMSResidual, &m.WindowEnergy, &m.LevelZero, &m.XEUnc, &m.REUncAng, &m.ThetaEUnc, &m.EMinUnc, &m.KUnc, &m.KAngleUnc} {
 			fin(p)
 		}
 		sanitizeConstants(&m.Constants)
@@ -985,10 +1042,10 @@ func sanitize(r *Result) {
 }
 
 func sanitizeConstants(c *Constants) {
-	for _, p := range []*float64{&c.OmegaE, &c.OmegaEStderr, &c.OmegaESpread, &c.OmegaExe, &c.OmegaExeStderr, &c.OmegaExeSpread, &c.Be, &c.BeStderr, &c.AlphaE, &c.AlphaEStderr, &c.AlphaESpread, &c.DbarE, &c.Y00, &c.ZPE, &c.ZPEGrid, &c.Fundamental, &c.AlphaEGrid, &c.DeCm1, &c.D0Cm1, &c.DeEV, &c.D0EV} {
+	for _, p := range []*float64{&c.OmegaE, &c.OmegaEStderr, &c.OmegaESpread, &c.OmegaExe, &c.OmegaExeStderr, &c.OmegaExeSpread, &c.Be, &c.BeStderr, &c.AlphaE, &c.AlphaEStderr, &c.AlphaESpread, &c.DbarE, &c.Y00, &c.ZPE, &c.ZPEGrid, &c.Fundamental, &c.AlphaEGrid, &c.DeCm1, &c.D0Cm1, &c.DeEV, &c.D0EV, &c.OmegaEUnc, &c.OmegaExeUnc, &c.BeUnc, &c.AlphaEUnc, &c.ZPEUnc, &c.ZPEGridUnc, &c.FundamentalUnc, &c.DeUnc, &c.D0Unc} {
 		fin(p)
 	}
-	for _, s := range [][]float64{c.Levels, c.LevelsWallShift, c.DeltaG, c.Bv} {
+	for _, s := range [][]float64{c.Levels, c.LevelsWallShift, c.LevelsUncertainty, c.DeltaG, c.Bv} {
 		for i := range s {
 			fin(&s[i])
 		}

@@ -3,10 +3,12 @@ package fit
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"math"
 	"math/rand/v2"
 	"strings"
 	"testing"
+	"time"
 )
 
 // Masses in amu: AME2020 (M. Wang et al., Chin. Phys. C 45, 030003 (2021),
@@ -266,7 +268,7 @@ func TestCurve_Warnings(t *testing.T) {
 		mod  func(e []float64, o *Options)
 		want string
 	}{
-		{"edge", linspace(2.2, 3.0, 30), nil, "minimum at the edge of the data"},
+		{"edge", linspace(2.2, 3.0, 30), nil, "no minimum at the smallest coordinate"},
 		{"sparse", linspace(1.7, 3.0, 9), nil, "the fit window was widened"},
 		{"unconverged used", linspace(1.9, 2.4, 30), func(e []float64, o *Options) {
 			o.Converged = make([]bool, len(e))
@@ -304,7 +306,11 @@ func TestCurve_Warnings(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			all := strings.Join(append(res.Warnings, res.Minima[0].Warnings...), "\n")
+			ws := res.Warnings
+			for _, m := range res.Minima {
+				ws = append(ws, m.Warnings...)
+			}
+			all := strings.Join(ws, "\n")
 			if !strings.Contains(all, tc.want) {
 				t.Errorf("warnings do not mention %q:\n%s", tc.want, all)
 			}
@@ -322,7 +328,10 @@ func TestCurve_BadInput_Errors(t *testing.T) {
 		{"too few", []float64{1, 2}, []float64{1, 0}, Options{}},
 		{"NaN", []float64{1, 2, 3}, []float64{1, math.NaN(), 2}, Options{}},
 		{"duplicate r", []float64{1, 2, 2, 3}, []float64{1, 0, 0, 1}, Options{}},
-		{"monotonic", []float64{1, 2, 3, 4}, []float64{4, 3, 2, 1}, Options{}},
+		{"zero distance", []float64{0, 2, 3, 4}, []float64{4, 3, 2, 3}, Options{}},
+		{"negative noise", []float64{1, 2, 3}, []float64{1, 0, 1}, Options{EnergyNoise: -1e-6}},
+		{"NaN window", []float64{1, 2, 3}, []float64{1, 0, 1}, Options{WindowEnergy: math.NaN()}},
+		{"infinite limit", []float64{1, 2, 3}, []float64{1, 0, 1}, Options{Asymptote: new(math.Inf(1))}},
 		{"bad mass", []float64{1, 2, 3}, []float64{1, 0, 1}, Options{Isotopologues: []MassSet{{Masses: []float64{1}}}}},
 	}
 	for _, tc := range tests {
@@ -362,18 +371,10 @@ func linspace(a, b float64, n int) []float64 {
 }
 
 func TestCurve_PolyatomicBend_OneDimensional(t *testing.T) {
-	// A bending scan of the invented triatomic of wilson_test.go: the
-	// effective mass is 1/G_φφ (Wilson, Decius & Cross 1955) and the
-	// harmonic wavenumber is √(f2·G)/(2πc) in any units.
-	pos, _, _, _ := bentTriatomic()
-	row, err := BRowAngle(pos, [3]int{0, 1, 2})
-	if err != nil {
-		t.Fatal(err)
-	}
-	g, err := GElement(pos, []float64{massH, mass16O, massH}, row)
-	if err != nil {
-		t.Fatal(err)
-	}
+	// A bending scan with an effective mass (a moment of inertia) of 1.53
+	// amu·bohr² (invented, of the size of water's bend): the harmonic
+	// wavenumber is √(f2/μ)/(2πc) in any units (common practice).
+	g := 1 / 1.53
 	const f2, th0 = 0.16, 104.5 * math.Pi / 180 // E_h/rad², invented
 	v := func(x float64) float64 { d := x - th0; return 0.5*f2*d*d - 0.02*d*d*d + 0.01*d*d*d*d }
 	r := linspace(th0-1.1, th0+1.1, 111)
@@ -465,5 +466,37 @@ func TestCurve_Cancelled_ReturnsContextError(t *testing.T) {
 	r := linspace(1.8, 2.6, 41)
 	if _, err := Curve(ctx, r, sampleAt(coLike.v, r), Options{}); err == nil {
 		t.Error("a cancelled context gave no error")
+	}
+}
+
+func TestCurve_LargeTable_Cancellable(t *testing.T) {
+	r, e := largeCurve(200000)
+	ctx, cancel := context.WithTimeout(t.Context(), 20*time.Millisecond)
+	defer cancel()
+	start := time.Now()
+	_, err := Curve(ctx, r, e, Options{Isotopologues: []MassSet{{Masses: []float64{mass12C, mass16O}}}})
+	if !errors.Is(err, context.DeadlineExceeded) {
+		t.Fatalf("Curve on 200,000 points with a 20 ms deadline: err = %v, want the context's error", err)
+	}
+	// Not a timing test of the fit: only that it stops promptly once
+	// cancelled (a loaded machine gets a generous two seconds).
+	if d := time.Since(start); d > 2*time.Second {
+		t.Errorf("returned %v after the deadline", d)
+	}
+}
+
+// TestCurve_FlatCurveSaysFlat is issue 15 item 15: identical energies
+// (a program whose output does not depend on the geometry) were reported
+// as "energies only rise or only fall".
+func TestCurve_FlatCurveSaysFlat(t *testing.T) {
+	r := []float64{1.8, 1.9, 2.0, 2.1, 2.2}
+	e := []float64{-1.5, -1.5, -1.5, -1.5, -1.5}
+	res, err := Curve(t.Context(), r, e, Options{})
+	said := err != nil && strings.Contains(err.Error(), "the curve is flat")
+	if res != nil {
+		said = said || strings.Contains(strings.Join(res.Warnings, "\n"), "the curve is flat")
+	}
+	if !said {
+		t.Fatalf("Curve(flat) = %+v, %v; want it to say the curve is flat", res, err)
 	}
 }

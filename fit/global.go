@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -80,7 +81,7 @@ func morseEval(p []float64, pw int, r float64) float64 {
 //     Vibrational levels", Phys. Rev. 34, 57 (1929),
 //     doi:10.1103/PhysRev.34.57.
 func Morse(r, e []float64) (*MorseFit, error) {
-	return fitMorseForm(r, e, 0)
+	return fitMorseForm(context.Background(), r, e, 0)
 }
 
 // ExtendedMorse fits the extended Morse oscillator (EMO) with β(r) a
@@ -96,10 +97,48 @@ func ExtendedMorse(r, e []float64, order int) (*MorseFit, error) {
 	if order < 0 || order > 4 {
 		return nil, fmt.Errorf("fit: extended Morse order %d; need 0–4", order)
 	}
-	return fitMorseForm(r, e, order)
+	return fitMorseForm(context.Background(), r, e, order)
 }
 
-func fitMorseForm(r, e []float64, order int) (*MorseFit, error) {
+// morseFit is [ExtendedMorse] with cancellation (order 0: [Morse]).
+func morseFit(ctx context.Context, r, e []float64, order int) (*MorseFit, error) {
+	return fitMorseForm(ctx, r, e, order)
+}
+
+// maxGlobalPoints bounds the points of the global Morse fits in [Curve]:
+// every evaluation of the nonlinear least-squares objective visits every
+// point, so a 200,000-row table would make the fits alone take minutes.
+// 2000 points fix four to seven parameters far beyond their statistical
+// need; the fits only shape the level interpolant, which itself passes
+// through every point.
+const maxGlobalPoints = 2000
+
+// thinForGlobal returns at most maxGlobalPoints of the sorted points,
+// evenly spread in index, always keeping both ends and the lowest point
+// with its neighbours.
+func thinForGlobal(x, e []float64, low int) ([]float64, []float64) {
+	n := len(x)
+	if n <= maxGlobalPoints {
+		return x, e
+	}
+	keep := make([]bool, n)
+	for k := range maxGlobalPoints - 3 {
+		keep[int(math.Round(float64(k)*float64(n-1)/float64(maxGlobalPoints-4)))] = true
+	}
+	for i := max(low-1, 0); i <= min(low+1, n-1); i++ {
+		keep[i] = true
+	}
+	keep[n-1] = true
+	var gx, ge []float64
+	for i := range n {
+		if keep[i] {
+			gx, ge = append(gx, x[i]), append(ge, e[i])
+		}
+	}
+	return gx, ge
+}
+
+func fitMorseForm(ctx context.Context, r, e []float64, order int) (*MorseFit, error) {
 	if len(r) != len(e) {
 		return nil, fmt.Errorf("fit: %d coordinates but %d energies", len(r), len(e))
 	}
@@ -181,6 +220,9 @@ func fitMorseForm(r, e []float64, order int) (*MorseFit, error) {
 	jac := mat.NewDense(len(x), np, nil)
 	problem := optimize.Problem{
 		Func: func(p []float64) float64 {
+			if ctx.Err() != nil {
+				return math.NaN()
+			}
 			resid(p, buf)
 			s := 0.0
 			for _, v := range buf {
@@ -203,7 +245,7 @@ func fitMorseForm(r, e []float64, order int) (*MorseFit, error) {
 	// zero higher β coefficients.
 	start := p0[:4]
 	if order > 0 {
-		m0, err := fitMorseForm(r, e, 0)
+		m0, err := fitMorseForm(ctx, r, e, 0)
 		if err == nil {
 			start = m0.Values
 		}
@@ -216,7 +258,13 @@ func fitMorseForm(r, e []float64, order int) (*MorseFit, error) {
 	} else if res != nil && res.F < problem.Func(p0) {
 		p = res.X
 	}
-	p = gaussNewton(p, len(x), resid, jacobian)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	p = gaussNewton(ctx, p, len(x), resid, jacobian)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	resid(p, buf)
 	ss := 0.0
 	for _, v := range buf {
@@ -267,7 +315,7 @@ func fitMorseForm(r, e []float64, order int) (*MorseFit, error) {
 
 // gaussNewton polishes a least-squares solution with damped Gauss–Newton
 // (Levenberg–Marquardt) steps.
-func gaussNewton(p []float64, n int, resid func(p, out []float64), jacobian func(p []float64, jac *mat.Dense)) []float64 {
+func gaussNewton(ctx context.Context, p []float64, n int, resid func(p, out []float64), jacobian func(p []float64, jac *mat.Dense)) []float64 {
 	np := len(p)
 	r := make([]float64, n)
 	rt := make([]float64, n)
@@ -284,6 +332,9 @@ func gaussNewton(p []float64, n int, resid func(p, out []float64), jacobian func
 	cur := ssq(r)
 	lambda := 1e-3
 	for range 200 {
+		if ctx.Err() != nil {
+			return p
+		}
 		jacobian(p, jac)
 		var jtj mat.Dense
 		jtj.Mul(jac.T(), jac)

@@ -1,9 +1,8 @@
 package fit
 
 import (
+	"context"
 	"math"
-
-	"gonum.org/v1/gonum/interp"
 )
 
 // levelPotential is the curve the level grid is solved on: inside the data
@@ -15,10 +14,14 @@ import (
 // interpolant is g plus a not-a-knot cubic spline of the residuals e_i −
 // g(r_i): it passes through every point, and between sparse points it
 // follows the shape of the fitted form instead of the cubic's. Without one
-// it is the not-a-knot cubic spline of the energies themselves.
+// it is the not-a-knot cubic spline of the energies themselves. The spline
+// is local in cost (a tridiagonal solve, see [spline]), so building the
+// potential is linear in the number of points.
 type levelPotential struct {
 	ref   func(r float64) float64 // nil: no reference form
-	resid interp.NotAKnotCubic    // residuals from ref (the energies when ref is nil)
+	fit   *MorseFit               // the reference fit, nil when ref is nil
+	local bool                    // interpolate the residuals by local cubics instead (the interpolation check)
+	resid *spline                 // residuals from ref (the energies when ref is nil)
 	x     []float64
 	label string
 }
@@ -33,11 +36,10 @@ const refMaxRMS = 1e-2
 // e (hartree), choosing as reference the better of the Morse and extended
 // Morse fits (either may be nil). It reports false when no interpolant can
 // be built (fewer than four points).
-func newLevelPotential(x, e []float64, fits ...*MorseFit) (*levelPotential, bool) {
+func newLevelPotential(ctx context.Context, x, e []float64, fits ...*MorseFit) (*levelPotential, bool, error) {
 	if len(x) < 4 {
-		return nil, false
+		return nil, false, nil
 	}
-	lp := &levelPotential{x: x}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, v := range e {
 		lo, hi = math.Min(lo, v), math.Max(hi, v)
@@ -51,31 +53,80 @@ func newLevelPotential(x, e []float64, fits ...*MorseFit) (*levelPotential, bool
 			best = f
 		}
 	}
+	lp, err := levelPotentialWith(ctx, x, e, best)
+	if err != nil {
+		if ctx.Err() != nil {
+			return nil, false, err
+		}
+		if best == nil {
+			return nil, false, nil
+		}
+		if lp, err = levelPotentialWith(ctx, x, e, nil); err != nil {
+			if ctx.Err() != nil {
+				return nil, false, err
+			}
+			return nil, false, nil
+		}
+	}
+	return lp, true, nil
+}
+
+// levelPotentialWith builds the level potential on the given reference
+// fit (nil: the spline of the energies).
+func levelPotentialWith(ctx context.Context, x, e []float64, ref *MorseFit) (*levelPotential, error) {
 	d := make([]float64, len(e))
 	copy(d, e)
-	if best != nil {
+	if ref != nil {
 		for i := range d {
-			d[i] -= best.Potential(x[i])
+			d[i] -= ref.Potential(x[i])
 		}
 	}
-	if lp.resid.Fit(x, d) != nil {
-		best = nil
-		if lp.resid.Fit(x, e) != nil {
-			return nil, false
-		}
+	s, err := newSpline(ctx, x, d)
+	if err != nil {
+		return nil, err
 	}
-	if best != nil {
-		lp.ref = best.Potential
-		lp.label = best.Form + " fit plus a not-a-knot cubic spline of its residuals through all points, continued past the data by the fit"
+	lp := &levelPotential{x: x, resid: s, fit: ref}
+	if ref != nil {
+		lp.ref = ref.Potential
+		lp.label = ref.Form + " fit plus a not-a-knot cubic spline of its residuals through all points, continued past the data by the fit"
 	} else {
 		lp.label = "not-a-knot cubic spline through all points, continued past the data by its second-order Taylor expansion at each end"
 	}
-	return lp, true
+	return lp, nil
+}
+
+// thinned returns the level potential through every stride-th point (the
+// ends and the given index always kept), on the same reference fit: the
+// interpolation check of [solveWell]. ok is false when fewer than four
+// points would remain.
+func (p *levelPotential) thinned(ctx context.Context, e []float64, keep, stride int) (*levelPotential, bool, error) {
+	n := len(p.x)
+	var xs, es []float64
+	for i := range n {
+		if (i-keep)%stride == 0 || i == 0 || i == n-1 {
+			xs = append(xs, p.x[i])
+			es = append(es, e[i])
+		}
+	}
+	if len(xs) < 4 || len(xs) == n {
+		return nil, false, nil
+	}
+	lp, err := levelPotentialWith(ctx, xs, es, p.fit)
+	if err != nil {
+		if ctx.Err() != nil {
+			return nil, false, err
+		}
+		return nil, false, nil
+	}
+	return lp, true, nil
 }
 
 // inside evaluates the interpolant (meaningful for x[0] ≤ r ≤ x[n−1]).
 func (p *levelPotential) inside(r float64) float64 {
-	v := p.resid.Predict(r)
+	v := p.resid.at(r)
+	if p.local {
+		v = p.resid.localCubic(r)
+	}
 	if p.ref != nil {
 		v += p.ref(r)
 	}
@@ -129,12 +180,12 @@ func (p *levelPotential) continuations() (model, alt func(float64) float64) {
 			switch {
 			case r < a:
 				if useRef {
-					return math.Max(p.ref(r)+p.resid.Predict(a), left.v)
+					return math.Max(p.ref(r)+p.resid.at(a), left.v)
 				}
 				return left.taylor(r, order)
 			case r > b:
 				if useRef {
-					return math.Max(p.ref(r)+p.resid.Predict(b), right.v)
+					return math.Max(p.ref(r)+p.resid.at(b), right.v)
 				}
 				return right.taylor(r, order)
 			}
@@ -145,4 +196,28 @@ func (p *levelPotential) continuations() (model, alt func(float64) float64) {
 		return cont(true, 0), cont(false, 2)
 	}
 	return cont(false, 2), cont(false, 1)
+}
+
+// localVariant returns the same potential with the residuals interpolated
+// by the cubic through the four nearest points instead of the spline: a
+// second interpolant of the same order whose difference from the first
+// measures the interpolation error where the points are sparse.
+func (p *levelPotential) localVariant() *levelPotential {
+	q := *p
+	q.local = true
+	return &q
+}
+
+// gradient returns g_i = Σ_j w_j ∂V(r_j)/∂e_i, how a weighted sum of the
+// potential's values responds to each energy e_i (the reference fit held
+// fixed: the spline of the residuals absorbs any change of a point).
+// Points past the data ends count at the end they continue from (to first
+// order the continuations move with the edge value).
+func (p *levelPotential) gradient(r, w []float64) []float64 {
+	a, b := p.x[0], p.x[len(p.x)-1]
+	rc := make([]float64, len(r))
+	for j, v := range r {
+		rc[j] = min(max(v, a), b)
+	}
+	return p.resid.gradient(rc, w)
 }

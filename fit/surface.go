@@ -11,9 +11,9 @@ import (
 
 // SurfaceOptions controls [Surface2D].
 type SurfaceOptions struct {
-	// G is the 2×2 Wilson G matrix of the two coordinates (1/amu for
-	// lengths, 1/(amu·bohr²) for angles, mixed for one of each; see
-	// [GMatrixElement]). Zero means: report the Hessian only.
+	// G is the 2×2 kinetic G matrix of the two coordinates, the inverse
+	// of their kinetic metric (1/amu for lengths, 1/(amu·bohr²) for
+	// angles, mixed for one of each). Zero means: report the Hessian only.
 	G [2][2]float64
 	// Degree of the total-degree polynomial surface: 2 (quadratic) or 4
 	// (quartic, the default; it needs at least 16 points).

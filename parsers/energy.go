@@ -207,7 +207,7 @@ func (s ExtractorSpec) Compile() (Extractor, error) {
 		for i, w := range words {
 			words[i] = regexp.QuoteMeta(w)
 		}
-		re, err := regexp.Compile(`(?m)^[ \t]*` + strings.Join(words, `[ \t]+`) + `[ \t]*[=:][ \t]*(?P<energy>[^\s,;]*)`)
+		re, err := regexp.Compile(`(?m)^[ \t]*` + strings.Join(words, `[ \t]+`) + `[ \t]*[=:][ \t]*(?P<energy>[^\s,;]*(?:[,;][0-9][^\s,;]*)*)`)
 		if err != nil {
 			return Extractor{}, fmt.Errorf("parsers: energy label %q: %w", clip(label), err)
 		}
@@ -308,6 +308,11 @@ func (x Extractor) number(text string) (float64, *ExtractError) {
 	if t == "" {
 		return 0, &ExtractError{Err: ErrEnergyInvalid, Detail: fmt.Sprintf("%s: the energy is empty", x.desc)}
 	}
+	if why := notPlainNumber(t); why == "not a finite number" {
+		return 0, &ExtractError{Err: ErrEnergyInvalid, Detail: fmt.Sprintf("%s: %q is not a finite number", x.desc, clip(t))}
+	} else if why != "" {
+		return 0, &ExtractError{Err: ErrEnergyInvalid, Detail: fmt.Sprintf("%s: %q is not a number (%s)", x.desc, clip(t), why)}
+	}
 	v, err := ParseFloat(t)
 	if err != nil && !errors.Is(err, strconv.ErrRange) {
 		return 0, &ExtractError{Err: ErrEnergyInvalid, Detail: fmt.Sprintf("%s: %q is not a number", x.desc, clip(t))}
@@ -343,6 +348,12 @@ func (x Extractor) findText(output []byte) (string, *ExtractError) {
 	if a < 0 {
 		return "", &ExtractError{Err: ErrEnergyInvalid, Detail: fmt.Sprintf("%s matched, but its energy group took no part in the match", x.desc)}
 	}
+	if rest := continuation(output[b:]); rest != "" {
+		// The pattern stopped inside a number: "-3050" of "-3050,5" or
+		// "-76.4" of "-76.4E-01". Taking the part would be a wrong energy.
+		return "", &ExtractError{Err: ErrEnergyInvalid, Detail: fmt.Sprintf("%s took %q, but the number goes on with %q (a decimal comma, a thousands separator or an exponent the pattern left out); wellscan reads only whole numbers with a '.' decimal point",
+			x.desc, clip(string(output[a:b])), clip(string(output[a:b])+rest))}
+	}
 	return string(output[a:b]), nil
 }
 
@@ -352,3 +363,63 @@ func times(n int) string {
 	}
 	return fmt.Sprintf("%d times", n)
 }
+
+// plainNumberRE is the only shape of number an energy may have: an
+// optional sign, digits with at most one '.', and an optional exponent
+// with E, e, D or d (Fortran). No decimal comma, no thousands separators,
+// no underscores, no hexadecimal, no words such as inf or nan.
+var plainNumberRE = regexp.MustCompile(`^[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[EeDd][+-]?[0-9]+)?$`)
+
+// notPlainNumber says why s is not a plain decimal number, or "" if it is.
+func notPlainNumber(s string) string {
+	switch {
+	case plainNumberRE.MatchString(s):
+		return ""
+	case strings.ContainsAny(s, ",;"):
+		return "a decimal comma or a thousands separator; write the number with a '.' decimal point and no grouping"
+	case strings.ContainsAny(s, "_' "):
+		return "digit grouping is not read"
+	}
+	lower := strings.ToLower(strings.TrimLeft(s, "+-"))
+	if strings.HasPrefix(lower, "nan") || strings.HasPrefix(lower, "inf") {
+		return "not a finite number"
+	}
+	if strings.HasPrefix(lower, "0x") {
+		return "hexadecimal numbers are not read"
+	}
+	return "expected digits with an optional '.' and exponent, and nothing after them"
+}
+
+// continuation returns the start of rest when it continues a number that
+// an energy pattern cut short: a digit or '.', a comma or semicolon
+// followed by a digit, or an exponent (E, e, D, d, then an optional sign
+// and a digit); "" otherwise.
+func continuation(rest []byte) string {
+	if len(rest) == 0 {
+		return ""
+	}
+	end := 0
+	switch c := rest[0]; {
+	case c >= '0' && c <= '9', c == '.' && len(rest) > 1 && rest[1] >= '0' && rest[1] <= '9':
+		end = 1
+	case (c == ',' || c == ';') && len(rest) > 1 && rest[1] >= '0' && rest[1] <= '9':
+		end = 2
+	case c == 'E' || c == 'e' || c == 'D' || c == 'd':
+		j := 1
+		if j < len(rest) && (rest[j] == '+' || rest[j] == '-') {
+			j++
+		}
+		if j < len(rest) && rest[j] >= '0' && rest[j] <= '9' {
+			end = j + 1
+		}
+	}
+	if end == 0 {
+		return ""
+	}
+	for end < len(rest) && end < 24 && !isBlank(rest[end]) {
+		end++
+	}
+	return string(rest[:end])
+}
+
+func isBlank(c byte) bool { return c == ' ' || c == '\t' || c == '\n' || c == '\r' }

@@ -23,6 +23,9 @@ var outputSeeds = []string{
 	"energy = -Inf\n",
 	"E(final) = -1.1D+00\r\nE(final) = -1.2d+00\r\n",
 	"--- point r=1.100 ---\n  well energy / eV : -4.49012345678901\n",
+	"well energy / eV : -3050,5\n",
+	"Total energy = -1,234.5 hartree\nE = -76.4E-01x\n",
+	"Total energy: -76.02abc\nE = 0x1p-2\n",
 	"",
 }
 

@@ -124,6 +124,11 @@ func ReadTable(r io.Reader, name string) (*Table, error) {
 	for sc.Scan() {
 		line++
 		text := strings.TrimSuffix(sc.Text(), "\r")
+		if line == 1 {
+			// A byte-order mark, as spreadsheet programs write before
+			// UTF-8 text, is not part of the first column's name.
+			text = strings.TrimPrefix(text, "\ufeff")
+		}
 		if !utf8.ValidString(text) {
 			return nil, fmt.Errorf("parsers: %s:%d: line is not valid UTF-8 text", name, line)
 		}

@@ -31,6 +31,15 @@ func TestReadTable_Conventions(t *testing.T) {
 			lines: []int{2, 3},
 		},
 		{
+			// Issue 15 item 15: spreadsheet programs put a byte-order mark
+			// before UTF-8 text; it was read as part of the first name.
+			name:  "byte-order mark before the header",
+			in:    "\ufeffr [angstrom], E [hartree]\n1.10, -112.70\n",
+			cols:  []Column{{"r", UnitAngstrom}, {"e", UnitHartree}},
+			rows:  [][]float64{{1.10, -112.70}},
+			lines: []int{2},
+		},
+		{
 			name:  "semicolon, parentheses, kJ/mol, CRLF",
 			in:    "theta (deg);E (kJ/mol);weight\r\n104.5;-0.25;2\r\n",
 			cols:  []Column{{"theta", UnitDegree}, {"e", UnitKJPerMol}, {"weight", ""}},

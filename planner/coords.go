@@ -163,6 +163,9 @@ func rotate(m *Molecule, idx []int, o, axis [3]float64, th float64) {
 // molecule with each scanned coordinate set, in [[scan]] order, to p's
 // value. It fails if the coordinates interfere or atoms come too close.
 func (s *Spec) Geometry(p Point) (Molecule, error) {
+	if s.ff != nil {
+		return s.ffGeometry(p)
+	}
 	if len(p.Values) != len(s.coords) {
 		return Molecule{}, fmt.Errorf("planner: point %q has %d values, the scan has %d coordinates", p.Key, len(p.Values), len(s.coords))
 	}

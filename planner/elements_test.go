@@ -49,3 +49,19 @@ func TestIsotopeMass_AME2020(t *testing.T) {
 		t.Error("7H (estimated only) accepted")
 	}
 }
+
+func TestParseLengthUnit(t *testing.T) {
+	for _, tc := range []struct {
+		in   string
+		want LengthUnit
+		ok   bool
+	}{
+		{"Å", Angstrom, true}, {"å", Angstrom, true}, {"ANGSTROM", Angstrom, true}, {" bohr ", Bohr, true},
+		{"a.u.", Bohr, true}, {"nm", "", false}, {"", "", false},
+	} {
+		got, ok := ParseLengthUnit(tc.in)
+		if got != tc.want || ok != tc.ok {
+			t.Errorf("ParseLengthUnit(%q) = %q, %v; want %q, %v", tc.in, got, ok, tc.want, tc.ok)
+		}
+	}
+}

@@ -176,3 +176,8 @@ func (m Molecule) Isotopes() []string {
 	}
 	return out
 }
+
+// IsotopeLabel writes one isotope with its mass number as a superscript,
+// "¹²C", "²H": the explicit form of isotopologue tables ("¹²C¹⁶O",
+// "¹³C¹⁶O").
+func IsotopeLabel(sym string, a int) string { return superscript(a) + sym }

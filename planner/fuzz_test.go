@@ -11,6 +11,8 @@ func FuzzDecode(f *testing.F) {
 	for _, s := range []string{
 		"[molecule]\ngeometry = \"\"\"\nC 0 0 0\nO 0 0 1.13\n\"\"\"\n[[scan]]\nname = \"r\"\nbond = [1, 2]\nfrom = 1.0\nto = 1.3\nstep = 0.05\n[engine]\nkind = \"model\"\n[[engine.model.term]]\nshape = \"morse\"\ndepth = 0.41\nwidth = 1.22\ncenter = 2.135\n",
 		"[molecule]\ngeometry = \"\"\"\nO 0 0 0\nH 0 0 0.96\nH 0 0.93 -0.24\n\"\"\"\n[[scan]]\nname = \"a\"\nangle = [2, 1, 3]\nvalues = [100, 104.5, 110]\n[engine]\nkind = \"builtin\"\nmethod = \"rhf\"\nbasis = \"STO-3G\"\n",
+		"[molecule]\ngeometry = \"\"\"\nO 0 0 0\nH 0 0.757 -0.586\nH 0 -0.757 -0.586\n\"\"\"\n[engine]\nkind = \"builtin\"\nmethod = \"rhf\"\nbasis = \"STO-3G\"\n[forcefield]\norder = \"quartic\"\n[[forcefield.isotopologue]]\nname = \"D2O\"\nisotopes = { 2 = \"2H\", 3 = \"2H\" }\nquartic = true\n",
+		"[molecule]\ngeometry = \"\"\"\nC 0 0 0\nO 0 0 1.13\n\"\"\"\n[forcefield]\norder = \"harmonic\"\n",
 		"title = 1", "[[scan]]\nname = \"r\"\nbond = [1, 99]", "[molecule]\ncharge = -9223372036854775808",
 	} {
 		f.Add([]byte(s))

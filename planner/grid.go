@@ -60,6 +60,9 @@ func (s *Spec) DisplayValues(p Point) []float64 {
 // ParseKey rebuilds the point a key stands for; the key must be
 // canonical (as PointAt writes it).
 func (s *Spec) ParseKey(key string) (Point, error) {
+	if s.ff != nil {
+		return s.ffParseKey(key)
+	}
 	p, err := s.CanonicalPoint(key)
 	if err != nil {
 		return Point{}, err
@@ -75,6 +78,9 @@ func (s *Spec) ParseKey(key string) (Point, error) {
 // more digits — and returns the canonical point it stands for
 // ("phi=300.000").
 func (s *Spec) CanonicalPoint(key string) (Point, error) {
+	if s.ff != nil {
+		return s.ffParseKey(key)
+	}
 	parts := strings.Split(key, ",")
 	if len(parts) != len(s.coords) {
 		return Point{}, fmt.Errorf("planner: key %q: expected %d coordinate values", key, len(s.coords))
@@ -111,6 +117,9 @@ func roundTo(x float64, digits int) float64 {
 // A torsion's values that are equivalent modulo its period give one
 // point.
 func (s *Spec) InitialPoints() []Point {
+	if s.ff != nil {
+		return s.ffInitialPoints()
+	}
 	var pts []Point
 	seen := map[string]bool{}
 	add := func(p Point) {

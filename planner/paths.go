@@ -58,9 +58,38 @@ func inside(dir, path string) bool {
 	return err == nil && (rel == "." || filepath.IsLocal(rel))
 }
 
+// CheckRegular fails, naming path, unless it is a regular file (after
+// symbolic links): opening a named pipe (FIFO) for reading waits for a
+// writer forever, and a device or a directory is never a spec, a molecule,
+// a template or a table. A missing file passes (opening it says so).
+func CheckRegular(path string) error {
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil
+	}
+	if !st.Mode().IsRegular() {
+		kind := "a " + st.Mode().Type().String()
+		switch {
+		case st.Mode()&os.ModeNamedPipe != 0:
+			kind = "a named pipe (FIFO)"
+		case st.IsDir():
+			kind = "a directory"
+		case st.Mode()&os.ModeDevice != 0:
+			kind = "a device"
+		case st.Mode()&os.ModeSocket != 0:
+			kind = "a socket"
+		}
+		return fmt.Errorf("planner: %s is %s, not a regular file; wellscan reads only regular files", path, kind)
+	}
+	return nil
+}
+
 // readCapped reads the file at path if it holds at most max bytes; what
 // names the kind of file in the error.
 func readCapped(path string, max int64, what string) ([]byte, error) {
+	if err := CheckRegular(path); err != nil {
+		return nil, err
+	}
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("planner: %w", err)

@@ -74,6 +74,9 @@ const shrink = 4
 // bracketing interval. Two-coordinate scans use a quadratic surface fit
 // and test positions only.
 func Refine(s *Spec, done []Sample, round int) RefinePlan {
+	if s.ff != nil {
+		return s.refineFF(done, round)
+	}
 	set := s.refine
 	var ok []Sample
 	for _, d := range done {
@@ -130,6 +133,9 @@ func (s *Spec) unconverged(ex []Extremum) string {
 
 // describe prints values in display units with their labels.
 func (s *Spec) describe(v []float64) string {
+	if s.ff != nil {
+		return "force-field displacement"
+	}
 	var parts []string
 	for i, c := range s.coords {
 		parts = append(parts, fmt.Sprintf("%s=%.*f %s", c.Name, c.Digits, c.Unwrap(v[i], s.units), c.UnitLabel(s.units)))

@@ -28,6 +28,10 @@ type Spec struct {
 	Engine        EngineSpec   `toml:"engine"`
 	Queue         QueueSpec    `toml:"queue"`
 	Checks        ChecksSpec   `toml:"checks"`
+	// ForceFieldInput is the [forcefield] table (see forcefield.go); a
+	// spec has either [[scan]] blocks or [forcefield].
+	ForceFieldInput ForceFieldSpec `toml:"forcefield"`
+	Relax           RelaxSpec      `toml:"relax"`
 
 	// Filled by Decode.
 	file   string // file name used in messages
@@ -39,7 +43,9 @@ type Spec struct {
 	coords []Coordinate
 	axes   [][]float64 // initial grid per coordinate, in spec units, rounded to key precision
 	refine RefineSettings
-	notes  []string // remarks that are not errors (Notes)
+	files  *fileHashes // hash of the files the engine reads, computed once
+	ff     *FF         // nil for a coordinate scan
+	notes  []string    // remarks that are not errors (Notes)
 }
 
 // MoleculeSpec is the [molecule] table.
@@ -87,6 +93,9 @@ type ScanSpec struct {
 	// the moving atoms by it must map them onto atoms of the same
 	// elements. Default 360.
 	Period *float64 `toml:"period"`
+	// Relax = true makes the scan relaxed: at every point the other
+	// coordinates are optimised (see RelaxSpec). Default rigid.
+	Relax *bool `toml:"relax"`
 }
 
 // RefineSpec is the [refine] table. Lengths in the molecule's units,
@@ -247,7 +256,10 @@ func Decode(data []byte, filename string) (*Spec, error) {
 var tomlErrRE = regexp.MustCompile(`^toml: line (\d+) \(last key "([^"]*)"\): (.*)$`)
 
 func decode(data []byte, filename, dir string) (*Spec, error) {
-	s := &Spec{file: filename, dir: dir, text: append([]byte(nil), data...)}
+	if err := checkTOMLShape(data, filename); err != nil {
+		return nil, err
+	}
+	s := &Spec{file: filename, dir: dir, text: append([]byte(nil), data...), files: &fileHashes{}}
 	md, err := toml.NewDecoder(bytes.NewReader(data)).Decode(s)
 	if err != nil {
 		var pe toml.ParseError
@@ -461,7 +473,34 @@ func (s *Spec) Fingerprint() Fingerprint {
 		}
 	}
 	eng = withoutKey(eng, "model", "delay")
+	if r := s.relaxFingerprint(); r != nil {
+		eng["relaxed scan"] = r
+	}
+	fh := s.files
+	if fh == nil {
+		fh = &fileHashes{}
+	}
+	fh.once.Do(func() { fh.sum = hashFiles(engineFiles(eng, s.dir), s.dir) })
+	if s.ff != nil {
+		// Only the parent's masses shape the stage-1 displacements; an
+		// isotopologue added later only adds its own stage-2 points.
+		return Fingerprint{
+			Files: fh.sum,
+			Molecule: h(struct {
+				Atoms        []atom
+				Charge, Mult int
+				Masses       [][]float64
+			}{atoms, s.mol.Charge, s.mol.Multiplicity, [][]float64{s.ff.Isos[0].Masses}}),
+			Coordinates: h(struct {
+				Order         string
+				Hess, Quartic float64
+				Ops, Basis    int
+			}{s.ff.Order, s.ff.HessStep, s.ff.QuarticStep, len(s.ff.Ops), len(s.ff.Basis)}),
+			Engine: h(eng),
+		}
+	}
 	return Fingerprint{
+		Files: fh.sum,
 		Molecule: h(struct {
 			Atoms        []atom
 			Charge, Mult int
@@ -493,6 +532,10 @@ type Fingerprint struct {
 	Molecule    string `json:"molecule"`
 	Coordinates string `json:"coordinates"`
 	Engine      string `json:"engine"`
+	// Files hashes the contents of the files an external program's
+	// energies depend on (template, script, files named in its arguments);
+	// empty for engines that read none.
+	Files string `json:"files,omitempty"`
 }
 
 // Diff names the parts that differ between two fingerprints, empty if
@@ -508,11 +551,20 @@ func (f Fingerprint) Diff(g Fingerprint) []string {
 	if f.Engine != g.Engine {
 		d = append(d, "engine settings")
 	}
+	if f.Files != g.Files {
+		d = append(d, "the contents of the engine's files (input template, script or a file named in the command)")
+	}
 	return d
 }
 
 // String is the fingerprint as one token.
-func (f Fingerprint) String() string { return f.Molecule + "-" + f.Coordinates + "-" + f.Engine }
+func (f Fingerprint) String() string {
+	s := f.Molecule + "-" + f.Coordinates + "-" + f.Engine
+	if f.Files != "" {
+		s += "-" + f.Files
+	}
+	return s
+}
 
 func sortedKeys[M ~map[string]V, V any](m M) []string {
 	ks := make([]string, 0, len(m))

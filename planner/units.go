@@ -1,5 +1,7 @@
 package planner
 
+import "strings"
+
 // Physical constants and unit conversions, all from the 2018 CODATA
 // recommended values (E. Tiesinga, P. J. Mohr, D. B. Newell, B. N. Taylor,
 // "CODATA recommended values of the fundamental physical constants: 2018",
@@ -72,15 +74,7 @@ func (u LengthUnit) FromBohr(x float64) float64 {
 	return x
 }
 
-func lower(s string) string {
-	b := []rune(s)
-	for i, r := range b {
-		if r >= 'A' && r <= 'Z' {
-			b[i] = r + 'a' - 'A'
-		}
-	}
-	return string(b)
-}
+func lower(s string) string { return strings.ToLower(strings.TrimSpace(s)) }
 
 // BohrElectronInDebye converts a dipole moment from e·a0 to debye:
 // e·a0 = 8.4783536255e-30 C·m (CODATA 2018) and 1 D = 1e-21/c C·m with

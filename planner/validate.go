@@ -55,11 +55,20 @@ func (s *Spec) validate() error {
 	if err := s.buildMolecule(); err != nil {
 		return err
 	}
-	if err := s.buildCoordinates(); err != nil {
-		return err
-	}
-	if err := s.buildRefine(); err != nil {
-		return err
+	if s.meta.IsDefined("forcefield") {
+		if len(s.Scan) > 0 {
+			return s.errAt("forcefield", "give [[scan]] blocks or a [forcefield] table, not both")
+		}
+		if err := s.buildForceField(); err != nil {
+			return err
+		}
+	} else {
+		if err := s.buildCoordinates(); err != nil {
+			return err
+		}
+		if err := s.buildRefine(); err != nil {
+			return err
+		}
 	}
 	if err := s.validateEngine(); err != nil {
 		return err
@@ -68,6 +77,9 @@ func (s *Spec) validate() error {
 		return err
 	}
 	if err := s.validateChecks(); err != nil {
+		return err
+	}
+	if err := s.validateRelax(); err != nil {
 		return err
 	}
 	// Every initial point must give a sensible geometry.
@@ -129,6 +141,13 @@ func (s *Spec) buildMolecule() error {
 	default:
 		return s.errAt("molecule", "missing geometry: give geometry = \"\"\"…\"\"\" (element x y z per line) or file = \"….xyz\"")
 	}
+	geoKey := "molecule.geometry"
+	if ms.File != "" {
+		geoKey = "molecule.file"
+	}
+	if err := s.checkAtoms(geoKey, frame.Coords); err != nil {
+		return err
+	}
 	atoms := make([]Atom, len(frame.Labels))
 	for i, l := range frame.Labels {
 		e, a, m, err := ParseIsotope(l)
@@ -154,6 +173,13 @@ func (s *Spec) buildMolecule() error {
 			return s.errAt("molecule.isotopes."+k, "atom %d is %s, not %s", idx, atoms[idx-1].Element.Symbol, e.Symbol)
 		}
 		atoms[idx-1].MassNumber, atoms[idx-1].Mass = a, m
+	}
+	nuclear := 0
+	for _, a := range atoms {
+		nuclear += a.Element.Z
+	}
+	if err := s.checkCharge(ms.Charge, nuclear); err != nil {
+		return err
 	}
 	mol, err := NewMolecule(atoms, ms.Charge, ms.Multiplicity)
 	if err != nil {
@@ -277,6 +303,9 @@ func (s *Spec) buildCoordinates() error {
 		if err := s.resolvePeriod(&c, sc, key("period")); err != nil {
 			return err
 		}
+		if k, msg := checkScanNumbers(sc); msg != "" {
+			return s.errAt(key(k), "%s", msg)
+		}
 		ax, k, msg := axisValues(sc, c.Digits)
 		if msg != "" {
 			return s.errAt(key(k), "%s", msg)
@@ -284,8 +313,12 @@ func (s *Spec) buildCoordinates() error {
 		for _, x := range ax {
 			v := c.Internal(x, s.units)
 			switch {
-			case d.kind == KindDistance && !(v > MinSeparation):
+			case d.kind == KindDistance && !(x > 0):
 				return s.errAt(key(grideKey(sc)), "bond length %g %s is not positive", x, c.UnitLabel(s.units))
+			case d.kind == KindDistance && !(v > MinSeparation):
+				return s.errAt(key(grideKey(sc)), "bond length %g %s is shorter than the closest approach of two nuclei wellscan allows (%g bohr = %.4g Å)", x, c.UnitLabel(s.units), MinSeparation, MinSeparation*BohrInAngstrom)
+			case d.kind == KindDistance && v*BohrInAngstrom > MaxCoordinate:
+				return s.errAt(key(grideKey(sc)), "bond length %g %s is longer than %g Å; check the exponent", x, c.UnitLabel(s.units), MaxCoordinate)
 			case d.kind == KindAngle && !(x > 0 && x <= 180):
 				return s.errAt(key(grideKey(sc)), "angle %g° is outside (0°, 180°]", x)
 			case d.kind == KindTorsion && !(x >= -360 && x <= 360):
@@ -296,7 +329,23 @@ func (s *Spec) buildCoordinates() error {
 		s.coords = append(s.coords, c)
 		s.axes = append(s.axes, ax)
 	}
+	total := 1
+	for _, ax := range s.axes {
+		total *= len(ax)
+	}
+	if total > MaxGridPoints {
+		k := fmt.Sprintf("scan[%d]", len(s.Scan))
+		return s.errAt(k, "the grid has %d points (%s), more than the %d a scan may start with; use fewer values or let refinement add points", total, gridShape(s.axes), MaxGridPoints)
+	}
 	return nil
+}
+
+func gridShape(axes [][]float64) string {
+	var parts []string
+	for _, ax := range axes {
+		parts = append(parts, strconv.Itoa(len(ax)))
+	}
+	return strings.Join(parts, " × ")
 }
 
 func grideKey(sc ScanSpec) string {
@@ -410,7 +459,7 @@ func (s *Spec) buildRefine() error {
 		out.Adaptive = *r.Adaptive
 	}
 	if r.FrequencyTolerance != nil {
-		if !(*r.FrequencyTolerance > 0) {
+		if !(*r.FrequencyTolerance > 0) || !finite(*r.FrequencyTolerance) {
 			return s.errAt("refine.frequency_tolerance", "must be positive (cm⁻¹), got %g", *r.FrequencyTolerance)
 		}
 		out.FrequencyTolerance = *r.FrequencyTolerance
@@ -437,6 +486,9 @@ func (s *Spec) buildRefine() error {
 		tgt := math.Max(sp/25, 10*prec)
 		if r.TargetStep != nil {
 			tgt = *r.TargetStep
+			if !finite(tgt) {
+				return s.errAt("refine.target_step", "must be a finite step, got %g", tgt)
+			}
 			if !(tgt >= 10*prec) {
 				return s.errAt("refine.target_step", "%g is below 10× the key precision of %s (%g %s)", tgt, c.Name, prec, c.UnitLabel(s.units))
 			}
@@ -447,14 +499,18 @@ func (s *Spec) buildRefine() error {
 		}
 		if r.Tolerance != nil {
 			tol = *r.Tolerance
-			if !(tol > 0) {
+			if !(tol > 0) || !finite(tol) {
 				return s.errAt("refine.tolerance", "must be positive, got %g", tol)
 			}
 		}
 		out.TargetStep = append(out.TargetStep, tgt)
 		out.Tolerance = append(out.Tolerance, tol)
 	}
-	if n := len(s.InitialPoints()); out.Adaptive && n > out.MaxPoints {
+	n := 1
+	for _, ax := range s.axes {
+		n *= len(ax)
+	}
+	if out.Adaptive && n > out.MaxPoints {
 		return s.errAt("refine.max_points", "the initial grid already has %d points, more than max_points = %d", n, out.MaxPoints)
 	}
 	s.refine = out
@@ -532,6 +588,9 @@ func (s *Spec) validateEngine() error {
 		}
 	case "model":
 		if err := not("model", append(builtinKeys, "command")...); err != nil {
+			return err
+		}
+		if err := s.checkModelNumbers(); err != nil {
 			return err
 		}
 		if len(e.Model.Terms) == 0 {
@@ -638,6 +697,9 @@ func (s *Spec) validateChecks() error {
 // MaxJump is the energy-jump threshold in hartree ([checks]
 // max_jump_hartree, default DefaultMaxJump); 0 means the check is off.
 func (s *Spec) MaxJump() float64 {
+	if s.ff != nil {
+		return 0 // the energy-jump rule follows scan lines, which a force field has not
+	}
 	if v := s.Checks.MaxJumpHartree; v != nil {
 		return *v
 	}

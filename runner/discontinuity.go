@@ -155,7 +155,9 @@ type Jump struct {
 //     than maxJump below both ([parsers.Plausibility.CheckNeighbours]), and
 //   - every low-order polynomial through its neighbours (the cubic through
 //     two on each side, the quadratics through two on one side and one on
-//     the other, whichever exist) misses it by more than maxJump, and
+//     the other, whichever exist) misses it by more than maxJump and by
+//     more than the curve's own bending at its neighbours ([ownBend]: a
+//     coarse grid on a smooth curve bends as much there), and
 //   - the curve bends the other way at its neighbours than at the point
 //     (second differences of opposite sign), as a spike makes it do; a
 //     coarsely sampled well or barrier bends the same way at the point
@@ -167,7 +169,8 @@ type Jump struct {
 // A steep repulsive wall never meets the first condition: it falls
 // monotonically. A point with only one neighbour on each
 // side and none further out cannot be told from an extremum and is never
-// flagged; nor are the ends of a line.
+// flagged; nor are the ends of a line, nor the lowest done point of the
+// whole scan.
 //
 // Within a line the worst jump is taken out first and the line looked at
 // again, so a spike does not drag its neighbours in. The result is
@@ -197,6 +200,17 @@ func FindJumpsPeriodic(recs []PointRecord, maxJump float64, periods []float64) [
 	if len(done) == 0 {
 		return nil
 	}
+	// The lowest done point of the whole scan is never a jump: a point
+	// that lowers the scan's global minimum is the minimum the scan is
+	// looking for (or a lower state, which a variational method may
+	// legitimately find), and failing it sends refinement elsewhere.
+	lowest := done[0].Key
+	low := *done[0].Energy
+	for _, r := range done[1:] {
+		if *r.Energy < low {
+			lowest, low = r.Key, *r.Energy
+		}
+	}
 	found := map[string]Jump{}
 	dim := len(done[0].Values)
 	for d := range dim {
@@ -208,12 +222,15 @@ func FindJumpsPeriodic(recs []PointRecord, maxJump float64, periods []float64) [
 			for len(line) >= 4 {
 				worst, wj, wdev := -1, Jump{}, 0.0
 				for i := 1; i+1 < len(line); i++ {
+					if line[i].Key == lowest {
+						continue
+					}
 					e, ep, en := *line[i].Energy, *line[i-1].Energy, *line[i+1].Energy
 					if plaus.CheckNeighbours(ep, e, en) == nil {
 						continue
 					}
 					curve, ok := closestCurve(line, i, d)
-					if !ok || math.Abs(e-curve) <= maxJump || smoothExtremum(line, i, d) {
+					if !ok || math.Abs(e-curve) <= math.Max(maxJump, ownBend(line, i, d)) || smoothExtremum(line, i, d) {
 						continue
 					}
 					if dev := math.Abs(e - curve); worst < 0 || dev > wdev {
@@ -270,6 +287,29 @@ func scanLines(recs []PointRecord, d int) [][]PointRecord {
 		out = append(out, line)
 	}
 	return out
+}
+
+// ownBend is the curve's own scale at line[i], measured without the
+// point: the largest distance of a neighbour from the chord through its
+// two neighbours on the same side, or through the neighbours across the
+// gap at i (the stencils {i−3, i−2, i−1}, {i−2, i−1, i+1}, {i−1, i+1, i+2}
+// and {i+1, i+2, i+3}, whichever exist). A smooth curve sampled coarsely
+// bends by about as much at its neighbours as at the point, so a point
+// that misses the curve through its neighbours by less than this is not
+// told apart from the curve's own shape; a spike on a well-sampled curve
+// misses it by far more.
+func ownBend(line []PointRecord, i, d int) float64 {
+	b := 0.0
+	for _, st := range [][3]int{{i - 3, i - 2, i - 1}, {i - 2, i - 1, i + 1}, {i - 1, i + 1, i + 2}, {i + 1, i + 2, i + 3}} {
+		if st[0] < 0 || st[2] >= len(line) {
+			continue
+		}
+		x0, x1, x2 := line[st[0]].Values[d], line[st[1]].Values[d], line[st[2]].Values[d]
+		e0, e1, e2 := *line[st[0]].Energy, *line[st[1]].Energy, *line[st[2]].Energy
+		chord := e0 + (e2-e0)*(x1-x0)/(x2-x0)
+		b = math.Max(b, math.Abs(e1-chord))
+	}
+	return b
 }
 
 // smoothExtremum reports whether line[i] (above or below both

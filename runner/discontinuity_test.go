@@ -120,7 +120,12 @@ func TestFindJumps_Spikes(t *testing.T) {
 		want  []string
 	}{
 		{"spike up", 6, 0.2, 0.05, []string{"r=2.26400"}},
-		{"spike down", 6, -0.2, 0.05, []string{"r=2.26400"}},
+		// 0.1 hartree down on the inner wall: 0.04 below both neighbours,
+		// still above the scan's minimum.
+		{"spike down on the wall", 1, -0.1, 0.03, []string{"r=1.79400"}},
+		// A point that lowers the scan's global minimum is never failed
+		// (issue 14): it is the minimum sought, or a lower state.
+		{"spike down below the scan's minimum", 6, -0.2, 0.05, nil},
 		{"spike up next to the end", 1, 0.2, 0.05, []string{"r=1.79400"}},
 		{"below the threshold", 6, 0.04, 0.05, nil},
 		{"check off", 6, 0.2, 0, nil},
@@ -155,10 +160,31 @@ func TestFindJumps_Spikes(t *testing.T) {
 func TestFindJumps_TwoSpikesOnOneLine(t *testing.T) {
 	recs := morseLine(gridAround(1.7, 0.094, 0, 12, 0), nil)
 	*recs[3].Energy += 0.3
-	*recs[8].Energy -= 0.25
+	*recs[10].Energy += 0.25
 	got := FindJumps(recs, 0.05)
-	if len(got) != 2 || got[0].Key != recs[3].Key || got[1].Key != recs[8].Key {
-		t.Errorf("FindJumps = %+v, want %s and %s only", got, recs[3].Key, recs[8].Key)
+	if len(got) != 2 || got[0].Key != recs[3].Key || got[1].Key != recs[10].Key {
+		t.Errorf("FindJumps = %+v, want %s and %s only", got, recs[3].Key, recs[10].Key)
+	}
+}
+
+// A smooth curve sampled coarsely bends as much at its neighbours as at
+// the minimum: CO-like Morse points 0.4 and 0.5 Å apart from 0.8 Å (the
+// issue's coarse first grids) are never flagged, at any threshold down to
+// 1e-3 hartree.
+func TestFindJumps_CoarseGridAroundMinimum_NotFlagged(t *testing.T) {
+	const bohrPerAngstrom = 1 / 0.529177210544 // CODATA 2018 Bohr radius
+	for _, stepA := range []float64{0.3, 0.4, 0.5} {
+		for _, off := range []float64{0, 0.1, 0.2, 0.3} {
+			var rs []float64
+			for r := 0.8 + off; r <= 2.5+1e-9; r += stepA {
+				rs = append(rs, r*bohrPerAngstrom)
+			}
+			for _, limit := range []float64{1e-3, 0.01, 0.05} {
+				if got := FindJumps(morseLine(rs, nil), limit); len(got) != 0 {
+					t.Errorf("step %.1f Å, start %.1f Å, limit %g: flagged %+v", stepA, 0.8+off, limit, got)
+				}
+			}
+		}
 	}
 }
 

@@ -30,16 +30,29 @@ func ReadPoints(dir string, spec *planner.Spec) (PointSet, error) {
 	switch {
 	case err == nil:
 		defer st.Close()
+		// Points computed for another spec (an edited scan.toml, a store
+		// copied from another scan) must not be fitted or reported as this
+		// scan's.
+		ferr := CheckFingerprint(st, spec)
 		recs, rerr := st.Points()
 		rounds, rrerr := st.Rounds()
-		if err := errors.Join(rerr, rrerr); err != nil {
+		if err := errors.Join(ferr, rerr, rrerr); err != nil {
 			return PointSet{}, err
+		}
+		for i := range recs {
+			if r := &recs[i]; r.Damaged != "" {
+				// A record that fails its checksum shows no number.
+				r.Energy, r.State, r.Class, r.LastError = nil, Failed, "damaged", r.Damaged+"; the next run repairs it"
+			}
 		}
 		return PointSet{Records: recs, Rounds: rounds, Source: "store"}, nil
 	case errors.Is(err, ErrLocked):
 		snap, serr := ReadSnapshot(dir)
 		if serr != nil {
 			return PointSet{}, fmt.Errorf("%w (and no snapshot: %w)", err, serr)
+		}
+		if err := CheckSnapshotFingerprint(dir, snap, spec); err != nil {
+			return PointSet{}, err
 		}
 		ps := PointSet{Snapshot: &snap, Source: fmt.Sprintf("snapshot of %s, run by PID %d on %s", snap.Updated.Local().Format("15:04:05"), snap.PID, snap.Host)}
 		errs := map[string]PointErrorJSON{}

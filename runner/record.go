@@ -16,10 +16,13 @@ const (
 	Running   State = "running"
 	Done      State = "done"
 	Failed    State = "failed"
+	// Dropped: taken out of the scan by the user (wellscan drop); never
+	// computed again, not counted as a failure, and not used in fits.
+	Dropped State = "dropped"
 )
 
 // States lists every state in lifecycle order.
-var States = []State{Planned, Submitted, Running, Done, Failed}
+var States = []State{Planned, Submitted, Running, Done, Failed, Dropped}
 
 // recordVersion is the schema version of PointRecord ("v").
 const recordVersion = 1
@@ -51,6 +54,18 @@ type PointRecord struct {
 	// energy (see FindJumps): 1 = recomputed once from a fresh guess,
 	// 2 = failed for good.
 	Jumps int `json:"energy_jumps,omitempty"`
+	// Permanent: the last failure would come back the same way on another
+	// try (a missing program, no energy in the output, a calculation that
+	// did not converge); only `wellscan retry` plans such a point again.
+	Permanent bool `json:"permanent,omitempty"`
+	// Sum is the record's checksum (see recordSum), set by Store.Commit
+	// and verified by Store.Points; empty in records of an earlier
+	// wellscan, which are not checked.
+	Sum string `json:"sum,omitempty"`
+	// Damaged is set by Store.Points (never stored) when the record fails
+	// its checksum: it says so, and the record's numbers must not be
+	// used.
+	Damaged string `json:"-"`
 }
 
 // Event is one entry of the store's append-only event log, and what

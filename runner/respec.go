@@ -27,7 +27,7 @@ func acceptEngineChange(st *Store, old, now planner.Fingerprint) (bool, error) {
 		case Done:
 			return false, nil
 		case Failed:
-			r.State, r.Attempts, r.Class, r.Jumps = Planned, 0, "", 0
+			r.State, r.Attempts, r.Class, r.Jumps, r.Permanent = Planned, 0, "", 0, false
 			r.LastError = "planned again: engine settings changed before any point finished (last error: " + r.LastError + ")"
 			again = append(again, r)
 		}

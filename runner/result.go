@@ -35,6 +35,10 @@ type Result struct {
 	PID       int       `json:"pid"`
 	Started   time.Time `json:"started"`
 	Finished  time.Time `json:"finished"`
+	// Sum is the file's checksum (see resultSum); a file whose content
+	// does not match it is treated as absent. Files of an earlier
+	// wellscan have none and are not checked.
+	Sum string `json:"sum,omitempty"`
 }
 
 // PointDir is the work directory of the point with key in scan dir.
@@ -54,11 +58,12 @@ func WriteResult(dir string, r Result) error {
 // leave the file missing or empty, which ReadResult treats as absent.
 func writeResult(dir string, r Result, suffix string, durable bool) error {
 	r.V = resultVersion
+	r.Sum = resultSum(r)
 	b, err := json.MarshalIndent(r, "", "  ")
 	if err != nil {
 		return fmt.Errorf("runner: result %s: %w", r.Key, err)
 	}
-	return writeFileAtomic(filepath.Join(PointDir(dir, r.Key), ResultFile), append(b, '\n'), suffix, durable)
+	return writeInScan(dir, filepath.Join(PointsDir, r.Key, ResultFile), append(b, '\n'), suffix, durable)
 }
 
 // ReadResult reads the result file of key. ok is false when the file is
@@ -76,14 +81,10 @@ func ReadResult(dir, key, fingerprint string) (Result, bool) {
 	if r.Status != "done" && r.Status != "failed" {
 		return Result{}, false
 	}
+	if r.Sum != "" && r.Sum != resultSum(r) {
+		return Result{}, false
+	}
 	return r, true
-}
-
-// WriteFileAtomic writes data to path through a temporary file in the
-// same directory: write, fsync, close, rename, fsync the directory. A
-// reader sees the old file or the new one, never a mix.
-func WriteFileAtomic(path string, data []byte) error {
-	return writeFileAtomic(path, data, tmpSuffix(), true)
 }
 
 // tmpSuffix names this process's temporary files: host and PID, so that
@@ -91,50 +92,4 @@ func WriteFileAtomic(path string, data []byte) error {
 func tmpSuffix() string {
 	host, _ := os.Hostname()
 	return fmt.Sprintf("%s.%d", strings.ReplaceAll(host, "/", "_"), os.Getpid())
-}
-
-// writeFileAtomic is WriteFileAtomic with the temporary file's suffix
-// given; durable false leaves out both fsyncs (atomic against a crash of
-// the process, not of the machine).
-func writeFileAtomic(path string, data []byte, suffix string, durable bool) error {
-	tmp := path + ".tmp." + suffix
-	f, err := os.OpenFile(tmp, os.O_WRONLY|os.O_CREATE|os.O_TRUNC, 0o600)
-	if err != nil {
-		return fmt.Errorf("runner: %w", err)
-	}
-	if _, err := f.Write(data); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return fmt.Errorf("runner: write %s: %w", tmp, err)
-	}
-	if durable {
-		if err := f.Sync(); err != nil {
-			f.Close()
-			os.Remove(tmp)
-			return fmt.Errorf("runner: sync %s: %w", tmp, err)
-		}
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("runner: close %s: %w", tmp, err)
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		if _, serr := os.Stat(path); serr != nil {
-			os.Remove(tmp)
-			return fmt.Errorf("runner: rename %s: %w", tmp, err)
-		}
-	}
-	if !durable {
-		return nil
-	}
-	dir := filepath.Dir(path)
-	d, err := os.Open(dir)
-	if err != nil {
-		return fmt.Errorf("runner: %w", err)
-	}
-	defer d.Close()
-	if err := d.Sync(); err != nil {
-		return fmt.Errorf("runner: sync %s: %w", dir, err)
-	}
-	return nil
 }

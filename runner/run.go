@@ -34,10 +34,9 @@ func OpenScan(dir string, spec *planner.Spec, opts OpenOptions) (*Store, error) 
 		return nil, err
 	}
 	fp, _ := json.Marshal(spec.Fingerprint())
-	if meta.Fingerprint != "" && meta.Fingerprint != string(fp) {
+	if ok, _, diff := compatibleFingerprint(meta.Fingerprint, spec); !ok {
 		var old planner.Fingerprint
 		_ = json.Unmarshal([]byte(meta.Fingerprint), &old)
-		diff := old.Diff(spec.Fingerprint())
 		if ok, err := acceptEngineChange(st, old, spec.Fingerprint()); ok || err != nil {
 			if err == nil {
 				err = st.SetSpec(spec.Text(), string(fp))
@@ -52,7 +51,7 @@ func OpenScan(dir string, spec *planner.Spec, opts OpenOptions) (*Store, error) 
 		return nil, fmt.Errorf("%w since this scan started: %s changed, which changes the energy of every point; restore the old settings or start a new scan in another directory",
 			ErrSpecChanged, strings.Join(diff, " and "))
 	}
-	if meta.Fingerprint == "" || string(meta.LastSpec) != string(spec.Text()) {
+	if meta.Fingerprint != string(fp) || string(meta.LastSpec) != string(spec.Text()) {
 		if err := st.SetSpec(spec.Text(), string(fp)); err != nil {
 			st.Close()
 			return nil, err
@@ -103,6 +102,9 @@ type Runner struct {
 	lastPlan  planner.RefinePlan
 	host      string // this machine, for result files
 	suffix    string // temporary-file suffix of this process
+	warned    map[string]bool
+	firsts    []Result // the first completions of this run, while none is done (sameFailureStop)
+	firstsOff bool
 }
 
 // Summary is the outcome of Run.
@@ -208,7 +210,9 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 		if err != nil {
 			qe := stopQueue()
 			ferr := r.flush()
-			r.emit(Event{Kind: "interrupt", Round: r.round, Message: "interrupted; points in flight return to planned"})
+			if !errors.Is(err, ErrSameFailure) {
+				r.emit(Event{Kind: "interrupt", Round: r.round, Message: "interrupted; points in flight return to planned"})
+			}
 			_ = r.flush()
 			r.snapshot("interrupted")
 			return r.summary(), errors.Join(fmt.Errorf("runner: %w", err), qe, ferr)
@@ -238,15 +242,16 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 		if err := r.flush(); err != nil {
 			return r.summary(), err
 		}
-		_ = r.Store.Backup(filepath.Join(r.Dir, DBFile+".bak"))
+		r.warnOnce("backup", r.Store.Backup(DBFile+".bak"))
 	}
 	qe := stopQueue()
 	r.emit(Event{Kind: "finish", Round: r.round, Message: string(r.lastPlan.Status)})
 	if err := r.flush(); err != nil {
 		return r.summary(), err
 	}
-	_ = r.Store.Backup(filepath.Join(r.Dir, DBFile+".bak"))
+	r.warnOnce("backup", r.Store.Backup(DBFile+".bak"))
 	r.snapshot("finished")
+	_ = r.flush()
 	sum := r.summary()
 	if qe != nil {
 		return sum, qe
@@ -306,11 +311,20 @@ func (r *Runner) reconcile() error {
 	resumed := 0
 	for _, k := range r.keys() {
 		rec := r.recs[k]
+		if rec.Damaged != "" {
+			r.repairDamaged(rec)
+			resumed++
+			continue
+		}
 		if rec.State == Done {
 			r.restoreResult(rec)
 			continue
 		}
 		if rec.State == Failed {
+			r.retryIfAllowed(rec)
+			continue
+		}
+		if rec.State == Dropped {
 			continue
 		}
 		inFlight := rec.State == Submitted || rec.State == Running
@@ -364,8 +378,15 @@ func (r *Runner) reconcile() error {
 // (which read their neighbours' result files for continuation guesses),
 // so they are rebuilt from the record.
 func (r *Runner) restoreResult(rec *PointRecord) {
-	if _, ok := ReadResult(r.Dir, rec.Key, r.fp); ok || rec.Energy == nil {
+	if rec.Energy == nil {
 		return
+	}
+	msg := "result file was missing or unreadable; rewritten from the store"
+	if res, ok := ReadResult(r.Dir, rec.Key, r.fp); ok {
+		if res.Status == "done" && res.Energy == *rec.Energy {
+			return
+		}
+		msg = fmt.Sprintf("%s says %s E = %.10f hartree but the store (checksum intact) says E = %.10f hartree; kept the store's copy and rewrote the file", ResultFile, res.Status, res.Energy, *rec.Energy)
 	}
 	res := Result{Key: rec.Key, Fingerprint: r.fp, Attempt: rec.Attempts, Status: "done", Energy: *rec.Energy,
 		Converged: rec.Converged, Iterations: rec.Iterations, SSquared: rec.SSquared, Extra: rec.Extra,
@@ -375,13 +396,11 @@ func (r *Runner) restoreResult(rec *PointRecord) {
 			res.Orbitals = rel
 		}
 	}
-	if err := os.MkdirAll(PointDir(r.Dir, rec.Key), 0o700); err != nil {
-		return
-	}
+
 	if err := writeResult(r.Dir, res, r.suffix, false); err != nil {
 		return // a convenience copy; the store has the result
 	}
-	r.emit(Event{Kind: "resume", Key: rec.Key, Round: rec.Round, Message: "result file was missing or unreadable; rewritten from the store"})
+	r.emit(Event{Kind: "resume", Key: rec.Key, Round: rec.Round, Message: msg})
 }
 
 func (r *Runner) keys() []string {
@@ -547,6 +566,9 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 			continue
 		case c := <-out:
 			completed(c)
+			if err := r.sameFailureStop(c); err != nil {
+				return err
+			}
 			continue
 		default:
 		}
@@ -575,6 +597,9 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 			dispatched()
 		case c := <-out:
 			completed(c)
+			if err := r.sameFailureStop(c); err != nil {
+				return err
+			}
 		case <-tick.C:
 			r.snapshot("running")
 		case <-ctx.Done():
@@ -625,6 +650,11 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 		}
 		if bestKey != "" {
 			t.GuessLine, t.LineAt = r.guessLine(rec, r.recs[bestKey])
+		}
+		if _, err := os.Stat(t.GuessPath); bestKey != "" && err != nil {
+			// The neighbour's file is gone (points/ deleted under a running
+			// scan): a cold start, not a failure.
+			t.GuessPath, t.GuessLine, t.LineAt = "", nil, 0
 		}
 	}
 	t.Threads = r.Spec.Queue.Threads
@@ -743,7 +773,7 @@ func (r pointComputer) work(ctx context.Context, t Task) Completion {
 	if res, ok := ReadResult(r.dir, t.Key, r.fp); ok && res.Status == "done" {
 		return Completion{Task: t, Result: res, Reused: true}
 	}
-	if err := mkdirPoint(t.Dir); err != nil {
+	if err := MkdirScan(r.dir, filepath.Join(PointsDir, t.Key)); err != nil {
 		return Completion{Task: t, Result: r.failure(t, r.now(), "io", err)}
 	}
 	cctx := ctx
@@ -770,19 +800,6 @@ func (r pointComputer) work(ctx context.Context, t Task) Completion {
 		return Completion{Task: t, Result: r.failure(t, start, "io", err)}
 	}
 	return Completion{Task: t, Result: res}
-}
-
-// mkdirPoint creates a point directory: one mkdir when points/ exists
-// (the common case), MkdirAll otherwise.
-func mkdirPoint(dir string) error {
-	err := os.Mkdir(dir, 0o700)
-	switch {
-	case err == nil, errors.Is(err, os.ErrExist):
-		return nil
-	case errors.Is(err, os.ErrNotExist):
-		return os.MkdirAll(dir, 0o700)
-	}
-	return err
 }
 
 // computeSafely turns a backend panic into an error for that point; a
@@ -899,7 +916,8 @@ func (r *Runner) apply(rec *PointRecord, res Result) {
 		return
 	}
 	rec.Class, rec.LastError = res.Class, res.Error
-	if !res.Permanent && retriable(res.Class) && rec.Attempts < r.Spec.Queue.Attempts {
+	rec.Permanent = res.Permanent || !retriable(res.Class)
+	if !rec.Permanent && rec.Attempts < r.Spec.Queue.Attempts {
 		rec.State = Planned
 		r.touch(rec)
 		r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("attempt %d of %d failed (%s): %s", rec.Attempts, r.Spec.Queue.Attempts, res.Class, res.Error)})
@@ -939,9 +957,9 @@ func (r *Runner) checkJumps() int {
 		rec := r.recs[j.Key]
 		rec.Jumps++
 		msg := jumpMessage(r.Spec, rec, j, limit)
-		res := filepath.Join(PointDir(r.Dir, rec.Key), ResultFile)
-		aside := filepath.Join(PointDir(r.Dir, rec.Key), fmt.Sprintf("result.%s-%d.json", ClassEnergyJump, rec.Jumps))
-		if err := os.Rename(res, aside); err != nil && !errors.Is(err, os.ErrNotExist) {
+		res := filepath.Join(PointsDir, rec.Key, ResultFile)
+		aside := filepath.Join(PointsDir, rec.Key, fmt.Sprintf("result.%s-%d.json", ClassEnergyJump, rec.Jumps))
+		if err := renameInScan(r.Dir, res, aside); err != nil && !errors.Is(err, os.ErrNotExist) {
 			msg += fmt.Sprintf(" (could not move %s aside: %v)", res, err)
 		}
 		rec.Energy, rec.Converged, rec.Class = nil, false, ClassEnergyJump
@@ -952,7 +970,7 @@ func (r *Runner) checkJumps() int {
 			replanned++
 			continue
 		}
-		rec.State = Failed
+		rec.State, rec.Permanent = Failed, true
 		rec.LastError = msg + "; it jumped again when recomputed from a fresh guess, so it stays failed"
 		r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: rec.LastError})
 	}
@@ -994,7 +1012,9 @@ func Samples(recs map[string]*PointRecord) []planner.Sample {
 		switch rec.State {
 		case Done:
 			s.Energy = *rec.Energy
-		case Failed:
+		case Failed, Dropped:
+			// A dropped point is a known key the refinement must not
+			// propose again; like a failed one it brackets the curve.
 			s.Failed = true
 		}
 		out = append(out, s)
@@ -1030,5 +1050,5 @@ func (r *Runner) snapshot(state string) {
 		rounds = append(rounds, *rr)
 	}
 	snap := BuildSnapshot(r.Spec, recs, rounds, state, r.Now())
-	_ = WriteSnapshot(r.Dir, snap)
+	r.warnOnce("snapshot", WriteSnapshot(r.Dir, snap))
 }

@@ -32,6 +32,13 @@ type Snapshot struct {
 	// Suspects are done points that break with their neighbours (see
 	// [FindDiscontinuities]).
 	Suspects []Suspect `json:"suspects,omitempty"`
+	// Fingerprint is the spec fingerprint of the run that wrote the
+	// snapshot (SpecFingerprint), so that readers can tell a snapshot of
+	// another spec.
+	Fingerprint string `json:"fingerprint,omitempty"`
+	// Damaged lists points whose stored record failed its checksum; their
+	// energies are left out.
+	Damaged []string `json:"damaged,omitempty"`
 	// Warnings are the scan's warnings, most serious first ([ScanWarnings]).
 	Warnings []Warning `json:"warnings,omitempty"`
 }
@@ -81,7 +88,7 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	snap := Snapshot{V: 1, Title: spec.Title, State: state, Updated: now, PID: os.Getpid(), Host: host,
 		Counts: map[string]int{}, Total: len(recs), Units: map[string]string{},
 		Extrema: []ExtremumJSON{}, Points: []PointJSON{}, LastErrors: []PointErrorJSON{},
-		Suspects: FindDiscontinuities(recs, DiscontinuityOptions{})}
+		Suspects: FindDiscontinuities(recs, DiscontinuityOptions{}), Fingerprint: SpecFingerprint(spec)}
 	for _, c := range spec.Coordinates() {
 		snap.Units[c.Name] = c.UnitLabel(spec.Units())
 	}
@@ -91,6 +98,13 @@ func BuildSnapshot(spec *planner.Spec, recs []PointRecord, rounds []RoundRecord,
 	m := map[string]*PointRecord{}
 	for i := range recs {
 		r := &recs[i]
+		if r.Damaged != "" {
+			// Never show or fit a number whose checksum failed.
+			snap.Damaged = append(snap.Damaged, r.Key)
+			c := *r
+			c.Energy, c.State, c.LastError, c.Class = nil, Failed, r.Damaged, "damaged"
+			r = &c
+		}
 		m[r.Key] = r
 		snap.Counts[string(r.State)]++
 		snap.Round = max(snap.Round, r.Round)
@@ -150,7 +164,7 @@ func WriteSnapshot(dir string, s Snapshot) error {
 	if err != nil {
 		return fmt.Errorf("runner: status snapshot: %w", err)
 	}
-	return WriteFileAtomic(filepath.Join(dir, StatusFile), append(b, '\n'))
+	return writeInScan(dir, StatusFile, append(b, '\n'), tmpSuffix(), true)
 }
 
 // ReadSnapshot reads status.json.

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"runtime/debug"
 	"strconv"
 	"time"
 
@@ -97,8 +98,12 @@ type OpenOptions struct {
 
 // Open opens (creating if needed, unless read-only) the store of the scan
 // in dir. If another process holds it, Open fails after opts.Timeout with
-// a *LockedError.
-func Open(dir string, opts OpenOptions) (*Store, error) {
+// a *LockedError. A new store is made under a temporary name and renamed
+// into place once complete, so a full disk never leaves a half-made
+// wellscan.db. A store that cannot be read (empty, truncated, damaged
+// pages) is an error wrapping ErrDamaged that names the file and the
+// recovery commands; no panic of the database library reaches the caller.
+func Open(dir string, opts OpenOptions) (s *Store, err error) {
 	if opts.Timeout == 0 {
 		opts.Timeout = 2 * time.Second
 	}
@@ -106,19 +111,32 @@ func Open(dir string, opts OpenOptions) (*Store, error) {
 		opts.Now = time.Now
 	}
 	path := filepath.Join(dir, DBFile)
-	if opts.ReadOnly {
-		if _, err := os.Stat(path); err != nil {
-			return nil, fmt.Errorf("%w in %s", ErrNoStore, dir)
+	defer guardStore(path, &err, debug.SetPanicOnFault(true))
+	st, lerr := os.Lstat(path)
+	switch {
+	case lerr == nil && st.Mode()&os.ModeSymlink != 0:
+		return nil, &SymlinkError{Dir: dir, Path: DBFile}
+	case lerr == nil && !st.Mode().IsRegular():
+		return nil, fmt.Errorf("runner: %s is not a regular file (%s)", path, st.Mode().Type())
+	case lerr == nil && st.Size() < minStoreBytes:
+		return nil, &DamagedError{Path: path, Err: fmt.Errorf("the file has %d bytes, less than the %d of the smallest store (truncated, or left by a disk that filled up)", st.Size(), minStoreBytes)}
+	case errors.Is(lerr, os.ErrNotExist) && opts.ReadOnly:
+		return nil, fmt.Errorf("%w in %s", ErrNoStore, dir)
+	case errors.Is(lerr, os.ErrNotExist):
+		if err := createStore(dir, opts.Now()); err != nil {
+			return nil, err
 		}
+	case lerr != nil:
+		return nil, fmt.Errorf("runner: %w", lerr)
 	}
 	db, err := bolt.Open(path, 0o600, &bolt.Options{Timeout: opts.Timeout, ReadOnly: opts.ReadOnly})
 	if err != nil {
 		if errors.Is(err, bolterrors.ErrTimeout) {
 			return nil, &LockedError{Dir: dir, Info: readLock(dir)}
 		}
-		return nil, fmt.Errorf("runner: open %s: %w", path, err)
+		return nil, &DamagedError{Path: path, Err: err}
 	}
-	s := &Store{db: db, dir: dir, readOnly: opts.ReadOnly}
+	s = &Store{db: db, dir: dir, readOnly: opts.ReadOnly}
 	ready := false
 	_ = db.View(func(tx *bolt.Tx) error {
 		ready = tx.Bucket(bucketScan) != nil && tx.Bucket(bucketPoints) != nil && tx.Bucket(bucketRounds) != nil &&
@@ -126,21 +144,7 @@ func Open(dir string, opts OpenOptions) (*Store, error) {
 		return nil
 	})
 	if !opts.ReadOnly && !ready {
-		if err := db.Update(func(tx *bolt.Tx) error {
-			for _, b := range [][]byte{bucketScan, bucketPoints, bucketRounds, bucketEvents, bucketJobs} {
-				if _, err := tx.CreateBucketIfNotExists(b); err != nil {
-					return err
-				}
-			}
-			sc := tx.Bucket(bucketScan)
-			if v := sc.Get([]byte("format")); v == nil {
-				if err := sc.Put([]byte("format"), []byte(strconv.Itoa(formatVersion))); err != nil {
-					return err
-				}
-				return sc.Put([]byte("created"), []byte(opts.Now().UTC().Format(time.RFC3339Nano)))
-			}
-			return nil
-		}); err != nil {
+		if err := db.Update(func(tx *bolt.Tx) error { return initBuckets(tx, opts.Now()) }); err != nil {
 			db.Close()
 			return nil, fmt.Errorf("runner: initialise %s: %w", path, err)
 		}
@@ -152,7 +156,7 @@ func Open(dir string, opts OpenOptions) (*Store, error) {
 		boot, _ := os.ReadFile("/proc/sys/kernel/random/boot_id")
 		info := LockInfo{PID: os.Getpid(), Host: host, Started: opts.Now(), BootID: string(trimNL(boot))}
 		b, _ := json.Marshal(info)
-		if err := WriteFileAtomic(filepath.Join(dir, LockFile), b); err != nil {
+		if err := writeInScan(dir, LockFile, b, tmpSuffix(), true); err != nil {
 			db.Close()
 			return nil, err
 		}
@@ -168,6 +172,77 @@ func Open(dir string, opts OpenOptions) (*Store, error) {
 		return nil
 	})
 	return s, nil
+}
+
+// minStoreBytes is the size of the smallest valid store: bbolt's two meta
+// pages, a freelist page and a root leaf, of at least 1 KiB each (its page
+// size is the OS page size, 4 KiB here; 1 KiB is bbolt's own minimum).
+const minStoreBytes = 4 * 1024
+
+// initBuckets creates the store's buckets and format record.
+func initBuckets(tx *bolt.Tx, now time.Time) error {
+	for _, b := range [][]byte{bucketScan, bucketPoints, bucketRounds, bucketEvents, bucketJobs} {
+		if _, err := tx.CreateBucketIfNotExists(b); err != nil {
+			return err
+		}
+	}
+	sc := tx.Bucket(bucketScan)
+	if v := sc.Get([]byte("format")); v == nil {
+		if err := sc.Put([]byte("format"), []byte(strconv.Itoa(formatVersion))); err != nil {
+			return err
+		}
+		return sc.Put([]byte("created"), []byte(now.UTC().Format(time.RFC3339Nano)))
+	}
+	return nil
+}
+
+// createStore makes a new, empty store at a temporary name, syncs it and
+// renames it to wellscan.db: a failure (a full disk) leaves no
+// wellscan.db behind, only the temporary file, which is removed.
+func createStore(dir string, now time.Time) (err error) {
+	tmpName := DBFile + ".new." + tmpSuffix()
+	f, err := OpenScanFS(dir)
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	_ = f.Remove(tmpName)
+	tmp := filepath.Join(dir, tmpName)
+	defer func() {
+		if err != nil {
+			f.Remove(tmpName)
+			err = fmt.Errorf("runner: creating the store %s: %w (nothing was left behind; free space and run again)", filepath.Join(dir, DBFile), err)
+		}
+	}()
+	// The name is new (removed above) and inside dir: bbolt creates it.
+	db, err := bolt.Open(tmp, 0o600, &bolt.Options{Timeout: time.Second})
+	if err != nil {
+		return err
+	}
+	if err := db.Update(func(tx *bolt.Tx) error { return initBuckets(tx, now) }); err != nil {
+		db.Close()
+		return err
+	}
+	if err := db.Sync(); err != nil {
+		db.Close()
+		return err
+	}
+	if err := db.Close(); err != nil {
+		return err
+	}
+	if err := f.Rename(tmpName, DBFile); err != nil {
+		return err
+	}
+	return syncDir(dir)
+}
+
+func syncDir(dir string) error {
+	d, err := os.Open(dir)
+	if err != nil {
+		return err
+	}
+	defer d.Close()
+	return d.Sync()
 }
 
 func trimNL(b []byte) []byte {
@@ -189,7 +264,8 @@ func readLock(dir string) *LockInfo {
 	return &li
 }
 
-func (s *Store) checkFormat() error {
+func (s *Store) checkFormat() (err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
 	return s.db.View(func(tx *bolt.Tx) error {
 		sc := tx.Bucket(bucketScan)
 		if sc == nil {
@@ -225,9 +301,9 @@ type ScanMeta struct {
 }
 
 // Meta reads the scan bucket.
-func (s *Store) Meta() (ScanMeta, error) {
-	var m ScanMeta
-	err := s.db.View(func(tx *bolt.Tx) error {
+func (s *Store) Meta() (m ScanMeta, err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
+	err = s.db.View(func(tx *bolt.Tx) error {
 		sc := tx.Bucket(bucketScan)
 		m.Spec = clone(sc.Get([]byte("spec")))
 		m.LastSpec = clone(sc.Get([]byte("last_spec")))
@@ -240,7 +316,8 @@ func (s *Store) Meta() (ScanMeta, error) {
 
 // SetSpec records the spec text (the first time also as the original)
 // and fingerprint.
-func (s *Store) SetSpec(text []byte, fingerprint string) error {
+func (s *Store) SetSpec(text []byte, fingerprint string) (err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
 	return s.db.Update(func(tx *bolt.Tx) error {
 		sc := tx.Bucket(bucketScan)
 		if sc.Get([]byte("spec")) == nil {
@@ -263,9 +340,9 @@ func clone(b []byte) []byte {
 }
 
 // Points returns every point record, ordered by key.
-func (s *Store) Points() ([]PointRecord, error) {
-	var out []PointRecord
-	err := s.db.View(func(tx *bolt.Tx) error {
+func (s *Store) Points() (out []PointRecord, err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
+	err = s.db.View(func(tx *bolt.Tx) error {
 		return tx.Bucket(bucketPoints).ForEach(func(k, v []byte) error {
 			var r PointRecord
 			if err := json.Unmarshal(v, &r); err != nil {
@@ -273,6 +350,9 @@ func (s *Store) Points() ([]PointRecord, error) {
 			}
 			if r.V != recordVersion {
 				return fmt.Errorf("%w: point %q has record version %d", ErrFormat, k, r.V)
+			}
+			if r.Sum != "" && r.Sum != recordSum(r) {
+				r.Damaged = fmt.Sprintf("the stored record of point %s does not match its checksum (the store was changed outside wellscan, or damaged)", r.Key)
 			}
 			out = append(out, r)
 			return nil
@@ -283,7 +363,8 @@ func (s *Store) Points() ([]PointRecord, error) {
 
 // Commit writes records and appends events in one transaction. Events get
 // their sequence numbers here.
-func (s *Store) Commit(recs []PointRecord, rounds []RoundRecord, events []Event) error {
+func (s *Store) Commit(recs []PointRecord, rounds []RoundRecord, events []Event) (err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
 	if len(recs) == 0 && len(rounds) == 0 && len(events) == 0 {
 		return nil
 	}
@@ -291,6 +372,7 @@ func (s *Store) Commit(recs []PointRecord, rounds []RoundRecord, events []Event)
 		pb, rb, eb := tx.Bucket(bucketPoints), tx.Bucket(bucketRounds), tx.Bucket(bucketEvents)
 		for _, r := range recs {
 			r.V = recordVersion
+			r.Sum = recordSum(r)
 			b, err := json.Marshal(r)
 			if err != nil {
 				return err
@@ -334,9 +416,9 @@ func u64(v uint64) []byte {
 }
 
 // Rounds returns every round record in order.
-func (s *Store) Rounds() ([]RoundRecord, error) {
-	var out []RoundRecord
-	err := s.db.View(func(tx *bolt.Tx) error {
+func (s *Store) Rounds() (out []RoundRecord, err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
+	err = s.db.View(func(tx *bolt.Tx) error {
 		return tx.Bucket(bucketRounds).ForEach(func(_, v []byte) error {
 			var r RoundRecord
 			if err := json.Unmarshal(v, &r); err != nil {
@@ -350,9 +432,9 @@ func (s *Store) Rounds() ([]RoundRecord, error) {
 }
 
 // Events returns the event log in order.
-func (s *Store) Events() ([]Event, error) {
-	var out []Event
-	err := s.db.View(func(tx *bolt.Tx) error {
+func (s *Store) Events() (out []Event, err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
+	err = s.db.View(func(tx *bolt.Tx) error {
 		return tx.Bucket(bucketEvents).ForEach(func(_, v []byte) error {
 			var e Event
 			if err := json.Unmarshal(v, &e); err != nil {
@@ -365,13 +447,30 @@ func (s *Store) Events() ([]Event, error) {
 	return out, err
 }
 
-// Backup writes a consistent copy of the store to path (temp + rename).
-func (s *Store) Backup(path string) error {
-	tmp := path + ".tmp"
-	err := s.db.View(func(tx *bolt.Tx) error { return tx.CopyFile(tmp, 0o600) })
+// Backup writes a consistent copy of the store to name, a file in the scan
+// directory (temporary file, rename; never through a symbolic link).
+func (s *Store) Backup(name string) (err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
+	f, err := OpenScanFS(s.dir)
 	if err != nil {
-		os.Remove(tmp)
+		return err
+	}
+	defer f.Close()
+	tmp := name + ".tmp"
+	out, err := f.Create(tmp)
+	if err != nil {
 		return fmt.Errorf("runner: backup: %w", err)
 	}
-	return os.Rename(tmp, path)
+	err = s.db.View(func(tx *bolt.Tx) error {
+		_, werr := tx.WriteTo(out)
+		return werr
+	})
+	if cerr := out.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		f.Remove(tmp)
+		return fmt.Errorf("runner: backup: %w", err)
+	}
+	return f.Rename(tmp, name)
 }

@@ -143,7 +143,7 @@ func badInputs() []badInput {
 		{name: "molecule/impossible multiplicity", base: "model", edits: [][2]string{{"[molecule]", "[molecule]\nmultiplicity = 2"}}, code: 1,
 			want: []string{"molecule.multiplicity: impossible charge and multiplicity: 14 electrons (charge +0) cannot have multiplicity 2"}},
 		{name: "molecule/impossible charge", base: "model", edits: [][2]string{{"[molecule]", "[molecule]\ncharge = 20"}}, code: 1,
-			want: []string{"molecule.charge: impossible charge and multiplicity: charge +20 leaves -6 electrons"}},
+			want: []string{"molecule.charge: charge +20 is outside the range wellscan accepts for this molecule, -10 to +13"}},
 		{name: "molecule/unknown unit", base: "model", edits: [][2]string{{"[molecule]", "[molecule]\nunits = \"furlong\""}}, code: 1,
 			want: []string{`molecule.units: unknown unit "furlong" (use "angstrom" or "bohr")`}},
 		{name: "molecule/file missing", base: "model", edits: [][2]string{{"geometry = \"\"\"\nC 0 0 0\nO 0 0 1.13\n\"\"\"", `file = "nope.xyz"`}}, code: 1,
@@ -171,10 +171,19 @@ func badInputs() []badInput {
 			want: []string{"engine.command", "input template: open ", "nope.tmpl: no such file or directory"}},
 		{name: "template/unclosed action", base: "command", files: map[string]string{"point.tmpl": "line 1\nenergy = {{.Key\n"}, code: 1,
 			want: []string{"point.tmpl:3: unclosed action started at ", "point.tmpl:2"}},
-		{name: "template/unknown field at a new point", base: "command", edits: [][2]string{extend}, files: tmpl("{{.Nope}}"), code: 3, grows: true,
-			want: []string{"failed: r=1.00000 (setup-failed", "point.tmpl:1:28", "can't evaluate field Nope"}},
-		{name: "template/unknown unit at a new point", base: "command", edits: [][2]string{extend}, files: tmpl(`{{.XYZ "parsec"}}`), code: 3, grows: true,
-			want: []string{"failed: r=1.00000 (setup-failed", `unknown length unit "parsec"`}},
+		// Issue 15 item 10: these hung plan and run, or wrote gigabytes.
+		{name: "template/empty loop of 1e11", base: "command", files: map[string]string{"point.tmpl": "{{range 100000000000}}{{end}}energy = -1\n"}, args: []string{"plan", "DIR"}, code: 1,
+			want: []string{"point.tmpl:1:", "more than the 1000000 a template may loop over a constant"}},
+		{name: "template/loop of 1e8 writing", base: "command", files: map[string]string{"point.tmpl": "{{range 100000000}}x{{end}}\n"}, args: []string{"plan", "DIR"}, code: 1,
+			want: []string{"point.tmpl:1:", "runs 1e+08 times"}},
+		{name: "template/edited, then a new point", base: "command", edits: [][2]string{extend}, files: tmpl("{{.Nope}}"), code: 1,
+			// Issue 15 item 4: the template is part of the fingerprint, so
+			// editing it and extending the grid is refused, not mixed.
+			want: []string{"spec changed since this scan started", "the contents of the engine's files (input template"}},
+		{name: "template/edited unit, then a new point", base: "command", edits: [][2]string{extend}, files: tmpl(`{{.XYZ "parsec"}}`), code: 1,
+			// Issue 15 item 4: the template is part of the fingerprint, so
+			// editing it and extending the grid is refused, not mixed.
+			want: []string{"spec changed since this scan started", "the contents of the engine's files (input template"}},
 		// table
 		{name: "table/no units", base: "model", files: table("r,energy\n1.0,-1.1\n1.1,-1.2\n1.2,-1.15\n"), args: fit(), code: 1,
 			want: []string{"tb.csv: need a coordinate column with a length or angle unit", "got r (no unit), energy (no unit)"}},
@@ -189,7 +198,7 @@ func badInputs() []badInput {
 		{name: "table/too few points", base: "model", files: table(goodTableHeader + "1.0,-1.1\n"), args: fit(), code: 1,
 			want: []string{"tb.csv: fit: 1 usable points; a minimum needs at least 3"}},
 		{name: "table/repeated coordinate", base: "model", files: table(goodTableHeader + "1.0,-1.1\n1.0,-1.2\n1.2,-1.15\n1.3,-1.1\n"), args: fit(), code: 1,
-			want: []string{"tb.csv: fit: two points at the same coordinate"}},
+			want: []string{"tb.csv:3: r = 1 repeats the coordinate of line 2"}},
 		{name: "table/file missing", base: "model", args: fit(), code: 1,
 			want: []string{"fit: open ", "tb.csv: no such file or directory"}},
 		// paths that leave the scan directory, and size limits
@@ -226,8 +235,10 @@ func badInputs() []badInput {
 			want: []string{`[engine.command] energy: parsers: energy pattern "(" is not a valid regular expression`}},
 		{name: "command/bad energy unit", base: "command", edits: [][2]string{{`energy = { label = "energy", unit = "hartree" }`, `energy = { label = "energy", unit = "kcal/fortnight" }`}}, code: 1,
 			want: []string{`[engine.command] energy: parsers: unknown energy unit "kcal/fortnight"`}},
-		{name: "command/no energy at a new point", base: "command", edits: [][2]string{extend}, files: tmpl("nothing"), code: 3, grows: true,
-			want: []string{"failed: r=1.00000 (energy-missing", `no line matches label "energy"`, "| nothing"}},
+		{name: "command/template edited to print nothing, then a new point", base: "command", edits: [][2]string{extend}, files: tmpl("nothing"), code: 1,
+			// Issue 15 item 4: the template is part of the fingerprint, so
+			// editing it and extending the grid is refused, not mixed.
+			want: []string{"spec changed since this scan started", "the contents of the engine's files (input template"}},
 	}
 }
 

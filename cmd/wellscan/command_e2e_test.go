@@ -349,3 +349,108 @@ basis = "cc-pVDZ"
 		t.Errorf("summary does not name CCSD(T)(fc)/cc-pVDZ: %v\n%s", err, sum)
 	}
 }
+
+// TestScan_RelaxedThroughProgram runs a relaxed bend scan through an
+// external program (runner/command/testdata/bend.awk, a toy force field
+// with analytic forces) twice: reading the program's forces, and by
+// central differences of its energies. With the bonds relaxed the energy
+// is exactly the bend term E0 + kt/2 (θ − θ0)² of the script's invented
+// constants (an independent closed form), and both ways must agree.
+func TestScan_RelaxedThroughProgram(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs awk a few hundred times")
+	}
+	if _, err := exec.LookPath("awk"); err != nil {
+		t.Skip("awk not installed")
+	}
+	awk, err := filepath.Abs(filepath.Join("..", "..", "runner", "command", "testdata", "bend.awk"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	tmpl, err := os.ReadFile(filepath.Join("..", "..", "runner", "command", "testdata", "morse.tmpl"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct{ name, gradient string }{
+		{"forces read", `gradient = { label = "forces (eV/Angstrom)", unit = "eV/angstrom", sign = "force" }`},
+		{"differences", ``},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			dir := t.TempDir()
+			spec := `title = "toy bend through awk"
+[molecule]
+geometry = """
+O 0 0 0
+H 0.9 0 0.1
+H -0.3 0.95 0
+"""
+[[scan]]
+name = "theta"
+angle = [2, 1, 3]
+values = [95, 104, 115]
+relax = true
+[refine]
+adaptive = false
+[engine]
+kind = "command"
+[engine.command]
+template = "morse.tmpl"
+input = "point.inp"
+command = ["awk", "-f", "` + awk + `", "point.inp"]
+timeout = "30s"
+energy = { label = "bend toy energy / eV", unit = "eV" }
+` + tc.gradient + `
+[queue]
+workers = 1
+`
+			for name, text := range map[string][]byte{"scan.toml": []byte(spec), "morse.tmpl": tmpl} {
+				if err := os.WriteFile(filepath.Join(dir, name), text, 0o644); err != nil {
+					t.Fatal(err)
+				}
+			}
+			if code, out, errs := runCLI(t, "", "run", dir, "-q"); code != 0 {
+				t.Fatalf("run: exit %d\n%s%s", code, out, errs)
+			}
+			code, out, errs := runCLI(t, "", "export", dir, "--format", "json")
+			if code != 0 {
+				t.Fatalf("export: exit %d\n%s", code, errs)
+			}
+			type point struct {
+				Mode        string             `json:"scan_mode"`
+				Coordinates map[string]float64 `json:"coordinates"`
+				Energy      *float64           `json:"energy_hartree"`
+			}
+			var pts []point
+			dec := json.NewDecoder(strings.NewReader(out))
+			for dec.More() {
+				var p point
+				if err := dec.Decode(&p); err != nil {
+					t.Fatal(err)
+				}
+				if p.Mode != "relaxed" {
+					t.Errorf("export: point scan_mode %q, want relaxed", p.Mode)
+				}
+				pts = append(pts, p)
+			}
+			if len(pts) != 3 {
+				t.Fatalf("export: %d points, want 3", len(pts))
+			}
+			const hartree = 27.211386245988 // eV, CODATA 2018
+			for _, p := range pts {
+				th := p.Coordinates["theta"] * math.Pi / 180
+				d := th - 104*math.Pi/180
+				want := (-2000 + 0.5*4*d*d) / hartree // bend.awk's invented constants
+				// 1e-8 hartree: the optimiser's force threshold (4.5e-4
+				// Eh/bohr) on bonds of 40 eV/Å² leaves them ~1e-5 Å from r0,
+				// an energy error far below this.
+				if p.Energy == nil || math.Abs(*p.Energy-want) > 1e-8 {
+					t.Errorf("θ = %v°: E = %v hartree, want %.10f", p.Coordinates["theta"], p.Energy, want)
+				}
+			}
+			code, out, _ = runCLI(t, "", "export", dir, "--format", "xyz")
+			if code != 0 || !strings.Contains(out, "scan=relaxed") {
+				t.Errorf("export xyz: exit %d, no scan=relaxed in the comments", code)
+			}
+		})
+	}
+}

@@ -200,6 +200,9 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	}
 	var r io.Reader = a.stdin
 	if path != "-" {
+		if err := planner.CheckRegular(path); err != nil {
+			return err
+		}
 		f, err := os.Open(path)
 		if err != nil {
 			return err

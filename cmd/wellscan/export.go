@@ -65,7 +65,10 @@ func newExportCommand(a *app) *cobra.Command {
 			if err != nil {
 				return err
 			}
-			return exportXYZ(a, spec, in)
+			if err := notForceField(spec, args[0], "export --format xyz"); err != nil {
+				return err
+			}
+			return exportXYZ(a, spec, in, args[0])
 		},
 	}
 	o.AddFlags(cmd.Flags())
@@ -78,6 +81,7 @@ type exportPoint struct {
 	Coordinates   map[string]float64 `json:"coordinates"`
 	Units         map[string]string  `json:"coordinate_units"`
 	State         string             `json:"state"`
+	ScanMode      string             `json:"scan_mode"` // rigid or relaxed
 	EnergyHartree *float64           `json:"energy_hartree"`
 	Attempts      int                `json:"attempts"`
 	LastError     string             `json:"last_error,omitempty"`
@@ -102,7 +106,7 @@ func exportJSON(a *app, in report.Input) error {
 		for i, ax := range in.Axes {
 			c[ax.Name] = p.Values[i]
 		}
-		e := exportPoint{Key: p.Key, Coordinates: c, Units: units, State: p.State, EnergyHartree: p.Energy, Attempts: p.Attempts, LastError: p.Error,
+		e := exportPoint{Key: p.Key, Coordinates: c, Units: units, State: p.State, ScanMode: modeOf(in), EnergyHartree: p.Energy, Attempts: p.Attempts, LastError: p.Error,
 			Iterations: p.Iterations, SSquared: p.SSquared, DipoleDebye: p.DipoleDebye}
 		if m := p.MP2; m != nil {
 			ref, corr, ss, os := m.Reference, m.Correlation, m.SameSpin, m.OppositeSpin
@@ -117,7 +121,7 @@ func exportJSON(a *app, in report.Input) error {
 
 // exportXYZ writes every done point's geometry (rebuilt from its key, as
 // the engine saw it) in Å.
-func exportXYZ(a *app, spec *planner.Spec, in report.Input) error {
+func exportXYZ(a *app, spec *planner.Spec, in report.Input, dir string) error {
 	var frames []parsers.Frame
 	for _, p := range in.Points {
 		if p.Energy == nil {
@@ -131,7 +135,13 @@ func exportXYZ(a *app, spec *planner.Spec, in report.Input) error {
 		if err != nil {
 			return fmt.Errorf("export: point %s: %w", p.Key, err)
 		}
-		f := parsers.Frame{Comment: parsers.FormatXYZComment(p.Key, *p.Energy)}
+		if spec.Relaxed() {
+			// The optimised geometry the energy belongs to.
+			if mol, err = relaxedGeometry(dir, p.Key, mol); err != nil {
+				return fmt.Errorf("export: point %s: %w", p.Key, err)
+			}
+		}
+		f := parsers.Frame{Comment: parsers.FormatXYZComment(p.Key, *p.Energy) + " scan=" + spec.ScanMode()}
 		for _, at := range mol.Atoms {
 			f.Labels = append(f.Labels, at.Element.Symbol)
 			f.Coords = append(f.Coords, [3]float64{at.Pos[0] * planner.BohrInAngstrom, at.Pos[1] * planner.BohrInAngstrom, at.Pos[2] * planner.BohrInAngstrom})

@@ -73,8 +73,8 @@ func TestFitCommand_Table_JSON(t *testing.T) {
 		t.Errorf("r_e = %v Å, want %v", got, 2.13*planner.BohrInAngstrom)
 	}
 	iso := m["isotopologues"].([]any)
-	if len(iso) != 2 || iso[1].(map[string]any)["name"] != "13C16O" {
-		t.Errorf("isotopologues = %v, want 12C16O and 13C16O", iso)
+	if len(iso) != 2 || iso[1].(map[string]any)["name"] != "¹³C¹⁶O" {
+		t.Errorf("isotopologues = %v, want ¹²C¹⁶O and ¹³C¹⁶O", iso)
 	}
 }
 
@@ -84,9 +84,29 @@ func TestFitCommand_Table_Text(t *testing.T) {
 	if err != nil {
 		t.Fatalf("fit: %v\n%s", err, out)
 	}
-	for _, want := range []string{"r_e = 1.1271", "12C16O", "G(v)/cm⁻¹"} {
+	for _, want := range []string{"r_e = 1.1271", "¹²C¹⁶O", "G(v), from the potential's minimum"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("text output lacks %q:\n%s", want, out)
+		}
+	}
+	// The text prints the JSON's calibrated uncertainties, not other ones.
+	js, err := runFit(t, "--table", p, "--atoms", "C,O", "--json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var res fit.Result
+	if err := json.Unmarshal([]byte(js), &res); err != nil {
+		t.Fatal(err)
+	}
+	m := res.Minima[0]
+	for _, want := range []string{
+		"ω_e = " + pm(m.OmegaE, m.OmegaEUnc, 3, false),
+		"ω_e x_e = " + pm(m.OmegaExe, m.OmegaExeUnc, 4, false),
+		"r_e = " + pm(m.REAngstrom, m.REUncAng, 6, false),
+		"G(0) = " + pm(m.ZPEGrid, m.ZPEGridUnc, 2, false),
+	} {
+		if !strings.Contains(out, want) {
+			t.Errorf("text output lacks the JSON's %q:\n%s", want, out)
 		}
 	}
 }
@@ -136,5 +156,47 @@ func TestFitConstants_SameAsPlanner(t *testing.T) {
 		if c.fit != c.plan {
 			t.Errorf("%s: fit has %v, planner %v", c.name, c.fit, c.plan)
 		}
+	}
+}
+
+func TestFitCommand_BadFlagsAndTableValues_Errors(t *testing.T) {
+	good := writeMorseTable(t)
+	writeTable := func(rows string) string {
+		p := filepath.Join(t.TempDir(), "bad.csv")
+		if err := os.WriteFile(p, []byte("r [angstrom], E [hartree], weight, converged\n"+rows), 0o600); err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	rows := "1.0, -1.0, 1, 1\n1.1, -1.1, 1, 1\n1.2, -1.05, 1, 1\n1.3, -1.0, 1, 1\n"
+	for _, tc := range []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"negative window", []string{"--table", good, "--window-hartree", "-0.01"}, "--window-hartree -0.01"},
+		{"NaN window", []string{"--table", good, "--window-hartree", "NaN"}, "--window-hartree NaN"},
+		{"negative noise", []string{"--table", good, "--noise-hartree", "-1e-6"}, "--noise-hartree"},
+		{"infinite noise", []string{"--table", good, "--noise-hartree", "Inf"}, "--noise-hartree"},
+		{"zero effective mass", []string{"--table", good, "--effective-mass", "0"}, "--effective-mass 0"},
+		{"NaN limit", []string{"--table", good, "--limit-hartree", "NaN"}, "--limit-hartree NaN"},
+		// The table's lowest energy is −100 hartree (writeMorseTable).
+		{"limit below the minimum", []string{"--table", good, "--atoms", "C,O", "--limit-hartree", "-100.5"}, "--limit-hartree -100.5 lies at or below the lowest energy"},
+		{"isotopes of other elements", []string{"--table", good, "--atoms", "C,O", "--isotopes", "2H,16O"}, "--isotopes 2H,16O: the elements H,O do not match --atoms C,O"},
+		{"row at r = 0", []string{"--table", writeTable("0, -1.0, 1, 1\n" + rows), "--atoms", "C,O"}, "bad.csv:2: r = 0 angstrom is not a positive distance"},
+		{"negative r", []string{"--table", writeTable(rows + "-1.4, -0.9, 1, 1\n"), "--atoms", "C,O"}, "bad.csv:6: r = -1.4 angstrom"},
+		{"repeated r", []string{"--table", writeTable(rows + "1.1, -1.1, 1, 1\n"), "--atoms", "C,O"}, "bad.csv:6: r = 1.1 repeats the coordinate of line 3"},
+		{"negative weight", []string{"--table", writeTable(rows + "1.4, -0.9, -2, 1\n")}, "bad.csv:6: weight -2 is negative"},
+		{"converged flag 2", []string{"--table", writeTable(rows + "1.4, -0.9, 1, 2\n")}, "bad.csv:6: converged = 2"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			out, err := runFit(t, tc.args...)
+			if err == nil {
+				t.Fatalf("no error; output:\n%s", out)
+			}
+			if !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("error %q lacks %q", err, tc.want)
+			}
+		})
 	}
 }

@@ -193,6 +193,10 @@ func printEndFit(ctx context.Context, w io.Writer, dir string, spec *planner.Spe
 	if ctx.Err() != nil {
 		return
 	}
+	if spec.ForceField() != nil {
+		printEndForceField(w, dir, spec)
+		return
+	}
 	o := &fitOptions{limit: math.NaN()}
 	res, err := fitScanDir(ctx, dir, spec, o)
 	fmt.Fprintln(w)

@@ -45,10 +45,10 @@ func specMethod(spec *planner.Spec, mol planner.Molecule) string {
 	return e.Kind
 }
 
-// scanKind says how the coordinates not scanned are treated. Every scan
-// is rigid today (the other coordinates stay at the reference geometry);
-// a relaxed scan says "relaxed" here.
-func scanKind(*planner.Spec) string { return "rigid" }
+// scanKind says how the coordinates not scanned are treated: "rigid"
+// (they stay at the reference geometry) or "relaxed" (optimised at every
+// point).
+func scanKind(spec *planner.Spec) string { return spec.ScanMode() }
 
 // scanLabel is the one-line label of a scan: isotopologue, method and
 // basis, and rigid or relaxed — "HDO · UHF/6-31G* · rigid scan".

@@ -1,6 +1,8 @@
 package main
 
 import (
+	"context"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -57,7 +59,7 @@ stops the plan with the template's file and line.`,
 					return err
 				}
 			}
-			return renderInputs(a.stdout, args[0], spec)
+			return renderInputs(cmd.Context(), a.stdout, args[0], spec)
 		},
 	}
 	cmd.Flags().BoolVar(&o.geometries, "geometries", false, "also print the geometry (Å) of every point of round 1")
@@ -107,7 +109,7 @@ func printProgram(w io.Writer, c command.Config) error {
 func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 	mol, _ := spec.Molecule()
 	if spec.Title != "" {
-		fmt.Fprintf(w, "scan: %s\n", spec.Title)
+		fmt.Fprintf(w, "scan: %s\n", sanitizeLine(spec.Title))
 	}
 	fmt.Fprintf(w, "label: %s\n", scanLabel(spec, mol))
 	fmt.Fprintf(w, "molecule: %s, %s, %d electrons, charge %s, multiplicity %d%s\n", mol.Isotopologue(), plural(len(mol.Atoms), "atom"), mol.Electrons(), signed(mol.Charge),
@@ -136,7 +138,11 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 	for _, n := range spec.Notes() {
 		fmt.Fprintf(w, "note: %s\n", n)
 	}
-	fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned stays at the reference geometry)\n", scanKind(spec))
+	if spec.Relaxed() {
+		fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned is optimised at each point; %d held)\n", scanKind(spec), len(spec.Held()))
+	} else {
+		fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned stays at the reference geometry)\n", scanKind(spec))
+	}
 	e := spec.Engine
 	switch e.Kind {
 	case "builtin":
@@ -170,6 +176,13 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 		fmt.Fprintf(w, ", timeout %s per point", spec.Queue.Timeout.Duration)
 	}
 	fmt.Fprintln(w)
+	if spec.ForceField() != nil {
+		fmt.Fprintln(w)
+		if err := printForceFieldPlan(w, spec); err != nil {
+			fmt.Fprintf(w, "force field: %v\n", err)
+		}
+		return
+	}
 	pts := spec.InitialPoints()
 	fmt.Fprintf(w, "\nround 1: %d points\n", len(pts))
 	for _, p := range pts {
@@ -254,7 +267,7 @@ func atoms1(idx []int) string {
 // renderInputs renders the round-1 inputs of a command scan into
 // DIR/plan-inputs/<key>.in, so that template mistakes show before anything
 // runs. Other engines need nothing rendered.
-func renderInputs(w io.Writer, dir string, spec *planner.Spec) error {
+func renderInputs(ctx context.Context, w io.Writer, dir string, spec *planner.Spec) error {
 	if spec.Engine.Kind != "command" {
 		return nil
 	}
@@ -263,7 +276,12 @@ func renderInputs(w io.Writer, dir string, spec *planner.Spec) error {
 		return err
 	}
 	out := filepath.Join(dir, "plan-inputs")
-	if err := os.MkdirAll(out, 0o700); err != nil {
+	fs, err := runner.OpenScanFS(dir)
+	if err != nil {
+		return err
+	}
+	defer fs.Close()
+	if err := fs.MkdirAll("plan-inputs"); err != nil {
 		return err
 	}
 	pts := spec.InitialPoints()
@@ -272,12 +290,17 @@ func renderInputs(w io.Writer, dir string, spec *planner.Spec) error {
 		if err != nil {
 			return fmt.Errorf("point %s: %w", p.Key, err)
 		}
-		text, err := b.Render(runner.Task{Key: p.Key, Values: p.Values, Mol: mol})
+		text, err := b.RenderContext(ctx, runner.Task{Key: p.Key, Values: p.Values, Mol: mol})
 		if err != nil {
 			return fmt.Errorf("point %s: %w", p.Key, err)
 		}
-		if err := os.WriteFile(filepath.Join(out, p.Key+".in"), text, 0o600); err != nil {
+		f, err := fs.Create(filepath.Join("plan-inputs", p.Key+".in"))
+		if err != nil {
 			return err
+		}
+		_, werr := f.Write(text)
+		if err := errors.Join(werr, f.Close()); err != nil {
+			return fmt.Errorf("plan: %w", err)
 		}
 	}
 	fmt.Fprintf(w, "rendered %d inputs of round 1 into %s\n", len(pts), out)

@@ -73,9 +73,20 @@ stopped part-way; what is missing is said loudly in the summary.`,
 			in.Conditions.Date = date
 			out := o.out
 			if out == "" {
+				// Inside the scan: confined, never through a symbolic link.
 				out = filepath.Join(dir, "report")
-			}
-			if err := report.Write(cmd.Context(), out, in); err != nil {
+				fs, err := runner.OpenScanFS(dir)
+				if err != nil {
+					return err
+				}
+				defer fs.Close()
+				if err := fs.MkdirAll("report"); err != nil {
+					return err
+				}
+				if err := report.WriteTo(cmd.Context(), runner.ReportDest{FS: fs, Rel: "report"}, in); err != nil {
+					return err
+				}
+			} else if err := report.Write(cmd.Context(), out, in); err != nil {
 				return err
 			}
 			for _, f := range report.Files() {
@@ -104,6 +115,9 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	if err != nil {
 		return in, err
 	}
+	if err := notForceField(spec, dir, "report/export"); err != nil {
+		return in, err
+	}
 	mol, err := spec.Molecule()
 	if err != nil {
 		return in, err
@@ -126,13 +140,18 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true, Timeout: 300 * time.Millisecond})
 	switch {
 	case err == nil:
+		ferr := runner.CheckFingerprint(st, spec)
 		recs, rerr := st.Points()
 		rounds, rrerr := st.Rounds()
 		st.Close()
-		if err := errors.Join(rerr, rrerr); err != nil {
+		if err := errors.Join(ferr, rerr, rrerr); err != nil {
 			return in, err
 		}
 		for _, r := range recs {
+			if r.Damaged != "" {
+				// A record that fails its checksum shows no number.
+				r.Energy, r.State, r.LastError = nil, runner.Failed, r.Damaged+"; the next run repairs it"
+			}
 			p := report.Point{Key: r.Key, Values: spec.DisplayValues(planner.Point{Values: r.Values}),
 				State: string(r.State), Energy: r.Energy, Attempts: r.Attempts, Error: r.LastError}
 			addDiagnostics(&p, r, spec.Engine.Kind)
@@ -146,6 +165,9 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 		snap, serr := runner.ReadSnapshot(dir)
 		if serr != nil {
 			return in, fmt.Errorf("%w (and no snapshot: %w)", err, serr)
+		}
+		if err := runner.CheckSnapshotFingerprint(dir, snap, spec); err != nil {
+			return in, err
 		}
 		in.Notes = append(in.Notes, fmt.Sprintf("the scan is still running (PID %d on %s): this report shows the snapshot of %s", snap.PID, snap.Host, snap.Updated.UTC().Format(time.RFC3339)))
 		errs := map[string]string{}

@@ -243,7 +243,7 @@ func TestReport_ModelMorse_Pictures(t *testing.T) {
 	})
 	t.Run("html", func(t *testing.T) {
 		h := string(readFile(t, filepath.Join(dir, "report", "summary.html")))
-		for _, want := range []string{"<svg", "</svg>", "<table>", "12C16O", "r=1.35000", "Failed points (1)"} {
+		for _, want := range []string{"<svg", "</svg>", "<table>", "¹²C¹⁶O", "r=1.35000", "Failed points (1)"} {
 			if !strings.Contains(h, want) {
 				t.Errorf("summary.html lacks %q", want)
 			}
@@ -313,7 +313,7 @@ func TestExport_Formats(t *testing.T) {
 		if err != nil {
 			t.Fatalf("export xyz does not read back: %v", err)
 		}
-		csvRows := strings.Count(string(readFile(t, filepath.Join(dir, "report", "curve.csv"))), ",done\n")
+		csvRows := strings.Count(string(readFile(t, filepath.Join(dir, "report", "curve.csv"))), ",done,")
 		if len(frames) != csvRows {
 			t.Errorf("%d frames, want one per done point (%d)", len(frames), csvRows)
 		}

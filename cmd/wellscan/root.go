@@ -14,6 +14,10 @@ import (
 type app struct {
 	stdin          io.Reader
 	stdout, stderr io.Writer
+	// rawStderr is stderr without escaping, for the progress line's own
+	// terminal codes (and to tell whether stderr is a terminal); nil:
+	// stderr.
+	rawStderr io.Writer
 }
 
 // version is set at build time with -ldflags "-X main.version=…"; commit
@@ -30,7 +34,7 @@ const exitCodeTable = `Exit codes:
   2    internal error (Go runtime panic)
   3    the scan finished but some points failed
   11   the scan is being run by another process
-  130  interrupted (Ctrl-C / SIGINT / SIGTERM)`
+  130  interrupted (Ctrl-C / SIGINT, SIGTERM, SIGHUP, SIGPIPE)`
 
 func newRootCommand(a *app) *cobra.Command {
 	root := &cobra.Command{
@@ -47,10 +51,11 @@ external program, and turned into spectroscopic constants.
 	}
 	root.AddCommand(newVersionCommand(a))
 	root.AddCommand(newReportCommand(a), newExportCommand(a))
-	root.AddCommand(newEnergyCommand(a))
+	root.AddCommand(newEnergyCommand(a), newRelaxCommand(a))
 	root.AddCommand(newBasisCommand(a))
 	root.AddCommand(newFitCommand(a))
-	root.AddCommand(newCancelCommand(a))
+	root.AddCommand(newForcefieldCommand(a))
+	root.AddCommand(newCancelCommand(a), newStoreCommand(a), newRetryCommand(a), newDropCommand(a))
 	root.AddCommand(newNodeTaskCommand(a))
 	root.AddCommand(newInitCommand(a), newPlanCommand(a), newRunCommand(a), newStatusCommand(a), newDemoCommand(a))
 	return root

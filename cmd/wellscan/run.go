@@ -132,7 +132,11 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 		enc := json.NewEncoder(a.stdout)
 		r.OnEvent = func(e runner.Event) { _ = enc.Encode(jsonEvent(e)) }
 	case !o.quiet:
-		r.OnEvent = newProgressPrinter(a.stderr, spec).event
+		w := a.rawStderr
+		if w == nil {
+			w = a.stderr
+		}
+		r.OnEvent = newProgressPrinter(w, spec).event
 	}
 	sum, err := r.Run(ctx)
 	switch {
@@ -179,11 +183,11 @@ func newProgressPrinter(w io.Writer, spec *planner.Spec) *progressPrinter {
 
 func (p *progressPrinter) event(e runner.Event) {
 	switch e.Kind {
-	case "round", "refine", "resume", "interrupt", "detach", "retry", string(runner.Failed):
+	case "round", "refine", "resume", "interrupt", "detach", "retry", "repair", "warning", string(runner.Failed):
 		if p.tty {
 			fmt.Fprint(p.w, "\r\033[K")
 		}
-		msg := e.Message
+		msg := sanitizeLine(e.Message)
 		if e.Key != "" {
 			msg = e.Key + ": " + msg
 		}
@@ -216,7 +220,7 @@ func (p *progressPrinter) event(e runner.Event) {
 
 func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary) {
 	if spec.Title != "" {
-		fmt.Fprintf(w, "scan: %s (%s)\n", spec.Title, dir)
+		fmt.Fprintf(w, "scan: %s (%s)\n", sanitizeLine(spec.Title), dir)
 	}
 	if mol, err := spec.Molecule(); err == nil {
 		fmt.Fprintf(w, "label: %s\n", scanLabel(spec, mol))
@@ -225,8 +229,12 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 		}
 	}
 	printWarnings(w, s.Warnings)
-	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed, %d not run · computed now %d, from earlier runs %d · %s\n",
-		s.Rounds, s.Counts[runner.Done], s.Counts[runner.Failed], s.Counts[runner.Planned]+s.Counts[runner.Running]+s.Counts[runner.Submitted],
+	dropped := ""
+	if n := s.Counts[runner.Dropped]; n > 0 {
+		dropped = fmt.Sprintf(", %d dropped", n)
+	}
+	fmt.Fprintf(w, "rounds: %d · points: %d done, %d failed%s, %d not run · computed now %d, from earlier runs %d · %s\n",
+		s.Rounds, s.Counts[runner.Done], s.Counts[runner.Failed], dropped, s.Counts[runner.Planned]+s.Counts[runner.Running]+s.Counts[runner.Submitted],
 		s.Computed, s.Earlier+s.Reused, s.Elapsed.Round(time.Millisecond))
 	if s.Status != "" {
 		fmt.Fprintf(w, "refinement: %s — %s\n", s.Status, s.Reason)
@@ -238,12 +246,15 @@ func printSummary(w io.Writer, spec *planner.Spec, dir string, s runner.Summary)
 		}
 		fmt.Fprintln(w)
 	}
+	if len(s.Failed) > 0 {
+		fmt.Fprintf(w, "retry them: wellscan retry %s --all (or by key, or --class CLASS); take them out: wellscan drop %s KEY...\n", dir, dir)
+	}
 	for i, f := range s.Failed {
 		if i == 5 {
 			fmt.Fprintf(w, "… and %d more failed points (wellscan status %s)\n", len(s.Failed)-5, dir)
 			break
 		}
-		fmt.Fprintf(w, "failed: %s (%s, %s): %s\n", f.Key, f.Class, plural(f.Attempts, "attempt"), strings.TrimSpace(f.LastError))
+		fmt.Fprintf(w, "failed: %s (%s, %s): %s\n", f.Key, f.Class, plural(f.Attempts, "attempt"), sanitizeLine(strings.TrimSpace(f.LastError)))
 	}
 }
 

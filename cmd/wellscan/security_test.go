@@ -30,6 +30,10 @@ func TestRun_ScanFiles_PrivateByDefault(t *testing.T) {
 			if code, out, errs := wellscan(t, "run", "-q", dir); code != 0 {
 				t.Fatalf("run: exit %d\n%s%s", code, out, errs)
 			}
+			// Issue 15 item 2: report/ was 0755 with 0644 files.
+			if code, out, errs := wellscan(t, "report", dir); code != 0 {
+				t.Fatalf("report: exit %d\n%s%s", code, out, errs)
+			}
 			mine := map[string]bool{"scan.toml": true, "point.tmpl": true, ".": true}
 			seen := map[string]bool{}
 			err := filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
@@ -57,7 +61,7 @@ func TestRun_ScanFiles_PrivateByDefault(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			for _, f := range []string{runner.DBFile, runner.StatusFile, runner.PointsDir} {
+			for _, f := range []string{runner.DBFile, runner.StatusFile, runner.PointsDir, "report"} {
 				if !seen[f] {
 					t.Errorf("the run left no %s to check", f)
 				}

@@ -55,7 +55,20 @@ fails it by the scheduler's verdict). It never changes the store.`,
 				return err
 			}
 			snap, source, err := readStatus(dir, spec)
-			if err != nil {
+			mismatch := errors.Is(err, runner.ErrSpecChanged)
+			if err != nil && !mismatch {
+				return err
+			}
+			if mismatch {
+				// Shown, but loudly marked, and the exit code says so.
+				fmt.Fprintf(a.stdout, "WARNING: %s\n", sanitizeLine(err.Error()))
+				if o.json {
+					enc := json.NewEncoder(a.stdout)
+					enc.SetIndent("", "  ")
+					_ = enc.Encode(statusJSON{Snapshot: snap, SpecMismatch: err.Error()})
+					return err
+				}
+				printStatus(a.stdout, spec, snap, source)
 				return err
 			}
 			var view *slurm.View
@@ -85,6 +98,9 @@ fails it by the scheduler's verdict). It never changes the store.`,
 type statusJSON struct {
 	runner.Snapshot
 	Queue *slurm.View `json:"queue,omitempty"`
+	// SpecMismatch says why the stored points do not belong to scan.toml
+	// as it is now (see runner.CheckFingerprint).
+	SpecMismatch string `json:"spec_mismatch,omitempty"`
 }
 
 // inspectQueue reconciles the points in flight with the scheduler and the
@@ -157,7 +173,10 @@ func sortedCounts(m map[string]int) []string {
 	return ks
 }
 
-// readStatus reads the store if no run holds it, else the snapshot.
+// readStatus reads the store if no run holds it, else the snapshot. When
+// the stored points were computed for another spec (scan.toml edited, or
+// a store copied from another scan) it returns the snapshot and an error
+// wrapping runner.ErrSpecChanged.
 func readStatus(dir string, spec *planner.Spec) (runner.Snapshot, string, error) {
 	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true, Timeout: 300 * time.Millisecond})
 	switch {
@@ -168,13 +187,16 @@ func readStatus(dir string, spec *planner.Spec) (runner.Snapshot, string, error)
 		if li := runner.ReadLockInfo(dir); li != nil {
 			source += "; note: " + runner.StaleLockMessage(dir, li) + " (wellscan run resumes it)"
 		}
+		if err == nil {
+			err = runner.CheckFingerprint(st, spec)
+		}
 		return snap, source, err
 	case errors.Is(err, runner.ErrLocked):
 		snap, serr := runner.ReadSnapshot(dir)
 		if serr != nil {
 			return snap, "", fmt.Errorf("%w (and no snapshot: %w)", err, serr)
 		}
-		return snap, fmt.Sprintf("snapshot of %s, run by PID %d on %s", snap.Updated.Local().Format("15:04:05"), snap.PID, snap.Host), nil
+		return snap, fmt.Sprintf("snapshot of %s, run by PID %d on %s", snap.Updated.Local().Format("15:04:05"), snap.PID, snap.Host), runner.CheckSnapshotFingerprint(dir, snap, spec)
 	case errors.Is(err, runner.ErrNoStore):
 		return runner.Snapshot{}, "", fmt.Errorf("%s has not been run yet (wellscan run %s)", dir, dir)
 	}
@@ -183,9 +205,12 @@ func readStatus(dir string, spec *planner.Spec) (runner.Snapshot, string, error)
 
 func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source string) {
 	if s.Title != "" {
-		fmt.Fprintf(w, "scan: %s\n", s.Title)
+		fmt.Fprintf(w, "scan: %s\n", sanitizeLine(s.Title))
 	}
 	fmt.Fprintf(w, "source: %s\n", source)
+	if spec != nil {
+		fmt.Fprintf(w, "%s\n", scanModeLine(spec))
+	}
 	var parts []string
 	for _, st := range runner.States {
 		parts = append(parts, fmt.Sprintf("%s %d", st, s.Counts[string(st)]))
@@ -212,6 +237,6 @@ func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source stri
 	errs := append([]runner.PointErrorJSON(nil), s.LastErrors...)
 	sort.SliceStable(errs, func(i, j int) bool { return errs[i].State == runner.Failed && errs[j].State != runner.Failed })
 	for _, e := range errs {
-		fmt.Fprintf(w, "error: %s (%s, now %s): %s\n", e.Key, e.Class, e.State, e.Error)
+		fmt.Fprintf(w, "error: %s (%s, now %s): %s\n", e.Key, e.Class, e.State, sanitizeLine(e.Error))
 	}
 }

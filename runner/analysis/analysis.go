@@ -264,7 +264,7 @@ func line(ctx context.Context, spec *planner.Spec, xs, es []float64, opt Options
 	case diatomic:
 		res.Model = "diatomic"
 		res.MassModel = "diatomic: reduced mass of the two atoms (masses from the spec, AME2020); rotational constants from r_e"
-		name := fmt.Sprintf("%d%s%d%s", mol.Atoms[0].MassNumber, mol.Atoms[0].Element.Symbol, mol.Atoms[1].MassNumber, mol.Atoms[1].Element.Symbol)
+		name := planner.IsotopeLabel(mol.Atoms[0].Element.Symbol, mol.Atoms[0].MassNumber) + planner.IsotopeLabel(mol.Atoms[1].Element.Symbol, mol.Atoms[1].MassNumber)
 		fo.Isotopologues = append([]fit.MassSet{{Name: name, Masses: []float64{mol.Atoms[0].Mass, mol.Atoms[1].Mass}}}, opt.Isotopologues...)
 	default:
 		if len(opt.Isotopologues) > 0 {

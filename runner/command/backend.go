@@ -54,6 +54,9 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	if err := cfg.Check(); err != nil {
 		return nil, fmt.Errorf("%s: engine.command: %w", spec.File(), err)
 	}
+	if err := cfg.Load(); err != nil {
+		return nil, fmt.Errorf("%s: engine.command: %w", spec.File(), err)
+	}
 	return &Backend{cfg: cfg, spec: spec, title: spec.Title}, nil
 }
 
@@ -68,7 +71,7 @@ func (b *Backend) Job(t runner.Task) Job {
 	coords := b.spec.Coordinates()
 	disp := b.spec.DisplayValues(planner.Point{Key: t.Key, Values: t.Values})
 	job := Job{Dir: t.Dir, Title: b.title, Key: t.Key, Coords: map[string]float64{}, CoordUnits: map[string]string{},
-		Charge: t.Mol.Charge, Multiplicity: t.Mol.Multiplicity}
+		Charge: t.Mol.Charge, Multiplicity: t.Mol.Multiplicity, Attempt: t.Attempt}
 	for i, c := range coords {
 		job.Coords[c.Name] = disp[i]
 		unit := "degree"
@@ -87,10 +90,18 @@ func (b *Backend) Job(t runner.Task) Job {
 // `wellscan plan`).
 func (b *Backend) Render(t runner.Task) ([]byte, error) { return b.cfg.Render(b.Job(t)) }
 
+// RenderContext is Render bounded by ctx (see Config.RenderContext).
+func (b *Backend) RenderContext(ctx context.Context, t runner.Task) ([]byte, error) {
+	return b.cfg.RenderContext(ctx, b.Job(t))
+}
+
 // Compute implements runner.Backend. A failed run is an Outcome with its
 // failure class and the error text (which quotes the end of the output),
 // so the runner records it per point and decides on retries by class.
 func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, error) {
+	if b.spec != nil && b.spec.Relaxed() {
+		return b.computeRelaxed(ctx, t)
+	}
 	out, err := b.cfg.Run(ctx, b.Job(t))
 	if err == nil {
 		return runner.Outcome{Energy: out.Energy, Converged: true,

@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"text/template"
 	"time"
 
 	"wellscan/parsers"
@@ -61,6 +62,28 @@ type Config struct {
 	// AllowPositive accepts a positive extracted energy (a relative
 	// energy); otherwise a positive value fails the point as invalid.
 	AllowPositive bool
+	// Gradient, when set, says how to read the nuclear gradient (or
+	// forces) that relaxed scans need; without it they differentiate the
+	// program's energies by central differences.
+	Gradient *parsers.GradientSpec
+	// GradientFrom is like EnergyFrom, for the gradient.
+	GradientFrom string
+
+	// parsed is the template as read once by [Config.Load] (nil: Render
+	// reads the file each time). A scan reads it once, so that every
+	// point of a run uses the text its fingerprint hashed.
+	parsed *template.Template
+}
+
+// Load reads and parses the template once; later renders use that text
+// even if the file changes.
+func (c *Config) Load() error {
+	t, err := c.parseTemplate()
+	if err != nil {
+		return err
+	}
+	c.parsed = t
+	return nil
 }
 
 // ResolvedArg is one argument of the command that named a file in the
@@ -83,6 +106,19 @@ const (
 	ExitStatusFile = "exit-status"
 	GeometryFile   = "point.xyz"
 )
+
+// RunRecordFile is the record of the program running for a point (see
+// the runner's process records); ResultFile is the runner's result file.
+const (
+	RunRecordFile = "running.json"
+	ResultFile    = "result.json"
+)
+
+// ReservedNames lists the file names wellscan itself writes in a point's
+// directory; no input, output or energy file may take one.
+func ReservedNames() []string {
+	return []string{StdoutFile, StderrFile, ExitStatusFile, GeometryFile, RunRecordFile, ResultFile}
+}
 
 // Stdout is the EnergyFrom value that reads the energy from standard output.
 const Stdout = "stdout"
@@ -136,9 +172,9 @@ func (c Config) Validate() error {
 	if c.KillGrace < 0 {
 		return fmt.Errorf("command: kill grace %v is negative", c.KillGrace)
 	}
-	reserved := []string{StdoutFile, StderrFile, ExitStatusFile, GeometryFile}
-	if slices.Contains(reserved, c.InputName) {
-		return fmt.Errorf("command: input file name %q is one wellscan writes itself (%s)", c.InputName, strings.Join(reserved, ", "))
+	reserved := ReservedNames()
+	if slices.Contains(reserved, c.InputName) || strings.HasPrefix(c.InputName, "result.") {
+		return fmt.Errorf("command: input: file name %q is one wellscan writes itself (%s, result.*); the rendered input would overwrite it or be overwritten", c.InputName, strings.Join(reserved, ", "))
 	}
 	for _, o := range c.Outputs {
 		if err := checkFileName("output", o); err != nil {
@@ -161,6 +197,24 @@ func (c Config) Validate() error {
 	if _, err := c.Energy.Compile(); err != nil {
 		return fmt.Errorf("command: energy: %w", err)
 	}
+	if c.Gradient != nil {
+		if _, err := c.Gradient.Compile(); err != nil {
+			return fmt.Errorf("command: gradient: %w", err)
+		}
+	}
+	switch c.GradientFrom {
+	case "", Stdout, StderrFile:
+	default:
+		if c.Gradient == nil {
+			return errors.New("command: gradient_from is set but gradient is not: say how to read the gradient")
+		}
+		if err := checkFileName("gradient_from", c.GradientFrom); err != nil {
+			return err
+		}
+		if c.GradientFrom == c.InputName || slices.Contains(reserved, c.GradientFrom) {
+			return fmt.Errorf("command: gradient_from %q is the input or a file wellscan writes itself; name stdout, stderr or a file the program writes", c.GradientFrom)
+		}
+	}
 	return nil
 }
 
@@ -180,7 +234,9 @@ func checkFileName(what, name string) error {
 
 // configKeys are the keys DecodeConfig accepts, in the order the README
 // lists them.
-var configKeys = []string{"kind", "template", "input", "command", "shell", "script", "env", "timeout", "kill_grace", "outputs", "energy", "energy_from", "allow_positive"}
+var configKeys = []string{"kind", "template", "input", "command", "shell", "script", "env", "timeout", "kill_grace", "outputs", "energy", "energy_from", "allow_positive", "gradient", "gradient_from"}
+
+var gradientKeys = []string{"kind", "label", "pattern", "path", "match", "unit", "sign"}
 
 var energyKeys = []string{"kind", "pattern", "label", "path", "match", "unit"}
 
@@ -239,6 +295,8 @@ func DecodeConfig(m map[string]any, file, table string) (Config, error) {
 	get("energy_from", func(v any) (e error) { c.EnergyFrom, e = d.str("energy_from", v); return })
 	get("allow_positive", func(v any) (e error) { c.AllowPositive, e = d.boolean("allow_positive", v); return })
 	get("energy", func(v any) (e error) { c.Energy, e = d.energy(v); return })
+	get("gradient", func(v any) (e error) { c.Gradient, e = d.gradient(v); return })
+	get("gradient_from", func(v any) (e error) { c.GradientFrom, e = d.str("gradient_from", v); return })
 	if err != nil {
 		return Config{}, err
 	}
@@ -429,4 +487,28 @@ func tomlKind(v any) string {
 		return "a date"
 	}
 	return fmt.Sprintf("a value of type %T", v)
+}
+
+func (d decoder) gradient(v any) (*parsers.GradientSpec, error) {
+	t, ok := v.(map[string]any)
+	if !ok {
+		return nil, d.errf("gradient", "expected a table such as { label = \"gradient\", unit = \"hartree/bohr\" }, got %s", tomlKind(v))
+	}
+	var s parsers.GradientSpec
+	fields := map[string]*string{"kind": &s.Kind, "label": &s.Label, "pattern": &s.Pattern, "path": &s.Path, "match": &s.Match, "unit": &s.Unit, "sign": &s.Sign}
+	for k, e := range t {
+		p, ok := fields[k]
+		if !ok {
+			return nil, d.errf("gradient."+k, "unknown key; expected one of %s", strings.Join(gradientKeys, ", "))
+		}
+		str, err := d.str("gradient."+k, e)
+		if err != nil {
+			return nil, err
+		}
+		*p = str
+	}
+	if _, err := s.Compile(); err != nil {
+		return nil, d.errf("gradient", "%v", err)
+	}
+	return &s, nil
 }

@@ -82,7 +82,12 @@ func TestDecodeConfig_Errors(t *testing.T) {
 		{"energy no group", func(m map[string]any) { m["energy"] = map[string]any{"pattern": `E = (\S+)`, "unit": "eV"} }, "has no group named energy"},
 		{"no template", func(m map[string]any) { delete(m, "template") }, "command: scan.toml: [engine]: no input template"},
 		{"input escapes", func(m map[string]any) { m["input"] = "../point.inp" }, `input file name "../point.inp" must be a relative path inside`},
-		{"input reserved", func(m map[string]any) { m["input"] = "stdout" }, `input file name "stdout" is one wellscan writes itself`},
+		{"input reserved", func(m map[string]any) { m["input"] = "stdout" }, `input: file name "stdout" is one wellscan writes itself`},
+		// Issue 15 item 2: the rendered input would be overwritten by the
+		// result file (and the result by the next render).
+		{"input is the result file", func(m map[string]any) { m["input"] = "result.json" }, `input: file name "result.json" is one wellscan writes itself`},
+		{"input is a kept result", func(m map[string]any) { m["input"] = "result.energy-jump-1.json" }, `input: file name "result.energy-jump-1.json" is one wellscan writes itself`},
+		{"input is the run record", func(m map[string]any) { m["input"] = "running.json" }, `input: file name "running.json" is one wellscan writes itself`},
 		{"shell without script", func(m map[string]any) { m["shell"] = true }, "shell is set but no script is named"},
 		{"shell with command", func(m map[string]any) { m["shell"], m["script"] = true, "run.sh" }, "shell is set, so command must be empty"},
 		{"script without shell", func(m map[string]any) { delete(m, "command"); m["script"] = "run.sh" }, "script is named but shell is not set"},
@@ -109,6 +114,42 @@ func TestConfig_Check_Program(t *testing.T) {
 	c.Args = []string{"wellscan-test-no-such-program"}
 	if err := c.Check(); ClassOf(err) != ProgramMissing {
 		t.Errorf("Check with a missing program = %v, want class %s", err, ProgramMissing)
+	}
+}
+
+func TestDecodeConfig_Gradient(t *testing.T) {
+	base := func() map[string]any {
+		return map[string]any{"template": "t.tmpl", "input": "p.inp", "command": []any{"prog"},
+			"energy": map[string]any{"label": "E", "unit": "hartree"}}
+	}
+	m := base()
+	m["gradient"] = map[string]any{"label": "forces", "unit": "eV/angstrom", "sign": "force"}
+	m["gradient_from"] = "grad.out"
+	c, err := DecodeConfig(m, "/scan/scan.toml", "engine.command")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Gradient == nil || c.Gradient.Sign != "force" || c.GradientFrom != "grad.out" {
+		t.Errorf("decoded gradient %+v from %q", c.Gradient, c.GradientFrom)
+	}
+	for _, tc := range []struct {
+		name string
+		set  func(map[string]any)
+		want string
+	}{
+		{"unknown key", func(m map[string]any) { m["gradient"] = map[string]any{"label": "g", "unit": "au", "scale": "2"} }, "gradient.scale: unknown key"},
+		{"no unit", func(m map[string]any) { m["gradient"] = map[string]any{"label": "g"} }, "gradient unit missing"},
+		{"from without gradient", func(m map[string]any) { m["gradient_from"] = "g.out" }, "gradient_from is set but gradient is not"},
+		{"from outside", func(m map[string]any) {
+			m["gradient"] = map[string]any{"label": "g", "unit": "au"}
+			m["gradient_from"] = "../g.out"
+		}, "inside the point's directory"},
+	} {
+		m := base()
+		tc.set(m)
+		if _, err := DecodeConfig(m, "/scan/scan.toml", "engine.command"); err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: %v; want %q", tc.name, err, tc.want)
+		}
 	}
 }
 

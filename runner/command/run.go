@@ -47,6 +47,11 @@ const (
 	// Cancelled: the context was cancelled; the point did not fail on its
 	// own and should be run again later, without counting an attempt.
 	Cancelled FailureClass = "cancelled"
+	// GradientMissing: a gradient was asked for but the output has none
+	// where the extractor looks.
+	GradientMissing FailureClass = "gradient-missing"
+	// GradientInvalid: the gradient read is not N rows of finite numbers.
+	GradientInvalid FailureClass = "gradient-invalid"
 )
 
 // Retryable reports whether running the same point again may succeed. A
@@ -67,13 +72,19 @@ func (f FailureClass) Retryable() bool {
 // kept output files; ExitCode is -1 when the program did not exit on its
 // own (killed, or never started).
 type Outcome struct {
-	Energy   float64 // hartree; meaningful only when Class is empty
+	Energy float64 // hartree; meaningful only when Class is empty
+	// Gradient is dE/dR per atom (hartree/bohr) when Config.Gradient is
+	// set; nil otherwise.
+	Gradient [][3]float64
 	Class    FailureClass
 	ExitCode int
 	Input    string
 	Stdout   string
 	Stderr   string
 	Elapsed  time.Duration
+	// Adopted: the energy comes from a program an earlier, killed run
+	// started for this point, waited for instead of run again.
+	Adopted bool
 }
 
 // RunError is the error of a failed run. Err is the cause: a
@@ -101,8 +112,11 @@ func ClassOf(err error) FailureClass {
 	return ""
 }
 
-// maxOutputBytes bounds how much of an output file is read for the energy.
-const maxOutputBytes = 512 << 20
+// maxOutputBytes bounds how much of an output file is read for the energy
+// (64 MiB): far more than the output of one point, small enough that
+// several points at once cannot exhaust memory. A larger output fails the
+// point with a message to write the energy to a file of its own.
+const maxOutputBytes = 64 << 20
 
 // stderrTailLines is how many lines of stderr a non-zero exit quotes.
 const stderrTailLines = 8
@@ -118,9 +132,6 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	out := Outcome{ExitCode: -1}
 	fail := func(class FailureClass, err error) (Outcome, error) {
 		out.Class = class
-		if dir != "" {
-			writeStatus(dir, out, err)
-		}
 		return out, &RunError{Key: job.Key, Class: class, Err: err}
 	}
 	if err != nil || job.Dir == "" {
@@ -140,46 +151,78 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		dir = ""
 		return fail(SetupFailed, err)
 	}
+	// Every file of the point is created inside its directory and never
+	// through a symbolic link (see pointFiles).
+	pf, err := openPointFiles(dir)
+	if err != nil {
+		dir = ""
+		return fail(SetupFailed, err)
+	}
+	defer pf.Close()
+	fail = func(class FailureClass, err error) (Outcome, error) {
+		out.Class = class
+		pf.writeStatus(out, err)
+		return out, &RunError{Key: job.Key, Class: class, Err: err}
+	}
 	out.Input = filepath.Join(dir, c.InputName)
 	out.Stdout = filepath.Join(dir, StdoutFile)
 	out.Stderr = filepath.Join(dir, StderrFile)
+
+	// A program left running by an orchestrator that was killed is waited
+	// for (never run a second time beside itself); its output is taken
+	// when it holds a valid energy.
+	if e, ok, class, err := c.adopt(ctx, pf, x, job.Attempt); err != nil {
+		return fail(class, err)
+	} else if ok {
+		out.Energy, out.Adopted = e, true
+		pf.writeStatus(out, nil)
+		return out, nil
+	}
 
 	// A file left by an earlier attempt must not pass for this one's.
 	stale := append(slices.Clone(c.Outputs), ExitStatusFile)
 	if c.EnergyFrom != "" && c.EnergyFrom != Stdout && c.EnergyFrom != StderrFile {
 		stale = append(stale, c.EnergyFrom)
 	}
+	if c.GradientFrom != "" && c.GradientFrom != Stdout && c.GradientFrom != StderrFile {
+		stale = append(stale, c.GradientFrom)
+	}
 	for _, name := range stale {
-		if err := os.Remove(filepath.Join(dir, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+		if err := pf.root.Remove(name); err != nil && !errors.Is(err, fs.ErrNotExist) {
 			return fail(SetupFailed, fmt.Errorf("removing %s left by an earlier attempt: %w", name, err))
 		}
 	}
 
-	input, err := c.Render(job)
+	input, err := c.RenderContext(ctx, job)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
-	if err := os.WriteFile(out.Input, input, 0o600); err != nil {
+	if err := pf.writeFile(c.InputName, input); err != nil {
 		return fail(SetupFailed, err)
 	}
-	if err := writeGeometry(filepath.Join(dir, GeometryFile), job); err != nil {
+	if err := writeGeometry(pf, job); err != nil {
+		return fail(SetupFailed, err)
+	}
+	token, err := newRunToken()
+	if err != nil {
 		return fail(SetupFailed, err)
 	}
 	env, err := c.environ(job, dir)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
+	env = append(env, envPrefix+"RUN_TOKEN="+token)
 	path, args, err := c.program()
 	if err != nil {
 		return fail(ProgramMissing, err)
 	}
 
-	stdout, err := createPrivate(out.Stdout)
+	stdout, err := pf.create(StdoutFile)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
 	defer stdout.Close()
-	stderr, err := createPrivate(out.Stderr)
+	stderr, err := pf.create(StderrFile)
 	if err != nil {
 		return fail(SetupFailed, err)
 	}
@@ -188,7 +231,15 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	cmd := &exec.Cmd{Path: path, Args: append([]string{path}, args...), Dir: dir, Env: env, Stdout: stdout, Stderr: stderr}
 	ownProcessGroup(cmd)
 	start := time.Now()
+	// The record goes down before the program starts, so that no moment
+	// exists in which a program runs without one: a later run that finds
+	// the record looks for the token's processes, with or without a PID.
+	rec := runRecord{Token: token, Host: hostName(), BootID: bootID(), Started: start, Key: job.Key, Attempt: job.Attempt}
+	if err := pf.writeRecord(rec); err != nil {
+		return fail(SetupFailed, fmt.Errorf("writing %s: %w", RunRecordFile, err))
+	}
 	if err := cmd.Start(); err != nil {
+		_ = pf.root.Remove(RunRecordFile)
 		if errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission) || errors.Is(err, exec.ErrNotFound) {
 			return fail(ProgramMissing, err)
 		}
@@ -196,6 +247,11 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	}
 	done := make(chan error, 1)
 	go func() { done <- cmd.Wait() }()
+	// The record lets a later run find this program if this process dies
+	// before it (SIGKILL): it then waits for it instead of starting a
+	// second copy in the same directory.
+	rec.PID = cmd.Process.Pid
+	_ = pf.writeRecord(rec)
 
 	var timeout <-chan time.Time
 	if c.Timeout > 0 {
@@ -218,8 +274,21 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		stopped, stopErr = Cancelled, ctx.Err()
 		err = stopGroup(cmd, done, grace)
 	}
-	// Whatever the program left running in its group ends with it.
+	// Whatever the program left running in its group ends with it, and so
+	// does every process that still carries its token (a descendant that
+	// left the group with setsid).
 	killGroup(cmd, syscall.SIGKILL)
+	sweepToken(token)
+	rec.Exited, rec.ExitCode = true, -1
+	if cmd.ProcessState != nil {
+		rec.ExitCode = cmd.ProcessState.ExitCode()
+	}
+	if stopped != "" {
+		// Stopped by wellscan: nothing to adopt later.
+		_ = pf.root.Remove(RunRecordFile)
+	} else {
+		_ = pf.writeRecord(rec)
+	}
 	out.Elapsed = time.Since(start)
 	if cmd.ProcessState != nil {
 		out.ExitCode = cmd.ProcessState.ExitCode()
@@ -236,29 +305,75 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(ExitNonZero, fmt.Errorf("%s %s%s", filepath.Base(path), describeExit(cmd.ProcessState), outputTail(out.Stderr, out.Stdout)))
 	}
 
+	e, class, err := c.collect(pf, x)
+	if err != nil {
+		return fail(class, err)
+	}
+	out.Energy = e
+	if c.Gradient != nil {
+		g, class, err := c.collectGradient(pf, len(job.Atoms))
+		if err != nil {
+			return fail(class, err)
+		}
+		out.Gradient = g
+	}
+	pf.writeStatus(out, nil)
+	return out, nil
+}
+
+// collectGradient reads the nuclear gradient (hartree/bohr per atom) a
+// finished program printed, as c.Gradient says.
+func (c Config) collectGradient(pf *pointFiles, atoms int) ([][3]float64, FailureClass, error) {
+	gx, _ := c.Gradient.Compile() // Validate compiled it already
+	source := StdoutFile
+	switch c.GradientFrom {
+	case StderrFile:
+		source = StderrFile
+	case "", Stdout:
+	default:
+		source = c.GradientFrom
+	}
+	text, err := pf.readCapped(source)
+	if err != nil {
+		return nil, OutputMissing, fmt.Errorf("gradient: %w", err)
+	}
+	g, err := gx.Extract(text, atoms)
+	if err != nil {
+		class := GradientMissing
+		if errors.Is(err, parsers.ErrGradientInvalid) {
+			class = GradientInvalid
+		}
+		return nil, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
+	}
+	return g, "", nil
+}
+
+// collect checks the outputs a finished program left and extracts its
+// energy (hartree).
+func (c Config) collect(pf *pointFiles, x parsers.Extractor) (float64, FailureClass, error) {
 	var missing []string
 	for _, o := range c.Outputs {
-		if _, err := os.Stat(filepath.Join(dir, o)); err != nil {
+		if _, err := pf.root.Stat(o); err != nil {
 			missing = append(missing, o)
 		}
 	}
-	source := filepath.Join(dir, StdoutFile)
+	source := StdoutFile
 	switch c.EnergyFrom {
 	case StderrFile:
-		source = out.Stderr
+		source = StderrFile
 	case "", Stdout:
 	default:
-		source = filepath.Join(dir, c.EnergyFrom)
-		if _, err := os.Stat(source); err != nil && !slices.Contains(missing, c.EnergyFrom) {
+		source = c.EnergyFrom
+		if _, err := pf.root.Stat(source); err != nil && !slices.Contains(missing, c.EnergyFrom) {
 			missing = append(missing, c.EnergyFrom)
 		}
 	}
 	if len(missing) > 0 {
-		return fail(OutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", ")))
+		return 0, OutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", "))
 	}
-	text, err := readCapped(source)
+	text, err := pf.readCapped(source)
 	if err != nil {
-		return fail(SetupFailed, err)
+		return 0, OutputMissing, err
 	}
 	e, err := x.Extract(text)
 	if err != nil {
@@ -266,14 +381,12 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		if errors.Is(err, parsers.ErrEnergyInvalid) {
 			class = EnergyInvalid
 		}
-		return fail(class, fmt.Errorf("%s: %w", filepath.Base(source), err))
+		return 0, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
 	if err := (parsers.Plausibility{AllowPositive: c.AllowPositive}).Check(e); err != nil {
-		return fail(EnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err))
+		return 0, EnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
-	out.Energy = e
-	writeStatus(dir, out, nil)
-	return out, nil
+	return e, "", nil
 }
 
 // Check looks for the program (or script) and parses the template, so that
@@ -424,7 +537,7 @@ func envName(name string) string {
 	return b.String()
 }
 
-func writeGeometry(path string, job Job) error {
+func writeGeometry(pf *pointFiles, job Job) error {
 	f := parsers.Frame{Comment: "wellscan point " + job.Key + " (angstrom)"}
 	for _, a := range job.Atoms {
 		f.Labels = append(f.Labels, a.Symbol)
@@ -438,7 +551,7 @@ func writeGeometry(path string, job Job) error {
 			return err
 		}
 	}
-	return os.WriteFile(path, buf.Bytes(), 0o600)
+	return pf.writeFile(GeometryFile, buf.Bytes())
 }
 
 func describeExit(ps *os.ProcessState) string {
@@ -473,39 +586,4 @@ func readTail(path string, n int64) ([]byte, error) {
 	buf := make([]byte, st.Size()-off)
 	_, err = f.ReadAt(buf, off)
 	return buf, err
-}
-
-func readCapped(path string) ([]byte, error) {
-	st, err := os.Stat(path)
-	if err != nil {
-		return nil, err
-	}
-	if st.Size() > maxOutputBytes {
-		return nil, fmt.Errorf("%s is %d bytes, more than the %d read for an energy", filepath.Base(path), st.Size(), maxOutputBytes)
-	}
-	return os.ReadFile(path)
-}
-
-// writeStatus records how the run ended; a failure to write it is not
-// reported, as the outcome is returned anyway.
-func writeStatus(dir string, out Outcome, err error) {
-	class := string(out.Class)
-	if class == "" {
-		class = "ok"
-	}
-	var b strings.Builder
-	fmt.Fprintf(&b, "exit_code = %d\nclass = %s\nelapsed = %s\n", out.ExitCode, class, out.Elapsed.Round(time.Millisecond))
-	if out.Class == "" {
-		fmt.Fprintf(&b, "energy_hartree = %.12f\n", out.Energy)
-	}
-	if err != nil {
-		first, _, _ := strings.Cut(err.Error(), "\n")
-		fmt.Fprintf(&b, "error = %s\n", first)
-	}
-	_ = os.WriteFile(filepath.Join(dir, ExitStatusFile), []byte(b.String()), 0o600)
-}
-
-// createPrivate creates (or truncates) a file only its owner can read.
-func createPrivate(path string) (*os.File, error) {
-	return os.OpenFile(path, os.O_RDWR|os.O_CREATE|os.O_TRUNC, 0o600)
 }

@@ -1,7 +1,7 @@
 package command
 
 import (
-	"bytes"
+	"context"
 	"fmt"
 	"math"
 	"os"
@@ -31,6 +31,9 @@ type Job struct {
 	CoordUnits           map[string]string
 	Atoms                []Atom
 	Charge, Multiplicity int
+	// Attempt numbers the tries of the point (1 for the first); a program
+	// left running by a killed run is adopted only for the same attempt.
+	Attempt int
 }
 
 // Number is a value printed into an input. Printed as it is ({{.Coords.r}},
@@ -228,9 +231,19 @@ var helpers = template.FuncMap{
 // carry the template's file name and line (text/template's
 // "template: FILE:LINE:COL: …") and the point's key.
 func (c Config) Render(job Job) ([]byte, error) {
-	tmpl, err := c.parseTemplate()
-	if err != nil {
-		return nil, err
+	return c.RenderContext(context.Background(), job)
+}
+
+// RenderContext is Render bounded by ctx (a cancellation, the point's
+// timeout; without a deadline, DefaultRenderTimeout) and by
+// MaxInputBytes.
+func (c Config) RenderContext(ctx context.Context, job Job) ([]byte, error) {
+	tmpl := c.parsed
+	if tmpl == nil {
+		var err error
+		if tmpl, err = c.parseTemplate(); err != nil {
+			return nil, err
+		}
 	}
 	p := newPoint(job, c.InputName)
 	for _, v := range p.Coords {
@@ -238,17 +251,20 @@ func (c Config) Render(job Job) ([]byte, error) {
 			return nil, fmt.Errorf("command: point %s: a coordinate value is not finite", job.Key)
 		}
 	}
-	var buf bytes.Buffer
-	if err := tmpl.Execute(&buf, p); err != nil {
+	out, err := execute(ctx, tmpl, p)
+	if err != nil {
 		return nil, fmt.Errorf("command: point %s: %w", job.Key, err)
 	}
-	return buf.Bytes(), nil
+	return out, nil
 }
 
 // maxTemplateBytes caps the input template read (1 MiB).
 const maxTemplateBytes = 1 << 20
 
 func (c Config) parseTemplate() (*template.Template, error) {
+	if err := planner.CheckRegular(c.Template); err != nil {
+		return nil, fmt.Errorf("command: input template: %s", strings.TrimPrefix(err.Error(), "planner: "))
+	}
 	if st, err := os.Stat(c.Template); err == nil && st.Size() > maxTemplateBytes {
 		return nil, fmt.Errorf("command: template %s is %d bytes, more than the %d an input template may have", c.Template, st.Size(), maxTemplateBytes)
 	}
@@ -259,6 +275,9 @@ func (c Config) parseTemplate() (*template.Template, error) {
 	tmpl, err := template.New(c.Template).Option("missingkey=error").Funcs(helpers).Parse(string(text))
 	if err != nil {
 		return nil, fmt.Errorf("command: %w", err)
+	}
+	if err := checkLiteralRanges(tmpl); err != nil {
+		return nil, err
 	}
 	return tmpl, nil
 }

@@ -27,6 +27,10 @@ type Backend struct {
 	// limit, when set, makes every point a basis-set-limit calculation
 	// (engine.basis_limit); its components run one after the other.
 	limit *LimitRecipe
+	spec  *planner.Spec // for relaxed scans (nil in backends built by hand)
+	// coldRelax starts relaxed points from their rigid geometry and the
+	// model Hessian even when a finished neighbour exists (benchmarks).
+	coldRelax bool
 }
 
 // ColdCheck selects when a UHF point that started from a neighbour's
@@ -79,6 +83,9 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 		return nil, fmt.Errorf("%s: engine.method = %q is implemented for closed shells (RHF reference) only, but the molecule has multiplicity %d", spec.File(), method, mol.Multiplicity)
 	}
 	if len(e.BasisLimit) > 0 {
+		if spec.Relaxed() {
+			return nil, fmt.Errorf("%s: engine.basis_limit: a relaxed scan needs gradients, and a basis-set limit has none here; use basis = … for the relaxed scan", spec.File())
+		}
 		return newLimitBackend(spec, method, mol)
 	}
 	name := e.Basis
@@ -110,7 +117,7 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	if method == RHF && mol.Multiplicity != 1 {
 		return nil, fmt.Errorf("%s: engine.method = \"rhf\" needs a singlet, but the molecule has multiplicity %d; use \"uhf\"", spec.File(), mol.Multiplicity)
 	}
-	return &Backend{opts: o, useGuess: e.Guess != "fresh", basisName: set.Name()}, nil
+	return &Backend{opts: o, useGuess: e.Guess != "fresh", basisName: set.Name(), spec: spec}, nil
 }
 
 // newLimitBackend is NewBackend for engine.basis_limit: the recipe is
@@ -233,6 +240,9 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	}
 	if opts.Guess != nil {
 		b.coldCheck(t.Mol, &opts)
+	}
+	if b.spec != nil && b.spec.Relaxed() {
+		return b.computeRelaxed(ctx, t, opts)
 	}
 	res, err := Energy(ctx, t.Mol, opts)
 	if res == nil {

@@ -24,7 +24,9 @@ package model
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
@@ -138,28 +140,57 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	gd := -1.0
 	if t.GuessPath != "" {
 		raw, err := os.ReadFile(t.GuessPath)
-		if err != nil {
+		switch {
+		case errors.Is(err, fs.ErrNotExist):
+			// The neighbour's state file vanished (points/ deleted under a
+			// running scan): start cold rather than fail the point.
+		case err != nil:
 			return runner.Outcome{}, fmt.Errorf("model: guess: %w", err)
+		default:
+			var g state
+			if err := json.Unmarshal(raw, &g); err != nil || len(g.Values) != len(t.Values) {
+				return runner.Outcome{}, fmt.Errorf("model: guess %s is not a model state file", t.GuessPath)
+			}
+			gd = 0
+			for i := range g.Values {
+				gd += (g.Values[i] - t.Values[i]) * (g.Values[i] - t.Values[i])
+			}
+			gd = math.Sqrt(gd)
 		}
-		var g state
-		if err := json.Unmarshal(raw, &g); err != nil || len(g.Values) != len(t.Values) {
-			return runner.Outcome{}, fmt.Errorf("model: guess %s is not a model state file", t.GuessPath)
-		}
-		gd = 0
-		for i := range g.Values {
-			gd += (g.Values[i] - t.Values[i]) * (g.Values[i] - t.Values[i])
-		}
-		gd = math.Sqrt(gd)
 	}
 	raw, _ := json.Marshal(state{Key: t.Key, Values: slices.Clone(t.Values)})
-	path := filepath.Join(t.Dir, "model-state.json")
 	// A plain write: the state file is a convenience for the next point,
-	// not proof of work (that is result.json, which the runner writes).
-	if err := os.WriteFile(path, raw, 0o600); err != nil {
+	// not proof of work (that is result.json, which the runner writes). It
+	// is written inside the point directory only, never through a link.
+	if err := writeState(t.Dir, raw); err != nil {
 		return runner.Outcome{}, fmt.Errorf("model: %w", err)
 	}
 	// A spike (engine.model.spikes) stands for a point that lands on
 	// another state whatever its starting guess.
 	return runner.Outcome{Energy: b.Energy(t.Values) + b.spikes[t.Key], Converged: true, Iterations: 1,
-		OrbitalsPath: "model-state.json", Extra: map[string]float64{"guess_distance": gd}}, nil
+		OrbitalsPath: stateFile, Extra: map[string]float64{"guess_distance": gd}}, nil
+}
+
+// stateFile is the model's state file in a point directory.
+const stateFile = "model-state.json"
+
+// writeState writes the state file inside dir through an os.Root,
+// refusing a symbolic link (or anything but a regular file) in its place.
+func writeState(dir string, raw []byte) error {
+	r, err := os.OpenRoot(dir)
+	if err != nil {
+		return err
+	}
+	defer r.Close()
+	if st, err := r.Lstat(stateFile); err == nil && st.Mode()&fs.ModeSymlink != 0 {
+		return fmt.Errorf("%s is a symbolic link; wellscan writes nothing through a link (remove it)", filepath.Join(dir, stateFile))
+	} else if err == nil && !st.Mode().IsRegular() {
+		return fmt.Errorf("%s is not a regular file (%s)", filepath.Join(dir, stateFile), st.Mode().Type())
+	}
+	f, err := r.OpenFile(stateFile, os.O_WRONLY|os.O_CREATE|os.O_TRUNC, 0o600)
+	if err != nil {
+		return err
+	}
+	_, werr := f.Write(raw)
+	return errors.Join(werr, f.Close())
 }

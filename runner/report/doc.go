@@ -1,7 +1,10 @@
 // Package report writes the files a finished (or partly finished) scan is
 // read through: the curve as a table (curve.csv), the fit as JSON
 // (fit.json), a figure of the curve as SVG and PNG, and a one-page summary
-// in Markdown and HTML.
+// in Markdown and HTML. For a force-field job, [AnalyzeForceField] turns
+// the done displacements into harmonic and VPT2 results per isotopologue
+// (package fit/forcefield does the numerics), written as Markdown tables,
+// JSON, CSV and a stick spectrum ([NewFFFigure]).
 //
 // The package takes plain data ([Input]): the command layer reads the
 // store, runs the fit and fills it in. It never opens a store and never

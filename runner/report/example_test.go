@@ -23,8 +23,8 @@ func ExampleWriteCSV() {
 		fmt.Println(err)
 	}
 	// Output:
-	// key,r [angstrom],r [bohr],energy [hartree],relative [cm-1],relative [kJ/mol],state
-	// r=1.100,1.100,2.07870,-112.7000000000,0.0000,0.000000,done
-	// r=1.150,1.150,2.17319,-112.6900000000,2194.7463,26.254996,done
-	// r=1.200,1.200,2.26767,,,,failed
+	// key,r [angstrom],r [bohr],energy [hartree],relative [cm-1],relative [kJ/mol],state,scan
+	// r=1.100,1.100,2.07870,-112.7000000000,0.0000,0.000000,done,rigid
+	// r=1.150,1.150,2.17319,-112.6900000000,2194.7463,26.254996,done,rigid
+	// r=1.200,1.200,2.26767,,,,failed,rigid
 }

@@ -110,6 +110,9 @@ func heading(c Conditions) string {
 			add = append(add, s)
 		}
 	}
+	if c.ScanKind != "" && !strings.Contains(c.Title, c.ScanKind) {
+		add = append(add, c.ScanKind+" scan")
+	}
 	switch {
 	case c.Title == "":
 		return strings.Join(add, " · ")
@@ -349,7 +352,11 @@ func newCurve(in Input) (*Figure, error) {
 			if drawn == 40 {
 				break
 			}
-			e := m.EMin + g/planner.HartreeInCm1
+			zero := m.EMin
+			if len(m.Levels) > 0 && m.LevelZero != 0 {
+				zero = m.LevelZero // grid levels count from their potential's minimum
+			}
+			e := zero + g/planner.HartreeInCm1
 			l, lok := turningPoint(model.v, e, model.lo, xe)
 			r, rok := turningPoint(model.v, e, xe, model.hi)
 			if !lok || !rok {

@@ -144,10 +144,53 @@ func (in Input) HasEnergies() bool {
 	return false
 }
 
-// Write writes every report file into dir (created if needed), each
-// through a temporary file and a rename so that a reader never sees half a
-// file.
-func Write(ctx context.Context, dir string, in Input) (err error) {
+// Dest receives the report's files by name (relative to the report
+// directory). A scan's report goes through the runner's confined writer,
+// which refuses symbolic links and keeps every file inside the scan
+// directory.
+type Dest interface {
+	WriteFile(name string, data []byte) error
+	// Remove removes name; a name that does not exist is not an error.
+	Remove(name string) error
+}
+
+// dirDest writes into a plain directory, each file through a temporary
+// file and a rename.
+type dirDest string
+
+func (d dirDest) WriteFile(name string, data []byte) error {
+	return writeAtomic(filepath.Join(string(d), name), data)
+}
+
+func (d dirDest) Remove(name string) error {
+	if err := os.Remove(filepath.Join(string(d), name)); err != nil && !errors.Is(err, os.ErrNotExist) {
+		return err
+	}
+	return nil
+}
+
+// DirDest is a [Dest] writing into a plain directory outside a scan
+// (created if needed, mode 0700), each file through a temporary file and a
+// rename.
+func DirDest(dir string) (Dest, error) {
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return nil, fmt.Errorf("report: %w", err)
+	}
+	return dirDest(dir), nil
+}
+
+// Write writes every report file into dir (created if needed, mode 0700;
+// files 0600 like the rest of a scan), each through a temporary file and
+// a rename so that a reader never sees half a file.
+func Write(ctx context.Context, dir string, in Input) error {
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	return WriteTo(ctx, dirDest(dir), in)
+}
+
+// WriteTo renders every report file and hands each to dest.
+func WriteTo(ctx context.Context, dest Dest, in Input) (err error) {
 	// The plotting library reports some impossible requests by panicking;
 	// turn those into an error, keep runtime errors (our bugs) as panics.
 	defer func() {
@@ -161,9 +204,7 @@ func Write(ctx context.Context, dir string, in Input) (err error) {
 	if err := in.check(); err != nil {
 		return err
 	}
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
+	in = in.cleaned()
 	var csvb, jsonb, md, html bytes.Buffer
 	if err := WriteCSV(&csvb, in); err != nil {
 		return err
@@ -202,13 +243,13 @@ func Write(ctx context.Context, dir string, in Input) (err error) {
 		"curve.png": png.Bytes(), "summary.md": md.Bytes(), "summary.html": html.Bytes()} {
 		if b == nil && (name == "curve.svg" || name == "curve.png") {
 			// A figure of an earlier report must not pass for this one's.
-			if err := os.Remove(filepath.Join(dir, name)); err != nil && !errors.Is(err, os.ErrNotExist) {
+			if err := dest.Remove(name); err != nil {
 				return fmt.Errorf("report: %w", err)
 			}
 			continue
 		}
-		if err := writeAtomic(filepath.Join(dir, name), b); err != nil {
-			return err
+		if err := dest.WriteFile(name, b); err != nil {
+			return fmt.Errorf("report: %s: %w", name, err)
 		}
 	}
 	return nil
@@ -240,7 +281,7 @@ func writeAtomic(path string, b []byte) error {
 		os.Remove(f.Name())
 		return fmt.Errorf("report: %s: %w", path, err)
 	}
-	if err := os.Chmod(f.Name(), 0o644); err != nil {
+	if err := os.Chmod(f.Name(), 0o600); err != nil {
 		os.Remove(f.Name())
 		return fmt.Errorf("report: %w", err)
 	}
@@ -307,6 +348,7 @@ func (in Input) sortedPoints() []Point {
 // points that are not done are left empty. Units are named in the header
 // in brackets.
 func WriteCSV(w io.Writer, in Input) error {
+	in = in.cleaned()
 	if err := in.check(); err != nil {
 		return err
 	}
@@ -316,7 +358,7 @@ func WriteCSV(w io.Writer, in Input) error {
 		u, _ := otherUnit(a)
 		head = append(head, fmt.Sprintf("%s [%s]", a.Name, a.Unit), fmt.Sprintf("%s [%s]", a.Name, u))
 	}
-	head = append(head, "energy [hartree]", "relative [cm-1]", "relative [kJ/mol]", "state")
+	head = append(head, "energy [hartree]", "relative [cm-1]", "relative [kJ/mol]", "state", "scan")
 	diag := in.diagnosticColumns()
 	for _, d := range diag {
 		head = append(head, d.head)
@@ -339,7 +381,7 @@ func WriteCSV(w io.Writer, in Input) error {
 		} else {
 			row = append(row, "", "", "")
 		}
-		row = append(row, p.State)
+		row = append(row, p.State, modeWord(in.Conditions.ScanKind))
 		for _, d := range diag {
 			row = append(row, d.cell(p))
 		}
@@ -415,6 +457,7 @@ func (in Input) diagnosticColumns() []diagColumn {
 // WriteFitJSON writes fit.json: in.Fit, indented; or, when there is no
 // fit, an object with the reason.
 func WriteFitJSON(w io.Writer, in Input) error {
+	in = in.cleaned()
 	v := in.Fit
 	if v == nil {
 		v = map[string]string{"error": in.FitError}

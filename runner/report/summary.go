@@ -264,15 +264,15 @@ func curveSections(in Input, cr *fit.Result) []section {
 	for _, m := range cr.Minima {
 		pos := table{Head: []string{"quantity", "value", "unit"}}
 		if cr.Kind == "angle" {
-			pos.Rows = append(pos.Rows, []string{a.Name + "_e", valueErr(m.ThetaEDegree, m.ThetaEStderr, 4), "°"},
-				[]string{"k", valueErr(m.KAngle, m.KAngleStderr, 6), "E_h/rad²"})
+			pos.Rows = append(pos.Rows, []string{a.Name + "_e", valueErr(m.ThetaEDegree, m.ThetaEUnc, 4), "°"},
+				[]string{"k", valueErr(m.KAngle, m.KAngleUnc, 6), "E_h/rad²"})
 		} else {
-			pos.Rows = append(pos.Rows, []string{a.Name + "_e", valueErr(m.REAngstrom, m.REStderrAng, 6), "Å"},
-				[]string{a.Name + "_e", valueErr(m.XE, m.XEStderr, 6), "bohr"},
-				[]string{"k", valueErr(m.K, m.KStderr, 6), "E_h/bohr²"},
+			pos.Rows = append(pos.Rows, []string{a.Name + "_e", valueErr(m.REAngstrom, m.REUncAng, 6), "Å"},
+				[]string{a.Name + "_e", valueErr(m.XE, m.XEUnc, 6), "bohr"},
+				[]string{"k", valueErr(m.K, m.KUnc, 6), "E_h/bohr²"},
 				[]string{"k", fmt.Sprintf("%.2f", m.KNPerM), "N/m"})
 		}
-		pos.Rows = append(pos.Rows, []string{"E_min", valueErr(m.EMin, m.EMinStderr, 8), "E_h"},
+		pos.Rows = append(pos.Rows, []string{"E_min", valueErr(m.EMin, m.EMinUnc, 8), "E_h"},
 			[]string{"local polynomial", fmt.Sprintf("degree %d, %d points within %.3g E_h, rms residual %.1e E_h", m.Degree, m.WindowPoints, m.WindowEnergy, m.RMSResidual), ""})
 		sec := section{Title: "Minimum: " + m.Label, Tables: []table{pos}}
 		if len(m.Isotopologues) > 0 {
@@ -287,9 +287,9 @@ func curveSections(in Input, cr *fit.Result) []section {
 				if k.OneD {
 					name += " (1-D along the scan)"
 				}
-				row := []string{name, fmt.Sprintf("%.6f", k.Mass), valueErr(k.OmegaE, k.OmegaEStderr, 3), valueErr(k.OmegaExe, k.OmegaExeStderr, 4),
-					dashIfZero(k.Be, k.BeStderr, 6), dashIfZero(k.AlphaE, k.AlphaEStderr, 6), fmt.Sprintf("%.3f", k.ZPE), fmt.Sprintf("%.3f", k.Fundamental),
-					dashIfZero(k.DeEV, 0, 4), dashIfZero(k.D0EV, 0, 4)}
+				row := []string{name, fmt.Sprintf("%.6f", k.Mass), valueErr(k.OmegaE, k.OmegaEUnc, 3), withheldOr(k.Withheld, "omega_e_x_e_cm1", valueErr(k.OmegaExe, k.OmegaExeUnc, 4)),
+					dashIfZero(k.Be, k.BeUnc, 6), withheldOr(k.Withheld, "alpha_e_cm1", dashIfZero(k.AlphaE, k.AlphaEUnc, 6)), withheldOr(k.Withheld, "zpe_cm1", valueErr(k.ZPE, k.ZPEUnc, 3)), withheldOr(k.Withheld, "fundamental_cm1", valueErr(k.Fundamental, k.FundamentalUnc, 3)),
+					withheldOr(k.Withheld, "d_e_cm1", dashIfZero(k.DeEV, k.DeUnc/planner.HartreeInCm1*planner.HartreeInEV, 4)), withheldOr(k.Withheld, "d_0_cm1", dashIfZero(k.D0EV, k.D0Unc/planner.HartreeInCm1*planner.HartreeInEV, 4))}
 				t.Rows = append(t.Rows, row)
 				if len(k.Levels) > 0 {
 					nv := min(len(k.Levels), 6)
@@ -302,7 +302,7 @@ func curveSections(in Input, cr *fit.Result) []section {
 			}
 			sec.Tables = append(sec.Tables, t)
 			sec.List = lv
-			sec.Paras = append(sec.Paras, "Constants per isotopologue, ± one standard error of the least-squares fit; "+
+			sec.Paras = append(sec.Paras, "Constants per isotopologue, ± the calibrated uncertainty (standard error and window/degree spread; see the fit documentation); "+
 				"levels from a grid calculation on a spline through all points ("+orDash(m.LevelPotential)+").")
 		}
 		out = append(out, sec)
@@ -320,6 +320,15 @@ func curveSections(in Input, cr *fit.Result) []section {
 			"Fits of one analytic form to all points. Their D_e is an extrapolation unless the scan reaches the dissociation limit."}})
 	}
 	return out
+}
+
+// withheldOr returns "withheld" when the fit withheld the quantity key,
+// else s.
+func withheldOr(w map[string]string, key, s string) string {
+	if _, ok := w[key]; ok {
+		return "withheld"
+	}
+	return s
 }
 
 func dashIfZero(v, se float64, d int) string {
@@ -348,6 +357,7 @@ func mdCell(s string) string { return strings.ReplaceAll(s, "|", `\|`) }
 
 // WriteMarkdown writes summary.md.
 func WriteMarkdown(w io.Writer, in Input) error {
+	in = in.cleaned()
 	var b bytes.Buffer
 	title := in.Conditions.Title
 	if title == "" {
@@ -441,6 +451,7 @@ figure svg { width: 100%; height: auto; }
 // WriteHTML writes summary.html with the figure (SVG, as written by
 // [Figure.WriteSVG]) embedded inline.
 func WriteHTML(w io.Writer, in Input, svg []byte) error {
+	in = in.cleaned()
 	// The XML declaration and doctype are not allowed inside HTML.
 	s := string(svg)
 	if i := strings.Index(s, "<svg"); i >= 0 {
@@ -470,4 +481,12 @@ func WriteHTML(w io.Writer, in Input, svg []byte) error {
 		return fmt.Errorf("report: summary.html: %w", err)
 	}
 	return nil
+}
+
+// modeWord is "relaxed" or "rigid".
+func modeWord(mode string) string {
+	if mode == "relaxed" {
+		return "relaxed"
+	}
+	return "rigid"
 }

@@ -81,9 +81,13 @@ func (n NodeTask) Run(ctx context.Context) error {
 		threads, _ = strconv.Atoi(os.Getenv("SLURM_CPUS_PER_TASK"))
 	}
 	threads = max(threads, 1)
+	resolve := spec.ParseKey
+	if spec.ForceField() != nil {
+		resolve = forceFieldKeys(spec, scanDir, fp)
+	}
 	var nb neighbours
 	if spec.Engine.Guess != "fresh" {
-		nb = loadNeighbours(spec, scanDir, fp)
+		nb = loadNeighbours(resolve, scanDir, fp)
 	}
 	for _, k := range keys {
 		if err := ctx.Err(); err != nil {
@@ -96,7 +100,7 @@ func (n NodeTask) Run(ctx context.Context) error {
 			continue
 		}
 		attempt := max(meta.Attempts[k], 1)
-		pt, err := spec.ParseKey(k)
+		pt, err := resolve(k)
 		var mol planner.Molecule
 		if err == nil {
 			mol, err = spec.Geometry(pt)
@@ -144,7 +148,7 @@ type neighbours []neighbour
 // loadNeighbours reads the done points of the scan that left an orbitals
 // file. A directory listing may lag on a shared filesystem; that only
 // costs a better starting guess, never a result.
-func loadNeighbours(spec *planner.Spec, scanDir, fp string) neighbours {
+func loadNeighbours(parseKey func(string) (planner.Point, error), scanDir, fp string) neighbours {
 	ents, err := os.ReadDir(filepath.Join(scanDir, runner.PointsDir))
 	if err != nil {
 		return nil
@@ -158,7 +162,7 @@ func loadNeighbours(spec *planner.Spec, scanDir, fp string) neighbours {
 		if !ok || res.Status != "done" || res.Orbitals == "" {
 			continue
 		}
-		pt, err := spec.ParseKey(e.Name())
+		pt, err := parseKey(e.Name())
 		if err != nil {
 			continue
 		}

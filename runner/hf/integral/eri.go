@@ -79,6 +79,7 @@ func buildFlat() []flatComp {
 // primPair is a screened primitive pair of a shell pair.
 type primPair struct {
 	p, inv2p float64
+	a        float64 // exponent of the pair's first shell (the second is p − a)
 	P, PA    [3]float64
 	U        float64 // √2 π^{5/4} c_a c_b exp(−μ|AB|²) / p
 }
@@ -121,7 +122,7 @@ func newShellPair(ps []prepShell, a, b int) shellPair {
 			if k < primScreen {
 				continue
 			}
-			pp := primPair{p: p, inv2p: 0.5 / p, U: pref * sa.coefs[i] * sb.coefs[j] * k / p}
+			pp := primPair{p: p, inv2p: 0.5 / p, a: alpha, U: pref * sa.coefs[i] * sb.coefs[j] * k / p}
 			for d := range 3 {
 				pp.P[d] = (alpha*sa.center[d] + beta*sb.center[d]) / p
 				pp.PA[d] = pp.P[d] - sa.center[d]
@@ -198,12 +199,15 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 		}
 		return dst
 	}
-	switch {
-	case L == 0:
+	// The fast paths assume the higher angular momentum first in each
+	// pair, as newShellPair orders them; the shifted pairs of the gradient
+	// code may have it second and take the general path.
+	switch ordered := bp.l1 >= bp.l2 && kp.l1 >= kp.l2; {
+	case ordered && L == 0:
 		return w.quartetSSSS(bp, kp)
-	case L == 1:
+	case ordered && L == 1:
 		return w.quartetL1(bp, kp)
-	case Lab == 1 && Lcd == 1:
+	case ordered && Lab == 1 && Lcd == 1:
 		return w.quartetPSPS(bp, kp)
 	}
 	nE, nF := ncum(Lab), ncum(Lcd)
@@ -304,83 +308,7 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 			}
 		}
 	}
-	na, nb, nc, nd := ncart(la), ncart(lb), ncart(lc), ncart(ld)
-	// Ket HRR on C[f][e] (inner index e over nEr): build (e|c d) levels.
-	cur := C
-	for k := 0; k < ld; k++ {
-		// current: [cIdx over levels lc..Lcd−k][d comp of level k][e]
-		// next:    [cIdx over levels lc..Lcd−k−1][d comp of level k+1][e]
-		nCur := ncart(k)
-		nNext := ncart(k + 1)
-		nCnext := ncum(Lcd-k-1) - f0
-		dst := w.h1
-		if &cur[0] == &w.h1[0] {
-			dst = w.h2
-		}
-		dst = dst[:nCnext*nNext*nEr]
-		for dn := range nNext {
-			dflat := ncum(k) + dn
-			dc := &flatTab[dflat]
-			i := dc.dir
-			dprev := flatTab[dc.down[i]].sub
-			abi := kp.AB[i]
-			for ci := range nCnext {
-				cflat := f0 + ci
-				cup := flatTab[cflat].up[i] - f0
-				out := dst[(ci*nNext+dn)*nEr : (ci*nNext+dn+1)*nEr]
-				s0 := cur[(cup*nCur+dprev)*nEr : (cup*nCur+dprev+1)*nEr]
-				s1 := cur[(ci*nCur+dprev)*nEr : (ci*nCur+dprev+1)*nEr]
-				for e := range out {
-					out[e] = s0[e] + abi*s1[e]
-				}
-			}
-		}
-		cur = dst
-	}
-	// cur is [c (nc)][d (nd)][e (nEr)]. Transpose to [e][cd].
-	ncd := nc * nd
-	tr := w.h1
-	if &cur[0] == &w.h1[0] {
-		tr = w.h2
-	}
-	tr = tr[:nEr*ncd]
-	for cd := range ncd {
-		src := cur[cd*nEr : (cd+1)*nEr]
-		for e, v := range src {
-			tr[e*ncd+cd] = v
-		}
-	}
-	cur = tr
-	// Bra HRR on [a flat][b comp][cd].
-	for k := 0; k < lb; k++ {
-		nCur := ncart(k)
-		nNext := ncart(k + 1)
-		nAnext := ncum(Lab-k-1) - e0
-		dst := w.h1
-		if &cur[0] == &w.h1[0] {
-			dst = w.h2
-		}
-		dst = dst[:nAnext*nNext*ncd]
-		for bn := range nNext {
-			bflat := ncum(k) + bn
-			bc := &flatTab[bflat]
-			i := bc.dir
-			bprev := flatTab[bc.down[i]].sub
-			abi := bp.AB[i]
-			for ai := range nAnext {
-				aup := flatTab[e0+ai].up[i] - e0
-				out := dst[(ai*nNext+bn)*ncd : (ai*nNext+bn+1)*ncd]
-				s0 := cur[(aup*nCur+bprev)*ncd : (aup*nCur+bprev+1)*ncd]
-				s1 := cur[(ai*nCur+bprev)*ncd : (ai*nCur+bprev+1)*ncd]
-				for x := range out {
-					out[x] = s0[x] + abi*s1[x]
-				}
-			}
-		}
-		cur = dst
-	}
-	// cur is [a][b][c][d] Cartesian.
-	return w.finish(cur[:na*nb*nc*nd], bp, kp)
+	return w.finish(w.hrr(C, la, lb, lc, ld, bp.AB, kp.AB), bp, kp)
 }
 
 // quartetSSSS is the fast path for four s shells.
@@ -506,4 +434,92 @@ func (w *eriWork) finish(cart []float64, bp, kp *shellPair) []float64 {
 		src = dst
 	}
 	return src
+}
+
+// hrr applies the horizontal recurrence (a,b+1_i| = (a+1_i,b| + AB_i (a,b|
+// (Head-Gordon & Pople 1988, eq. 18) on the ket, then on the bra, to the
+// contracted [e0|f0] in C, laid out [f − ncum(lc−1)][e − ncum(la−1)] for
+// la ≤ l_e ≤ la+lb and lc ≤ l_f ≤ lc+ld (C must not be w.h1 or w.h2). It
+// returns the raw Cartesian block [a][b][c][d] in w.h1 or w.h2.
+func (w *eriWork) hrr(C []float64, la, lb, lc, ld int, abB, abK [3]float64) []float64 {
+	Lab, Lcd := la+lb, lc+ld
+	nE := ncum(Lab)
+	e0, f0 := ncum(la-1), ncum(lc-1)
+	nEr := nE - e0
+	na, nb, nc, nd := ncart(la), ncart(lb), ncart(lc), ncart(ld)
+	// Ket HRR on C[f][e] (inner index e over nEr): build (e|c d) levels.
+	cur := C
+	for k := 0; k < ld; k++ {
+		// current: [cIdx over levels lc..Lcd−k][d comp of level k][e]
+		// next:    [cIdx over levels lc..Lcd−k−1][d comp of level k+1][e]
+		nCur := ncart(k)
+		nNext := ncart(k + 1)
+		nCnext := ncum(Lcd-k-1) - f0
+		dst := w.h1
+		if &cur[0] == &w.h1[0] {
+			dst = w.h2
+		}
+		dst = dst[:nCnext*nNext*nEr]
+		for dn := range nNext {
+			dflat := ncum(k) + dn
+			dc := &flatTab[dflat]
+			i := dc.dir
+			dprev := flatTab[dc.down[i]].sub
+			abi := abK[i]
+			for ci := range nCnext {
+				cflat := f0 + ci
+				cup := flatTab[cflat].up[i] - f0
+				out := dst[(ci*nNext+dn)*nEr : (ci*nNext+dn+1)*nEr]
+				s0 := cur[(cup*nCur+dprev)*nEr : (cup*nCur+dprev+1)*nEr]
+				s1 := cur[(ci*nCur+dprev)*nEr : (ci*nCur+dprev+1)*nEr]
+				for e := range out {
+					out[e] = s0[e] + abi*s1[e]
+				}
+			}
+		}
+		cur = dst
+	}
+	// cur is [c (nc)][d (nd)][e (nEr)]. Transpose to [e][cd].
+	ncd := nc * nd
+	tr := w.h1
+	if &cur[0] == &w.h1[0] {
+		tr = w.h2
+	}
+	tr = tr[:nEr*ncd]
+	for cd := range ncd {
+		src := cur[cd*nEr : (cd+1)*nEr]
+		for e, v := range src {
+			tr[e*ncd+cd] = v
+		}
+	}
+	cur = tr
+	// Bra HRR on [a flat][b comp][cd].
+	for k := 0; k < lb; k++ {
+		nCur := ncart(k)
+		nNext := ncart(k + 1)
+		nAnext := ncum(Lab-k-1) - e0
+		dst := w.h1
+		if &cur[0] == &w.h1[0] {
+			dst = w.h2
+		}
+		dst = dst[:nAnext*nNext*ncd]
+		for bn := range nNext {
+			bflat := ncum(k) + bn
+			bc := &flatTab[bflat]
+			i := bc.dir
+			bprev := flatTab[bc.down[i]].sub
+			abi := abB[i]
+			for ai := range nAnext {
+				aup := flatTab[e0+ai].up[i] - e0
+				out := dst[(ai*nNext+bn)*ncd : (ai*nNext+bn+1)*ncd]
+				s0 := cur[(aup*nCur+bprev)*ncd : (aup*nCur+bprev+1)*ncd]
+				s1 := cur[(ai*nCur+bprev)*ncd : (ai*nCur+bprev+1)*ncd]
+				for x := range out {
+					out[x] = s0[x] + abi*s1[x]
+				}
+			}
+		}
+		cur = dst
+	}
+	return cur[:na*nb*nc*nd]
 }

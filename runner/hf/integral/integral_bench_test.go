@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math/rand/v2"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -97,4 +98,31 @@ func BenchmarkBoys(b *testing.B) {
 			}
 		})
 	}
+}
+
+// BenchmarkTwoElectronGradient times the two-electron gradient of
+// benzene in 6-31G* (102 functions, a random dense density) next to the
+// in-core integrals of the same basis, one goroutine each, and reports
+// their ratio as grad/eri.
+func BenchmarkTwoElectronGradient(b *testing.B) {
+	atoms := benzeneAtoms()
+	shells := basisShells(b, "6-31gs-HCO.json", atoms, false)
+	n := NumFunctions(shells)
+	d := randomSym(rand.New(rand.NewPCG(1, 2)), n, 0.2)
+	ctx := context.Background()
+	var eri, grad time.Duration
+	b.ReportAllocs()
+	for b.Loop() {
+		s := time.Now()
+		if _, err := ComputeERI(ctx, shells, NormPerComponent, 1); err != nil {
+			b.Fatal(err)
+		}
+		eri += time.Since(s)
+		s = time.Now()
+		if _, err := TwoElectronGradient(ctx, shells, NormPerComponent, 1, d, d, len(atoms), 0); err != nil {
+			b.Fatal(err)
+		}
+		grad += time.Since(s)
+	}
+	b.ReportMetric(grad.Seconds()/eri.Seconds(), "grad/eri")
 }

@@ -1,0 +1,252 @@
+package integral
+
+import "math"
+
+// One-pass derivative quartets: the vertical recurrence runs once per
+// primitive quartet up to one unit of angular momentum beyond the
+// quartet's own on each electron, and is contracted five times — plainly
+// and weighted by 2α, 2β, 2γ, 2δ (the exponents of the four shells). The
+// horizontal recurrence then builds each shifted class (a±1 b|cd), (a b±1|cd),
+// (ab|c±1 d), (ab|c d±1) from the matching contraction. This replaces up
+// to eight separate quartet evaluations by one recurrence at L + 2.
+
+// derivClasses holds the raw Cartesian blocks of the shifted classes of one
+// quartet, indexed [position][0 plus, 1 minus]; nil when not computed.
+type derivClasses [4][2][]float64
+
+// quartetShifted computes, for the positions k with need[k], the classes
+// with shell k raised (weighted by 2×its exponent) and lowered, over raw
+// Cartesian components, into dst (scratch owned by dw).
+func (dw *derivWork) quartetShifted(bp, kp *shellPair, need [4]bool) derivClasses {
+	if bp.l1+bp.l2 < kp.l1+kp.l2 {
+		// The electron-1 recurrence is the cheaper one: put the higher
+		// pair in the bra, then transpose every block back,
+		// [c][d][a][b] → [a][b][c][d] (positions 0↔2, 1↔3).
+		sw := dw.quartetShiftedOrdered(kp, bp, [4]bool{need[2], need[3], need[0], need[1]})
+		var out derivClasses
+		for k := range 4 {
+			ks := (k + 2) % 4
+			for j := range 2 {
+				src := sw[ks][j]
+				if src == nil {
+					continue
+				}
+				// Dimensions of the class in the original order.
+				l := [4]int{bp.l1, bp.l2, kp.l1, kp.l2}
+				if j == 0 {
+					l[k]++
+				} else {
+					l[k]--
+				}
+				nab, ncd := ncart(l[0])*ncart(l[1]), ncart(l[2])*ncart(l[3])
+				dst := dw.tcls[k][j][:nab*ncd]
+				for cd := range ncd {
+					row := src[cd*nab : (cd+1)*nab]
+					for ab, v := range row {
+						dst[ab*ncd+cd] = v
+					}
+				}
+				out[k][j] = dst
+			}
+		}
+		return out
+	}
+	return dw.quartetShiftedOrdered(bp, kp, need)
+}
+
+// quartetShiftedOrdered is quartetShifted without the reordering.
+func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) derivClasses {
+	w := dw.w
+	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
+	Lab, Lcd := la+lb, lc+ld
+	LabX, LcdX := Lab+1, Lcd+1
+	L := LabX + LcdX
+	nE, nF := ncum(LabX), ncum(LcdX)
+	// Windows of the contractions: the plain one feeds the lowered
+	// classes and, weighted per bra primitive, the raised bra classes
+	// (l_e from la−1 to Lab+1, l_f up to Lcd); the ket-weighted ones feed
+	// the raised ket classes (l_e from la to Lab, l_f up to Lcd+1).
+	eLo, fLo := ncum(la-2), ncum(lc-2)
+	eKet0, eKet1, fKet0 := ncum(la-1), ncum(Lab), ncum(lc-1)
+	fPlain1 := ncum(Lcd)
+	ketW := need[2] || need[3]
+	size := nE * nF
+	for k := range dw.cw {
+		c := dw.cw[k][:size]
+		for i := range c {
+			c[i] = 0
+		}
+	}
+	S0, SC, SD := dw.s0[:size], dw.sc[:size], dw.sd[:size]
+	V := w.v
+	stM := nF * nE
+	for _, pa := range bp.prims {
+		p := pa.p
+		for i := range S0 {
+			S0[i], SC[i], SD[i] = 0, 0, 0
+		}
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			rho := p * q / pq
+			var PQ, WP, WQ [3]float64
+			for d := range 3 {
+				PQ[d] = pa.P[d] - pc.P[d]
+				Wd := (p*pa.P[d] + q*pc.P[d]) / pq
+				WP[d] = Wd - pa.P[d]
+				WQ[d] = Wd - pc.P[d]
+			}
+			T := rho * (PQ[0]*PQ[0] + PQ[1]*PQ[1] + PQ[2]*PQ[2])
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			boys(T, L, w.fb)
+			for m := 0; m <= L; m++ {
+				V[m*stM] = pref * w.fb[m]
+			}
+			i2p, rp := pa.inv2p, rho/p
+			for e := 1; e < nE; e++ {
+				fc := &flatTab[e]
+				i := fc.dir
+				e1 := fc.down[i]
+				e2 := flatTab[e1].down[i]
+				ni := float64(fc.n[i] - 1)
+				pai, wpi := pa.PA[i], WP[i]
+				mmax := L - fc.l
+				if e2 < 0 {
+					for m := 0; m <= mmax; m++ {
+						o := m * stM
+						V[o+e] = pai*V[o+e1] + wpi*V[o+stM+e1]
+					}
+				} else {
+					c := ni * i2p
+					for m := 0; m <= mmax; m++ {
+						o := m * stM
+						V[o+e] = pai*V[o+e1] + wpi*V[o+stM+e1] + c*(V[o+e2]-rp*V[o+stM+e2])
+					}
+				}
+			}
+			i2q, rq, i2pq := pc.inv2p, rho/q, 0.5/pq
+			for f := 1; f < nF; f++ {
+				fc := &flatTab[f]
+				i := fc.dir
+				f1 := fc.down[i]
+				f2 := flatTab[f1].down[i]
+				nfi := float64(fc.n[i] - 1)
+				qci, wqi := pc.PA[i], WQ[i]
+				mmax := LcdX - fc.l
+				es := ncum(la - 1 - (LcdX - fc.l) - 1)
+				// At the top ket level only the ket-raised classes read,
+				// and they need l_e ≤ Lab.
+				eTop := nE
+				if fc.l == LcdX {
+					if !ketW {
+						continue
+					}
+					eTop = eKet1
+				}
+				for m := 0; m <= mmax; m++ {
+					o := m * stM
+					dst := V[o+f*nE+es : o+f*nE+eTop]
+					s0 := V[o+f1*nE+es : o+f1*nE+eTop]
+					s1 := V[o+stM+f1*nE+es : o+stM+f1*nE+eTop]
+					if f2 >= 0 {
+						c := nfi * i2q
+						t0 := V[o+f2*nE+es : o+f2*nE+eTop]
+						t1 := V[o+stM+f2*nE+es : o+stM+f2*nE+eTop]
+						for k := range dst {
+							dst[k] = qci*s0[k] + wqi*s1[k] + c*(t0[k]-rq*t1[k])
+						}
+					} else {
+						for k := range dst {
+							dst[k] = qci*s0[k] + wqi*s1[k]
+						}
+					}
+					s1f := V[o+stM+f1*nE : o+stM+f1*nE+nE]
+					dstf := V[o+f*nE : o+f*nE+nE]
+					for _, ce := range crossTab[i][crossStart[i][es]:crossStart[i][eTop]] {
+						dstf[ce.e] += ce.n * i2pq * s1f[ce.down]
+					}
+				}
+			}
+			for f := fLo; f < fPlain1; f++ {
+				src := V[f*nE+eLo : f*nE+nE]
+				s0 := S0[f*nE+eLo : f*nE+nE]
+				for k, v := range src {
+					s0[k] += v
+				}
+			}
+			if ketW {
+				g2, d2 := 2*pc.a, 2*(pc.p-pc.a)
+				for f := fKet0; f < nF; f++ {
+					src := V[f*nE+eKet0 : f*nE+eKet1]
+					o := f*nE + eKet0
+					sc, sd := SC[o:o+len(src)], SD[o:o+len(src)]
+					for k, v := range src {
+						sc[k] += g2 * v
+						sd[k] += d2 * v
+					}
+				}
+			}
+		}
+		a2, b2 := 2*pa.a, 2*(pa.p-pa.a)
+		C0, CA, CB, CC, CD := dw.cw[0], dw.cw[1], dw.cw[2], dw.cw[3], dw.cw[4]
+		for f := fLo; f < fPlain1; f++ {
+			for e := eLo; e < nE; e++ {
+				o := f*nE + e
+				v := S0[o]
+				C0[o] += v
+				CA[o] += a2 * v
+				CB[o] += b2 * v
+			}
+		}
+		if ketW {
+			for f := fKet0; f < nF; f++ {
+				for e := eKet0; e < eKet1; e++ {
+					o := f*nE + e
+					CC[o] += SC[o]
+					CD[o] += SD[o]
+				}
+			}
+		}
+	}
+	var out derivClasses
+	type cls struct {
+		src            int
+		la, lb, lc, ld int
+	}
+	for k := range 4 {
+		if !need[k] {
+			continue
+		}
+		var plus, minus cls
+		switch k {
+		case 0:
+			plus, minus = cls{1, la + 1, lb, lc, ld}, cls{0, la - 1, lb, lc, ld}
+		case 1:
+			plus, minus = cls{2, la, lb + 1, lc, ld}, cls{0, la, lb - 1, lc, ld}
+		case 2:
+			plus, minus = cls{3, la, lb, lc + 1, ld}, cls{0, la, lb, lc - 1, ld}
+		case 3:
+			plus, minus = cls{4, la, lb, lc, ld + 1}, cls{0, la, lb, lc, ld - 1}
+		}
+		for j, c := range []cls{plus, minus} {
+			if c.la < 0 || c.lb < 0 || c.lc < 0 || c.ld < 0 {
+				continue
+			}
+			// Copy the class's window [f ≥ lc'][e ≥ la'] into the
+			// compact layout the horizontal recurrence reads.
+			e0, e1 := ncum(c.la-1), ncum(c.la+c.lb)
+			f0, f1 := ncum(c.lc-1), ncum(c.lc+c.ld)
+			ner := e1 - e0
+			win := dw.win[:(f1-f0)*ner]
+			src := dw.cw[c.src]
+			for f := f0; f < f1; f++ {
+				copy(win[(f-f0)*ner:(f-f0+1)*ner], src[f*nE+e0:f*nE+e1])
+			}
+			blk := w.hrr(win, c.la, c.lb, c.lc, c.ld, bp.AB, kp.AB)
+			dst := dw.cls[k][j][:len(blk)]
+			copy(dst, blk)
+			out[k][j] = dst
+		}
+	}
+	return out
+}
