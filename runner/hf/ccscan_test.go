@@ -1,6 +1,7 @@
 package hf_test
 
 import (
+	"math"
 	"strings"
 	"testing"
 
@@ -117,5 +118,37 @@ func TestNewBackend_LimitErrors(t *testing.T) {
 		if _, err := hf.NewBackend(spec); err == nil || !strings.HasPrefix(err.Error(), tc.want) {
 			t.Errorf("NewBackend error = %v, want prefix %q", err, tc.want)
 		}
+	}
+}
+
+// TestGradient_CCSDTIsOfTheCCEnergy: the gradient used by relaxed scans
+// for ccsd(t) is that of the CCSD(T) energy — it agrees with a central
+// difference of CCSD(T) energies written here (step 2e-3 bohr; 1e-6
+// Eh/bohr: the O(h²) error of both differences) and not with the RHF
+// gradient (which differs by more than 1e-3 Eh/bohr for stretched H2).
+func TestGradient_CCSDTIsOfTheCCEnergy(t *testing.T) {
+	bs := testBasis(t, "cc-pVDZ")
+	h2 := func(z float64) planner.Molecule {
+		return mustMol(t, []planner.Atom{atom(t, "H", 0, 0, 0), atom(t, "H", 0, 0, z)}, 0, 1)
+	}
+	const r, h = 1.6, 2e-3
+	g, err := hf.Gradient(t.Context(), h2(r), hf.Options{Method: hf.CCSDT, Basis: bs})
+	if err != nil {
+		t.Fatal(err)
+	}
+	e := func(z float64, m hf.Method) float64 {
+		res, err := hf.Energy(t.Context(), h2(z), hf.Options{Method: m, Basis: bs})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res.Energy
+	}
+	want := (e(r+h, hf.CCSDT) - e(r-h, hf.CCSDT)) / (2 * h) // ∂E/∂z of atom 2
+	rhf := (e(r+h, hf.RHF) - e(r-h, hf.RHF)) / (2 * h)
+	if g.Analytic || !scalar.EqualWithinAbs(g.Gradient[1][2], want, 1e-6) {
+		t.Errorf("gradient z of atom 2 = %.8f (analytic %v), CCSD(T) difference %.8f", g.Gradient[1][2], g.Analytic, want)
+	}
+	if math.Abs(want-rhf) < 1e-3 {
+		t.Errorf("the test cannot tell CCSD(T) from RHF: %.8f vs %.8f", want, rhf)
 	}
 }
