@@ -123,6 +123,10 @@ type EngineSpec struct {
 	MaxIterations int      `toml:"max_iterations"` // SCF iteration limit, 0: engine default
 	Convergence   *float64 `toml:"convergence"`    // SCF energy change threshold (hartree), nil: engine default
 	Guess         string   `toml:"guess"`          // "neighbour" (default) or "fresh": continuation guess on/off
+	// MemoryMB is the two-electron integral budget per point in MiB; 0:
+	// derived from the machine's available memory. It changes how fast a
+	// point runs, not its energy, so it is not part of the fingerprint.
+	MemoryMB int `toml:"memory_mb"`
 
 	// BasisLimit, instead of Basis, names two correlation-consistent sets
 	// (["cc-pVTZ", "cc-pVQZ"]) whose energies are extrapolated to the
@@ -473,6 +477,7 @@ func (s *Spec) Fingerprint() Fingerprint {
 		}
 	}
 	eng = withoutKey(eng, "model", "delay")
+	delete(eng, "memory_mb") // a copy: how fast, not what
 	if r := s.relaxFingerprint(); r != nil {
 		eng["relaxed scan"] = r
 	}

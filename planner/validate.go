@@ -521,7 +521,7 @@ var modelShapes = map[string]bool{"morse": true, "lennard-jones": true, "harmoni
 
 func (s *Spec) validateEngine() error {
 	e := s.Engine
-	builtinKeys := []string{"method", "basis", "cartesian", "max_iterations", "convergence", "guess", "frozen_core", "basis_limit", "core_correction"}
+	builtinKeys := []string{"method", "basis", "cartesian", "max_iterations", "convergence", "guess", "memory_mb", "frozen_core", "basis_limit", "core_correction"}
 	not := func(kind string, keys ...string) error {
 		for _, k := range keys {
 			if s.meta.IsDefined("engine", k) {
@@ -579,6 +579,9 @@ func (s *Spec) validateEngine() error {
 		}
 		if e.MaxIterations < 0 {
 			return s.errAt("engine.max_iterations", "must not be negative, got %d", e.MaxIterations)
+		}
+		if e.MemoryMB < 0 {
+			return s.errAt("engine.memory_mb", "must not be negative, got %d (leave it out for a budget from the machine's available memory)", e.MemoryMB)
 		}
 		if e.Convergence != nil && !(*e.Convergence > 0 && *e.Convergence < 1) {
 			return s.errAt("engine.convergence", "must be between 0 and 1 hartree, got %g", *e.Convergence)

@@ -19,6 +19,9 @@ type PointSet struct {
 	// Snapshot is set when the points came from a running scan's
 	// status.json.
 	Snapshot *Snapshot
+	// Warnings about the scan, most serious first ([ScanWarnings], or the
+	// snapshot's).
+	Warnings []Warning
 }
 
 // ReadPoints reads the points of the scan in dir: from the store when no
@@ -36,7 +39,7 @@ func ReadPoints(dir string, spec *planner.Spec) (PointSet, error) {
 		ferr := CheckFingerprint(st, spec)
 		recs, rerr := st.Points()
 		rounds, rrerr := st.Rounds()
-		if err := errors.Join(ferr, rerr, rrerr); err != nil {
+		if err := errors.Join(rerr, rrerr); err != nil {
 			return PointSet{}, err
 		}
 		for i := range recs {
@@ -45,22 +48,25 @@ func ReadPoints(dir string, spec *planner.Spec) (PointSet, error) {
 				r.Energy, r.State, r.Class, r.LastError = nil, Failed, "damaged", r.Damaged+"; the next run repairs it"
 			}
 		}
-		return PointSet{Records: recs, Rounds: rounds, Source: "store"}, nil
+		source := "store"
+		if li := ReadLockInfo(dir); li != nil {
+			source += "; note: " + StaleLockMessage(dir, li) + " (wellscan run resumes it)"
+		}
+		return PointSet{Records: recs, Rounds: rounds, Source: source, Warnings: ScanWarnings(recs, rounds)}, ferr
 	case errors.Is(err, ErrLocked):
 		snap, serr := ReadSnapshot(dir)
 		if serr != nil {
 			return PointSet{}, fmt.Errorf("%w (and no snapshot: %w)", err, serr)
 		}
-		if err := CheckSnapshotFingerprint(dir, snap, spec); err != nil {
-			return PointSet{}, err
-		}
-		ps := PointSet{Snapshot: &snap, Source: fmt.Sprintf("snapshot of %s, run by PID %d on %s", snap.Updated.Local().Format("15:04:05"), snap.PID, snap.Host)}
+		ferr := CheckSnapshotFingerprint(dir, snap, spec)
+		ps := PointSet{Snapshot: &snap, Warnings: snap.Warnings, Source: fmt.Sprintf("snapshot of %s, run by PID %d on %s", snap.Updated.Local().Format("15:04:05"), snap.PID, snap.Host)}
 		errs := map[string]PointErrorJSON{}
 		for _, e := range snap.LastErrors {
 			errs[e.Key] = e
 		}
 		for _, p := range snap.Points {
-			r := PointRecord{Key: p.Key, Values: p.Values, State: p.State, Energy: p.EnergyHartree, Round: p.Round, Attempts: p.Attempts}
+			r := PointRecord{Key: p.Key, Values: p.Values, State: p.State, Energy: p.EnergyHartree, Round: p.Round, Attempts: p.Attempts,
+				Iterations: p.Iterations, SSquared: p.SSquared}
 			if r.Values == nil {
 				// Snapshots written before values were kept: rebuild from
 				// the key.
@@ -75,7 +81,7 @@ func ReadPoints(dir string, spec *planner.Spec) (PointSet, error) {
 			}
 			ps.Records = append(ps.Records, r)
 		}
-		return ps, nil
+		return ps, ferr
 	case errors.Is(err, ErrNoStore):
 		return PointSet{}, fmt.Errorf("%w: %s has not been run yet (wellscan run %s)", err, dir, dir)
 	}

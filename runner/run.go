@@ -94,6 +94,11 @@ type Runner struct {
 	rounds    map[int]*RoundRecord
 	dirtyR    map[int]bool
 	events    []Event
+	idx       *pointIndex // look-ups by coordinate values; built on first use
+	tally     map[State]int
+	snapNext  time.Time        // wall clock: no running snapshot before this (tally.go)
+	tallied   map[string]State // each point's state as counted in tally
+	pointTime time.Duration    // summed compute time of the points computed by this run
 	start     time.Time
 	computed  int
 	reused    int
@@ -128,6 +133,9 @@ type Summary struct {
 	// Detached is true when Run returned with points left running on the
 	// queue (Runner.Detach); Status then describes the last finished round.
 	Detached bool
+	// Points are every point's record at the end of the run (internal
+	// units), so that the closing analysis reads nothing again.
+	Points []PointRecord
 }
 
 // errDetach ends a round early in detached mode (Runner.Detach).
@@ -157,6 +165,15 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 		r.CPUs = runtime.NumCPU()
 	}
 	r.start = r.Now()
+	// Every path handed to a backend (Task.Dir, guess files) is absolute,
+	// so what a backend returns relative to the working directory cannot
+	// be mistaken for a path relative to the point directory; paths stored
+	// in the store and result files stay relative to the scan directory.
+	if abs, err := filepath.Abs(r.Dir); err == nil {
+		r.Dir = abs
+	} else {
+		return Summary{}, fmt.Errorf("runner: scan directory %s: %w", r.Dir, err)
+	}
 	r.host, _ = os.Hostname()
 	r.suffix = tmpSuffix()
 	fp, _ := json.Marshal(r.Spec.Fingerprint())
@@ -425,6 +442,7 @@ func (r *Runner) roundRec(n int) *RoundRecord {
 func (r *Runner) plan(p planner.Point, round int) {
 	rec := &PointRecord{Key: p.Key, Values: p.Values, Round: round, State: Planned, Planned: r.Now(), Backend: r.Backend.Name()}
 	r.recs[p.Key] = rec
+	r.indexPoint(rec)
 	r.touch(rec)
 	r.emit(Event{Kind: string(Planned), Key: p.Key, Round: round})
 }
@@ -455,6 +473,7 @@ func (r *Runner) flush() error {
 		return err
 	}
 	r.lastFlush = r.Now()
+	r.retally()
 	clear(r.dirty)
 	clear(r.dirtyR)
 	r.events = nil
@@ -484,25 +503,16 @@ func (r *Runner) counts() map[State]int {
 }
 
 func (r *Runner) progress() Progress {
-	c := r.counts()
+	c := r.tallyCounts()
 	p := Progress{Round: r.round, Counts: c, Total: len(r.recs), Elapsed: r.Now().Sub(r.start)}
-	left := c[Planned] + c[Submitted] + c[Running]
-	if r.computed > 0 && left > 0 {
-		per := p.Elapsed / time.Duration(r.computed)
-		p.ETA = per * time.Duration(left)
-	}
+	p.ETA = r.eta(c[Planned] + c[Submitted] + c[Running])
 	return p
 }
 
-// runRound dispatches planned points until none is planned or in flight.
+// runRound dispatches planned points until none is planned or in flight,
+// in the order the dispatcher chooses (dispatch.go).
 func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Completion) error {
-	var queue []*PointRecord
-	for _, k := range r.keys() {
-		if r.recs[k].State == Planned {
-			queue = append(queue, r.recs[k])
-		}
-	}
-	sortQueue(queue)
+	queue := newDispatcher(r)
 	inflight := 0
 	var next *Task
 	var nextRec *PointRecord
@@ -513,11 +523,13 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 		if ctx.Err() != nil {
 			return ctx.Err()
 		}
-		for next == nil && len(queue) > 0 {
-			rec := queue[0]
-			t, err := r.task(rec, len(queue)+inflight)
+		for next == nil && queue.len() > 0 {
+			rec := queue.next()
+			if rec == nil {
+				break
+			}
+			t, err := r.preparedTask(queue, rec, queue.len()+1+inflight)
 			if err != nil {
-				queue = queue[1:]
 				rec.Attempts++
 				rec.State, rec.Class, rec.LastError = Failed, "geometry", err.Error()
 				r.touch(rec)
@@ -529,7 +541,7 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 		if next == nil && inflight == 0 {
 			return r.flush()
 		}
-		if next == nil && len(queue) == 0 && r.Detach {
+		if next == nil && queue.len() == 0 && r.Detach {
 			if err := r.flush(); err != nil {
 				return err
 			}
@@ -542,21 +554,25 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 		}
 		dispatched := func() {
 			rec := nextRec
-			queue = queue[1:]
 			rec.Attempts++
 			rec.State, rec.Started = Running, r.Now()
 			r.touch(rec)
 			r.emit(Event{Kind: string(Submitted), Key: rec.Key, Round: rec.Round, Message: r.Queue.Name()})
 			r.emit(Event{Kind: string(Running), Key: rec.Key, Round: rec.Round})
 			inflight++
+			queue.dispatched(rec)
 			next, nextRec = nil, nil
 		}
 		completed := func(c Completion) {
 			inflight--
-			next, nextRec = nil, nil // rebuild: a nearer neighbour may be done now
-			if rec := r.ingest(c); rec != nil && rec.State == Planned {
-				queue = append(queue, rec)
-				sortQueue(queue)
+			if nextRec != nil {
+				// Choose again: a nearer neighbour may be done now. The
+				// prepared task keeps its geometry.
+				queue.putBack(nextRec)
+				next, nextRec = nil, nil
+			}
+			if rec := r.ingest(c); rec != nil {
+				queue.finished(rec)
 			}
 		}
 		// Take whatever is ready without blocking; commit once nothing is.
@@ -579,47 +595,36 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 		// page cache, which outlives the process) are taken on resume; if
 		// the machine dies, a point not yet committed is computed again.
 		var flushC <-chan time.Time
+		var ft *time.Timer
 		if r.pendingChanges() {
 			if wait := r.FlushEvery - r.Now().Sub(r.lastFlush); wait > 0 {
-				ft := time.NewTimer(wait)
-				defer ft.Stop()
+				ft = time.NewTimer(wait)
 				flushC = ft.C
 			} else if err := r.flush(); err != nil {
 				return err
 			}
 		}
+		var err error
 		select {
 		case <-flushC:
-			if err := r.flush(); err != nil {
-				return err
-			}
+			err = r.flush()
 		case send <- nv:
 			dispatched()
 		case c := <-out:
 			completed(c)
-			if err := r.sameFailureStop(c); err != nil {
-				return err
-			}
+			err = r.sameFailureStop(c)
 		case <-tick.C:
-			r.snapshot("running")
+			r.snapshotRunning()
 		case <-ctx.Done():
-			return ctx.Err()
+			err = ctx.Err()
+		}
+		if ft != nil {
+			ft.Stop()
+		}
+		if err != nil {
+			return err
 		}
 	}
-}
-
-func sortQueue(q []*PointRecord) {
-	sort.SliceStable(q, func(a, b int) bool {
-		if q[a].Round != q[b].Round {
-			return q[a].Round < q[b].Round
-		}
-		for i := range q[a].Values {
-			if q[a].Values[i] != q[b].Values[i] {
-				return q[a].Values[i] < q[b].Values[i]
-			}
-		}
-		return q[a].Key < q[b].Key
-	})
 }
 
 // task builds the Task for rec: geometry, directory, continuation guess
@@ -633,100 +638,31 @@ func (r *Runner) task(rec *PointRecord, active int) (Task, error) {
 	t := Task{Key: rec.Key, Values: rec.Values, Mol: mol, Dir: PointDir(r.Dir, rec.Key), Attempt: rec.Attempts + 1, Cold: rec.Jumps > 0}
 	// A point whose energy jumped is recomputed from a cold start: its
 	// continuation guess may be what carried it onto another state.
-	if r.Spec.Engine.Guess != "fresh" && rec.Jumps == 0 {
-		best, bestKey := math.Inf(1), ""
-		for _, o := range r.recs {
-			if o.State != Done || o.Orbitals == "" || o.Key == rec.Key {
-				continue
-			}
-			d := 0.0
-			for i := range o.Values {
-				d += (o.Values[i] - rec.Values[i]) * (o.Values[i] - rec.Values[i])
-			}
-			if d < best || (d == best && o.Key < bestKey) {
-				best, bestKey = d, o.Key
-				t.GuessPath = filepath.Join(r.Dir, filepath.FromSlash(o.Orbitals))
-			}
-		}
-		if bestKey != "" {
-			t.GuessLine, t.LineAt = r.guessLine(rec, r.recs[bestKey])
-		}
-		if _, err := os.Stat(t.GuessPath); bestKey != "" && err != nil {
-			// The neighbour's file is gone (points/ deleted under a running
-			// scan): a cold start, not a failure.
-			t.GuessPath, t.GuessLine, t.LineAt = "", nil, 0
-		}
+	r.setGuess(&t, rec)
+	r.setThreads(&t, active)
+	return t, nil
+}
+
+// preparedTask is task, reusing the geometry of a task prepared for rec
+// earlier and not handed out; the guess and thread share are chosen anew.
+func (r *Runner) preparedTask(d *dispatcher, rec *PointRecord, active int) (Task, error) {
+	if t, ok := d.prepared[rec.Key]; ok && t.Attempt == rec.Attempts+1 {
+		r.setGuess(&t, rec)
+		r.setThreads(&t, active)
+		return t, nil
 	}
+	t, err := r.task(rec, active)
+	if err == nil {
+		d.prepared[rec.Key] = t
+	}
+	return t, err
+}
+
+func (r *Runner) setThreads(t *Task, active int) {
 	t.Threads = r.Spec.Queue.Threads
 	if t.Threads == 0 {
 		t.Threads = max(1, r.CPUs/max(1, min(r.Queue.Slots(), active)))
 	}
-	return t, nil
-}
-
-// guessLine returns the done points with orbitals on the line through rec
-// and its nearest done neighbour nb (nb first, then by distance, at most
-// three, none farther than four times nb's distance) and rec's position on
-// that line; nil when nb differs from rec in more than one coordinate.
-func (r *Runner) guessLine(rec, nb *PointRecord) ([]LinePoint, float64) {
-	const same = 1e-9
-	axis := -1
-	for i := range rec.Values {
-		if math.Abs(nb.Values[i]-rec.Values[i]) > same {
-			if axis >= 0 {
-				return nil, 0
-			}
-			axis = i
-		}
-	}
-	if axis < 0 {
-		return nil, 0
-	}
-	x := rec.Values[axis]
-	d1 := math.Abs(nb.Values[axis] - x)
-	type cand struct {
-		key string
-		at  float64
-	}
-	var cs []cand
-	for _, o := range r.recs {
-		if o.State != Done || o.Orbitals == "" || o.Key == rec.Key || o.Key == nb.Key {
-			continue
-		}
-		on := true
-		for i := range o.Values {
-			if i != axis && math.Abs(o.Values[i]-rec.Values[i]) > same {
-				on = false
-				break
-			}
-		}
-		if on && math.Abs(o.Values[axis]-x) <= 4*d1 && math.Abs(o.Values[axis]-nb.Values[axis]) > same {
-			cs = append(cs, cand{o.Key, o.Values[axis]})
-		}
-	}
-	sort.Slice(cs, func(a, b int) bool {
-		da, db := math.Abs(cs[a].at-x), math.Abs(cs[b].at-x)
-		if da != db {
-			return da < db
-		}
-		return cs[a].key < cs[b].key
-	})
-	line := []LinePoint{{Path: filepath.Join(r.Dir, filepath.FromSlash(nb.Orbitals)), At: nb.Values[axis]}}
-	for _, c := range cs {
-		if len(line) == 3 {
-			break
-		}
-		dup := false
-		for _, l := range line {
-			if math.Abs(l.At-c.at) <= same {
-				dup = true
-			}
-		}
-		if !dup {
-			line = append(line, LinePoint{Path: filepath.Join(r.Dir, filepath.FromSlash(r.recs[c.key].Orbitals)), At: c.at})
-		}
-	}
-	return line, x
 }
 
 // work is the Worker: it runs one task in this process and writes its
@@ -745,6 +681,12 @@ func (r *Runner) work(ctx context.Context, t Task) Completion {
 // compute-node side of a batch queue can call it. On cancellation it
 // returns a Completion with Interrupted set and writes nothing.
 func ComputePoint(ctx context.Context, spec *planner.Spec, dir string, b Backend, t Task) Completion {
+	if abs, err := filepath.Abs(dir); err == nil {
+		dir = abs
+	}
+	if abs, err := filepath.Abs(t.Dir); err == nil {
+		t.Dir = abs
+	}
 	host, _ := os.Hostname()
 	return pointComputer{spec: spec, dir: dir, fp: SpecFingerprint(spec), backend: b, now: time.Now,
 		host: host, suffix: tmpSuffix(), durable: true}.work(ctx, t)
@@ -831,13 +773,7 @@ func (r pointComputer) resultOf(t Task, start time.Time, o Outcome) Result {
 	res := r.base(t, start)
 	res.Energy, res.Converged, res.Iterations, res.SSquared, res.Extra = o.Energy, o.Converged, o.Iterations, o.SSquared, o.Extra
 	if o.OrbitalsPath != "" {
-		p := o.OrbitalsPath
-		if filepath.IsAbs(p) {
-			if rel, err := filepath.Rel(t.Dir, p); err == nil {
-				p = rel
-			}
-		}
-		res.Orbitals = p
+		res.Orbitals = orbitalsRel(t.Dir, o.OrbitalsPath)
 	}
 	if o.Converged && !math.IsNaN(o.Energy) && !math.IsInf(o.Energy, 0) {
 		res.Status = "done"
@@ -855,6 +791,36 @@ func (r pointComputer) resultOf(t Task, start time.Time, o Outcome) Result {
 		}
 	}
 	return res
+}
+
+// orbitalsRel returns the orbitals file p a backend reported for the
+// task in taskDir as a path relative to taskDir (what result files hold).
+// The backend contract allows an absolute path or one relative to
+// Task.Dir; a relative path is taken as it is.
+func orbitalsRel(taskDir, p string) string {
+	if !filepath.IsAbs(p) {
+		return filepath.Clean(p)
+	}
+	if abs, err := filepath.Abs(taskDir); err == nil {
+		if rel, err := filepath.Rel(abs, p); err == nil {
+			return rel
+		}
+	}
+	return p
+}
+
+// storedOrbitals turns the orbitals path of key's result file (relative
+// to the point directory; an absolute one from an older writer is
+// accepted) into the store's form: slash-separated, relative to the scan
+// directory.
+func (r *Runner) storedOrbitals(key, orb string) string {
+	p := filepath.Join(PointsDir, key, orb)
+	if filepath.IsAbs(orb) {
+		if rel, err := filepath.Rel(r.Dir, orb); err == nil {
+			p = rel
+		}
+	}
+	return filepath.ToSlash(p)
 }
 
 // retriable says whether a failure class may succeed on another try. A
@@ -892,6 +858,7 @@ func (r *Runner) ingest(c Completion) *PointRecord {
 		r.reused++
 	case c.Result.Status == "done":
 		r.computed++
+		r.measure(c.Result)
 	}
 	r.apply(rec, c.Result)
 	return rec
@@ -909,8 +876,9 @@ func (r *Runner) apply(rec *PointRecord, res Result) {
 		rec.Class, rec.LastError = "", ""
 		rec.Seconds = res.Finished.Sub(res.Started).Seconds()
 		if res.Orbitals != "" {
-			rec.Orbitals = filepath.ToSlash(filepath.Join(PointsDir, rec.Key, res.Orbitals))
+			rec.Orbitals = r.storedOrbitals(rec.Key, res.Orbitals)
 		}
+		r.indexPoint(rec)
 		r.touch(rec)
 		r.emit(Event{Kind: string(Done), Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%.10f hartree", e)})
 		return
@@ -1037,6 +1005,7 @@ func (r *Runner) summary() Summary {
 		rounds = append(rounds, *rr)
 	}
 	s.Warnings = ScanWarnings(recs, rounds)
+	s.Points = recs
 	return s
 }
 

@@ -98,7 +98,7 @@ stays, and rerunning with the same --dir resumes.`,
 						fmt.Fprintln(a.stdout)
 					}
 				}
-				printEndFit(cmd.Context(), a.stdout, dir, spec)
+				printEndFit(cmd.Context(), a.stdout, dir, spec, sum.Points)
 				if spec.Engine.Kind == "model" {
 					fmt.Fprintln(a.stdout, "note: this demo ran on a MODEL potential (engine.kind = \"model\"), not an electronic-structure method")
 				}

@@ -35,6 +35,7 @@ type energyOptions struct {
 	alsoUnits    []string
 	basisLimit   []string
 	coreCorr     string
+	memoryMB     int
 }
 
 func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
@@ -53,6 +54,7 @@ func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.StringSliceVar(&o.alsoUnits, "also-units", nil, "also show the energy in these units (eV, kJ/mol, kcal/mol, cm-1) and, with au, the dipole in e·bohr")
 	fs.IntVar(&o.workers, "workers", 0, "goroutines for integrals and Fock builds (default: all CPUs)")
 	fs.IntVar(&o.maxIter, "max-iterations", 0, "SCF iteration cap (default 128)")
+	fs.IntVar(&o.memoryMB, "memory", 0, "two-electron integral budget in MiB: integrals that fit are kept in memory, the rest recomputed at each iteration (default: half the available memory, at most 16 GiB)")
 	fs.StringVar(&o.guess, "guess", "auto", "starting guess: auto (rhf: atoms; uhf: try core, gwh, atoms, atoms-spin and for singlets core-twist, keep the lowest), core, gwh, atoms, atoms-spin or core-twist")
 }
 
@@ -144,9 +146,15 @@ type energyReport struct {
 	MaxT1                  *float64 `json:"max_t1,omitempty"`
 	// Guess is the starting guess whose SCF was kept; GuessTrials lists
 	// every cold-start guess run (UHF tries several and keeps the lowest).
-	Guess       string          `json:"guess"`
-	GuessTrials []hf.GuessTrial `json:"guess_trials,omitempty"`
-	GuessNotes  []string        `json:"guess_notes,omitempty"`
+	// IntegralMode is how the two-electron integrals were handled
+	// ("in-core", "semi-direct" or "direct"), with the memory the kept
+	// ones took and the budget (MiB).
+	IntegralMode      string          `json:"integral_mode"`
+	IntegralMemoryMiB float64         `json:"integral_memory_mib"`
+	MemoryBudgetMiB   float64         `json:"memory_budget_mib"`
+	Guess             string          `json:"guess"`
+	GuessTrials       []hf.GuessTrial `json:"guess_trials,omitempty"`
+	GuessNotes        []string        `json:"guess_notes,omitempty"`
 }
 
 func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error {
@@ -198,6 +206,9 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 		}
 		cold = []hf.GuessKind{k}
 	}
+	if o.memoryMB < 0 {
+		return usageError{fmt.Errorf("--memory: %d MiB, expected a positive budget (or leave it out)", o.memoryMB)}
+	}
 	var r io.Reader = a.stdin
 	if path != "-" {
 		if err := planner.CheckRegular(path); err != nil {
@@ -231,7 +242,7 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 			return usageError{err}
 		}
 		lr, err := hf.ComputeLimit(cmd.Context(), mol, r, hf.Options{Convention: conv, Workers: o.workers,
-			SCF: hf.SCFOptions{MaxIterations: o.maxIter}, ColdGuesses: cold})
+			SCF: hf.SCFOptions{MaxIterations: o.maxIter}, ColdGuesses: cold, Memory: int64(o.memoryMB) << 20})
 		if err != nil {
 			return err
 		}
@@ -247,7 +258,8 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 		return err
 	}
 	res, err := hf.Energy(cmd.Context(), mol, hf.Options{Method: method, Basis: set, Convention: conv,
-		Workers: o.workers, SCF: hf.SCFOptions{MaxIterations: o.maxIter}, FrozenCore: fc, ColdGuesses: cold})
+		Workers: o.workers, SCF: hf.SCFOptions{MaxIterations: o.maxIter}, FrozenCore: fc, ColdGuesses: cold,
+		Memory: int64(o.memoryMB) << 20})
 	if res == nil {
 		return err
 	}
@@ -282,6 +294,8 @@ func newEnergyReport(res *hf.Result, mol planner.Molecule) energyReport {
 		MullikenCharges: res.Mulliken, DipoleAU: res.Dipole,
 		DipoleDebye: math.Sqrt(res.Dipole[0]*res.Dipole[0]+res.Dipole[1]*res.Dipole[1]+res.Dipole[2]*res.Dipole[2]) * planner.BohrElectronInDebye,
 		Guess:       res.SCFResult.Guess.String(), GuessNotes: res.GuessNotes,
+		IntegralMode: res.IntegralMode, IntegralMemoryMiB: float64(res.IntegralBytes) / (1 << 20),
+		MemoryBudgetMiB: float64(res.MemoryBudget) / (1 << 20),
 	}
 	if len(res.Trials) > 1 {
 		rep.GuessTrials = res.Trials
@@ -412,6 +426,7 @@ func printEnergy(w io.Writer, v energyView) {
 		fmt.Fprintf(w, "; %d near-linear-dependent combinations dropped", rep.DroppedFunctions)
 	}
 	fmt.Fprintln(w)
+	fmt.Fprintf(w, "  %-12s %s (%.1f MiB kept, budget %.0f MiB)\n", "integrals", rep.IntegralMode, rep.IntegralMemoryMiB, rep.MemoryBudgetMiB)
 	state := "converged"
 	if !rep.Converged {
 		state = "NOT converged"

@@ -300,7 +300,7 @@ var decimalsRE = regexp.MustCompile(`-?\d+\.\d{7,}`)
 // UHF triplet so that ⟨S²⟩ and both spins' orbitals show.
 func TestEnergyCommand_Golden(t *testing.T) {
 	const water = "O  0.000000  0.000000  0.117300\nH  0.000000  0.757200 -0.469200\nH  0.000000 -0.757200 -0.469200\n"
-	code, out, errs := runCLI(t, water, "energy", "-", "--basis", "STO-3G", "--multiplicity", "3", "--guess", "core", "--also-units", "eV,au")
+	code, out, errs := runCLI(t, water, "energy", "-", "--basis", "STO-3G", "--multiplicity", "3", "--guess", "core", "--also-units", "eV,au", "--memory", "64") // a fixed budget: the default depends on the machine
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}

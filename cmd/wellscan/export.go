@@ -3,7 +3,6 @@ package main
 import (
 	"encoding/json"
 	"fmt"
-	"math"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
@@ -51,7 +50,9 @@ func newExportCommand(a *app) *cobra.Command {
 			default:
 				return usageError{fmt.Errorf("export: --format %q: expected csv, json or xyz", o.format)}
 			}
-			in, err := buildReportInput(cmd.Context(), args[0], &fitOptions{limit: math.NaN()})
+			// The points only: export never fits (relative energies are
+			// above the lowest computed point, as in curve.csv).
+			in, err := buildReportInput(cmd.Context(), args[0], nil)
 			if err != nil {
 				return err
 			}

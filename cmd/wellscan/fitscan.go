@@ -26,9 +26,15 @@ func fitScanDir(ctx context.Context, dir string, spec *planner.Spec, o *fitOptio
 	if err != nil {
 		return nil, err
 	}
+	return analyseRecords(ctx, dir, spec, ps.Records, o)
+}
+
+// analyseRecords analyses the done points among recs (internal units, as
+// the store keeps them).
+func analyseRecords(ctx context.Context, dir string, spec *planner.Spec, recs []runner.PointRecord, o *fitOptions) (*analysis.Result, error) {
 	var pts []analysis.Point
 	skipped := map[string]int{}
-	for _, r := range ps.Records {
+	for _, r := range recs {
 		if r.State != runner.Done || r.Energy == nil {
 			skipped[string(r.State)]++
 			continue
@@ -189,7 +195,10 @@ func scanSpecPath(dir string) string { return filepath.Join(dir, "scan.toml") }
 // printEndFit prints the constants table at the end of run and demo. A
 // fit that cannot be made is reported, never fatal: the scan itself is
 // done.
-func printEndFit(ctx context.Context, w io.Writer, dir string, spec *planner.Spec) {
+//
+// recs are the run's final records (runner.Summary.Points): the analysis
+// reads nothing again.
+func printEndFit(ctx context.Context, w io.Writer, dir string, spec *planner.Spec, recs []runner.PointRecord) {
 	if ctx.Err() != nil {
 		return
 	}
@@ -198,7 +207,7 @@ func printEndFit(ctx context.Context, w io.Writer, dir string, spec *planner.Spe
 		return
 	}
 	o := &fitOptions{limit: math.NaN()}
-	res, err := fitScanDir(ctx, dir, spec, o)
+	res, err := analyseRecords(ctx, dir, spec, recs, o)
 	fmt.Fprintln(w)
 	if err != nil {
 		fmt.Fprintf(w, "constants: not available (%v)\n", err)

@@ -106,11 +106,14 @@ stopped part-way; what is missing is said loudly in the summary.`,
 }
 
 // buildReportInput gathers what a report of the scan in dir shows: the
-// spec's conditions, every point (from the store, or from status.json
-// while a run holds the store) and the fit. A fit that cannot be made is
-// recorded in FitError, not returned: the report still shows the points.
+// spec's conditions, every point (read once, from the store or from
+// status.json while a run holds the store: runner.ReadPoints) and the
+// analysis of those same points. A fit that cannot be made is recorded in
+// FitError, not returned: the report still shows the points. With o nil
+// (export) nothing is fitted.
 func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.Input, error) {
 	var in report.Input
+	var records []runner.PointRecord
 	spec, err := planner.Load(scanSpecPath(dir))
 	if err != nil {
 		return in, err
@@ -137,60 +140,27 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 		in.Axes = append(in.Axes, report.Axis{Name: c.Name, Kind: c.Kind.String(), Unit: u, Digits: c.Digits})
 	}
 	backends := map[string]bool{}
-	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true, Timeout: 300 * time.Millisecond})
-	switch {
-	case err == nil:
-		ferr := runner.CheckFingerprint(st, spec)
-		recs, rerr := st.Points()
-		rounds, rrerr := st.Rounds()
-		st.Close()
-		if err := errors.Join(ferr, rerr, rrerr); err != nil {
-			return in, err
+	ps, err := runner.ReadPoints(dir, spec)
+	if err != nil {
+		if errors.Is(err, runner.ErrNoStore) {
+			return in, fmt.Errorf("report: %s has not been run yet (wellscan run %s)", dir, dir)
 		}
-		for _, r := range recs {
-			if r.Damaged != "" {
-				// A record that fails its checksum shows no number.
-				r.Energy, r.State, r.LastError = nil, runner.Failed, r.Damaged+"; the next run repairs it"
-			}
-			p := report.Point{Key: r.Key, Values: spec.DisplayValues(planner.Point{Values: r.Values}),
-				State: string(r.State), Energy: r.Energy, Attempts: r.Attempts, Error: r.LastError}
-			addDiagnostics(&p, r, spec.Engine.Kind)
-			in.Points = append(in.Points, p)
-			if r.Backend != "" {
-				backends[r.Backend] = true
-			}
-		}
-		in.Warnings = reportWarnings(runner.ScanWarnings(recs, rounds))
-	case errors.Is(err, runner.ErrLocked):
-		snap, serr := runner.ReadSnapshot(dir)
-		if serr != nil {
-			return in, fmt.Errorf("%w (and no snapshot: %w)", err, serr)
-		}
-		if err := runner.CheckSnapshotFingerprint(dir, snap, spec); err != nil {
-			return in, err
-		}
-		in.Notes = append(in.Notes, fmt.Sprintf("the scan is still running (PID %d on %s): this report shows the snapshot of %s", snap.PID, snap.Host, snap.Updated.UTC().Format(time.RFC3339)))
-		errs := map[string]string{}
-		for _, e := range snap.LastErrors {
-			errs[e.Key] = e.Error
-		}
-		for _, p := range snap.Points {
-			v := make([]float64, len(in.Axes))
-			for i, a := range in.Axes {
-				v[i] = p.Coordinates[a.Name]
-			}
-			rp := report.Point{Key: p.Key, Values: v, State: string(p.State), Energy: p.EnergyHartree, Attempts: p.Attempts, Error: errs[p.Key], SSquared: p.SSquared}
-			if spec.Engine.Kind == "builtin" {
-				rp.Iterations = p.Iterations
-			}
-			in.Points = append(in.Points, rp)
-		}
-		in.Warnings = reportWarnings(snap.Warnings)
-	case errors.Is(err, runner.ErrNoStore):
-		return in, fmt.Errorf("report: %s has not been run yet (wellscan run %s)", dir, dir)
-	default:
 		return in, err
 	}
+	if snap := ps.Snapshot; snap != nil {
+		in.Notes = append(in.Notes, fmt.Sprintf("the scan is still running (PID %d on %s): this report shows the snapshot of %s", snap.PID, snap.Host, snap.Updated.UTC().Format(time.RFC3339)))
+	}
+	for _, r := range ps.Records {
+		p := report.Point{Key: r.Key, Values: spec.DisplayValues(planner.Point{Values: r.Values}),
+			State: string(r.State), Energy: r.Energy, Attempts: r.Attempts, Error: r.LastError}
+		addDiagnostics(&p, r, spec.Engine.Kind)
+		in.Points = append(in.Points, p)
+		if r.Backend != "" {
+			backends[r.Backend] = true
+		}
+	}
+	in.Warnings = reportWarnings(ps.Warnings)
+	records = ps.Records
 	var bs []string
 	for b := range backends {
 		bs = append(bs, b)
@@ -201,7 +171,10 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 		in.Conditions.Backend = spec.Engine.Kind + " engine"
 	}
 	in.Conditions.Backend += ", queue " + orDefault(spec.Queue.Kind, "local")
-	res, err := fitScanDir(ctx, dir, spec, o)
+	if o == nil {
+		return in, nil // export: the points only, never a fit
+	}
+	res, err := analyseRecords(ctx, dir, spec, records, o)
 	switch {
 	case err != nil && ctx.Err() != nil:
 		return in, ctx.Err()

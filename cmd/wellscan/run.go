@@ -80,7 +80,7 @@ molecule, coordinates or [engine] are refused.
 					printDetached(a.stdout, args[0], *sum, queueName)
 					return err
 				}
-				printEndFit(cmd.Context(), a.stdout, args[0], spec)
+				printEndFit(cmd.Context(), a.stdout, args[0], spec, sum.Points)
 			}
 			return err
 		},

@@ -178,29 +178,19 @@ func sortedCounts(m map[string]int) []string {
 // a store copied from another scan) it returns the snapshot and an error
 // wrapping runner.ErrSpecChanged.
 func readStatus(dir string, spec *planner.Spec) (runner.Snapshot, string, error) {
-	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true, Timeout: 300 * time.Millisecond})
-	switch {
-	case err == nil:
-		defer st.Close()
-		snap, err := runner.StoreSnapshot(spec, st, time.Now())
-		source := "store"
-		if li := runner.ReadLockInfo(dir); li != nil {
-			source += "; note: " + runner.StaleLockMessage(dir, li) + " (wellscan run resumes it)"
+	ps, err := runner.ReadPoints(dir, spec)
+	if err != nil && !errors.Is(err, runner.ErrSpecChanged) {
+		if errors.Is(err, runner.ErrNoStore) {
+			return runner.Snapshot{}, "", fmt.Errorf("%s has not been run yet (wellscan run %s)", dir, dir)
 		}
-		if err == nil {
-			err = runner.CheckFingerprint(st, spec)
-		}
-		return snap, source, err
-	case errors.Is(err, runner.ErrLocked):
-		snap, serr := runner.ReadSnapshot(dir)
-		if serr != nil {
-			return snap, "", fmt.Errorf("%w (and no snapshot: %w)", err, serr)
-		}
-		return snap, fmt.Sprintf("snapshot of %s, run by PID %d on %s", snap.Updated.Local().Format("15:04:05"), snap.PID, snap.Host), runner.CheckSnapshotFingerprint(dir, snap, spec)
-	case errors.Is(err, runner.ErrNoStore):
-		return runner.Snapshot{}, "", fmt.Errorf("%s has not been run yet (wellscan run %s)", dir, dir)
+		return runner.Snapshot{}, "", err
 	}
-	return runner.Snapshot{}, "", err
+	if ps.Snapshot != nil {
+		return *ps.Snapshot, ps.Source, err
+	}
+	snap := runner.BuildSnapshot(spec, ps.Records, ps.Rounds, "stored", time.Now())
+	snap.PID, snap.Host = 0, ""
+	return snap, ps.Source, err
 }
 
 func printStatus(w io.Writer, spec *planner.Spec, s runner.Snapshot, source string) {

@@ -6,10 +6,12 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"runtime"
 
 	"wellscan/planner"
 	"wellscan/runner"
 	"wellscan/runner/hf/basis"
+	"wellscan/runner/hf/integral"
 )
 
 // OrbitalsFile is the name of the converged-orbitals file a scan point
@@ -117,6 +119,7 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	if method == RHF && mol.Multiplicity != 1 {
 		return nil, fmt.Errorf("%s: engine.method = \"rhf\" needs a singlet, but the molecule has multiplicity %d; use \"uhf\"", spec.File(), mol.Multiplicity)
 	}
+	o.Memory = int64(e.MemoryMB) << 20 // 0: a share of the available memory per point (Compute)
 	return &Backend{opts: o, useGuess: e.Guess != "fresh", basisName: set.Name(), spec: spec}, nil
 }
 
@@ -206,6 +209,11 @@ func (b *Backend) computeLimit(ctx context.Context, t runner.Task, opts Options)
 // Name implements runner.Backend.
 func (b *Backend) Name() string { return "builtin" }
 
+// UsesGuess implements runner.ContinuationBackend: the SCF starts from
+// the nearest done neighbour's orbitals unless the spec says guess =
+// "fresh".
+func (b *Backend) UsesGuess() bool { return b.useGuess }
+
 // Compute implements runner.Backend: one SCF at the point's geometry,
 // started from the neighbour's orbitals when the runner found some. An SCF
 // that does not converge is an Outcome with Converged false and class
@@ -213,6 +221,10 @@ func (b *Backend) Name() string { return "builtin" }
 func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, error) {
 	opts := b.opts
 	opts.Workers = max(1, t.Threads)
+	if opts.Memory == 0 {
+		// Points running side by side share the machine's memory.
+		opts.Memory = max(MemoryBudget()/int64(max(1, runtime.NumCPU()/opts.Workers)), 1)
+	}
 	if b.limit != nil {
 		return b.computeLimit(ctx, t, opts)
 	}
@@ -281,9 +293,14 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			"cold_check_guesses":        checked,
 			"cold_check_replaced":       replaced,
 			"scf_iterations_all_runs":   float64(iterations),
-			"dipole_x_e_bohr":           res.Dipole[0],
-			"dipole_y_e_bohr":           res.Dipole[1],
-			"dipole_z_e_bohr":           res.Dipole[2],
+			// How the two-electron integrals were handled: 1 all in core,
+			// 0 integral-direct, in between the share kept in core
+			// (semi-direct); and the budget they were chosen under.
+			"integrals_in_core":   inCoreShare(res),
+			"integral_budget_mib": float64(res.MemoryBudget) / (1 << 20),
+			"dipole_x_e_bohr":     res.Dipole[0],
+			"dipole_y_e_bohr":     res.Dipole[1],
+			"dipole_z_e_bohr":     res.Dipole[2],
 		},
 	}
 	if m := res.MP2; m != nil {
@@ -325,15 +342,17 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	}
 	if out.Class != "" {
 		if res.Orbitals != nil && t.Dir != "" {
-			if p, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
-				out.OrbitalsPath = p
+			if _, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
+				out.OrbitalsPath = OrbitalsFile // relative to t.Dir, as runner.Outcome asks
 			}
 		}
 		return out, nil
 	}
 	if res.Orbitals != nil && t.Dir != "" {
-		if p, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
-			out.OrbitalsPath = p
+		if _, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
+			// Relative to t.Dir, as runner.Outcome asks: t.Dir itself may
+			// be relative to the working directory.
+			out.OrbitalsPath = OrbitalsFile
 		}
 	}
 	return out, nil
@@ -354,6 +373,18 @@ func (b *Backend) coldCheck(mol planner.Molecule, opts *Options) {
 	case OpenShellAtoms(mol) >= 2:
 		opts.CheckGuesses = []GuessKind{GuessAtomsSpin}
 	}
+}
+
+// inCoreShare is the share of the unique two-electron integrals a
+// calculation kept in core: 1 in core, 0 direct.
+func inCoreShare(res *Result) float64 {
+	switch res.IntegralMode {
+	case ModeInCore:
+		return 1
+	case ModeSemiDirect:
+		return float64(res.IntegralBytes) / float64(integral.InCoreBytes(res.BasisFunctions))
+	}
+	return 0
 }
 
 func readOrbitalsFile(path string) (*Orbitals, error) {

@@ -35,8 +35,8 @@ func ParseMethod(s string) (Method, error) {
 	return "", fmt.Errorf("hf: unknown method %q (expected rhf, uhf, mp2, ccsd or ccsd(t))", s)
 }
 
-// DefaultMemory is the default budget for in-core two-electron integrals
-// (bytes). Above it Fock builds are integral-direct.
+// DefaultMemory is the in-core integral budget (bytes) used when the
+// machine's available memory cannot be read (see MemoryBudget).
 const DefaultMemory = 2 << 30
 
 // Options configures [Energy]. The zero value (with Basis set) is RHF for
@@ -52,8 +52,11 @@ type Options struct {
 	// Workers is the number of goroutines for integrals and Fock builds
 	// (≤ 0: runtime.NumCPU()).
 	Workers int
-	// Memory is the in-core integral budget in bytes (0: DefaultMemory;
-	// negative: always direct).
+	// Memory is the integral budget in bytes (0: MemoryBudget(), derived
+	// from the machine's available memory; negative: always direct).
+	// Integrals that fit are kept in core; when only part of them fits,
+	// those among the first shells are kept and the rest recomputed at
+	// each Fock build (Result.IntegralMode).
 	Memory int64
 	// DirectThreshold is the Schwarz×density screening threshold of
 	// direct Fock builds (0: 1e-12).
@@ -144,6 +147,12 @@ type Result struct {
 	Convention     string
 	BasisFunctions int
 	InCore         bool
+	// IntegralMode is how the two-electron integrals were handled
+	// (ModeInCore, ModeSemiDirect or ModeDirect), IntegralBytes the memory
+	// the kept integrals took and MemoryBudget the budget they were
+	// chosen under (bytes).
+	IntegralMode                string
+	IntegralBytes, MemoryBudget int64
 	// Mulliken charges per atom (e) and the dipole moment about the
 	// origin of the input coordinates (e·bohr).
 	Mulliken []float64
@@ -232,33 +241,42 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	}
 	budget := opts.Memory
 	if budget == 0 {
-		budget = DefaultMemory
+		budget = MemoryBudget()
+	}
+	thr := opts.DirectThreshold
+	if thr == 0 {
+		thr = 1e-12
 	}
 	var jk JKBuilder
-	inCore := budget > 0 && integral.InCoreBytes(nbf) <= budget
-	if inCore {
+	plan := planIntegrals(shells, budget)
+	switch plan.mode {
+	case ModeInCore:
 		eri, err := integral.ComputeERI(ctx, shells, opts.Norm, workers)
 		if err != nil {
 			return nil, err
 		}
 		jk = eri
-	} else {
-		thr := opts.DirectThreshold
-		if thr == 0 {
-			thr = 1e-12
+	case ModeSemiDirect:
+		sd, err := newSemiDirect(ctx, shells, opts.Norm, workers, thr, plan.split)
+		if err != nil {
+			return nil, err
 		}
+		jk = sd
+	default:
 		d, err := integral.NewDirect(shells, opts.Norm, workers, thr)
 		if err != nil {
 			return nil, err
 		}
 		jk = d
 	}
+	inCore := plan.mode == ModeInCore
 	intTime := time.Since(start)
 
 	in := SCFInput{S: s, Hcore: h, JK: jk, ENuc: mol.NuclearRepulsion(), NAlpha: na, NBeta: nb,
 		Restricted: ref == RHF, Options: opts.SCF}
 	res := &Result{Method: method, Reference: ref, Basis: opts.Basis.Name(), Convention: opts.Convention.String(),
-		BasisFunctions: nbf, InCore: inCore, IntegralTime: intTime}
+		BasisFunctions: nbf, InCore: inCore, IntegralMode: plan.mode, IntegralBytes: plan.bytes, MemoryBudget: budget,
+		IntegralTime: intTime}
 	if g := opts.Guess; g != nil {
 		if g.NBasis != nbf {
 			res.GuessRejected = fmt.Sprintf("guess orbitals span %d functions, this basis has %d", g.NBasis, nbf)
@@ -300,6 +318,13 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		return res, scfErr
 	}
 	src, ok := jk.(PairBlockSource)
+	if sd, isSemi := jk.(*semiDirect); isSemi {
+		full, err := sd.pairSource()
+		if err != nil {
+			return nil, err
+		}
+		src, ok = full, true
+	}
 	if !ok {
 		return nil, fmt.Errorf("hf: %s: integral builder %T gives no block access", method, jk)
 	}

@@ -87,6 +87,7 @@ type scfState struct {
 	lumoReady  bool // the α LUMO column of st.c is a real orbital (for mixGuess)
 	damping    float64
 	levelShift float64
+	jks        jkState // difference Fock builds (incremental.go)
 }
 
 func newSCFState(in *SCFInput, opts SCFOptions) (*scfState, error) {
@@ -402,7 +403,7 @@ func (st *scfState) orbitalGuess(o *Orbitals) error {
 // buildFock builds the Fock matrices from st.d and returns the variational
 // energy and the energy with the source (previously diagonalised) matrix.
 func (st *scfState) buildFock(ctx context.Context) (energy, src float64, err error) {
-	if err := st.in.JK.JK(ctx, st.d, st.j, st.k); err != nil {
+	if err := st.jk(ctx); err != nil {
 		return 0, 0, fmt.Errorf("jk build: %w", err)
 	}
 	h := st.in.Hcore

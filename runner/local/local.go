@@ -35,6 +35,10 @@ func (q *Queue) Slots() int {
 	return runtime.NumCPU()
 }
 
+// InProcess implements runner.InProcessQueue: tasks run in this process,
+// one per free worker.
+func (q *Queue) InProcess() bool { return true }
+
 // Run implements runner.Queue: each worker takes tasks from in until it is
 // closed. After ctx is cancelled, tasks still arriving are returned as
 // interrupted without running.

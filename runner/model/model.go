@@ -79,6 +79,11 @@ func New(spec *planner.Spec) (*Backend, error) {
 // Name implements runner.Backend.
 func (b *Backend) Name() string { return "model" }
 
+// UsesGuess implements runner.ContinuationBackend: a point reads its
+// neighbour's state file (the guess_distance extra), as the built-in
+// engine reads orbitals, so scans on the model exercise the same order.
+func (b *Backend) UsesGuess() bool { return true }
+
 // Energy is the model energy (hartree) at coordinate values v (bohr,
 // radians).
 func (b *Backend) Energy(v []float64) float64 {

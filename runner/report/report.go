@@ -358,7 +358,10 @@ func WriteCSV(w io.Writer, in Input) error {
 		u, _ := otherUnit(a)
 		head = append(head, fmt.Sprintf("%s [%s]", a.Name, a.Unit), fmt.Sprintf("%s [%s]", a.Name, u))
 	}
-	head = append(head, "energy [hartree]", "relative [cm-1]", "relative [kJ/mol]", "state", "scan")
+	// Relative energies are above the lowest computed point, a reference
+	// that needs no fit: curve.csv and `wellscan export` (which never
+	// fits) give the same numbers.
+	head = append(head, "energy [hartree]", "above lowest point [cm-1]", "above lowest point [kJ/mol]", "state", "scan")
 	diag := in.diagnosticColumns()
 	for _, d := range diag {
 		head = append(head, d.head)
@@ -366,7 +369,12 @@ func WriteCSV(w io.Writer, in Input) error {
 	if err := cw.Write(head); err != nil {
 		return fmt.Errorf("report: curve.csv: %w", err)
 	}
-	ref, _, _ := in.Reference()
+	ref := math.Inf(1)
+	for _, p := range in.Points {
+		if p.Energy != nil {
+			ref = math.Min(ref, *p.Energy)
+		}
+	}
 	for _, p := range in.sortedPoints() {
 		row := []string{p.Key}
 		for k, a := range in.Axes {

@@ -150,12 +150,19 @@ func (c *Client) Profile() *Profile { return c.profile }
 // never retries: after a SubmitUnreachable error the job may exist, and the
 // caller must look for its token first.
 func (c *Client) Submit(ctx context.Context, script string) (string, error) {
+	return c.SubmitEnv(ctx, script, nil)
+}
+
+// SubmitEnv is Submit with the submit command's environment env (nil: the
+// runner's default); a job that takes its environment from the
+// submission (--export=ALL) gets env. See [JobEnv].
+func (c *Client) SubmitEnv(ctx context.Context, script string, env []string) (string, error) {
 	p := c.profile
 	argv, err := expandArgv(p.Submit, map[string]any{"Script": script}, nil)
 	if err != nil {
 		return "", err
 	}
-	cmd := Cmd{Argv: argv}
+	cmd := Cmd{Argv: argv, Env: env}
 	if p.SubmitStdin {
 		cmd.Stdin = script
 	}

@@ -18,6 +18,9 @@ type Cmd struct {
 	// Stdin, when not empty, is a file fed to the command's standard input
 	// (profiles whose submit command reads the script from stdin).
 	Stdin string
+	// Env, when not nil, is the command's whole environment (the runner's
+	// own choice otherwise).
+	Env []string
 }
 
 // Output is what a finished command produced. A non-zero ExitCode is not an
@@ -62,6 +65,9 @@ func (r ExecRunner) Run(ctx context.Context, c Cmd) (Output, error) {
 	defer cancel()
 	cmd := exec.CommandContext(ctx, c.Argv[0], c.Argv[1:]...)
 	cmd.Env = r.Env
+	if c.Env != nil {
+		cmd.Env = c.Env
+	}
 	if cmd.Env == nil {
 		cmd.Env = cleanEnv(os.Environ())
 	}

@@ -47,8 +47,20 @@ type Config struct {
 	// Binary is the wellscan executable as the compute nodes see it
 	// (absolute); "" means this process's own executable.
 	Binary string `toml:"binary"`
-	// Export is the value of --export; "" means NONE.
+	// Export is the value of --export. "" chooses: with LoginEnv or Setup
+	// lines, NONE (Slurm builds the job's environment by running the
+	// user's login shell on the node, which setup lines such as "module
+	// load" usually need); otherwise ALL, with sbatch run in the minimal
+	// environment of [JobEnv], so the task starts without a login shell
+	// and still without the submitting shell's environment. See the
+	// package README for the trade-off.
 	Export string `toml:"export"`
+	// LoginEnv asks for the login-shell job environment (--export=NONE)
+	// even without setup lines.
+	LoginEnv bool `toml:"login_env"`
+	// ResultCheckMax is the longest wait between two looks at the result
+	// files of the points in flight (default 30 s; see [LookPolicy]).
+	ResultCheckMax planner.Duration `toml:"result_check_max"`
 	// PollInterval is the poll interval while tasks change (default 60 s;
 	// the first poll comes after min(30 s, PollInterval), the interval
 	// backs off ×1.5 up to 5× PollInterval, at most 300 s). Values below
@@ -152,6 +164,9 @@ func DecodeConfig(spec *planner.Spec) (Config, error) {
 	if c.Binary != "" && !filepath.IsAbs(c.Binary) {
 		return Config{}, bad("binary", "%q is not an absolute path", c.Binary)
 	}
+	if m := c.ResultCheckMax.Duration; m < 0 {
+		return Config{}, bad("result_check_max", "must not be negative, got %s", m)
+	}
 	if iv := c.PollInterval.Duration; iv > 0 {
 		floor := DefaultPollPolicy().Floor
 		if c.FastPoll {
@@ -166,8 +181,39 @@ func DecodeConfig(spec *planner.Spec) (Config, error) {
 
 // Resources returns the per-task resources the config asks for.
 func (c Config) Resources() Resources {
+	export := c.Export
+	if c.minimalEnv() {
+		export = "ALL"
+	}
 	return Resources{Partition: c.Partition, Account: c.Account, QOS: c.QOS, Time: c.Time.Duration,
-		CPUsPerTask: c.CPUsPerTask, MemMB: c.MemoryMB, Export: c.Export, Extra: c.Extra, Setup: c.Setup}
+		CPUsPerTask: c.CPUsPerTask, MemMB: c.MemoryMB, Export: export, Extra: c.Extra, Setup: c.Setup}
+}
+
+// minimalEnv reports whether jobs take the minimal environment of
+// [JobEnv] from the submission (the default on Slurm, see Export).
+func (c Config) minimalEnv() bool {
+	return c.Export == "" && !c.LoginEnv && len(c.Setup) == 0 && c.SchedulerProfile().Name == "slurm"
+}
+
+// SubmitEnv returns the environment the submit command runs with: the
+// minimal one of [JobEnv] from env when jobs take their environment from
+// the submission, nil (the runner's default) otherwise.
+func (c Config) SubmitEnv(env []string) []string {
+	if c.minimalEnv() {
+		return JobEnv(env)
+	}
+	return nil
+}
+
+// Look returns the result-file look schedule: the defaults, with
+// ResultCheckMax as the longest wait when set.
+func (c Config) Look() LookPolicy {
+	p := DefaultLookPolicy()
+	if m := c.ResultCheckMax.Duration; m > 0 {
+		p.Max = max(m, p.Min)
+		p.First = min(p.First, p.Max)
+	}
+	return p
 }
 
 // Policy returns the poll policy: the lessons memo defaults, or ones

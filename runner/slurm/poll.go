@@ -69,6 +69,20 @@ func (p PollPolicy) Next(prev time.Duration, changed bool) time.Duration {
 	return max(min(d, p.Max), p.Floor)
 }
 
+// NextFor is Next for tasks expected to run about task each (0: not
+// measured yet): the first poll after a submission and the interval while
+// tasks change come no later than that expected time, since a task ending
+// without its results is what a poll is for (results are found by
+// looking at their files, see [LookPolicy]); never below the floor, and
+// the back-off while nothing changes is Next's.
+func (p PollPolicy) NextFor(prev time.Duration, changed bool, task time.Duration) time.Duration {
+	d := p.Next(prev, changed)
+	if task > 0 && (prev == 0 || changed) {
+		d = max(min(d, task), p.Floor)
+	}
+	return d
+}
+
 // Accounting says whether the history command can be used.
 type Accounting int
 

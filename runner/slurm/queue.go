@@ -96,7 +96,7 @@ type Queue struct {
 	Grace  time.Duration
 	Retry  RetryPolicy
 	// Gather is how long the queue waits for more tasks before it submits
-	// a batch; 0 means 200 ms.
+	// a batch; 0 means DefaultGather.
 	Gather time.Duration
 	// Now is the clock; nil means time.Now.
 	Now func() time.Time
@@ -113,6 +113,11 @@ type Queue struct {
 	stats   QueueStats
 	jobName string
 }
+
+// DefaultGather is the default Queue.Gather: the round loop hands over a
+// round's points within microseconds of each other, so 100 ms gathers a
+// whole round into one submission while adding little to its latency.
+const DefaultGather = 100 * time.Millisecond
 
 // NewQueue builds the queue of spec: [queue.slurm] decoded, the Slurm
 // profile, scheduler commands run with os/exec.
@@ -238,7 +243,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 	}
 	gather := q.Gather
 	if gather == 0 {
-		gather = 200 * time.Millisecond
+		gather = DefaultGather
 	}
 	r := &run{q: q, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.Spec),
 		adoptable: map[string]TaskRef{}, endedEarlier: map[string]PointTask{}, byRef: map[TaskRef][]string{}, pending: map[string]*inflight{},
@@ -252,9 +257,28 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 		if pollT != nil {
 			return
 		}
-		wait = r.policy.Next(wait, changed)
+		wait = r.policy.NextFor(wait, changed, r.expectedTask())
 		pollT = time.NewTimer(wait)
 		pollC = pollT.C
+	}
+	// Result-file looks (look.go): cheap, and what records a point as soon
+	// as its file is there; the scheduler polls above find tasks that end
+	// without one.
+	var lookT *time.Timer
+	var lookC <-chan time.Time
+	var lookCost time.Duration
+	var lookSince time.Time // the last submission, or the first point handed over
+	look := q.Config.Look()
+	armLook := func(first bool) {
+		if lookT != nil {
+			return
+		}
+		if first || lookSince.IsZero() {
+			lookSince = time.Now()
+		}
+		wait := look.Next(first, time.Since(lookSince), expectedPoint(r.measured), lookCost)
+		lookT = time.NewTimer(wait)
+		lookC = lookT.C
 	}
 	defer func() {
 		if gatherT != nil {
@@ -262,6 +286,9 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 		}
 		if pollT != nil {
 			pollT.Stop()
+		}
+		if lookT != nil {
+			lookT.Stop()
 		}
 	}()
 	for {
@@ -292,6 +319,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 			}
 			if len(r.pending) > 0 {
 				armPoll(true)
+				armLook(true)
 			}
 			if len(r.batch) == 0 {
 				continue
@@ -318,6 +346,19 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 				}
 				wait = 0 // first poll after a submit
 				armPoll(true)
+				if lookT != nil {
+					lookT.Stop()
+					lookT, lookC = nil, nil
+				}
+				armLook(true) // first look after a submit
+			}
+		case <-lookC:
+			lookT, lookC = nil, nil
+			t0 := time.Now()
+			r.harvest()
+			lookCost = time.Since(t0)
+			if len(r.pending) > 0 {
+				armLook(false)
 			}
 		case <-pollC:
 			pollT, pollC = nil, nil
@@ -479,6 +520,16 @@ func (r *run) key(k string) *keyState {
 	return ks
 }
 
+// expectedTask is the expected run time of one array task: the packing
+// times the median point time of this run; 0 before any point finished.
+func (r *run) expectedTask() time.Duration {
+	p := expectedPoint(r.measured)
+	if p == 0 {
+		return 0
+	}
+	return time.Duration(PackSize(r.q.Config.PointsPerTask, r.measured, 0)) * p
+}
+
 // submitBatch packs the batch into arrays and submits them.
 func (r *run) submitBatch() {
 	batch := r.batch
@@ -538,7 +589,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 		return
 	}
 	submitted := r.now()
-	id, err := r.q.Client.Submit(r.ctx, script)
+	id, err := r.q.Client.SubmitEnv(r.ctx, script, r.q.Config.SubmitEnv(os.Environ()))
 	if err != nil {
 		var se *SubmitError
 		if errors.As(err, &se) && se.Kind == SubmitRejected {

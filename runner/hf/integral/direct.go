@@ -17,6 +17,7 @@ type Direct struct {
 	eb        *eriBasis
 	workers   int
 	threshold float64
+	from      int // first bra shell: quartets whose shells all lie below it are left out
 }
 
 // NewDirect prepares shell-pair data and Schwarz factors for
@@ -35,6 +36,27 @@ func NewDirect(shells []Shell, norm CartNorm, workers int, threshold float64) (*
 	}
 	return &Direct{eb: eb, workers: workers, threshold: threshold}, nil
 }
+
+// NewDirectFrom is NewDirect for the shell quartets that involve at least
+// one shell with index ≥ from: the quartets among shells[:from] are left
+// out, for a caller that holds their integrals in core (ComputeERI of
+// shells[:from]) and adds their J and K itself. from = 0 is NewDirect.
+func NewDirectFrom(shells []Shell, norm CartNorm, workers int, threshold float64, from int) (*Direct, error) {
+	if from < 0 || from > len(shells) {
+		return nil, fmt.Errorf("integral: first direct shell %d, want 0…%d", from, len(shells))
+	}
+	d, err := NewDirect(shells, norm, workers, threshold)
+	if err != nil {
+		return nil, err
+	}
+	d.from = from
+	return d, nil
+}
+
+// IncrementalJK reports that the cost of JK falls with the density it is
+// given (quartets are screened by the density they meet), so an SCF gains
+// by building J and K from the change of the density between iterations.
+func (d *Direct) IncrementalJK() bool { return true }
 
 // NumFunctions is the number of basis functions.
 func (d *Direct) NumFunctions() int { return d.eb.nbf }
@@ -97,6 +119,9 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 				}
 				P := eb.order[len(eb.order)-1-t]
 				bp := &eb.pairs[P]
+				if max(bp.s1, bp.s2) < d.from {
+					continue // all four shells below from: held in core by the caller
+				}
 				for Q := 0; Q <= P; Q++ {
 					kp := &eb.pairs[Q]
 					s := bp.schwarz * kp.schwarz
