@@ -116,8 +116,8 @@ type EngineSpec struct {
 	Kind string `toml:"kind"` // "builtin", "model" or "command"
 
 	// Built-in Hartree–Fock settings.
-	Method        string   `toml:"method"`         // "rhf", "uhf" or "mp2" (RHF-MP2 for singlets, UMP2 otherwise)
-	FrozenCore    *bool    `toml:"frozen_core"`    // mp2: leave the atoms' noble-gas cores uncorrelated (default true)
+	Method        string   `toml:"method"`         // "rhf", "uhf", "mp2" (RHF-MP2 for singlets, UMP2 otherwise), "ccsd" or "ccsd(t)" (closed shells)
+	FrozenCore    *bool    `toml:"frozen_core"`    // mp2, ccsd, ccsd(t): leave the atoms' noble-gas cores uncorrelated (default true)
 	Basis         string   `toml:"basis"`          // basis set name, e.g. "6-31G*"
 	Cartesian     *bool    `toml:"cartesian"`      // override the basis set's d/f convention
 	MaxIterations int      `toml:"max_iterations"` // SCF iteration limit, 0: engine default
@@ -127,6 +127,13 @@ type EngineSpec struct {
 	// derived from the machine's available memory. It changes how fast a
 	// point runs, not its energy, so it is not part of the fingerprint.
 	MemoryMB int `toml:"memory_mb"`
+
+	// BasisLimit, instead of Basis, names two correlation-consistent sets
+	// (["cc-pVTZ", "cc-pVQZ"]) whose energies are extrapolated to the
+	// basis-set limit; CoreCorrection adds E(all electrons) − E(frozen
+	// core) in a core–valence set ("cc-pCVTZ").
+	BasisLimit     []string `toml:"basis_limit"`
+	CoreCorrection string   `toml:"core_correction"`
 
 	// Model potentials.
 	Model ModelSpec `toml:"model"`

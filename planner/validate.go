@@ -521,7 +521,7 @@ var modelShapes = map[string]bool{"morse": true, "lennard-jones": true, "harmoni
 
 func (s *Spec) validateEngine() error {
 	e := s.Engine
-	builtinKeys := []string{"method", "basis", "cartesian", "max_iterations", "convergence", "guess", "memory_mb"}
+	builtinKeys := []string{"method", "basis", "cartesian", "max_iterations", "convergence", "guess", "memory_mb", "frozen_core", "basis_limit", "core_correction"}
 	not := func(kind string, keys ...string) error {
 		for _, k := range keys {
 			if s.meta.IsDefined("engine", k) {
@@ -540,19 +540,42 @@ func (s *Spec) validateEngine() error {
 			if s.mol.Multiplicity != 1 {
 				return s.errAt("engine.method", "rhf needs a closed-shell molecule (multiplicity 1), this one has multiplicity %d; use method = \"uhf\"", s.mol.Multiplicity)
 			}
+		case "ccsd", "ccsd(t)":
+			if s.mol.Multiplicity != 1 {
+				return s.errAt("engine.method", "%s is implemented for closed-shell molecules (multiplicity 1, RHF reference) only; this one has multiplicity %d", strings.ToLower(e.Method), s.mol.Multiplicity)
+			}
 		case "uhf", "mp2":
 		case "":
 			// The default of `wellscan energy` too: RHF for a singlet,
 			// UHF otherwise.
 			s.Engine.Method = DefaultMethod(s.mol.Multiplicity)
 		default:
-			return s.errAt("engine.method", "unknown method %q (the built-in engine does \"rhf\", \"uhf\" and \"mp2\")", e.Method)
+			return s.errAt("engine.method", "unknown method %q (the built-in engine does \"rhf\", \"uhf\", \"mp2\", \"ccsd\" and \"ccsd(t)\")", e.Method)
 		}
-		if e.FrozenCore != nil && strings.ToLower(e.Method) != "mp2" {
-			return s.errAt("engine.frozen_core", "only applies to method = \"mp2\"")
+		if e.FrozenCore != nil && !IsCorrelated(e.Method) {
+			return s.errAt("engine.frozen_core", "only applies to the correlated methods mp2, ccsd and ccsd(t)")
 		}
-		if strings.TrimSpace(e.Basis) == "" {
+		if s.meta.IsDefined("engine", "basis_limit") {
+			switch {
+			case len(e.BasisLimit) != 2 || strings.TrimSpace(e.BasisLimit[0]) == "" || strings.TrimSpace(e.BasisLimit[1]) == "":
+				return s.errAt("engine.basis_limit", "give two basis sets, smaller first, e.g. basis_limit = [\"cc-pVTZ\", \"cc-pVQZ\"]")
+			case strings.TrimSpace(e.Basis) != "":
+				return s.errAt("engine.basis", "give either basis or basis_limit, not both")
+			case !IsCorrelated(e.Method):
+				return s.errAt("engine.basis_limit", "extrapolates a correlation energy: use method = \"mp2\", \"ccsd\" or \"ccsd(t)\"")
+			}
+		} else if strings.TrimSpace(e.Basis) == "" {
 			return s.errAt("engine.basis", "missing: give a basis set name, e.g. basis = \"6-31G*\"")
+		}
+		if s.meta.IsDefined("engine", "core_correction") {
+			switch {
+			case strings.TrimSpace(e.CoreCorrection) == "":
+				return s.errAt("engine.core_correction", "give a core–valence basis set, e.g. core_correction = \"cc-pCVTZ\"")
+			case len(e.BasisLimit) == 0:
+				return s.errAt("engine.core_correction", "applies to a basis-set limit: give basis_limit too")
+			case e.FrozenCore != nil && !*e.FrozenCore:
+				return s.errAt("engine.core_correction", "adds all-electron minus frozen-core energies, so frozen_core must not be false")
+			}
 		}
 		if e.MaxIterations < 0 {
 			return s.errAt("engine.max_iterations", "must not be negative, got %d", e.MaxIterations)

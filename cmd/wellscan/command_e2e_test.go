@@ -285,6 +285,71 @@ func TestScan_WaterSymmetricStretchMP2(t *testing.T) {
 	}
 }
 
+// TestScan_HFStretchCCSDT runs an H–F stretch at CCSD(T)/cc-pVDZ through
+// run, fit and report. Physical sanity: the CCSD(T)/cc-pVDZ bond length of
+// HF is about 0.920 Å (T. H. Dunning Jr., K. A. Peterson and D. E. Woon,
+// in Encyclopedia of Computational Chemistry (1998), from memory), so the
+// minimum must lie in 0.91–0.93 Å; every point carries its CCSD and (T)
+// energies; the report names the method, frozen core and basis exactly.
+func TestScan_HFStretchCCSDT(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a CCSD(T) scan")
+	}
+	spec := `title = "HF stretch"
+[molecule]
+geometry = """
+H 0 0 0
+F 0 0 0.92
+"""
+[[scan]]
+name = "r"
+bond = [1, 2]
+from = 0.86
+to = 0.98
+step = 0.02
+[refine]
+adaptive = false
+[engine]
+kind = "builtin"
+method = "ccsd(t)"
+basis = "cc-pVDZ"
+`
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "scan.toml"), []byte(spec), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if code, out, errs := runCLI(t, "", "run", dir, "-q"); code != 0 {
+		t.Fatalf("run: exit %d\n%s%s", code, out, errs)
+	}
+	code, out, errs := runCLI(t, "", "fit", dir, "--json")
+	if code != 0 {
+		t.Fatalf("fit: exit %d\n%s", code, errs)
+	}
+	var res struct {
+		Minima []struct {
+			RE    float64 `json:"r_e_angstrom"`
+			Omega float64 `json:"omega_e_cm1"`
+		} `json:"minima"`
+	}
+	if err := json.Unmarshal([]byte(out), &res); err != nil || len(res.Minima) != 1 {
+		t.Fatalf("fit JSON: %v\n%s", err, out)
+	}
+	if r := res.Minima[0].RE; r < 0.91 || r > 0.93 {
+		t.Errorf("CCSD(T)/cc-pVDZ minimum at %.4f Å, want 0.91–0.93", r)
+	}
+	raw, err := os.ReadFile(filepath.Join(dir, "points", "r=0.92000", "result.json"))
+	if err != nil || !strings.Contains(string(raw), "ccsd_correlation_hartree") || !strings.Contains(string(raw), "triples_hartree") {
+		t.Errorf("point result lacks the CCSD and (T) energies: %v\n%s", err, raw)
+	}
+	if code, _, errs := runCLI(t, "", "report", dir); code != 0 {
+		t.Fatalf("report: exit %d\n%s", code, errs)
+	}
+	sum, err := os.ReadFile(filepath.Join(dir, "report", "summary.md"))
+	if err != nil || !strings.Contains(string(sum), "CCSD(T)(fc)/cc-pVDZ") {
+		t.Errorf("summary does not name CCSD(T)(fc)/cc-pVDZ: %v\n%s", err, sum)
+	}
+}
+
 // TestScan_RelaxedThroughProgram runs a relaxed bend scan through an
 // external program (runner/command/testdata/bend.awk, a toy force field
 // with analytic forces) twice: reading the program's forces, and by

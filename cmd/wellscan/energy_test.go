@@ -73,8 +73,13 @@ func TestEnergyCommand_BadInput(t *testing.T) {
 		{"count too large", "3\n\nH 0 0 0\n", nil, "water.xyz:3: file ends after 1 of 3 atoms"},
 		{"bad coordinate", "1\n\nH 0 zero 0\n", nil, "water.xyz:3: coordinate y of H"},
 		{"bad units", "1\n\nH 0 0 0\n", []string{"--units", "furlong"}, `unknown unit "furlong"`},
-		{"bad method", "1\n\nH 0 0 0\n", []string{"--method", "ccsd"}, `unknown method "ccsd"`},
-		{"frozen core without mp2", "1\n\nH 0 0 0\n", []string{"--all-electron"}, "apply to --method mp2 only"},
+		{"bad method", "1\n\nH 0 0 0\n", []string{"--method", "ccsdt"}, `unknown method "ccsdt"`},
+		{"frozen core without mp2", "1\n\nH 0 0 0\n", []string{"--all-electron"}, "apply to the correlated methods (mp2, ccsd, ccsd(t)) only"},
+		{"ccsd open shell", "1\n\nH 0 0 0\n", []string{"--method", "ccsd(t)"}, "ccsd(t): only closed-shell molecules (RHF reference) are supported"},
+		{"one basis for a limit", "2\n\nH 0 0 0\nH 0 0 0.74\n", []string{"--method", "ccsd", "--basis-limit", "cc-pVTZ"}, "--basis-limit: 1 sets given, expected two"},
+		{"limit of rhf", "2\n\nH 0 0 0\nH 0 0 0.74\n", []string{"--basis-limit", "cc-pVDZ,cc-pVTZ"}, "has no correlation energy to extrapolate"},
+		{"limit and basis", "2\n\nH 0 0 0\nH 0 0 0.74\n", []string{"--method", "ccsd", "--basis", "cc-pVDZ", "--basis-limit", "cc-pVDZ,cc-pVTZ"}, "replaces --basis"},
+		{"core without limit", "2\n\nH 0 0 0\nH 0 0 0.74\n", []string{"--method", "ccsd", "--core-correction", "cc-pCVTZ"}, "--core-correction applies to --basis-limit only"},
 		{"contradicting mp2 flags", "1\n\nH 0 0 0\n", []string{"--method", "mp2", "--all-electron", "--frozen-core", "1"}, "contradict"},
 		{"negative frozen core", "1\n\nH 0 0 0\n", []string{"--method", "mp2", "--frozen-core", "-3"}, "expected a count ≥ 0"},
 		{"too many frozen", "1\n\nHe 0 0 0\n", []string{"--method", "mp2", "--frozen-core", "2"}, "only 1 β electrons"},
@@ -148,6 +153,67 @@ func TestEnergyCommand_Defaults(t *testing.T) {
 // (runner/hf/testdata/bases/h2o-geom.dat, bohr).
 const workedWaterXYZ = "3\nworked water\nO 0.000000000000 -0.143225816552 0.000000000000\n" +
 	"H 1.638036840407 1.136548822547 -0.000000000000\nH -1.638036840407 1.136548822547 -0.000000000000\n"
+
+// TestEnergyCommand_CCSDT: the published worked example (H2O, STO-3G,
+// all electrons) through the command, in JSON and as text.
+func TestEnergyCommand_CCSDT(t *testing.T) {
+	code, out, errs := runCLI(t, workedWaterXYZ, "energy", "-", "--units", "bohr", "--basis", "STO-3G-v0", "--method", "ccsd(t)", "--all-electron", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var rep map[string]any
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	// CCSD correlation, (T) and CCSD(T) total of the published worked example, STO-3G
+	// (CrawfordGroup ProgrammingProjects commit 297fda1, Project #6 output); 1e-9 Eh as in the engine's test.
+	for k, want := range map[string]float64{"ccsd_correlation_hartree": -0.070680088376, "triples_hartree": -0.000099877272,
+		"energy_hartree": -75.012859893840, "reference_energy_hartree": -74.942079928192, "frozen_core_orbitals": 0} {
+		got, ok := rep[k].(float64)
+		if !ok || math.Abs(got-want) > 1e-9 {
+			t.Errorf("%s = %v, want %v", k, rep[k], want)
+		}
+	}
+	if rep["method"] != "ccsd(t)" || rep["cc_converged"] != true {
+		t.Errorf("method %v, cc_converged %v", rep["method"], rep["cc_converged"])
+	}
+	code, out, errs = runCLI(t, workedWaterXYZ, "energy", "-", "--units", "bohr", "--basis", "STO-3G-v0", "--method", "CCSD")
+	if code != 0 || !strings.Contains(out, "frozen core: 1 orbital per spin (O 1s)") || !strings.Contains(out, "E(CCSD(fc))") || strings.Contains(out, "(T)") {
+		t.Errorf("text output (exit %d, %s):\n%s", code, errs, out)
+	}
+}
+
+// TestEnergyCommand_BasisLimit: He, cc-pVDZ/cc-pVTZ limit with the core
+// correction (zero for He: no core); the JSON lists the four components
+// and the total is the sum of the parts (1e-12 Eh: rounding).
+func TestEnergyCommand_BasisLimit(t *testing.T) {
+	code, out, errs := runCLI(t, "1\nhelium\nHe 0 0 0\n", "energy", "-", "--method", "ccsd(t)", "--basis-limit", "cc-pVDZ,cc-pVTZ", "--core-correction", "cc-pCVTZ", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var rep struct {
+		Energy     float64 `json:"energy_hartree"`
+		HF         float64 `json:"hf_limit_hartree"`
+		Corr       float64 `json:"correlation_limit_hartree"`
+		Core       float64 `json:"core_correction_hartree"`
+		Components []struct {
+			Name, Basis string
+		} `json:"components"`
+	}
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.Components) != 4 || rep.Components[3].Name != "core_frozen" || rep.Components[1].Basis != "cc-pVTZ" {
+		t.Errorf("components %+v", rep.Components)
+	}
+	if math.Abs(rep.HF+rep.Corr+rep.Core-rep.Energy) > 1e-12 || rep.Core != 0 {
+		t.Errorf("HF %v + corr %v + core %v ≠ total %v", rep.HF, rep.Corr, rep.Core, rep.Energy)
+	}
+	code, out, _ = runCLI(t, "1\nhelium\nHe 0 0 0\n", "energy", "-", "--method", "ccsd(t)", "--basis-limit", "cc-pVDZ,cc-pVTZ")
+	if code != 0 || !strings.Contains(out, "He · CCSD(T)(full)/cc-pVDZ→cc-pVTZ limit · single point") || !strings.Contains(out, "cc-pVDZ/cc-pVTZ → basis-set limit") {
+		t.Errorf("text output (exit %d):\n%s", code, out)
+	}
+}
 
 func TestEnergyCommand_MP2(t *testing.T) {
 	code, out, errs := runCLI(t, workedWaterXYZ, "energy", "-", "--units", "bohr", "--basis", "STO-3G-v0", "--method", "mp2", "--all-electron", "--json")

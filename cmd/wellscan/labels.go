@@ -10,17 +10,18 @@ import (
 // methodName is how wellscan labels a built-in method: "RHF", "UHF", and
 // for MP2 its reference and whether the cores were frozen — "MP2(fc)" and
 // "MP2(full)" on an RHF reference, "UMP2(fc)" and "UMP2(full)" on a UHF
-// one — so that two energies that differ are never labelled alike.
+// one; "CCSD(fc)", "CCSD(T)(fc)", "CCSD(T)(full)" likewise — so that two
+// energies that differ are never labelled alike.
 func methodName(method string, multiplicity int, frozenCore bool) string {
 	m := strings.ToLower(method)
 	if m == "" {
 		m = planner.DefaultMethod(multiplicity)
 	}
-	if m != "mp2" {
+	if !planner.IsCorrelated(m) {
 		return strings.ToUpper(m)
 	}
-	name := "MP2"
-	if multiplicity != 1 {
+	name := strings.ToUpper(m)
+	if m == "mp2" && multiplicity != 1 {
 		name = "UMP2"
 	}
 	if frozenCore {
@@ -53,8 +54,8 @@ func scanKind(spec *planner.Spec) string { return spec.ScanMode() }
 // basis, and rigid or relaxed — "HDO · UHF/6-31G* · rigid scan".
 func scanLabel(spec *planner.Spec, mol planner.Molecule) string {
 	m := specMethod(spec, mol)
-	if spec.Engine.Kind == "builtin" && spec.Engine.Basis != "" {
-		m += "/" + spec.Engine.Basis
+	if b := spec.Engine.BasisLabel(); spec.Engine.Kind == "builtin" && b != "" {
+		m += "/" + b
 	}
 	return fmt.Sprintf("%s · %s · %s scan", mol.Isotopologue(), m, scanKind(spec))
 }

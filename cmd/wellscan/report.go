@@ -130,7 +130,7 @@ func buildReportInput(ctx context.Context, dir string, o *fitOptions) (report.In
 		abs = dir
 	}
 	in.Conditions = report.Conditions{Title: spec.Title, Dir: filepath.Base(abs), Formula: mol.Isotopologue(), Charge: mol.Charge, Multiplicity: mol.Multiplicity,
-		Engine: spec.Engine.Kind, Basis: spec.Engine.Basis, Version: version}
+		Engine: spec.Engine.Kind, Basis: spec.Engine.BasisLabel(), Version: version}
 	reportConditions(&in.Conditions, spec, mol)
 	for _, c := range spec.Coordinates() {
 		u := "degree"
@@ -254,7 +254,7 @@ func reportConditions(c *report.Conditions, spec *planner.Spec, mol planner.Mole
 		iters = e.MaxIterations
 	}
 	c.SCF = fmt.Sprintf("energy change below %g Eh, orbital gradient and density change below %g, at most %d iterations", tol, d.ErrorTol, iters)
-	if strings.EqualFold(e.Method, "mp2") {
+	if planner.IsCorrelated(e.Method) {
 		c.FrozenCore = "yes: each atom's noble-gas core is not correlated (O 1s, Si [Ne], …)"
 		if e.FrozenCore != nil && !*e.FrozenCore {
 			c.FrozenCore = "no: every electron is correlated"

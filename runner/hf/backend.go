@@ -26,7 +26,10 @@ type Backend struct {
 	useGuess  bool
 	basisName string
 	check     ColdCheck
-	spec      *planner.Spec // for relaxed scans (nil in backends built by hand)
+	// limit, when set, makes every point a basis-set-limit calculation
+	// (engine.basis_limit); its components run one after the other.
+	limit *LimitRecipe
+	spec  *planner.Spec // for relaxed scans (nil in backends built by hand)
 	// coldRelax starts relaxed points from their rigid geometry and the
 	// model Hessian even when a finished neighbour exists (benchmarks).
 	coldRelax bool
@@ -74,6 +77,19 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%s: engine.method: %w", spec.File(), err)
 	}
+	mol, err := spec.Molecule()
+	if err != nil {
+		return nil, err
+	}
+	if (method == CCSD || method == CCSDT) && mol.Multiplicity != 1 {
+		return nil, fmt.Errorf("%s: engine.method = %q is implemented for closed shells (RHF reference) only, but the molecule has multiplicity %d", spec.File(), method, mol.Multiplicity)
+	}
+	if len(e.BasisLimit) > 0 {
+		if spec.Relaxed() {
+			return nil, fmt.Errorf("%s: engine.basis_limit: a relaxed scan needs gradients, and a basis-set limit has none here; use basis = … for the relaxed scan", spec.File())
+		}
+		return newLimitBackend(spec, method, mol)
+	}
 	name := e.Basis
 	if name == "" {
 		return nil, fmt.Errorf("%s: engine.basis: missing (for example basis = \"6-31G*\"; see 'wellscan basis list')", spec.File())
@@ -94,10 +110,6 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 		o.SCF.EnergyTol = *e.Convergence
 	}
 	// Check the basis covers the molecule before any point runs.
-	mol, err := spec.Molecule()
-	if err != nil {
-		return nil, err
-	}
 	if _, err := set.NumFunctions(mol, o.Convention); err != nil {
 		return nil, fmt.Errorf("%s: engine.basis: %w", spec.File(), err)
 	}
@@ -109,6 +121,89 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 	}
 	o.Memory = int64(e.MemoryMB) << 20 // 0: a share of the available memory per point (Compute)
 	return &Backend{opts: o, useGuess: e.Guess != "fresh", basisName: set.Name(), spec: spec}, nil
+}
+
+// newLimitBackend is NewBackend for engine.basis_limit: the recipe is
+// checked and every basis set must cover the molecule before any point
+// runs. Points start cold (an atoms guess per component): the orbitals
+// of a neighbour exist in one basis only.
+func newLimitBackend(spec *planner.Spec, method Method, mol planner.Molecule) (*Backend, error) {
+	e := spec.Engine
+	r := LimitRecipe{Method: method, Small: e.BasisLimit[0], Large: e.BasisLimit[1], Core: e.CoreCorrection}
+	if e.FrozenCore != nil && !*e.FrozenCore {
+		r.FrozenCore = AllElectron
+	}
+	key := "engine.basis_limit"
+	for i, name := range []string{r.Small, r.Large, r.Core} {
+		if name == "" {
+			continue
+		}
+		if i == 2 {
+			key = "engine.core_correction"
+		}
+		set, err := basis.Lookup(name)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %s: %w", spec.File(), key, err)
+		}
+		if _, err := set.NumFunctions(mol, basis.ConventionAsSet); err != nil { // coverage does not depend on the convention
+			return nil, fmt.Errorf("%s: %s: %w", spec.File(), key, err)
+		}
+	}
+	if err := r.Validate(); err != nil {
+		return nil, fmt.Errorf("%s: %s: %w", spec.File(), key, err)
+	}
+	o := Options{Method: method}
+	if e.Cartesian != nil {
+		o.Convention = basis.ConventionSpherical
+		if *e.Cartesian {
+			o.Convention = basis.ConventionCartesian
+		}
+	}
+	o.SCF.MaxIterations = e.MaxIterations
+	if e.Convergence != nil {
+		o.SCF.EnergyTol = *e.Convergence
+	}
+	return &Backend{opts: o, basisName: r.String(), limit: &r}, nil
+}
+
+// computeLimit runs one basis-set-limit point. Its extras hold every
+// component's energies (reference, correlation, (T)) and the limit's
+// parts, so that they reach the store.
+func (b *Backend) computeLimit(ctx context.Context, t runner.Task, opts Options) (runner.Outcome, error) {
+	lr, err := ComputeLimit(ctx, t.Mol, *b.limit, opts)
+	if err != nil {
+		if ctx.Err() != nil {
+			return runner.Outcome{}, ctx.Err()
+		}
+		switch {
+		case errors.Is(err, ErrNotConverged):
+			return runner.Outcome{Class: "scf-not-converged", Detail: err.Error()}, nil
+		case errors.Is(err, ErrCCNotConverged):
+			return runner.Outcome{Class: "cc-not-converged", Detail: err.Error()}, nil
+		case errors.Is(err, ErrCCMemory):
+			return runner.Outcome{Class: "memory-budget", Detail: err.Error(), Permanent: true}, nil
+		}
+		return runner.Outcome{}, err
+	}
+	out := runner.Outcome{Energy: lr.Total, Converged: true, Extra: map[string]float64{
+		"limit_hf_hartree":          lr.HF,
+		"limit_correlation_hartree": lr.Correlation,
+		"core_correction_hartree":   lr.CoreCorrection,
+		"cardinal_small":            float64(lr.X),
+		"cardinal_large":            float64(lr.Y),
+	}}
+	for _, c := range lr.Components {
+		out.Extra[c.Name+"_reference_hartree"] = c.Reference
+		out.Extra[c.Name+"_correlation_hartree"] = c.Correlation
+		if b.limit.Method == CCSDT {
+			out.Extra[c.Name+"_triples_hartree"] = c.Triples
+		}
+		out.Extra[c.Name+"_frozen_core_orbitals"] = float64(c.Frozen)
+		out.Extra[c.Name+"_basis_functions"] = float64(c.BasisFunctions)
+		out.Extra[c.Name+"_seconds"] = c.Time.Seconds()
+		out.Iterations += c.Iterations
+	}
+	return out, nil
 }
 
 // Name implements runner.Backend.
@@ -129,6 +224,9 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if opts.Memory == 0 {
 		// Points running side by side share the machine's memory.
 		opts.Memory = max(MemoryBudget()/int64(max(1, runtime.NumCPU()/opts.Workers)), 1)
+	}
+	if b.limit != nil {
+		return b.computeLimit(ctx, t, opts)
 	}
 	guessNote := -1.0
 	if b.useGuess && t.GuessPath != "" {
@@ -163,9 +261,12 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		if ctx.Err() != nil {
 			return runner.Outcome{}, ctx.Err()
 		}
+		if errors.Is(err, ErrCCMemory) {
+			return runner.Outcome{Class: "memory-budget", Detail: err.Error(), Permanent: true}, nil
+		}
 		return runner.Outcome{}, err
 	}
-	if err != nil && !errors.Is(err, ErrNotConverged) {
+	if err != nil && !errors.Is(err, ErrNotConverged) && !errors.Is(err, ErrCCNotConverged) {
 		return runner.Outcome{}, err
 	}
 	iterations := 0 // every SCF run for this point, kept or not
@@ -209,6 +310,24 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		out.Extra["mp2_opposite_spin_hartree"] = m.OppositeSpin
 		out.Extra["frozen_core_orbitals"] = float64(m.FrozenCore)
 	}
+	if c := res.CC; c != nil {
+		out.Extra["reference_energy_hartree"] = c.ReferenceEnergy
+		out.Extra["ccsd_correlation_hartree"] = c.Correlation
+		if c.WithTriples {
+			out.Extra["triples_hartree"] = c.Triples
+		}
+		out.Extra["mp2_correlation_hartree"] = c.MP2Correlation
+		out.Extra["frozen_core_orbitals"] = float64(c.FrozenCore)
+		out.Extra["ccsd_iterations"] = float64(c.Iterations)
+		out.Extra["max_t1"] = c.MaxT1
+		if errors.Is(err, ErrCCNotConverged) {
+			// The SCF converged (its orbitals are still written for the
+			// neighbours) but the coupled-cluster energy is no result.
+			out.Converged = false
+			out.Class = "cc-not-converged"
+			out.Detail = err.Error()
+		}
+	}
 	if res.GuessRejected != "" {
 		out.Extra["guess_from_neighbour"] = -1
 	}
@@ -219,6 +338,14 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if !res.Converged {
 		out.Class = "scf-not-converged"
 		out.Detail = res.Reason
+		return out, nil
+	}
+	if out.Class != "" {
+		if res.Orbitals != nil && t.Dir != "" {
+			if _, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
+				out.OrbitalsPath = OrbitalsFile // relative to t.Dir, as runner.Outcome asks
+			}
+		}
 		return out, nil
 	}
 	if res.Orbitals != nil && t.Dir != "" {

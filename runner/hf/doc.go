@@ -42,6 +42,14 @@
 // [Energy] with Method MP2 adds second-order Møller–Plesset perturbation
 // theory on top of the converged RHF (closed shell) or UHF (open shell)
 // determinant ([RunMP2]); by default the atoms' noble-gas cores are frozen.
+// Methods CCSD and CCSDT add closed-shell coupled cluster with singles and
+// doubles, and the perturbative triples (T), on an RHF determinant
+// ([RunCCSD]; open shells are refused with [ErrCCReference]), with the same
+// frozen-core default. [ComputeLimit] extrapolates a correlated method to
+// the basis-set limit from two correlation-consistent sets (X⁻³ for the
+// correlation energy, Karton–Martin for Hartree–Fock) and can add a
+// core–valence correction; each of its components is a separate [Energy]
+// calculation ([LimitRecipe.Components], [CombineLimit]).
 //
 // # Units
 //

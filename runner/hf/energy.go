@@ -29,10 +29,10 @@ const (
 // "choose by spin": RHF for a singlet, UHF otherwise.
 func ParseMethod(s string) (Method, error) {
 	switch m := Method(strings.ToLower(strings.TrimSpace(s))); m {
-	case "", RHF, UHF, MP2:
+	case "", RHF, UHF, MP2, CCSD, CCSDT:
 		return m, nil
 	}
-	return "", fmt.Errorf("hf: unknown method %q (expected rhf, uhf or mp2)", s)
+	return "", fmt.Errorf("hf: unknown method %q (expected rhf, uhf, mp2, ccsd or ccsd(t))", s)
 }
 
 // DefaultMemory is the in-core integral budget (bytes) used when the
@@ -111,6 +111,11 @@ type Options struct {
 	// MP2 reuses when the SCF kept them; with direct integrals each
 	// batch of occupied orbitals recomputes them once.
 	MP2Memory int64
+
+	// CCMemory is the coupled-cluster budget in bytes (0:
+	// DefaultCCMemory), used when Method is CCSD or CCSDT; FrozenCore
+	// applies to them as to MP2.
+	CCMemory int64
 }
 
 // Result is a converged (or explicitly unconverged) Hartree–Fock
@@ -119,7 +124,10 @@ type Result struct {
 	*SCFResult
 	// Energy is the final total energy of Method in hartree: the SCF
 	// energy for rhf and uhf, the MP2 total (reference + correlation) for
-	// mp2. A scan that reads Result.Energy therefore gets the energies of
+	// mp2, the CCSD or CCSD(T) total for ccsd and ccsd(t) (when the
+	// amplitude equations did not converge, Energy also returns an error
+	// wrapping ErrCCNotConverged and this value is no result). A scan
+	// that reads Result.Energy therefore gets the energies of
 	// the method asked for. It shadows SCFResult.Energy, which always holds
 	// the Hartree–Fock energy (reach it as r.SCFResult.Energy; for mp2 also
 	// r.MP2.ReferenceEnergy). ElectronicEnergy, Mulliken and Dipole stay
@@ -128,7 +136,10 @@ type Result struct {
 	// MP2 holds the correlation energies when Method is MP2 and the SCF
 	// converged; nil otherwise.
 	MP2 *MP2Result
-	// Method is what was asked for (rhf, uhf or mp2); Reference is the
+	// CC holds the coupled-cluster energies when Method is CCSD or CCSDT
+	// and the SCF converged; nil otherwise. Energy is then CC.Total.
+	CC *CCResult
+	// Method is what was asked for (rhf, uhf, mp2, ccsd or ccsd(t)); Reference is the
 	// SCF that ran (rhf or uhf).
 	Method         Method
 	Reference      Method
@@ -189,8 +200,13 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		if ref != RHF && ref != UHF {
 			return nil, fmt.Errorf("hf: mp2 reference %q (expected rhf or uhf)", ref)
 		}
+	} else if method == CCSD || method == CCSDT {
+		if na != nb {
+			return nil, fmt.Errorf("hf: %s: only closed-shell molecules (RHF reference) are supported, but multiplicity %d gives %d α and %d β electrons", method, mol.Multiplicity, na, nb)
+		}
+		ref = RHF
 	} else if method != RHF && method != UHF {
-		return nil, fmt.Errorf("hf: unknown method %q (expected rhf, uhf or mp2)", method)
+		return nil, fmt.Errorf("hf: unknown method %q (expected rhf, uhf, mp2, ccsd or ccsd(t))", method)
 	}
 	if ref == RHF && na != nb {
 		return nil, fmt.Errorf("hf: rhf needs a closed-shell molecule, but multiplicity %d gives %d α and %d β electrons; use uhf", mol.Multiplicity, na, nb)
@@ -297,7 +313,8 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	if mu, err := DipoleMoment(scf, integral.Dipole(shells, opts.Norm, [3]float64{}), zs, pos, [3]float64{}); err == nil {
 		res.Dipole = mu
 	}
-	if method != MP2 || scfErr != nil {
+	correlated := method == MP2 || method == CCSD || method == CCSDT
+	if !correlated || scfErr != nil {
 		return res, scfErr
 	}
 	src, ok := jk.(PairBlockSource)
@@ -309,21 +326,21 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		src, ok = full, true
 	}
 	if !ok {
-		return nil, fmt.Errorf("hf: mp2: integral builder %T gives no block access", jk)
+		return nil, fmt.Errorf("hf: %s: integral builder %T gives no block access", method, jk)
 	}
-	frozen, label := 0, ""
-	switch fc := opts.FrozenCore; {
-	case fc == FrozenCoreAuto:
-		frozen, label = FrozenCoreOrbitals(mol)
-		if frozen > nb {
-			label = fmt.Sprintf("%s, capped at %d: only %d β electrons", label, nb, nb)
-			frozen = nb
+	frozen, label, err := frozenCore(mol, opts.FrozenCore, nb, method)
+	if err != nil {
+		return nil, err
+	}
+	if method != MP2 {
+		cc, err := RunCCSD(ctx, scf, src, CCOptions{Frozen: frozen, Triples: method == CCSDT, Memory: opts.CCMemory, Workers: workers})
+		if cc == nil {
+			return nil, err
 		}
-	case fc > 0:
-		frozen, label = int(fc), fmt.Sprintf("%d lowest, as requested", int(fc))
-		if frozen > nb {
-			return nil, fmt.Errorf("hf: mp2: %d frozen orbitals requested, but there are only %d β electrons", frozen, nb)
-		}
+		cc.FrozenCoreLabel = label
+		res.CC = cc
+		res.Energy = cc.Total
+		return res, err
 	}
 	mp, err := RunMP2(ctx, scf, src, MP2Options{Frozen: frozen, Memory: opts.MP2Memory, Workers: workers})
 	if err != nil {
@@ -333,6 +350,27 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 	res.MP2 = mp
 	res.Energy = mp.Total
 	return res, nil
+}
+
+// frozenCore resolves the frozen-core setting of a correlated method for
+// mol with nb β electrons: the count of frozen spatial orbitals and its
+// description.
+func frozenCore(mol planner.Molecule, fc FrozenCore, nb int, method Method) (int, string, error) {
+	switch {
+	case fc == FrozenCoreAuto:
+		frozen, label := FrozenCoreOrbitals(mol)
+		if frozen > nb {
+			label = fmt.Sprintf("%s, capped at %d: only %d β electrons", label, nb, nb)
+			frozen = nb
+		}
+		return frozen, label, nil
+	case fc > 0:
+		if int(fc) > nb {
+			return 0, "", fmt.Errorf("hf: %s: %d frozen orbitals requested, but there are only %d β electrons", method, int(fc), nb)
+		}
+		return int(fc), fmt.Sprintf("%d lowest, as requested", int(fc)), nil
+	}
+	return 0, "", nil
 }
 
 // GuessTrial is one cold-start SCF run by [Energy].
@@ -363,6 +401,8 @@ func referenceOf(mol planner.Molecule, opts Options) Method {
 			return open
 		}
 		return opts.MP2Reference
+	case CCSD, CCSDT:
+		return RHF
 	}
 	return ""
 }

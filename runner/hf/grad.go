@@ -46,8 +46,8 @@ type GradientResult struct {
 //
 // (Pople, Krishnan, Schlegel & Binkley, Int. J. Quantum Chem. Symp. 13,
 // 225 (1979), doi:10.1002/qua.560160825; from memory), the two-electron
-// part parallel like the Fock build (Options.Workers). MP2 — and any
-// method without an analytic gradient — is differentiated by central
+// part parallel like the Fock build (Options.Workers). MP2, CCSD and
+// CCSD(T) — every method without an analytic gradient — are differentiated by central
 // differences of energies ([GradientByDifferences] with
 // geomopt.DefaultFDStep).
 //
@@ -55,7 +55,7 @@ type GradientResult struct {
 // Gradient) with an error wrapping ErrNotConverged: a gradient of an
 // unconverged density would be wrong, so none is given.
 func Gradient(ctx context.Context, mol planner.Molecule, opts Options) (*GradientResult, error) {
-	if opts.Method == MP2 {
+	if opts.Method == MP2 || opts.Method == CCSD || opts.Method == CCSDT {
 		return GradientByDifferences(ctx, mol, opts, 0, 0)
 	}
 	res, err := Energy(ctx, mol, opts)

@@ -250,8 +250,8 @@ func TestEnergy_MP2Errors(t *testing.T) {
 	if _, err := hf.Energy(t.Context(), mol, hf.Options{Basis: bs, Method: hf.MP2, MP2Reference: "rohf"}); err == nil {
 		t.Error("reference rohf: no error")
 	}
-	if _, err := hf.Energy(t.Context(), mol, hf.Options{Basis: bs, Method: "ccsd"}); err == nil {
-		t.Error("method ccsd: no error")
+	if _, err := hf.Energy(t.Context(), mol, hf.Options{Basis: bs, Method: "ccsdt"}); err == nil {
+		t.Error("method ccsdt: no error")
 	}
 	if m, err := hf.ParseMethod(" MP2 "); err != nil || m != hf.MP2 {
 		t.Errorf("ParseMethod(MP2) = %q, %v", m, err)

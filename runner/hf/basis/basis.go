@@ -144,7 +144,7 @@ func Lookup(name string) (*Set, error) {
 // listOrder is the order List reports the embedded sets in: smallest
 // first, by family. Sets not named here follow in file-name order.
 func listOrder() []string {
-	return []string{"sto-3g", "sto-3g-v0", "3-21g", "6-31g", "6-31gs", "6-31gss", "6-311gss", "cc-pvdz", "cc-pvtz", "aug-cc-pvdz"}
+	return []string{"sto-3g", "sto-3g-v0", "3-21g", "6-31g", "6-31gs", "6-31gss", "6-311gss", "cc-pvdz", "cc-pvtz", "cc-pvqz", "aug-cc-pvdz", "aug-cc-pvtz", "cc-pcvtz"}
 }
 
 // List describes every embedded set.

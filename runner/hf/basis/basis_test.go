@@ -52,16 +52,19 @@ func TestSet_NumFunctions_Water(t *testing.T) {
 		set              string
 		cart, sph, asSet int
 	}{
-		{"STO-3G", 7, 7, 7},         // README table: 7 / 7
-		{"STO-3G-v0", 7, 7, 7},      // README table: 7 / 7
-		{"3-21G", 13, 13, 13},       // README table: 13 / 13
-		{"6-31G", 13, 13, 13},       // README table: 13 / 13
-		{"6-31G*", 19, 18, 19},      // README table: 19 / 18
-		{"6-31G**", 25, 24, 25},     // README table: 25 / 24
-		{"6-311G**", 31, 30, 30},    // README table: 31 / 30; O spherical in the data
-		{"cc-pVDZ", 25, 24, 24},     // README table: 25 / 24
-		{"cc-pVTZ", 65, 58, 58},     // README table: 65 / 58
-		{"aug-cc-pVDZ", 43, 41, 41}, // README table: 43 / 41
+		{"STO-3G", 7, 7, 7},          // README table: 7 / 7
+		{"STO-3G-v0", 7, 7, 7},       // README table: 7 / 7
+		{"3-21G", 13, 13, 13},        // README table: 13 / 13
+		{"6-31G", 13, 13, 13},        // README table: 13 / 13
+		{"6-31G*", 19, 18, 19},       // README table: 19 / 18
+		{"6-31G**", 25, 24, 25},      // README table: 25 / 24
+		{"6-311G**", 31, 30, 30},     // README table: 31 / 30; O spherical in the data
+		{"cc-pVDZ", 25, 24, 24},      // README table: 25 / 24
+		{"cc-pVTZ", 65, 58, 58},      // README table: 65 / 58
+		{"aug-cc-pVDZ", 43, 41, 41},  // README table: 43 / 41
+		{"cc-pVQZ", 140, 115, 115},   // nbf_cartesian / nbf_spherical of the JSON extract: O 70 / 55, H 35 / 30
+		{"aug-cc-pVTZ", 105, 92, 92}, // JSON extract: O 55 / 46, H 25 / 23
+		{"cc-pCVTZ", 79, 71, 71},     // JSON extracts: O (cc-pCVTZ) 49 / 43, H (cc-pVTZ) 15 / 14
 	}
 	water := molecule(t, "O", "H", "H")
 	for _, tc := range tests {
@@ -235,7 +238,7 @@ func TestLookup_Name_Unknown(t *testing.T) {
 		if !errors.As(err, &ue) {
 			t.Fatalf("Lookup(%q) error = %v, want *UnknownSetError", name, err)
 		}
-		want := `basis: unknown basis set "` + name + `" (available: STO-3G, STO-3G-v0, 3-21G, 6-31G, 6-31G*, 6-31G**, 6-311G**, cc-pVDZ, cc-pVTZ, aug-cc-pVDZ)`
+		want := `basis: unknown basis set "` + name + `" (available: STO-3G, STO-3G-v0, 3-21G, 6-31G, 6-31G*, 6-31G**, 6-311G**, cc-pVDZ, cc-pVTZ, cc-pVQZ, aug-cc-pVDZ, aug-cc-pVTZ, cc-pCVTZ)`
 		if err.Error() != want {
 			t.Errorf("Lookup(%q) error = %q, want %q", name, err, want)
 		}
@@ -355,7 +358,10 @@ func TestList_All_Described(t *testing.T) {
 		{"6-311G**", "", "H–Ar", "mixed: Li–Ne spherical, Na–Ar Cartesian"},
 		{"cc-pVDZ", "", "H–Ar", "spherical"},
 		{"cc-pVTZ", "", "H–Ar", "spherical"},
+		{"cc-pVQZ", "", "H–Ar", "spherical"},
 		{"aug-cc-pVDZ", "", "H–Ar", "spherical"},
+		{"aug-cc-pVTZ", "", "H–Ar", "spherical"},
+		{"cc-pCVTZ", "", "H–Ar", "spherical"},
 	}
 	got := basis.List()
 	if len(got) != len(want) {
@@ -377,6 +383,10 @@ func TestSet_References_Kept(t *testing.T) {
 		{"aug-cc-pVDZ", "doi:10.1063/1.462569"}, // Kendall, Dunning, Harrison 1992
 		{"6-31G*", "doi:10.1063/1.444267"},      // Francl et al. 1982
 		{"6-311G**", "doi:10.1063/1.438955"},    // Krishnan et al. 1980
+		{"cc-pVQZ", "doi:10.1063/1.456153"},     // Dunning 1989
+		{"aug-cc-pVTZ", "doi:10.1063/1.462569"}, // Kendall, Dunning, Harrison 1992
+		{"cc-pCVTZ", "doi:10.1063/1.470645"},    // Woon, Dunning 1995 (core-valence, B–Ne)
+		{"cc-pCVTZ", "doi:10.1063/1.456153"},    // Dunning 1989 (H, filled from cc-pVTZ)
 	}
 	for _, tc := range tests {
 		refs := lookup(t, tc.set).References()

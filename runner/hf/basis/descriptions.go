@@ -15,4 +15,7 @@ var descriptions = map[string]string{
 	"cc-pvdz":     "double zeta built for correlated methods: valence split in two plus one polarisation shell per step in l",
 	"cc-pvtz":     "triple zeta built for correlated methods: valence split in three plus d and f polarisation on heavy atoms",
 	"aug-cc-pvdz": "cc-pVDZ plus one diffuse shell per angular momentum, for anions, dipoles and weakly bound pairs",
+	"cc-pvqz":     "quadruple zeta built for correlated methods: valence split in four plus d, f and g polarisation on heavy atoms",
+	"aug-cc-pvtz": "cc-pVTZ plus one diffuse shell per angular momentum, for anions, dipoles and weakly bound pairs",
+	"cc-pcvtz":    "cc-pVTZ plus tight shells on Li–Ar that let the core electrons correlate; H and He as in cc-pVTZ",
 }

@@ -1,6 +1,7 @@
 // Package basis is the built-in Hartree–Fock engine's library of Gaussian
 // basis sets: the sets embedded in the program (STO-3G, 3-21G, the 6-31G
-// family, 6-311G**, cc-pVDZ, cc-pVTZ, aug-cc-pVDZ) and user basis files in
+// family, 6-311G**, cc-pVDZ, cc-pVTZ, cc-pVQZ, aug-cc-pVDZ, aug-cc-pVTZ,
+// cc-pCVTZ) and user basis files in
 // wellscan's own plain-text format (FORMAT.md beside this file).
 //
 // # Overview
