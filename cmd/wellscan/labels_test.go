@@ -9,20 +9,6 @@ import (
 	"wellscan/planner"
 )
 
-func loadExample(t *testing.T, name, patch string) *planner.Spec {
-	t.Helper()
-	b, err := os.ReadFile(filepath.Join("../../testdata/examples", name, "scan.toml"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	text := string(b) + patch
-	spec, err := planner.Decode([]byte(text), filepath.Join(t.TempDir(), "scan.toml"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	return spec
-}
-
 // TestScanLabel: a label states the isotopologue, the method (MP2 with
 // its core treatment), the basis and that the scan is rigid.
 func TestScanLabel(t *testing.T) {

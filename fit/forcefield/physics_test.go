@@ -51,14 +51,6 @@ func fdHessian(f func([]float64) float64, x []float64, h float64) []float64 {
 
 func flat(p [][3]float64) []float64 { return flatten(p) }
 
-func unflat(x []float64) [][3]float64 {
-	out := make([][3]float64, len(x)/3)
-	for a := range out {
-		out[a] = [3]float64{x[3*a], x[3*a+1], x[3*a+2]}
-	}
-	return out
-}
-
 func dist(x []float64, a, b int) float64 {
 	dx, dy, dz := x[3*a]-x[3*b], x[3*a+1]-x[3*b+1], x[3*a+2]-x[3*b+2]
 	return math.Sqrt(dx*dx + dy*dy + dz*dz)

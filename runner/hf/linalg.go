@@ -131,17 +131,6 @@ func denseDot(a, b *mat.Dense) float64 {
 	return sum
 }
 
-// symFromDense stores the symmetric part of src in dst.
-func symFromDense(dst *mat.SymDense, src *mat.Dense) {
-	rs := src.RawMatrix()
-	rd := dst.RawSymmetric()
-	for i := range rd.N {
-		for j := i; j < rd.N; j++ {
-			rd.Data[i*rd.Stride+j] = 0.5 * (rs.Data[i*rs.Stride+j] + rs.Data[j*rs.Stride+i])
-		}
-	}
-}
-
 // antisymInto stores a − aᵀ in dst and returns max |element|.
 func antisymInto(dst, a *mat.Dense) float64 {
 	ra, rd := a.RawMatrix(), dst.RawMatrix()

@@ -69,19 +69,19 @@ const DefaultThrottle = 100
 // scriptData feeds the directive templates; every field is already
 // validated or numeric when it is built.
 type scriptData struct {
-	JobName                        string
-	First, Last, Throttle          int
-	Comment                        string
-	Partition, Account, QOS        string
-	Export                         string
-	TimeDHMS, TimeHMS              string
-	TimeMinutes                    int
-	CPUs, MemMB                    int
-	Requeue                        bool
-	SignalSecs                     int
-	Output, Error                  string
-	set                            map[string]bool
-	directivePrefix, shebang, body string
+	JobName                  string
+	First, Last, Throttle    int
+	Comment                  string
+	Partition, Account, QOS  string
+	Export                   string
+	TimeDHMS, TimeHMS        string
+	TimeMinutes              int
+	CPUs, MemMB              int
+	Requeue                  bool
+	SignalSecs               int
+	Output, Error            string
+	set                      map[string]bool
+	directivePrefix, shebang string
 }
 
 // ceilMinutes rounds a duration up to whole minutes.

@@ -49,10 +49,7 @@ func boysBig(m int, t float64) float64 {
 }
 
 func boysTestPoints() []float64 {
-	var ts []float64
-	for _, t := range []float64{0, 1e-14, 1e-9, 1e-5, 1e-3, 0.0125, 0.025, 0.0249999, 0.02500001} {
-		ts = append(ts, t)
-	}
+	ts := []float64{0, 1e-14, 1e-9, 1e-5, 1e-3, 0.0125, 0.025, 0.0249999, 0.02500001}
 	// A dense, deliberately off-grid set up to beyond the asymptotic switch.
 	for t := 0.0173; t < 80; t *= 1.07 {
 		ts = append(ts, t)

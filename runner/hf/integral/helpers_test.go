@@ -160,7 +160,7 @@ func buildShells(atoms []atom, basis map[int]elementBasis, pure bool) ([]Shell, 
 func charges(atoms []atom) []PointCharge {
 	var out []PointCharge
 	for _, a := range atoms {
-		out = append(out, PointCharge{Z: a.Z, Pos: a.Pos})
+		out = append(out, PointCharge(a))
 	}
 	return out
 }

@@ -273,7 +273,7 @@ func TestComputeERI_RigidMotionInvariance(t *testing.T) {
 			shifted := transformShells(tc.shells, eye, shift)
 			var ch, chMoved []PointCharge
 			for _, a := range tc.atoms {
-				ch = append(ch, PointCharge{a.Z, a.Pos})
+				ch = append(ch, PointCharge(a))
 				chMoved = append(chMoved, PointCharge{a.Z, transformPoint(a.Pos, R, shift)})
 			}
 			if ch == nil {
