@@ -53,6 +53,10 @@ func TwoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 	return twoElectronGradient(ctx, shells, norm, workers, da, db, nAtoms, threshold, false)
 }
 
+// primFraction is the primitive-quartet threshold of the two-electron
+// gradient relative to the shell-quartet threshold.
+const primFraction = 1e-2
+
 // twoElectronGradient is TwoElectronGradient with the choice of the
 // shifted-class code: the one-pass recurrence, or separate quartets
 // (separate, for tests).
@@ -85,6 +89,12 @@ func twoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 	}
 	dg := newDerivBasis(eb, shells)
 	dg.separate = separate
+	// A primitive quartet is dropped at a hundredth of the shell-quartet
+	// threshold: the many dropped ones (a quarter of those in benzene/
+	// 6-31G*, mostly tight core primitives on different atoms) then add
+	// up to well below the threshold's own scale (measured in
+	// TestTwoElectronGradient_PrimitiveScreening).
+	dg.primThreshold = threshold * primFraction
 	Da, Db := denseCopy(da, n), denseCopy(db, n)
 	Dt := make([]float64, n*n)
 	for i := range Dt {
@@ -174,15 +184,18 @@ type derivBasis struct {
 	// separate computes shifted classes as separate quartets instead of
 	// the one-pass recurrence (tests only).
 	separate bool
-	atom     []int       // atom of each shell
-	raw      []shellPair // pair P over raw Cartesian components
-	p1       []shellPair // first shell l+1, coefficients ×2α
-	m1       []shellPair // first shell l−1 (unused when l = 0)
-	p2       []shellPair // second shell l+1, coefficients ×2β
-	m2       []shellPair // second shell l−1 (unused when l = 0)
-	up       [][][3]int  // up[l][c][x]: index of component c + 1_x in shell l+1
-	down     [][][3]int  // down[l][c][x]: index of c − 1_x in shell l−1 (−1 if none)
-	power    [][][3]int  // power[l][c][x]: exponent of x in component c
+	// primThreshold (hartree/bohr) screens primitive quartets inside a
+	// shell quartet (see derivWork.primCut); 0 turns it off.
+	primThreshold float64
+	atom          []int       // atom of each shell
+	raw           []shellPair // pair P over raw Cartesian components
+	p1            []shellPair // first shell l+1, coefficients ×2α
+	m1            []shellPair // first shell l−1 (unused when l = 0)
+	p2            []shellPair // second shell l+1, coefficients ×2β
+	m2            []shellPair // second shell l−1 (unused when l = 0)
+	up            [][][3]int  // up[l][c][x]: index of component c + 1_x in shell l+1
+	down          [][][3]int  // down[l][c][x]: index of c − 1_x in shell l−1 (−1 if none)
+	power         [][][3]int  // power[l][c][x]: exponent of x in component c
 }
 
 func newDerivBasis(eb *eriBasis, shells []Shell) *derivBasis {
@@ -291,6 +304,11 @@ type derivWork struct {
 	win        []float64
 	cls        [4][2][]float64
 	tcls       [4][2][]float64 // transposed classes
+	// primCut screens primitive quartets: one whose prefactor times
+	// the largest exponent weight is below primCut is skipped (set per
+	// shell quartet from the threshold and its two-particle density; 0
+	// keeps every primitive quartet).
+	primCut float64
 }
 
 func newDerivWork(maxl int) *derivWork {
@@ -364,6 +382,21 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 		src = dst
 	}
 	gc := src
+	// Primitive screening: a primitive quartet with prefactor U_P U_Q /
+	// √(p+q) (its (ss|ss) value at T = 0, which bounds the Boys factors)
+	// and exponent weights up to w changes this quartet's contribution by
+	// about U_P U_Q/√(p+q) · w · Σ|Γ|; those below primThreshold are
+	// dropped (density-weighted, like the shell-quartet screen).
+	dw.primCut = 0
+	if dg.primThreshold > 0 {
+		var gsum float64
+		for _, v := range gc {
+			gsum += math.Abs(v)
+		}
+		if gsum > 0 {
+			dw.primCut = dg.primThreshold / gsum
+		}
+	}
 	na, nb, nc, nd := dims[0], dims[1], dims[2], dims[3]
 	ls := [4]int{bp.l1, bp.l2, kp.l1, kp.l2}
 	at := [4]int{dg.atom[bp.s1], dg.atom[bp.s2], dg.atom[kp.s1], dg.atom[kp.s2]}

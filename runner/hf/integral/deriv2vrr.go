@@ -80,14 +80,19 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 	S0, SC, SD := dw.s0[:size], dw.sc[:size], dw.sd[:size]
 	V := w.v
 	stM := nF * nE
+	cut := dw.primCut
 	for _, pa := range bp.prims {
 		p := pa.p
-		for i := range S0 {
-			S0[i], SC[i], SD[i] = 0, 0, 0
-		}
+		// The first ket primitive kept assigns S0, SC, SD; the others add.
+		first := true
+		wa := 2 * max(pa.a, p-pa.a, 0.5)
 		for _, pc := range kp.prims {
 			q := pc.p
 			pq := p + q
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			if cut > 0 && math.Abs(pref)*max(wa, 2*pc.a, 2*(q-pc.a)) < cut {
+				continue // negligible primitive quartet (see derivWork.primCut)
+			}
 			rho := p * q / pq
 			var PQ, WP, WQ [3]float64
 			for d := range 3 {
@@ -97,7 +102,6 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 				WQ[d] = Wd - pc.P[d]
 			}
 			T := rho * (PQ[0]*PQ[0] + PQ[1]*PQ[1] + PQ[2]*PQ[2])
-			pref := pa.U * pc.U / math.Sqrt(pq)
 			boys(T, L, w.fb)
 			for m := 0; m <= L; m++ {
 				V[m*stM] = pref * w.fb[m]
@@ -170,6 +174,10 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 			for f := fLo; f < fPlain1; f++ {
 				src := V[f*nE+eLo : f*nE+nE]
 				s0 := S0[f*nE+eLo : f*nE+nE]
+				if first {
+					copy(s0, src)
+					continue
+				}
 				for k, v := range src {
 					s0[k] += v
 				}
@@ -180,12 +188,23 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 					src := V[f*nE+eKet0 : f*nE+eKet1]
 					o := f*nE + eKet0
 					sc, sd := SC[o:o+len(src)], SD[o:o+len(src)]
+					if first {
+						for k, v := range src {
+							sc[k] = g2 * v
+							sd[k] = d2 * v
+						}
+						continue
+					}
 					for k, v := range src {
 						sc[k] += g2 * v
 						sd[k] += d2 * v
 					}
 				}
 			}
+			first = false
+		}
+		if first {
+			continue // every ket primitive screened out
 		}
 		a2, b2 := 2*pa.a, 2*(pa.p-pa.a)
 		C0, CA, CB, CC, CD := dw.cw[0], dw.cw[1], dw.cw[2], dw.cw[3], dw.cw[4]
