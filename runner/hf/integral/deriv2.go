@@ -424,6 +424,19 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 	for k := range 4 {
 		need[k] = group[k] != skip
 	}
+	if !dg.separate && ls == [4]int{} {
+		g = dw.ssssGrad(bp, kp, gc[0], need)
+		var total [3]float64
+		for k := range 4 {
+			for x := range 3 {
+				total[x] += g[k][x]
+			}
+		}
+		for x := range 3 {
+			g[skip][x] = -total[x]
+		}
+		return g
+	}
 	var cl derivClasses
 	if dg.separate {
 		cl = dw.shiftedSeparately(dg, P, Q, need)

@@ -269,3 +269,66 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 	}
 	return out
 }
+
+// ssssGrad is quartetGrad's shortcut for a quartet of four s shells,
+// whose only shifted classes are the raised ones with a p function on one
+// centre: per primitive quartet, with V_m = U_P U_Q/√(p+q) F_m(T),
+//
+//	(p_i s|ss) = PA_i V_0 + WP_i V_1,  (s p_i|ss) = PB_i V_0 + WP_i V_1,
+//	(ss|p_i s) = QC_i V_0 + WQ_i V_1,  (ss|s p_i) = QD_i V_0 + WQ_i V_1
+//
+// (the vertical recurrence of Obara & Saika, one step), weighted by twice
+// the exponent of the raised primitive and multiplied by the quartet's
+// two-particle density gam. Positions with need false are left zero.
+func (dw *derivWork) ssssGrad(bp, kp *shellPair, gam float64, need [4]bool) (g [4][3]float64) {
+	fb := dw.w.fb
+	cut := dw.primCut
+	for _, pa := range bp.prims {
+		p := pa.p
+		a2, b2 := 2*pa.a, 2*(p-pa.a)
+		wa := max(a2, b2)
+		var PB [3]float64
+		for d := range 3 {
+			PB[d] = pa.PA[d] + bp.AB[d]
+		}
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			c2, d2 := 2*pc.a, 2*(q-pc.a)
+			if cut > 0 && math.Abs(pref)*max(wa, c2, d2) < cut {
+				continue // negligible primitive quartet (see derivWork.primCut)
+			}
+			rho := p * q / pq
+			var PQ, WP, WQ [3]float64
+			for d := range 3 {
+				PQ[d] = pa.P[d] - pc.P[d]
+				Wd := (p*pa.P[d] + q*pc.P[d]) / pq
+				WP[d] = Wd - pa.P[d]
+				WQ[d] = Wd - pc.P[d]
+			}
+			boys(rho*(PQ[0]*PQ[0]+PQ[1]*PQ[1]+PQ[2]*PQ[2]), 1, fb)
+			v0, v1 := pref*fb[0], pref*fb[1]
+			for d := range 3 {
+				if need[0] {
+					g[0][d] += a2 * (pa.PA[d]*v0 + WP[d]*v1)
+				}
+				if need[1] {
+					g[1][d] += b2 * (PB[d]*v0 + WP[d]*v1)
+				}
+				if need[2] {
+					g[2][d] += c2 * (pc.PA[d]*v0 + WQ[d]*v1)
+				}
+				if need[3] {
+					g[3][d] += d2 * ((pc.PA[d]+kp.AB[d])*v0 + WQ[d]*v1)
+				}
+			}
+		}
+	}
+	for k := range 4 {
+		for d := range 3 {
+			g[k][d] *= gam
+		}
+	}
+	return g
+}
