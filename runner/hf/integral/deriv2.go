@@ -424,8 +424,16 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 	for k := range 4 {
 		need[k] = group[k] != skip
 	}
-	if !dg.separate && ls == [4]int{} {
-		g = dw.ssssGrad(bp, kp, gc[0], need)
+	if !dg.separate && (ls == [4]int{} || ls == [4]int{1, 0, 0, 0} || ls == [4]int{0, 0, 1, 0}) {
+		switch ls {
+		case [4]int{}:
+			g = dw.ssssGrad(bp, kp, gc[0], need)
+		case [4]int{1, 0, 0, 0}:
+			g = dw.psssGrad(bp, kp, gc[:3], need)
+		default: // (ss|ps): the same with the electrons exchanged
+			h := dw.psssGrad(kp, bp, gc[:3], [4]bool{need[2], need[3], need[0], need[1]})
+			g = [4][3]float64{h[2], h[3], h[0], h[1]}
+		}
 		var total [3]float64
 		for k := range 4 {
 			for x := range 3 {

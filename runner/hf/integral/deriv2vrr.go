@@ -332,3 +332,99 @@ func (dw *derivWork) ssssGrad(bp, kp *shellPair, gam float64, need [4]bool) (g [
 	}
 	return g
 }
+
+// psssGrad is quartetGrad's shortcut for a quartet (p s|s s): one p shell
+// first in the bra pair, three s shells. gam holds the two-particle
+// density of the three p components (raw Cartesian x, y, z). With the
+// vertical recurrence of Obara & Saika on V_m = U_P U_Q/√(p+q) F_m(T),
+//
+//	(p_i s|ss)^(m) = PA_i V_m + WP_i V_{m+1}
+//	(d_ij s|ss)    = PA_j (p_i s|ss)^(0) + WP_j (p_i s|ss)^(1) + δ_ij/(2p) (V_0 − ρ/p V_1)
+//	(p_i s|p_j s)  = QC_j (p_i s|ss)^(0) + WQ_j (p_i s|ss)^(1) + δ_ij/(2(p+q)) V_1
+//
+// and the horizontal steps (p_i p_j| = (d_ij s| + AB_j (p_i s|, (p s|s p_j) =
+// (p s|p_j s) + CD_j (p s|ss), the gradient on the four centres is
+//
+//	g_A,x = Σ_i Γ_i [2α (d_ix s|ss)] − Γ_x (ss|ss)
+//	g_B,x = Σ_i Γ_i [2β (p_i p_x|ss)]
+//	g_C,x = Σ_i Γ_i [2γ (p_i s|p_x s)]
+//	g_D,x = Σ_i Γ_i [2δ (p_i s|s p_x)]
+//
+// each bracket contracted over the primitive quartets with the weight
+// shown. Positions with need false are left zero.
+func (dw *derivWork) psssGrad(bp, kp *shellPair, gam []float64, need [4]bool) (g [4][3]float64) {
+	fb := dw.w.fb
+	cut := dw.primCut
+	var dA, dB, xC, xD [3][3]float64 // weighted (d_ij s|ss) and (p_i s|p_j s)
+	var pB, pD [3]float64            // weighted (p_i s|ss)
+	var s0 float64                   // plain (ss|ss)
+	for _, pa := range bp.prims {
+		p := pa.p
+		a2, b2 := 2*pa.a, 2*(p-pa.a)
+		wa := max(a2, b2, 1)
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			c2, d2 := 2*pc.a, 2*(q-pc.a)
+			if cut > 0 && math.Abs(pref)*max(wa, c2, d2) < cut {
+				continue // negligible primitive quartet (see derivWork.primCut)
+			}
+			rho := p * q / pq
+			var PQ, WP, WQ [3]float64
+			for d := range 3 {
+				PQ[d] = pa.P[d] - pc.P[d]
+				Wd := (p*pa.P[d] + q*pc.P[d]) / pq
+				WP[d] = Wd - pa.P[d]
+				WQ[d] = Wd - pc.P[d]
+			}
+			boys(rho*(PQ[0]*PQ[0]+PQ[1]*PQ[1]+PQ[2]*PQ[2]), 2, fb)
+			v0, v1, v2 := pref*fb[0], pref*fb[1], pref*fb[2]
+			s0 += v0
+			var p0, p1 [3]float64
+			for i := range 3 {
+				p0[i] = pa.PA[i]*v0 + WP[i]*v1
+				p1[i] = pa.PA[i]*v1 + WP[i]*v2
+			}
+			dd := pa.inv2p * (v0 - rho/p*v1)
+			dx := 0.5 / pq * v1
+			for i := range 3 {
+				pB[i] += b2 * p0[i]
+				pD[i] += d2 * p0[i]
+				for j := range 3 {
+					d := pa.PA[j]*p0[i] + WP[j]*p1[i]
+					x := pc.PA[j]*p0[i] + WQ[j]*p1[i]
+					if i == j {
+						d += dd
+						x += dx
+					}
+					dA[i][j] += a2 * d
+					dB[i][j] += b2 * d
+					xC[i][j] += c2 * x
+					xD[i][j] += d2 * x
+				}
+			}
+		}
+	}
+	for x := range 3 {
+		for i := range 3 {
+			gi := gam[i]
+			if need[0] {
+				g[0][x] += gi * dA[i][x]
+			}
+			if need[1] {
+				g[1][x] += gi * (dB[i][x] + bp.AB[x]*pB[i])
+			}
+			if need[2] {
+				g[2][x] += gi * xC[i][x]
+			}
+			if need[3] {
+				g[3][x] += gi * (xD[i][x] + kp.AB[x]*pD[i])
+			}
+		}
+		if need[0] {
+			g[0][x] -= gam[x] * s0
+		}
+	}
+	return g
+}
