@@ -59,7 +59,18 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 	w := dw.w
 	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
 	Lab, Lcd := la+lb, lc+ld
-	LabX, LcdX := Lab+1, Lcd+1
+	// The recurrence goes one level beyond the pair on each side only
+	// when a raised class of that side is needed: translational
+	// invariance often drops both positions of one side (a quartet over
+	// two atoms, (AA|BB)).
+	braW, ketW := need[0] || need[1], need[2] || need[3]
+	LabX, LcdX := Lab, Lcd
+	if braW {
+		LabX++
+	}
+	if ketW {
+		LcdX++
+	}
 	L := LabX + LcdX
 	nE, nF := ncum(LabX), ncum(LcdX)
 	// Windows of the contractions: the plain one feeds the lowered
@@ -69,7 +80,6 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 	eLo, fLo := ncum(la-2), ncum(lc-2)
 	eKet0, eKet1, fKet0 := ncum(la-1), ncum(Lab), ncum(lc-1)
 	fPlain1 := ncum(Lcd)
-	ketW := need[2] || need[3]
 	size := nE * nF
 	for k := range dw.cw {
 		c := dw.cw[k][:size]
@@ -141,10 +151,7 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 				// At the top ket level only the ket-raised classes read,
 				// and they need l_e ≤ Lab.
 				eTop := nE
-				if fc.l == LcdX {
-					if !ketW {
-						continue
-					}
+				if ketW && fc.l == LcdX {
 					eTop = eKet1
 				}
 				for m := 0; m <= mmax; m++ {
@@ -209,6 +216,12 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 		a2, b2 := 2*pa.a, 2*(pa.p-pa.a)
 		C0, CA, CB, CC, CD := dw.cw[0], dw.cw[1], dw.cw[2], dw.cw[3], dw.cw[4]
 		for f := fLo; f < fPlain1; f++ {
+			if !braW {
+				for e := eLo; e < nE; e++ {
+					C0[f*nE+e] += S0[f*nE+e]
+				}
+				continue
+			}
 			for e := eLo; e < nE; e++ {
 				o := f*nE + e
 				v := S0[o]
