@@ -420,6 +420,20 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 			skip = k
 		}
 	}
+	// A group holding both shells of a pair is the better one to skip:
+	// the one-pass recurrence then never raises that side at all.
+	braG, ketG := group[0] == group[1], group[2] == group[3]
+	switch {
+	case braG && ketG:
+		skip = group[0]
+		if groupCost[group[2]] > groupCost[group[0]] {
+			skip = group[2]
+		}
+	case braG:
+		skip = group[0]
+	case ketG:
+		skip = group[2]
+	}
 	var need [4]bool
 	for k := range 4 {
 		need[k] = group[k] != skip
