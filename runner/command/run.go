@@ -126,7 +126,9 @@ const stderrTailLines = 8
 // cancellation), checks the expected outputs and extracts the energy. The
 // error, when not nil, is a [*RunError] whose class is also in the
 // Outcome. The exit-status file is written in every case where the
-// directory exists.
+// directory exists. job.Dir is made when missing, but not its parent,
+// which must exist (a scan directory moved away while it runs is never
+// made again at its old path).
 func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	dir, err := filepath.Abs(job.Dir)
 	out := Outcome{ExitCode: -1}
@@ -147,9 +149,12 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(SetupFailed, err)
 	}
 	x, _ := c.Energy.Compile() // Validate compiled it already
-	if err := os.MkdirAll(dir, 0o700); err != nil {
+	// Only the point's own directory is made, never its parents: a scan
+	// directory moved or deleted while it runs must not be made again
+	// (empty) at its old path.
+	if err := os.Mkdir(dir, 0o700); err != nil && !errors.Is(err, fs.ErrExist) {
 		dir = ""
-		return fail(SetupFailed, err)
+		return fail(SetupFailed, fmt.Errorf("point directory: %w", err))
 	}
 	// Every file of the point is created inside its directory and never
 	// through a symbolic link (see pointFiles).
