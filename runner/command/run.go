@@ -112,10 +112,13 @@ func ClassOf(err error) FailureClass {
 	return ""
 }
 
-// maxOutputBytes bounds how much of an output file is read for the energy
-// (64 MiB): far more than the output of one point, small enough that
-// several points at once cannot exhaust memory. A larger output fails the
-// point with a message to write the energy to a file of its own.
+// maxOutputBytes bounds what is read whole for an energy or a gradient
+// (64 MiB): a JSON document, or an output searched by a pattern that can
+// match across lines — far more than such an output holds, small enough
+// that several points at once cannot exhaust memory. Label and line-bound
+// pattern extractors read any output line by line, in bounded memory
+// (parsers.Extractor.ExtractFrom), and are not capped. A larger output
+// fails the point with a message saying why it was needed whole.
 const maxOutputBytes = 64 << 20
 
 // stderrTailLines is how many lines of stderr a non-zero exit quotes.
@@ -338,15 +341,21 @@ func (c Config) collectGradient(pf *pointFiles, atoms int) ([][3]float64, Failur
 	default:
 		source = c.GradientFrom
 	}
-	text, err := pf.readCapped(source)
+	f, err := pf.openOutput(source)
 	if err != nil {
 		return nil, OutputMissing, fmt.Errorf("gradient: %w", err)
 	}
-	g, err := gx.Extract(text, atoms)
+	defer f.Close()
+	g, err := gx.ExtractFrom(f, atoms, maxOutputBytes)
 	if err != nil {
 		class := GradientMissing
-		if errors.Is(err, parsers.ErrGradientInvalid) {
+		switch {
+		case errors.Is(err, parsers.ErrGradientInvalid):
 			class = GradientInvalid
+		case errors.Is(err, parsers.ErrOutputTooLarge):
+			class = OutputMissing
+		case !errors.Is(err, parsers.ErrGradientMissing):
+			class = OutputMissing // a read error
 		}
 		return nil, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
@@ -376,15 +385,22 @@ func (c Config) collect(pf *pointFiles, x parsers.Extractor) (float64, FailureCl
 	if len(missing) > 0 {
 		return 0, OutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", "))
 	}
-	text, err := pf.readCapped(source)
+	f, err := pf.openOutput(source)
 	if err != nil {
 		return 0, OutputMissing, err
 	}
-	e, err := x.Extract(text)
+	defer f.Close()
+	e, err := x.ExtractFrom(f, maxOutputBytes)
 	if err != nil {
 		class := EnergyMissing
-		if errors.Is(err, parsers.ErrEnergyInvalid) {
+		switch {
+		case errors.Is(err, parsers.ErrEnergyInvalid):
 			class = EnergyInvalid
+		case errors.Is(err, parsers.ErrOutputTooLarge):
+			class = OutputMissing
+			err = fmt.Errorf("%w; have the program write its energy to a file of its own and name it in energy_from, or use a label or a pattern that stays within a line", err)
+		case !errors.Is(err, parsers.ErrEnergyMissing):
+			class = OutputMissing // a read error
 		}
 		return 0, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
