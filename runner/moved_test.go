@@ -128,3 +128,49 @@ func TestRunner_ScanMovedMidRun(t *testing.T) {
 		}
 	}
 }
+
+// TestRunner_ScanDeletedMidRun: the scan directory is deleted while
+// points run. The run stops with ErrScanMoved, says it cannot tell where
+// the scan is, fails no point in vain, and makes nothing again at the
+// old path.
+func TestRunner_ScanDeletedMidRun(t *testing.T) {
+	text := strings.Replace(morseSpec, "offset = -112.7", "offset = -112.7\ndelay = \"20ms\"", 1)
+	parent := t.TempDir()
+	dir, spec := scanDirAt(t, filepath.Join(parent, "scan"), text)
+	st, err := runner.OpenScan(dir, spec, runner.OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer st.Close()
+	b, err := model.New(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var done atomic.Int32
+	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: b, Queue: local.New(2),
+		OnEvent: func(e runner.Event) {
+			if e.Kind == string(runner.Done) && done.Add(1) == 3 {
+				// Workers keep writing while it goes: retry until it is gone.
+				var err error
+				for range 20 {
+					if err = os.RemoveAll(dir); err == nil {
+						break
+					}
+				}
+				if err != nil {
+					t.Error(err)
+				}
+			}
+		}}
+	sum, err := r.Run(t.Context())
+	var me *runner.ScanMovedError
+	if !errors.As(err, &me) || me.Now != "" || !strings.Contains(err.Error(), "wellscan run NEWDIR") {
+		t.Fatalf("run = %v, want a *ScanMovedError that cannot name a new place", err)
+	}
+	if len(sum.Failed) != 0 {
+		t.Errorf("%d points failed for the deletion: %s", len(sum.Failed), sum.Failed[0].LastError)
+	}
+	if ents, _ := os.ReadDir(parent); len(ents) != 0 {
+		t.Errorf("the parent directory holds %d entries after the deletion, want none (nothing made again)", len(ents))
+	}
+}
