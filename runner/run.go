@@ -108,7 +108,8 @@ type Runner struct {
 	host      string // this machine, for result files
 	suffix    string // temporary-file suffix of this process
 	warned    map[string]bool
-	firsts    []Result // the first completions of this run, while none is done (sameFailureStop)
+	firsts    []Result  // the first completions of this run, while none is done (sameFailureStop)
+	home      *scanHome // the scan directory as opened at the start (moved.go)
 	firstsOff bool
 }
 
@@ -174,6 +175,8 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 	} else {
 		return Summary{}, fmt.Errorf("runner: scan directory %s: %w", r.Dir, err)
 	}
+	r.home = watchHome(r.Dir)
+	defer r.home.close()
 	r.host, _ = os.Hostname()
 	r.suffix = tmpSuffix()
 	fp, _ := json.Marshal(r.Spec.Fingerprint())
@@ -192,7 +195,7 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 	// continuation guess picks the nearest done neighbour).
 	out := make(chan Completion)
 	qerr := make(chan error, 1)
-	go func() { qerr <- r.Queue.Run(ctx, r.work, in, out) }()
+	go func() { qerr <- r.Queue.Run(r.home.context(ctx), r.work, in, out) }()
 	stopQueue := func() error {
 		close(in)
 		for {
@@ -523,6 +526,9 @@ func (r *Runner) runRound(ctx context.Context, in chan<- Task, out <-chan Comple
 		if ctx.Err() != nil {
 			return ctx.Err()
 		}
+		if err := r.home.check(r.Now(), false); err != nil {
+			return err
+		}
 		for next == nil && queue.len() > 0 {
 			rec := queue.next()
 			if rec == nil {
@@ -836,6 +842,7 @@ func retriable(class string) bool {
 
 // ingest applies a completion to its record; it returns the record.
 func (r *Runner) ingest(c Completion) *PointRecord {
+	c = r.home.excuse(c, r.Now())
 	rec := r.recs[c.Task.Key]
 	if rec == nil {
 		return nil
@@ -1019,5 +1026,5 @@ func (r *Runner) snapshot(state string) {
 		rounds = append(rounds, *rr)
 	}
 	snap := BuildSnapshot(r.Spec, recs, rounds, state, r.Now())
-	r.warnOnce("snapshot", WriteSnapshot(r.Dir, snap))
+	r.warnOnce("snapshot", r.writeSnapshot(snap))
 }

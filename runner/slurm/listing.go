@@ -81,7 +81,7 @@ func LatestTasks(scanDir string, tasks []TaskState, record bool) map[string]Poin
 			m, _ = ReadManifest(filepath.Join(scanDir, JobsDir, tok))
 			manifests[tok] = m
 			if m != nil && record {
-				_ = os.WriteFile(filepath.Join(scanDir, JobsDir, tok, JobIDFile), []byte(t.Array+"\n"), 0o600)
+				_ = WriteJobFile(filepath.Join(scanDir, JobsDir, tok), JobIDFile, []byte(t.Array+"\n"))
 			}
 		}
 		if m == nil {

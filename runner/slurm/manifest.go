@@ -67,13 +67,15 @@ func (m *Manifest) Marshal() ([]byte, error) {
 	return b.Bytes(), nil
 }
 
-// WriteManifest writes dir/tasks.tsv atomically.
-func WriteManifest(dir string, m *Manifest) error {
+// WriteManifest writes tasks.tsv into the job directory jobDir
+// (<scan>/jobs/<token>) atomically and never through a symbolic link
+// (see [WriteJobFile]).
+func WriteManifest(jobDir string, m *Manifest) error {
 	data, err := m.Marshal()
 	if err != nil {
 		return err
 	}
-	return WriteResultAtomic(dir, ManifestName, data)
+	return WriteJobFile(jobDir, ManifestName, data)
 }
 
 // ReadManifest reads dir/tasks.tsv. Errors name the file and line.
@@ -133,9 +135,12 @@ func ParseManifest(name string, data []byte) (*Manifest, error) {
 	return m, nil
 }
 
-// PrepareJob creates spec.JobDir, writes the manifest and the rendered
-// script (submit.sh) into it, and returns the script path. The manifest
-// must have one entry per array task and start at the profile's first index.
+// PrepareJob creates spec.JobDir (<scan>/jobs/<token>), writes the
+// manifest and the rendered script (submit.sh) into it, and returns the
+// script path. The manifest must have one entry per array task and start
+// at the profile's first index. Every write goes through the scan
+// directory and refuses a symbolic link by name (see [MkdirJob],
+// [WriteJobFile]).
 func PrepareJob(p *Profile, spec ScriptSpec, m *Manifest) (string, error) {
 	if len(m.Tasks) != spec.Tasks || m.First != p.FirstIndex {
 		return "", fmt.Errorf("slurm: job %s: manifest has tasks %d..%d, script wants %d tasks from %d",
@@ -145,13 +150,13 @@ func PrepareJob(p *Profile, spec ScriptSpec, m *Manifest) (string, error) {
 	if err != nil {
 		return "", err
 	}
-	if err := os.MkdirAll(spec.JobDir, 0o700); err != nil {
-		return "", fmt.Errorf("slurm: create job directory: %w", err)
+	if err := MkdirJob(spec.JobDir); err != nil {
+		return "", err
 	}
 	if err := WriteManifest(spec.JobDir, m); err != nil {
 		return "", err
 	}
-	if err := WriteResultAtomic(spec.JobDir, "submit.sh", script); err != nil {
+	if err := WriteJobFile(spec.JobDir, "submit.sh", script); err != nil {
 		return "", err
 	}
 	return filepath.Join(spec.JobDir, "submit.sh"), nil

@@ -584,7 +584,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 		return
 	}
 	mb, _ := json.MarshalIndent(meta, "", "  ")
-	if err := WriteResultAtomic(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
+	if err := WriteJobFile(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
 		fail("io", false, err)
 		return
 	}
@@ -612,7 +612,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 			return
 		}
 	}
-	_ = os.WriteFile(filepath.Join(jobDir, JobIDFile), []byte(id+"\n"), 0o600)
+	_ = WriteJobFile(jobDir, JobIDFile, []byte(id+"\n"))
 	r.poller.Track(id, m.First, len(m.Tasks), submitted)
 	for i, keys := range m.Tasks {
 		ref := TaskRef{Array: id, Index: m.First + i}

@@ -94,7 +94,7 @@ func TestReadResult_DirectoryIsRealError(t *testing.T) {
 func ptr(s string) *string { return &s }
 
 func TestManifest_RoundTrip(t *testing.T) {
-	dir := t.TempDir()
+	dir := filepath.Join(t.TempDir(), JobsDir, "tok-1")
 	m := &Manifest{First: 1, Tasks: [][]string{{"r=1.12800", "r=1.13000"}, {"r1=0.95000,theta=104.500"}}}
 	if err := WriteManifest(dir, m); err != nil {
 		t.Fatal(err)

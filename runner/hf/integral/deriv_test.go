@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"math/rand/v2"
+	"path/filepath"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -201,7 +202,7 @@ func TestTwoElectronGradient_OnePassMatchesSeparate(t *testing.T) {
 // far above rounding (common practice for a screening error budget).
 func TestTwoElectronGradient_PrimitiveScreening(t *testing.T) {
 	ctx := context.Background()
-	water := readGeom(t, "testdata/worked-water/STO-3G/geom.dat")
+	water := readGeom(t, filepath.Join("..", "testdata", "worked-water", "STO-3G", "geom.dat"))
 	shells := basisShells(t, "cc-pvdz-HCO.json", water, true)
 	n := NumFunctions(shells)
 	rng := rand.New(rand.NewPCG(7, uint64(n)))
