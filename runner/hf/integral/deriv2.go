@@ -28,6 +28,15 @@ import (
 // to raw Cartesian components, so the derivative quartets never need the
 // spherical transformation.
 //
+// Cost: shell quartets are screened by the Schwarz bound times the
+// largest two-particle density they meet, primitive quartets inside them
+// by their prefactor times the largest exponent weight times Σ|Γ|
+// (derivWork.primCut); the recurrence is raised on a side only when that
+// side has a position to differentiate (the skipped group is chosen to
+// drop a whole side where it can); (ss|ss) and (ps|ss) quartets, about
+// half of all primitive quartets in a valence basis, take closed forms
+// (ssssGrad, psssGrad).
+//
 // References:
 //   - S. Obara, A. Saika, J. Chem. Phys. 84, 3963 (1986),
 //     doi:10.1063/1.450106 (derivatives by shifted angular momenta).
