@@ -4,6 +4,7 @@ package main
 
 import (
 	"errors"
+	"fmt"
 	"io/fs"
 	"math"
 	"os"
@@ -227,5 +228,75 @@ func TestSlurm_RelaxedPoint_NodeKilled_ResumesFromCheckpoint(t *testing.T) {
 	}
 	if logged > kept+1 {
 		t.Errorf("%d gradients computed, %d kept: more than the one in flight was lost", logged, kept)
+	}
+}
+
+// TestSlurm_RelaxedScanThroughProgram runs the relaxed bend of the toy
+// force field runner/command/testdata/bend.awk on the one-node Slurm,
+// once reading the program's forces and once by central differences of
+// its energies: node-task drives each optimisation through the program.
+// With the bonds relaxed the energy is the bend term E0 + kt/2 (θ − θ0)²
+// of the script's invented constants (an independent closed form).
+func TestSlurm_RelaxedScanThroughProgram(t *testing.T) {
+	needSlurm(t)
+	bin := buildWellscan(t)
+	for _, tc := range []struct{ name, gradient string }{
+		{"forces read", bendForces},
+		{"differences", ""},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			// bendDir writes the spec and copies bend.awk and morse.tmpl.
+			src := bendDir(t, bendStart, tc.gradient, "")
+			dir := slurmScanDir(t, "")
+			for _, name := range []string{"bend.awk", "morse.tmpl"} {
+				b, err := os.ReadFile(filepath.Join(src, name))
+				if err != nil {
+					t.Fatal(err)
+				}
+				if err := os.WriteFile(filepath.Join(dir, name), b, 0o644); err != nil {
+					t.Fatal(err)
+				}
+			}
+			spec, err := os.ReadFile(filepath.Join(src, "scan.toml"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			writeSpec(t, dir, string(spec)+`[[scan]]
+name = "theta"
+angle = [2, 1, 3]
+values = [95, 104, 115]
+relax = true
+[relax]
+tighter = 10
+[refine]
+adaptive = false
+`+relaxedBendSlurmQueue)
+			start := time.Now()
+			runToEnd(t, bin, dir)
+			got, done := storeState(t, dir)
+			if len(got) != 3 {
+				t.Fatalf("%d points, want 3", len(got))
+			}
+			computed := computedLines(t, dir)
+			for k, p := range got {
+				var deg float64
+				if _, err := fmt.Sscanf(k, "theta=%g", &deg); err != nil {
+					t.Fatalf("key %q: %v", k, err)
+				}
+				d := (deg - bendTheta0) * math.Pi / 180
+				want := (bendE0 + 0.5*bendKTheta*d*d) / hartreeInEV // bend.awk's invented constants
+				// Thresholds tightened 10×: bonds (0.41 Eh/bohr²) within
+				// 1.1e-4 bohr of r0, an energy error below 1e-8 Eh.
+				if p.State != runner.Done || done[k] != 1 || math.Abs(p.Energy-want) > 1e-8 {
+					t.Errorf("%s: %s (done %d times), E = %.10f Eh, want %.10f", k, p.State, done[k], p.Energy, want)
+				}
+				if computed[k] != 1 {
+					t.Errorf("%s: optimised %d times on the node, want once", k, computed[k])
+				}
+				steps, _ := filepath.Glob(filepath.Join(runner.PointDir(dir, k), "relax", "step-*"))
+				t.Logf("%s: E = %.10f Eh (closed form Δ %.1e), %d program steps", k, p.Energy, p.Energy-want, len(steps))
+			}
+			t.Logf("relaxed scan through the program on Slurm: %v", time.Since(start).Round(time.Millisecond))
+		})
 	}
 }
