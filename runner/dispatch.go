@@ -3,6 +3,8 @@ package runner
 import (
 	"container/heap"
 	"math"
+
+	"wellscan/planner"
 )
 
 // dispatcher decides which planned point goes to the next free worker.
@@ -32,7 +34,7 @@ import (
 // re-scan when the queue of points with a done neighbour runs dry, which
 // is linear and happens about once per round.
 type dispatcher struct {
-	r        *Runner
+	r        *scanRun
 	h        dispatchHeap
 	key      map[string]float64 // the distance each planned point is queued with
 	planned  map[string]*PointRecord
@@ -60,7 +62,7 @@ type InProcessQueue interface {
 	InProcess() bool
 }
 
-func newDispatcher(r *Runner) *dispatcher {
+func newDispatcher(r *scanRun) *dispatcher {
 	d := &dispatcher{r: r, key: map[string]float64{}, planned: map[string]*PointRecord{},
 		running: map[string]*PointRecord{}, prepared: map[string]Task{}}
 	q, ok := r.Queue.(InProcessQueue)
@@ -287,6 +289,44 @@ func (d *dispatcher) neighbours(rec *PointRecord, f func(*PointRecord)) {
 				}
 			}
 		}
+	}
+}
+
+// task builds the Task for rec: geometry, directory, continuation guess
+// and a thread share.
+func (r *scanRun) task(rec *PointRecord, active int) (Task, error) {
+	p := planner.Point{Key: rec.Key, Values: rec.Values}
+	mol, err := r.Spec.Geometry(p)
+	if err != nil {
+		return Task{}, err
+	}
+	t := Task{Key: rec.Key, Values: rec.Values, Mol: mol, Dir: PointDir(r.Dir, rec.Key), Attempt: rec.Attempts + 1, Cold: rec.Jumps > 0}
+	// A point whose energy jumped is recomputed from a cold start: its
+	// continuation guess may be what carried it onto another state.
+	r.setGuess(&t, rec)
+	r.setThreads(&t, active)
+	return t, nil
+}
+
+// preparedTask is task, reusing the geometry of a task prepared for rec
+// earlier and not handed out; the guess and thread share are chosen anew.
+func (r *scanRun) preparedTask(d *dispatcher, rec *PointRecord, active int) (Task, error) {
+	if t, ok := d.prepared[rec.Key]; ok && t.Attempt == rec.Attempts+1 {
+		r.setGuess(&t, rec)
+		r.setThreads(&t, active)
+		return t, nil
+	}
+	t, err := r.task(rec, active)
+	if err == nil {
+		d.prepared[rec.Key] = t
+	}
+	return t, err
+}
+
+func (r *scanRun) setThreads(t *Task, active int) {
+	t.Threads = r.Spec.Queue.Threads
+	if t.Threads == 0 {
+		t.Threads = max(1, r.CPUs/max(1, min(r.Queue.Slots(), active)))
 	}
 }
 

@@ -92,7 +92,7 @@ func resultSum(r Result) string {
 // fingerprint) and says done, replaces the record; otherwise the point is
 // planned again (its attempts kept). Either way an event names the point
 // and the copy that is kept.
-func (r *Runner) repairDamaged(rec *PointRecord) {
+func (r *scanRun) repairDamaged(rec *PointRecord) {
 	rec.Damaged = ""
 	if res, ok := ReadResult(r.Dir, rec.Key, r.fp); ok && res.Status == "done" {
 		r.apply(rec, res)
@@ -109,7 +109,7 @@ func (r *Runner) repairDamaged(rec *PointRecord) {
 // (the store backup, status.json) cannot be written: the scan goes on,
 // since the store holds everything, but the user is told why the file is
 // missing or stale (a symbolic link in its place, a full disk).
-func (r *Runner) warnOnce(what string, err error) {
+func (r *scanRun) warnOnce(what string, err error) {
 	if err == nil {
 		return
 	}

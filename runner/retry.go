@@ -25,10 +25,21 @@ func isPermanent(rec *PointRecord) bool {
 	return rec.Permanent || permanentClasses[rec.Class] || !retriable(rec.Class)
 }
 
+// retriable says whether a failure class may succeed on another try. A
+// calculation that ran and did not converge, or a geometry that cannot be
+// built, will fail the same way again.
+func retriable(class string) bool {
+	switch class {
+	case "not-converged", "scf-not-converged", "geometry":
+		return false
+	}
+	return true
+}
+
 // retryIfAllowed plans a failed point again when its failure may pass on
 // another try and the spec now allows more attempts than it has had (the
 // user raised [queue] attempts).
-func (r *Runner) retryIfAllowed(rec *PointRecord) {
+func (r *scanRun) retryIfAllowed(rec *PointRecord) {
 	if isPermanent(rec) || rec.Attempts >= r.Spec.Queue.Attempts {
 		return
 	}
@@ -202,7 +213,7 @@ var ErrSameFailure = errors.New("runner: the first points all failed the same wa
 // returns an error that stops the round with one message (the remaining
 // points stay planned, and their attempts are untouched). Once any point
 // is done, or the first ones differ, it never fires.
-func (r *Runner) sameFailureStop(c Completion) error {
+func (r *scanRun) sameFailureStop(c Completion) error {
 	if r.firstsOff || c.Interrupted || c.LeftRunning {
 		return nil
 	}
