@@ -54,7 +54,7 @@ type Outcome struct {
 	Extra        map[string]float64
 	// Class names the failure when Converged is false ("not-converged",
 	// …); empty on success.
-	Class string
+	Class FailureClass
 	// Detail explains a failure (the error text, with the end of the
 	// program's output where there is one).
 	Detail string

@@ -61,11 +61,11 @@ type pointComputer struct {
 }
 
 func (r pointComputer) work(ctx context.Context, t Task) Completion {
-	if res, ok := ReadResult(r.dir, t.Key, r.fp); ok && res.Status == "done" {
+	if res, ok := ReadResult(r.dir, t.Key, r.fp); ok && res.Status == ResultDone {
 		return Completion{Task: t, Result: res, Reused: true}
 	}
 	if err := MkdirScan(r.dir, filepath.Join(PointsDir, t.Key)); err != nil {
-		return Completion{Task: t, Result: r.failure(t, r.now(), "io", err)}
+		return Completion{Task: t, Result: r.failure(t, r.now(), ClassIO, err)}
 	}
 	cctx := ctx
 	if to := r.spec.Queue.Timeout.Duration; to > 0 {
@@ -81,14 +81,14 @@ func (r pointComputer) work(ctx context.Context, t Task) Completion {
 	var res Result
 	switch {
 	case err != nil && errors.Is(cctx.Err(), context.DeadlineExceeded):
-		res = r.failure(t, start, "timeout", fmt.Errorf("no result within %s: %w", r.spec.Queue.Timeout.Duration, err))
+		res = r.failure(t, start, ClassTimeout, fmt.Errorf("no result within %s: %w", r.spec.Queue.Timeout.Duration, err))
 	case err != nil:
-		res = r.failure(t, start, "error", err)
+		res = r.failure(t, start, ClassError, err)
 	default:
 		res = r.resultOf(t, start, out)
 	}
 	if err := writeResult(r.dir, res, r.suffix, r.durable); err != nil {
-		return Completion{Task: t, Result: r.failure(t, start, "io", err)}
+		return Completion{Task: t, Result: r.failure(t, start, ClassIO, err)}
 	}
 	return Completion{Task: t, Result: res}
 }
@@ -112,9 +112,9 @@ func (r pointComputer) base(t Task, start time.Time) Result {
 		Host: r.host, PID: os.Getpid(), Started: start, Finished: r.now()}
 }
 
-func (r pointComputer) failure(t Task, start time.Time, class string, err error) Result {
+func (r pointComputer) failure(t Task, start time.Time, class FailureClass, err error) Result {
 	res := r.base(t, start)
-	res.Status, res.Class, res.Error = "failed", class, err.Error()
+	res.Status, res.Class, res.Error = ResultFailed, class, err.Error()
 	return res
 }
 
@@ -125,11 +125,11 @@ func (r pointComputer) resultOf(t Task, start time.Time, o Outcome) Result {
 		res.Orbitals = orbitalsRel(t.Dir, o.OrbitalsPath)
 	}
 	if o.Converged && !math.IsNaN(o.Energy) && !math.IsInf(o.Energy, 0) {
-		res.Status = "done"
+		res.Status = ResultDone
 	} else {
-		res.Status, res.Class = "failed", o.Class
+		res.Status, res.Class = ResultFailed, o.Class
 		if res.Class == "" {
-			res.Class = "not-converged"
+			res.Class = ClassNotConverged
 		}
 		res.Error = fmt.Sprintf("backend %s: %s", r.backend.Name(), res.Class)
 		if o.Detail != "" { // the class is in res.Class: not twice in the text

@@ -14,7 +14,7 @@ import (
 func TestFormat_ResultFilesOfEarlierVersion(t *testing.T) {
 	for _, tc := range []struct {
 		file, key string
-		status    string
+		status    ResultStatus
 	}{
 		{"result-done.json", "r=1.100", "done"},
 		{"result-failed.json", "r=0.700", "failed"},

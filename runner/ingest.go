@@ -14,20 +14,20 @@ func (r *scanRun) ingest(c Completion) *PointRecord {
 	if c.LeftRunning {
 		rec.State = Submitted
 		r.touch(rec)
-		r.emit(Event{Kind: string(Submitted), Key: rec.Key, Round: rec.Round, Message: "left running with the " + r.Queue.Name() + " queue"})
+		r.emit(Event{Kind: EventSubmitted, Key: rec.Key, Round: rec.Round, Message: "left running with the " + r.Queue.Name() + " queue"})
 		return rec
 	}
 	if c.Interrupted {
 		rec.State = Planned
 		rec.Attempts = max(0, rec.Attempts-1)
 		r.touch(rec)
-		r.emit(Event{Kind: string(Planned), Key: rec.Key, Round: rec.Round, Message: "interrupted"})
+		r.emit(Event{Kind: EventPlanned, Key: rec.Key, Round: rec.Round, Message: "interrupted"})
 		return rec
 	}
 	switch {
 	case c.Reused:
 		r.reused++
-	case c.Result.Status == "done":
+	case c.Result.Status == ResultDone:
 		r.computed++
 		r.measure(c.Result)
 	}
@@ -41,7 +41,7 @@ func (r *scanRun) apply(rec *PointRecord, res Result) {
 	if rec.Attempts < res.Attempt {
 		rec.Attempts = res.Attempt
 	}
-	if res.Status == "done" {
+	if res.Status == ResultDone {
 		e := res.Energy
 		rec.State, rec.Energy, rec.Converged, rec.Iterations, rec.SSquared, rec.Extra = Done, &e, true, res.Iterations, res.SSquared, res.Extra
 		rec.Class, rec.LastError = "", ""
@@ -51,7 +51,7 @@ func (r *scanRun) apply(rec *PointRecord, res Result) {
 		}
 		r.indexPoint(rec)
 		r.touch(rec)
-		r.emit(Event{Kind: string(Done), Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%.10f hartree", e)})
+		r.emit(Event{Kind: EventDone, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%.10f hartree", e)})
 		return
 	}
 	rec.Class, rec.LastError = res.Class, res.Error
@@ -59,12 +59,12 @@ func (r *scanRun) apply(rec *PointRecord, res Result) {
 	if !rec.Permanent && rec.Attempts < r.Spec.Queue.Attempts {
 		rec.State = Planned
 		r.touch(rec)
-		r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("attempt %d of %d failed (%s): %s", rec.Attempts, r.Spec.Queue.Attempts, res.Class, res.Error)})
+		r.emit(Event{Kind: EventRetry, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("attempt %d of %d failed (%s): %s", rec.Attempts, r.Spec.Queue.Attempts, res.Class, res.Error)})
 		return
 	}
 	rec.State = Failed
 	r.touch(rec)
-	r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%s after %d attempts: %s", res.Class, rec.Attempts, res.Error)})
+	r.emit(Event{Kind: EventFailed, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%s after %d attempts: %s", res.Class, rec.Attempts, res.Error)})
 }
 
 // storedOrbitals turns the orbitals path of key's result file (relative

@@ -48,13 +48,13 @@ func (r *scanRun) checkJumps() int {
 		r.touch(rec)
 		if rec.Jumps == 1 {
 			rec.State, rec.LastError = Planned, msg
-			r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: msg + "; computing it once more from a fresh guess"})
+			r.emit(Event{Kind: EventRetry, Key: rec.Key, Round: rec.Round, Message: msg + "; computing it once more from a fresh guess"})
 			replanned++
 			continue
 		}
 		rec.State, rec.Permanent = Failed, true
 		rec.LastError = msg + "; it jumped again when recomputed from a fresh guess, so it stays failed"
-		r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: rec.LastError})
+		r.emit(Event{Kind: EventFailed, Key: rec.Key, Round: rec.Round, Message: rec.LastError})
 	}
 	return replanned
 }

@@ -29,7 +29,7 @@ func (r *scanRun) reconcile() error {
 			continue
 		}
 		inFlight := rec.State == Submitted || rec.State == Running
-		if res, ok := ReadResult(r.Dir, k, r.fp); ok && (res.Status == "done" || (inFlight && res.Attempt == rec.Attempts)) {
+		if res, ok := ReadResult(r.Dir, k, r.fp); ok && (res.Status == ResultDone || (inFlight && res.Attempt == rec.Attempts)) {
 			r.apply(rec, res)
 			r.reused++
 			resumed++
@@ -47,7 +47,7 @@ func (r *scanRun) reconcile() error {
 			rec.State = Planned
 			rec.Attempts = max(0, rec.Attempts-1)
 			r.touch(rec)
-			r.emit(Event{Kind: string(Planned), Key: k, Round: rec.Round, Message: msg})
+			r.emit(Event{Kind: EventPlanned, Key: k, Round: rec.Round, Message: msg})
 			resumed++
 		}
 	}
@@ -64,10 +64,10 @@ func (r *scanRun) reconcile() error {
 	}
 	if added > 0 {
 		r.roundRec(r.round).Points += added
-		r.emit(Event{Kind: "round", Round: r.round, Message: fmt.Sprintf("round %d: %d points from the grid", r.round, added)})
+		r.emit(Event{Kind: EventRound, Round: r.round, Message: fmt.Sprintf("round %d: %d points from the grid", r.round, added)})
 	}
 	if resumed > 0 {
-		r.emit(Event{Kind: "resume", Round: r.round, Message: fmt.Sprintf("resumed: %d points reconciled with their result files", resumed)})
+		r.emit(Event{Kind: EventResume, Round: r.round, Message: fmt.Sprintf("resumed: %d points reconciled with their result files", resumed)})
 	}
 	return r.flush()
 }
@@ -84,12 +84,12 @@ func (r *scanRun) restoreResult(rec *PointRecord) {
 	}
 	msg := "result file was missing or unreadable; rewritten from the store"
 	if res, ok := ReadResult(r.Dir, rec.Key, r.fp); ok {
-		if res.Status == "done" && res.Energy == *rec.Energy {
+		if res.Status == ResultDone && res.Energy == *rec.Energy {
 			return
 		}
 		msg = fmt.Sprintf("%s says %s E = %.10f hartree but the store (checksum intact) says E = %.10f hartree; kept the store's copy and rewrote the file", ResultFile, res.Status, res.Energy, *rec.Energy)
 	}
-	res := Result{Key: rec.Key, Fingerprint: r.fp, Attempt: rec.Attempts, Status: "done", Energy: *rec.Energy,
+	res := Result{Key: rec.Key, Fingerprint: r.fp, Attempt: rec.Attempts, Status: ResultDone, Energy: *rec.Energy,
 		Converged: rec.Converged, Iterations: rec.Iterations, SSquared: rec.SSquared, Extra: rec.Extra,
 		Backend: rec.Backend, Host: r.host, PID: os.Getpid(), Started: rec.Started, Finished: rec.Finished}
 	if rec.Orbitals != "" {
@@ -101,5 +101,5 @@ func (r *scanRun) restoreResult(rec *PointRecord) {
 	if err := writeResult(r.Dir, res, r.suffix, false); err != nil {
 		return // a convenience copy; the store has the result
 	}
-	r.emit(Event{Kind: "resume", Key: rec.Key, Round: rec.Round, Message: msg})
+	r.emit(Event{Kind: EventResume, Key: rec.Key, Round: rec.Round, Message: msg})
 }

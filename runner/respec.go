@@ -78,7 +78,7 @@ func acceptEngineChange(st *Store, old, now planner.Fingerprint) (bool, error) {
 			again = append(again, r)
 		}
 	}
-	ev := Event{Time: time.Now(), Kind: "resume", Message: fmt.Sprintf("engine settings changed before any point finished: accepted; %d failed point(s) planned again with fresh attempts", len(again))}
+	ev := Event{Time: time.Now(), Kind: EventResume, Message: fmt.Sprintf("engine settings changed before any point finished: accepted; %d failed point(s) planned again with fresh attempts", len(again))}
 	st.notes = append(st.notes, ev.Message)
 	return true, st.Commit(again, nil, []Event{ev})
 }

@@ -12,21 +12,33 @@ import (
 // resultVersion is the schema version of result files.
 const resultVersion = 1
 
+// ResultStatus says how a point's computation ended; the strings are
+// what result files hold.
+type ResultStatus string
+
+// Result statuses.
+const (
+	// ResultDone: an energy was computed and converged.
+	ResultDone ResultStatus = "done"
+	// ResultFailed: no usable energy; the Result's Class says why.
+	ResultFailed ResultStatus = "failed"
+)
+
 // Result is the content of points/<key>/result.json, written by whoever
-// computed the point. Status is "done" or "failed".
+// computed the point.
 type Result struct {
 	V           int                `json:"v"`
 	Key         string             `json:"key"`
 	Fingerprint string             `json:"fingerprint"`
 	Attempt     int                `json:"attempt"`
-	Status      string             `json:"status"`
+	Status      ResultStatus       `json:"status"`
 	Energy      float64            `json:"energy_hartree"`
 	Converged   bool               `json:"converged"`
 	Iterations  int                `json:"iterations,omitempty"`
 	SSquared    *float64           `json:"s_squared,omitempty"`
 	Orbitals    string             `json:"orbitals,omitempty"` // relative to the point directory
 	Extra       map[string]float64 `json:"extra,omitempty"`
-	Class       string             `json:"class,omitempty"`
+	Class       FailureClass       `json:"class,omitempty"`
 	Error       string             `json:"error,omitempty"`
 	// Permanent: the failure would recur on another try; not retried.
 	Permanent bool      `json:"permanent,omitempty"`
@@ -78,7 +90,7 @@ func ReadResult(dir, key, fingerprint string) (Result, bool) {
 	if json.Unmarshal(b, &r) != nil || r.V != resultVersion || r.Key != key || r.Fingerprint != fingerprint {
 		return Result{}, false
 	}
-	if r.Status != "done" && r.Status != "failed" {
+	if r.Status != ResultDone && r.Status != ResultFailed {
 		return Result{}, false
 	}
 	if r.Sum != "" && r.Sum != resultSum(r) {

@@ -153,7 +153,7 @@ func (r *scanRun) refine() bool {
 	}
 	rr.Status, rr.Reason = string(plan.Status), plan.Reason
 	r.dirtyR[r.round] = true
-	r.emit(Event{Kind: "refine", Round: r.round, Message: string(plan.Status) + ": " + plan.Reason})
+	r.emit(Event{Kind: EventRefine, Round: r.round, Message: string(plan.Status) + ": " + plan.Reason})
 	if plan.Status != planner.RefineContinue {
 		return false
 	}
@@ -163,7 +163,7 @@ func (r *scanRun) refine() bool {
 	}
 	nr := r.roundRec(r.round)
 	nr.Points = len(plan.Points)
-	r.emit(Event{Kind: "round", Round: r.round, Message: fmt.Sprintf("round %d: %d points", r.round, len(plan.Points))})
+	r.emit(Event{Kind: EventRound, Round: r.round, Message: fmt.Sprintf("round %d: %d points", r.round, len(plan.Points))})
 	return true
 }
 
@@ -171,7 +171,7 @@ func (r *scanRun) refine() bool {
 // the queue's error.
 func (r *scanRun) detached(qe error) (Summary, error) {
 	left := r.counts()[Submitted]
-	r.emit(Event{Kind: "detach", Round: r.round, Message: fmt.Sprintf("detached: %d points left with the %s queue", left, r.Queue.Name())})
+	r.emit(Event{Kind: EventDetach, Round: r.round, Message: fmt.Sprintf("detached: %d points left with the %s queue", left, r.Queue.Name())})
 	ferr := r.flush()
 	r.snapshot("detached")
 	sum := r.summary()
@@ -184,7 +184,7 @@ func (r *scanRun) detached(qe error) (Summary, error) {
 func (r *scanRun) interrupted(err, qe error) (Summary, error) {
 	ferr := r.flush()
 	if !errors.Is(err, ErrSameFailure) {
-		r.emit(Event{Kind: "interrupt", Round: r.round, Message: "interrupted; points in flight return to planned"})
+		r.emit(Event{Kind: EventInterrupt, Round: r.round, Message: "interrupted; points in flight return to planned"})
 	}
 	_ = r.flush()
 	r.snapshot("interrupted")
@@ -194,7 +194,7 @@ func (r *scanRun) interrupted(err, qe error) (Summary, error) {
 // finished ends a run whose refinement is over; qe is the queue's error.
 // Points that failed for good make it return ErrPointsFailed.
 func (r *scanRun) finished(qe error) (Summary, error) {
-	r.emit(Event{Kind: "finish", Round: r.round, Message: string(r.lastPlan.Status)})
+	r.emit(Event{Kind: EventFinish, Round: r.round, Message: string(r.lastPlan.Status)})
 	if err := r.flush(); err != nil {
 		return r.summary(), err
 	}
@@ -233,9 +233,9 @@ func (r *scanRun) runRound(ctx context.Context, in chan<- Task, out <-chan Compl
 			t, err := r.preparedTask(queue, rec, queue.len()+1+inflight)
 			if err != nil {
 				rec.Attempts++
-				rec.State, rec.Class, rec.LastError = Failed, "geometry", err.Error()
+				rec.State, rec.Class, rec.LastError = Failed, ClassGeometry, err.Error()
 				r.touch(rec)
-				r.emit(Event{Kind: string(Failed), Key: rec.Key, Round: rec.Round, Message: err.Error()})
+				r.emit(Event{Kind: EventFailed, Key: rec.Key, Round: rec.Round, Message: err.Error()})
 				continue
 			}
 			next, nextRec = &t, rec
@@ -259,8 +259,8 @@ func (r *scanRun) runRound(ctx context.Context, in chan<- Task, out <-chan Compl
 			rec.Attempts++
 			rec.State, rec.Started = Running, r.Now()
 			r.touch(rec)
-			r.emit(Event{Kind: string(Submitted), Key: rec.Key, Round: rec.Round, Message: r.Queue.Name()})
-			r.emit(Event{Kind: string(Running), Key: rec.Key, Round: rec.Round})
+			r.emit(Event{Kind: EventSubmitted, Key: rec.Key, Round: rec.Round, Message: r.Queue.Name()})
+			r.emit(Event{Kind: EventRunning, Key: rec.Key, Round: rec.Round})
 			inflight++
 			queue.dispatched(rec)
 			next, nextRec = nil, nil

@@ -155,7 +155,7 @@ func (r *scanRun) plan(p planner.Point, round int) {
 	r.recs[p.Key] = rec
 	r.indexPoint(rec)
 	r.touch(rec)
-	r.emit(Event{Kind: string(Planned), Key: p.Key, Round: round})
+	r.emit(Event{Kind: EventPlanned, Key: p.Key, Round: round})
 }
 
 func (r *scanRun) touch(rec *PointRecord) { r.dirty[rec.Key] = true }

@@ -183,7 +183,7 @@ func newProgressPrinter(w io.Writer, spec *planner.Spec) *progressPrinter {
 
 func (p *progressPrinter) event(e runner.Event) {
 	switch e.Kind {
-	case "round", "refine", "resume", "interrupt", "detach", "retry", "repair", "warning", string(runner.Failed):
+	case runner.EventRound, runner.EventRefine, runner.EventResume, runner.EventInterrupt, runner.EventDetach, runner.EventRetry, runner.EventRepair, runner.EventWarning, runner.EventFailed:
 		if p.tty {
 			fmt.Fprint(p.w, "\r\033[K")
 		}
@@ -193,7 +193,7 @@ func (p *progressPrinter) event(e runner.Event) {
 		}
 		fmt.Fprintf(p.w, "%s%s\n", p.stamp(), msg)
 		return
-	case string(runner.Done):
+	case runner.EventDone:
 	default:
 		return
 	}
@@ -301,7 +301,7 @@ type extremumJSON struct {
 }
 
 func jsonEvent(e runner.Event) eventJSON {
-	out := eventJSON{Seq: e.Seq, Time: e.Time, Kind: e.Kind, Key: e.Key, Round: e.Round, Message: e.Message}
+	out := eventJSON{Seq: e.Seq, Time: e.Time, Kind: string(e.Kind), Key: e.Key, Round: e.Round, Message: e.Message}
 	if p := e.Progress; p != nil {
 		out.Counts = map[string]int{}
 		for st, n := range p.Counts {

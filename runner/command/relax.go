@@ -104,7 +104,7 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task) (runner.Out
 			return runner.Outcome{}, errors.Join(ctx.Err(), err)
 		}
 		if lastFail != nil {
-			return runner.Outcome{Class: string(lastFail.Class), Detail: err.Error(), Permanent: !lastFail.Class.Retryable()}, nil
+			return runner.Outcome{Class: lastFail.Class, Detail: err.Error(), Permanent: !retryable(lastFail.Class)}, nil
 		}
 		return runner.Outcome{}, err
 	}
@@ -126,7 +126,7 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task) (runner.Out
 			"program_runs":           float64(runs),
 		}}
 	if !res.Converged {
-		out.Class, out.Detail = "relax-not-converged", res.Reason
+		out.Class, out.Detail = runner.ClassRelaxNotConverged, res.Reason
 		return out, nil
 	}
 	// The checkpoint is what a neighbour starts from (the runner hands

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"wellscan/parsers"
+	"wellscan/runner"
 )
 
 // TestConfig_Render_Limits is issue 15 item 10: a template that loops a
@@ -66,7 +67,7 @@ func TestConfig_Run_OutputCap(t *testing.T) {
 	c := morseConfig(t)
 	c.Args = []string{"head", "-c", "70000000", "/dev/zero"}
 	out, err := c.Run(t.Context(), diatomic(t.TempDir(), 1.13))
-	if out.Class != OutputMissing || err == nil || !strings.Contains(err.Error(), "more than the 67108864 read for an energy") {
+	if out.Class != runner.ClassOutputMissing || err == nil || !strings.Contains(err.Error(), "more than the 67108864 read for an energy") {
 		t.Fatalf("Run = %v (%s), want output-missing naming the 64 MiB cap", err, out.Class)
 	}
 }

@@ -177,11 +177,11 @@ func (b *Backend) computeLimit(ctx context.Context, t runner.Task, opts Options)
 		}
 		switch {
 		case errors.Is(err, ErrNotConverged):
-			return runner.Outcome{Class: "scf-not-converged", Detail: err.Error()}, nil
+			return runner.Outcome{Class: runner.ClassSCFNotConverged, Detail: err.Error()}, nil
 		case errors.Is(err, ErrCCNotConverged):
-			return runner.Outcome{Class: "cc-not-converged", Detail: err.Error()}, nil
+			return runner.Outcome{Class: runner.ClassCCNotConverged, Detail: err.Error()}, nil
 		case errors.Is(err, ErrCCMemory):
-			return runner.Outcome{Class: "memory-budget", Detail: err.Error(), Permanent: true}, nil
+			return runner.Outcome{Class: runner.ClassMemoryBudget, Detail: err.Error(), Permanent: true}, nil
 		}
 		return runner.Outcome{}, err
 	}
@@ -262,7 +262,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			return runner.Outcome{}, ctx.Err()
 		}
 		if errors.Is(err, ErrCCMemory) {
-			return runner.Outcome{Class: "memory-budget", Detail: err.Error(), Permanent: true}, nil
+			return runner.Outcome{Class: runner.ClassMemoryBudget, Detail: err.Error(), Permanent: true}, nil
 		}
 		return runner.Outcome{}, err
 	}
@@ -324,7 +324,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			// The SCF converged (its orbitals are still written for the
 			// neighbours) but the coupled-cluster energy is no result.
 			out.Converged = false
-			out.Class = "cc-not-converged"
+			out.Class = runner.ClassCCNotConverged
 			out.Detail = err.Error()
 		}
 	}
@@ -336,7 +336,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		out.SSquared = &s2
 	}
 	if !res.Converged {
-		out.Class = "scf-not-converged"
+		out.Class = runner.ClassSCFNotConverged
 		out.Detail = res.Reason
 		return out, nil
 	}

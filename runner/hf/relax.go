@@ -90,7 +90,7 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task, opts Option
 			return runner.Outcome{}, ctx.Err()
 		}
 		if errors.Is(err, ErrNotConverged) {
-			return runner.Outcome{Converged: false, Class: "scf-not-converged", Detail: err.Error()}, nil
+			return runner.Outcome{Converged: false, Class: runner.ClassSCFNotConverged, Detail: err.Error()}, nil
 		}
 		return runner.Outcome{}, err
 	}
@@ -115,7 +115,7 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task, opts Option
 		out.SSquared = &s2
 	}
 	if !res.Converged {
-		out.Class = "relax-not-converged"
+		out.Class = runner.ClassRelaxNotConverged
 		out.Detail = res.Reason
 		return out, nil
 	}

@@ -88,7 +88,7 @@ func Inspect(ctx context.Context, c *Client, scanDir string, fingerprint string,
 		}
 		res, hasRes := runner.ReadResult(scanDir, k, fingerprint)
 		switch {
-		case hasRes && res.Status == "done":
+		case hasRes && res.Status == runner.ResultDone:
 			pv.Verdict = VerdictFinished
 		case pv.Task == "" && hasRes:
 			pv.Verdict = VerdictFailedOnNode

@@ -68,10 +68,10 @@ func (r *run) harvest() bool {
 	for _, k := range sortedKeys(r.pending) {
 		p := r.pending[k]
 		res, ok := runner.ReadResult(r.scanDir, k, r.fp)
-		if !ok || (res.Status != "done" && res.Attempt != p.task.Attempt) {
+		if !ok || (res.Status != runner.ResultDone && res.Attempt != p.task.Attempt) {
 			continue
 		}
-		if res.Status == "done" && res.Finished.After(res.Started) {
+		if res.Status == runner.ResultDone && res.Finished.After(res.Started) {
 			r.measured = append(r.measured, res.Finished.Sub(res.Started))
 		}
 		delete(r.pending, k)

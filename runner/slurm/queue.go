@@ -315,7 +315,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 			if err := r.arrive(t); err != nil {
 				// Nothing was submitted for t: it fails (and is retried
 				// while attempts last); the run goes on.
-				out <- runner.Completion{Task: t, Result: r.failure(t, "submit", false, err.Error())}
+				out <- runner.Completion{Task: t, Result: r.failure(t, runner.ClassSubmit, false, err.Error())}
 			}
 			if len(r.pending) > 0 {
 				armPoll(true)
@@ -392,7 +392,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 func (r *run) leave() {
 	for _, k := range sortedKeys(r.pending) {
 		t := r.pending[k].task
-		if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && res.Status == "done" {
+		if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && res.Status == runner.ResultDone {
 			r.out <- runner.Completion{Task: t, Result: res} // finished meanwhile
 			continue
 		}
@@ -435,7 +435,7 @@ func (r *run) arrive(t runner.Task) error {
 			r.policy = r.policy.WithoutAccounting(lim.MinJobAge)
 		}
 	}
-	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == "done" {
+	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == runner.ResultDone {
 		r.out <- runner.Completion{Task: t, Result: res, Reused: true}
 		return nil
 	}
@@ -454,7 +454,7 @@ func (r *run) arrive(t runner.Task) error {
 	}
 	// A task of an earlier run may have finished the point since the first
 	// look (for example while the listing ran).
-	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == "done" {
+	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == runner.ResultDone {
 		r.out <- runner.Completion{Task: t, Result: res, Reused: true}
 		return nil
 	}
@@ -573,19 +573,19 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 	res := r.resources(ts)
 	spec := ScriptSpec{JobName: r.jobName, Token: token, Tasks: len(m.Tasks), Throttle: r.q.throttle(),
 		JobDir: jobDir, Worker: []string{r.q.Binary, NodeSubcommand}, Resources: res}
-	fail := func(class string, permanent bool, err error) {
+	fail := func(class runner.FailureClass, permanent bool, err error) {
 		for _, t := range ts {
 			r.out <- runner.Completion{Task: t, Result: r.failure(t, class, permanent, err.Error())}
 		}
 	}
 	script, err := PrepareJob(prof, spec, m)
 	if err != nil {
-		fail("submit", true, err)
+		fail(runner.ClassSubmit, true, err)
 		return
 	}
 	mb, _ := json.MarshalIndent(meta, "", "  ")
 	if err := WriteResultAtomic(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
-		fail("io", false, err)
+		fail(runner.ClassIO, false, err)
 		return
 	}
 	submitted := r.now()
@@ -593,7 +593,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 	if err != nil {
 		var se *SubmitError
 		if errors.As(err, &se) && se.Kind == SubmitRejected {
-			fail("submit-rejected", true, err)
+			fail(runner.ClassSubmitRejected, true, err)
 			return
 		}
 		if r.ctx.Err() != nil {
@@ -608,7 +608,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 		// token once before giving up on this submission.
 		id = r.findToken(token)
 		if id == "" {
-			fail("submit", false, err)
+			fail(runner.ClassSubmit, false, err)
 			return
 		}
 	}
@@ -638,10 +638,10 @@ func (r *run) findToken(token string) string {
 }
 
 // failure is a failed Result for t made by the queue (not by the node).
-func (r *run) failure(t runner.Task, class string, permanent bool, msg string) runner.Result {
+func (r *run) failure(t runner.Task, class runner.FailureClass, permanent bool, msg string) runner.Result {
 	now := r.now()
 	host, _ := os.Hostname()
-	return runner.Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Status: "failed", Class: class,
+	return runner.Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Status: runner.ResultFailed, Class: class,
 		Error: msg, Permanent: permanent, Backend: "slurm", Host: host, PID: os.Getpid(), Started: now, Finished: now}
 }
 
@@ -686,8 +686,8 @@ func (r *run) cycle() bool {
 			if p == nil || p.ref != ref {
 				continue // not (or no longer) ours in this task
 			}
-			if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && (res.Status == "done" || res.Attempt == p.task.Attempt) {
-				if res.Status == "done" && res.Finished.After(res.Started) {
+			if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && (res.Status == runner.ResultDone || res.Attempt == p.task.Attempt) {
+				if res.Status == runner.ResultDone && res.Finished.After(res.Started) {
 					r.measured = append(r.measured, res.Finished.Sub(res.Started))
 				}
 				delete(r.pending, k)
@@ -755,17 +755,17 @@ func (r *run) decide(t runner.Task, class Class, st TaskStatus, ref TaskRef) run
 			r.q.count(func(s *QueueStats) { s.InfraRetries++ })
 			return runner.Completion{Task: t, Interrupted: true}
 		}
-		return runner.Completion{Task: t, Result: r.failure(t, "lost", false, msg)}
+		return runner.Completion{Task: t, Result: r.failure(t, runner.ClassLost, false, msg)}
 	case ClassTimeout, ClassOutOfMemory:
 		if d.Retry {
 			ks.budget, ks.res = d.Used, d.Resources
 			return runner.Completion{Task: t, Interrupted: true}
 		}
-		return runner.Completion{Task: t, Result: r.failure(t, map[Class]string{ClassTimeout: "timeout", ClassOutOfMemory: "out-of-memory"}[class], true, msg)}
+		return runner.Completion{Task: t, Result: r.failure(t, map[Class]runner.FailureClass{ClassTimeout: runner.ClassTimeout, ClassOutOfMemory: runner.ClassOutOfMemory}[class], true, msg)}
 	case ClassCancelled:
-		return runner.Completion{Task: t, Result: r.failure(t, "cancelled", true, msg)}
+		return runner.Completion{Task: t, Result: r.failure(t, runner.ClassCancelled, true, msg)}
 	}
-	return runner.Completion{Task: t, Result: r.failure(t, "task-failed", false, msg)}
+	return runner.Completion{Task: t, Result: r.failure(t, runner.ClassTaskFailed, false, msg)}
 }
 
 func nonEmpty(a, b string) string {

@@ -257,7 +257,7 @@ func TestQueue_Run_FaultClasses(t *testing.T) {
 		first        string
 		wantState    runner.State
 		wantAttempts int
-		wantClass    string
+		wantClass    runner.FailureClass
 		wantSubs     int
 	}{
 		// Infrastructure: retried unchanged, no attempt used.
