@@ -90,18 +90,63 @@ type Completion struct {
 	LeftRunning bool
 }
 
-// Worker runs one task to completion, writing its result file. Queues
-// call it (in process) or arrange for its equivalent to run elsewhere.
+// Worker runs one task to completion in this process, writing its result
+// file: what a [Pool] calls for each task.
 type Worker func(ctx context.Context, t Task) Completion
 
-// Queue runs tasks. Run reads tasks from in until in is closed, runs each
-// with w and sends exactly one Completion per task on out; it returns once
-// every task it took has completed. When ctx is cancelled it stops taking
-// new work; tasks in flight end early with Interrupted set. Run must not
-// close out.
+// Queue is where a scan's points run. A queue is one of two kinds and
+// implements exactly one of their interfaces: a [Pool] runs tasks in this
+// process with the runner's own worker; a [Batch] hands them to a system
+// that computes them elsewhere and may outlive this process. [Runner.Run]
+// refuses a queue that is neither.
 type Queue interface {
+	// Name names the queue in events and messages ("local", "slurm").
 	Name() string
 	// Slots is how many tasks may run at once.
 	Slots() int
-	Run(ctx context.Context, w Worker, in <-chan Task, out chan<- Completion) error
+}
+
+// Pool is a queue whose workers run tasks in this process (runner/local),
+// one per free worker: the round loop then orders the points for the
+// continuation guess and may hold a worker back until a first point is
+// done.
+type Pool interface {
+	Queue
+	// Run reads tasks from in until in is closed, runs each with compute
+	// and sends exactly one Completion per task on out; it returns once
+	// every task it took has completed. When ctx is cancelled it stops
+	// taking new work; tasks in flight end early with Interrupted set.
+	// Run must not close out.
+	Run(ctx context.Context, compute Worker, in <-chan Task, out chan<- Completion) error
+}
+
+// Batch is a queue that hands tasks to a system that computes them
+// elsewhere (a batch scheduler whose compute nodes call [ComputePoint])
+// and keeps running them after this process stops.
+type Batch interface {
+	Queue
+	// Submit reads tasks from in until in is closed, has each computed
+	// elsewhere and sends exactly one Completion per task on out (its
+	// result, a failure of the queue's own, or Interrupted for a task to
+	// plan again without using an attempt); it returns once every task it
+	// took has completed. When ctx is cancelled, or with opts.Detach once
+	// in is closed, it stops watching instead: tasks the batch system has
+	// go back with LeftRunning set, the others Interrupted. Submit must
+	// not close out.
+	Submit(ctx context.Context, in <-chan Task, out chan<- Completion, opts BatchOptions) error
+	// DetachNote says what an interrupted run leaves with the batch
+	// system: that the tasks go on, and how to see and cancel them.
+	DetachNote() string
+}
+
+// BatchOptions are what the round loop tells a [Batch] for one Submit.
+type BatchOptions struct {
+	// Detach: once in is closed, submit what is gathered and return at
+	// once, every task in flight as LeftRunning ([Runner.Detach]).
+	Detach bool
+	// Notice, if not nil, is told what the user should hear of while tasks
+	// run (the scheduler stops answering, and answers again); the round
+	// loop passes each message on as an [EventNotice]. It may be called
+	// from the queue's goroutine and never blocks.
+	Notice func(msg string)
 }

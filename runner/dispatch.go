@@ -10,7 +10,7 @@ import (
 // dispatcher decides which planned point goes to the next free worker.
 // Continuation works best when a point starts from a done neighbour one
 // step away, so on a queue that runs points in this process's workers
-// (InProcessQueue) points are handed out by the squared distance to their
+// (a Pool) points are handed out by the squared distance to their
 // nearest done point with orbitals (smallest first, then round, then
 // coordinate order). A round with nothing done starts from the planned
 // point nearest the middle of all planned points; with one or two slots
@@ -54,20 +54,12 @@ type ContinuationBackend interface {
 	UsesGuess() bool
 }
 
-// InProcessQueue is implemented by queues whose workers run tasks in this
-// process, one per free worker (runner/local): the round loop then orders
-// the points for the continuation guess and may hold a worker back until
-// a first point is done.
-type InProcessQueue interface {
-	InProcess() bool
-}
-
 func newDispatcher(r *scanRun) *dispatcher {
 	d := &dispatcher{r: r, key: map[string]float64{}, planned: map[string]*PointRecord{},
 		running: map[string]*PointRecord{}, prepared: map[string]Task{}}
-	q, ok := r.Queue.(InProcessQueue)
+	_, pool := r.Queue.(Pool)
 	cb, cont := r.Backend.(ContinuationBackend)
-	d.plain = !ok || !q.InProcess() || !cont || !cb.UsesGuess() || r.Spec.Engine.Guess == "fresh"
+	d.plain = !pool || !cont || !cb.UsesGuess() || r.Spec.Engine.Guess == "fresh"
 	d.wait = r.Queue.Slots() <= 2
 	for _, rec := range r.recs {
 		if rec.State == Done {

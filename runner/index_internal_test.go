@@ -95,13 +95,12 @@ func TestCoordTree_LineNext(t *testing.T) {
 	}
 }
 
-// inProcessQueue is a queue stand-in with slots and the in-process mark;
-// the dispatcher tests never run it.
+// inProcessQueue is a Pool stand-in with slots; the dispatcher tests
+// never run it.
 type inProcessQueue struct{ slots int }
 
-func (q inProcessQueue) Name() string    { return "test" }
-func (q inProcessQueue) Slots() int      { return q.slots }
-func (q inProcessQueue) InProcess() bool { return true }
+func (q inProcessQueue) Name() string { return "test" }
+func (q inProcessQueue) Slots() int   { return q.slots }
 func (q inProcessQueue) Run(context.Context, Worker, <-chan Task, chan<- Completion) error {
 	return nil
 }

@@ -120,6 +120,10 @@ const (
 	EventWarning EventKind = "warning"
 	// EventRebuild: the store was rebuilt from the result files.
 	EventRebuild EventKind = "rebuild"
+	// EventNotice: a message from the queue while points run (a
+	// scheduler that stopped answering, and answers again). Observers get
+	// it; the store's log does not keep it.
+	EventNotice EventKind = "notice"
 )
 
 // Progress is a count of the scan's points at one moment.

@@ -32,10 +32,11 @@ type Runner struct {
 	CPUs int
 	// Detach makes Run return as soon as every planned point of the
 	// current round has been handed to the queue, instead of waiting for
-	// them: a queue whose tasks outlive this process (a batch scheduler)
-	// returns them as LeftRunning, the store keeps them submitted, and a
-	// later Run picks up their results and goes on with refinement. Run
-	// then reports Summary.Detached.
+	// them: a [Batch] queue returns them as LeftRunning
+	// ([BatchOptions.Detach]), the store keeps them submitted, and a later
+	// Run picks up their results and goes on with refinement. Run then
+	// reports Summary.Detached. A [Pool] computes the points it was handed
+	// before Run returns.
 	Detach bool
 }
 
@@ -60,6 +61,9 @@ type Summary struct {
 	// Detached is true when Run returned with points left running on the
 	// queue (Runner.Detach); Status then describes the last finished round.
 	Detached bool
+	// QueueNote, after an interrupted run on a [Batch] queue, says what
+	// the run left with the batch system ([Batch.DetachNote]); "" otherwise.
+	QueueNote string
 	// Points are every point's record at the end of the run (internal
 	// units), so that the closing analysis reads nothing again.
 	Points []PointRecord
@@ -93,39 +97,17 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 // refinement adds nothing, a detached round has been handed over, or the
 // run is interrupted, and stops the queue.
 func (r *scanRun) loop(ctx context.Context) (Summary, error) {
-	in := make(chan Task)
-	// Unbuffered: a worker cannot take a new task before its completion is
-	// ingested, so every task is built knowing every finished point (the
-	// continuation guess picks the nearest done neighbour).
-	out := make(chan Completion)
-	qerr := make(chan error, 1)
-	go func() { qerr <- r.Queue.Run(ctx, r.work, in, out) }()
-	stopQueue := func() error {
-		close(in)
-		for {
-			select {
-			case c := <-out:
-				r.ingest(c)
-			case err := <-qerr:
-				for {
-					select {
-					case c := <-out:
-						r.ingest(c)
-					default:
-						return err
-					}
-				}
-			}
-		}
+	q, err := r.startQueue(ctx)
+	if err != nil {
+		return Summary{}, err
 	}
-
 	for {
-		err := r.runRound(ctx, in, out)
+		err := r.runRound(ctx, q)
 		if errors.Is(err, errDetach) {
-			return r.detached(stopQueue())
+			return r.detached(r.stopQueue(q))
 		}
 		if err != nil {
-			return r.interrupted(err, stopQueue())
+			return r.interrupted(err, r.stopQueue(q))
 		}
 		if r.checkJumps() > 0 {
 			continue // recompute the rejected points before refining
@@ -138,7 +120,7 @@ func (r *scanRun) loop(ctx context.Context) (Summary, error) {
 		}
 		r.warnOnce("backup", r.Store.Backup(DBFile+".bak"))
 	}
-	return r.finished(stopQueue())
+	return r.finished(r.stopQueue(q))
 }
 
 // refine ends the current round: it records the refinement plan and, when
@@ -188,7 +170,11 @@ func (r *scanRun) interrupted(err, qe error) (Summary, error) {
 	}
 	_ = r.flush()
 	r.snapshot("interrupted")
-	return r.summary(), errors.Join(fmt.Errorf("runner: %w", err), qe, ferr)
+	sum := r.summary()
+	if b, ok := r.Queue.(Batch); ok {
+		sum.QueueNote = b.DetachNote()
+	}
+	return sum, errors.Join(fmt.Errorf("runner: %w", err), qe, ferr)
 }
 
 // finished ends a run whose refinement is over; qe is the queue's error.
@@ -213,7 +199,7 @@ func (r *scanRun) finished(qe error) (Summary, error) {
 
 // runRound dispatches planned points until none is planned or in flight,
 // in the order the dispatcher chooses (dispatch.go).
-func (r *scanRun) runRound(ctx context.Context, in chan<- Task, out <-chan Completion) error {
+func (r *scanRun) runRound(ctx context.Context, q *queueRun) error {
 	queue := newDispatcher(r)
 	inflight := 0
 	var next *Task
@@ -252,7 +238,7 @@ func (r *scanRun) runRound(ctx context.Context, in chan<- Task, out <-chan Compl
 		var send chan<- Task
 		var nv Task // the send expression is evaluated even when send is nil
 		if next != nil {
-			send, nv = in, *next
+			send, nv = q.in, *next
 		}
 		dispatched := func() {
 			rec := nextRec
@@ -282,11 +268,14 @@ func (r *scanRun) runRound(ctx context.Context, in chan<- Task, out <-chan Compl
 		case send <- nv:
 			dispatched()
 			continue
-		case c := <-out:
+		case c := <-q.out:
 			completed(c)
 			if err := r.sameFailureStop(c); err != nil {
 				return err
 			}
+			continue
+		case msg := <-q.notices:
+			r.notice(msg)
 			continue
 		default:
 		}
@@ -312,9 +301,11 @@ func (r *scanRun) runRound(ctx context.Context, in chan<- Task, out <-chan Compl
 			err = r.flush()
 		case send <- nv:
 			dispatched()
-		case c := <-out:
+		case c := <-q.out:
 			completed(c)
 			err = r.sameFailureStop(c)
+		case msg := <-q.notices:
+			r.notice(msg)
 		case <-tick.C:
 			r.snapshotRunning()
 		case <-ctx.Done():

@@ -55,6 +55,9 @@ type scanRun struct {
 // store's records.
 func newScanRun(cfg Runner) (*scanRun, error) {
 	r := &scanRun{Runner: cfg}
+	if err := checkQueue(r.Queue); err != nil {
+		return nil, err
+	}
 	if r.Now == nil {
 		r.Now = time.Now
 	}

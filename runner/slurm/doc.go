@@ -36,7 +36,7 @@
 //     halves of the result-file protocol: a result file decides success,
 //     whatever the scheduler says.
 //
-// On top of these, [Queue] is the round loop's [runner.Queue] for
+// On top of these, [Queue] is the round loop's [runner.Batch] for
 // `[queue] kind = "slurm"`: it packs the points it receives into job
 // arrays ([Config.PointsPerTask] per task), writes jobs/<token>/ (script,
 // manifest, job.json) before sbatch runs, polls with one batched status
@@ -66,6 +66,6 @@
 //
 // [Client] and [Profile] values are safe for concurrent use once built. A
 // [Poller] keeps state between cycles and must be used by one goroutine.
-// [Queue.Run] runs in one goroutine (no goroutines of its own); call it
+// [Queue.Submit] runs in one goroutine (no goroutines of its own); call it
 // once at a time per Queue. [Queue.Stats] may be called at any time.
 package slurm

@@ -59,8 +59,8 @@ type QueueStats struct {
 	InfraRetries int // points sent back without using an attempt
 }
 
-// Queue runs a scan's points as Slurm job arrays. It implements
-// [runner.Queue]. It never opens the scan's store: the result files decide.
+// Queue runs a scan's points as Slurm job arrays: a [runner.Batch]. It
+// never opens the scan's store: the result files decide.
 //
 // Each batch of tasks the round loop hands over (tasks arriving within
 // Gather of each other) becomes one array (split at MaxArraySize) whose
@@ -81,8 +81,14 @@ type QueueStats struct {
 //   - FAILED, DEADLINE: a failure of class "task-failed" (uses an attempt).
 //   - CANCELLED: a permanent failure of class "cancelled" (not retried).
 //
-// On cancellation it stops polling, leaves the jobs running and returns
-// every point in flight as interrupted. A later Run adopts the live tasks
+// On cancellation it stops polling, leaves the jobs running, returns the
+// points already submitted as left running ([runner.Completion.LeftRunning])
+// and those not yet submitted as interrupted; with
+// [runner.BatchOptions.Detach] it submits what it gathered and returns
+// every point as left running as soon as the round loop has handed over
+// its tasks. When the status command starts failing, and
+// when it answers again, it tells [runner.BatchOptions.Notice]; the points
+// are judged by their result files meanwhile. A later Run adopts the live tasks
 // of earlier submissions (found by their token in one status listing)
 // instead of submitting their points again.
 type Queue struct {
@@ -100,19 +106,13 @@ type Queue struct {
 	Gather time.Duration
 	// Now is the clock; nil means time.Now.
 	Now func() time.Time
-	// OnNotice, if set, is told (from the queue's goroutine) when the
-	// status command starts failing and when it answers again; the points
-	// are judged by their result files meanwhile.
-	OnNotice func(msg string)
-	// Detach: once the round loop has handed over its tasks (closed in),
-	// submit what is gathered and return at once, every point in flight
-	// as LeftRunning, instead of polling until the tasks end.
-	Detach bool
 
 	mu      sync.Mutex
 	stats   QueueStats
 	jobName string
 }
+
+var _ runner.Batch = (*Queue)(nil)
 
 // DefaultGather is the default Queue.Gather: the round loop hands over a
 // round's points within microseconds of each other, so 100 ms gathers a
@@ -152,9 +152,6 @@ func (q *Queue) Name() string {
 	}
 	return "slurm"
 }
-
-// SetDetach sets Detach (see there) before Run starts.
-func (q *Queue) SetDetach(on bool) { q.Detach = on }
 
 // Slots implements runner.Queue: the array throttle times the packing
 // (the configured one, or the default before anything is measured).
@@ -201,9 +198,10 @@ type keyState struct {
 	res    Resources // escalated resources; zero: the config's
 }
 
-// run is the state of one Queue.Run.
+// run is the state of one Queue.Submit.
 type run struct {
 	q       *Queue
+	opts    runner.BatchOptions
 	ctx     context.Context
 	out     chan<- runner.Completion
 	now     func() time.Time
@@ -229,8 +227,8 @@ type run struct {
 	measured     []time.Duration // compute time of points finished in this run
 }
 
-// Run implements runner.Queue.
-func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task, out chan<- runner.Completion) error {
+// Submit implements runner.Batch.
+func (q *Queue) Submit(ctx context.Context, in <-chan runner.Task, out chan<- runner.Completion, opts runner.BatchOptions) error {
 	if q.Spec == nil || q.Client == nil || q.Binary == "" {
 		return errors.New("slurm: Queue needs Spec, Client and Binary (use NewQueue)")
 	}
@@ -245,7 +243,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 	if gather == 0 {
 		gather = DefaultGather
 	}
-	r := &run{q: q, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.Spec),
+	r := &run{q: q, opts: opts, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.Spec),
 		adoptable: map[string]TaskRef{}, endedEarlier: map[string]PointTask{}, byRef: map[TaskRef][]string{}, pending: map[string]*inflight{},
 		ended: map[TaskRef]time.Time{}, keys: map[string]*keyState{}, maxArr: 1000, policy: q.Policy}
 
@@ -299,7 +297,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 		case t, ok := <-in:
 			if !ok {
 				in = nil
-				if q.Detach {
+				if opts.Detach {
 					if gatherT != nil {
 						gatherT.Stop()
 						gatherT, gatherC = nil, nil
@@ -653,12 +651,12 @@ func (r *run) cycle() bool {
 	switch {
 	case err != nil && r.ctx.Err() == nil:
 		r.failing++
-		if r.failing == 1 && r.q.OnNotice != nil {
-			r.q.OnNotice(fmt.Sprintf("%s does not answer (%v); points are judged by their result files until it does, polling less often", DisplayName(r.q.Name()), err))
+		if r.failing == 1 && r.opts.Notice != nil {
+			r.opts.Notice(fmt.Sprintf("%s does not answer (%v); points are judged by their result files until it does, polling less often", DisplayName(r.q.Name()), err))
 		}
 	case err == nil && r.failing > 0:
-		if r.q.OnNotice != nil {
-			r.q.OnNotice(fmt.Sprintf("%s answers again after %d failed poll(s)", DisplayName(r.q.Name()), r.failing))
+		if r.opts.Notice != nil {
+			r.opts.Notice(fmt.Sprintf("%s answers again after %d failed poll(s)", DisplayName(r.q.Name()), r.failing))
 		}
 		r.failing = 0
 	}
@@ -775,8 +773,8 @@ func nonEmpty(a, b string) string {
 	return b
 }
 
-// DetachNote says what an interrupted attached run leaves behind: the
-// jobs keep running, and how to cancel them. "" before Run has started.
+// DetachNote implements runner.Batch: what an interrupted attached run
+// leaves behind (the jobs keep running) and how to cancel them.
 func (q *Queue) DetachNote() string {
 	q.mu.Lock()
 	name := q.jobName

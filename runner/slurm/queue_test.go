@@ -163,6 +163,8 @@ type fakeRun struct {
 	recs  map[string]runner.PointRecord
 	stats QueueStats
 	fake  *fakeSlurm
+	// notices are the messages of the runner's notice events.
+	notices []string
 }
 
 func runFake(t *testing.T, fate func(sub, index int) string) fakeRun {
@@ -195,7 +197,6 @@ func runFakeIn(t *testing.T, dir string, fake Runner, detach bool, opts ...func(
 	q.Client = mustClient(t, q.Client.Profile(), fake)
 	q.Binary = "/nonexistent/wellscan" // the fake runs the node side in process
 	q.Gather = 20 * time.Millisecond
-	q.Detach = detach
 	for _, o := range opts {
 		o(q)
 	}
@@ -210,8 +211,13 @@ func runFakeIn(t *testing.T, dir string, fake Runner, detach bool, opts ...func(
 	defer st.Close()
 	ctx, cancel := context.WithTimeout(t.Context(), 30*time.Second)
 	defer cancel()
-	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: q, Detach: detach}
 	fr := fakeRun{}
+	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: q, Detach: detach,
+		OnEvent: func(e runner.Event) {
+			if e.Kind == runner.EventNotice {
+				fr.notices = append(fr.notices, e.Message)
+			}
+		}}
 	fr.fake, _ = fake.(*fakeSlurm)
 	fr.sum, fr.err = r.Run(ctx)
 	recs, err := st.Points()
@@ -628,13 +634,12 @@ func TestQueue_Detach_EndedWhileDetached(t *testing.T) {
 }
 
 // A controller that stops answering for a while: the run says so once,
-// says when it answers again, and finishes with every point done once.
+// says when it answers again (both as notice events of the runner), and
+// finishes with every point done once.
 func TestQueue_Run_SchedulerUnreachableNoticed(t *testing.T) {
 	fake := &fakeSlurm{t: t, fate: func(int, int) string { return "COMPLETED" }, down: 3}
-	var notices []string
-	fr := runFakeIn(t, fakeScanDir(t), fake, false, func(q *Queue) {
-		q.OnNotice = func(m string) { notices = append(notices, m) }
-	})
+	fr := runFakeIn(t, fakeScanDir(t), fake, false)
+	notices := fr.notices
 	if fr.err != nil {
 		t.Fatal(fr.err)
 	}
