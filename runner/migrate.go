@@ -1,9 +1,9 @@
 package runner
 
 import (
-	"encoding/json"
 	"fmt"
 	"math"
+	"runtime/debug"
 	"sort"
 
 	bolt "go.etcd.io/bbolt"
@@ -15,7 +15,8 @@ import (
 // why, in one transaction (so a crash cannot lose a record between the
 // two). Used when points are folded onto canonical keys; the point
 // directories stay on disk.
-func (s *Store) Rekey(put []PointRecord, del []string, events []Event) error {
+func (s *Store) Rekey(put []PointRecord, del []string, events []Event) (err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
 	return s.db.Update(func(tx *bolt.Tx) error {
 		pb := tx.Bucket(bucketPoints)
 		for _, k := range del {
@@ -23,32 +24,10 @@ func (s *Store) Rekey(put []PointRecord, del []string, events []Event) error {
 				return err
 			}
 		}
-		for _, r := range put {
-			r.V = recordVersion
-			b, err := json.Marshal(r)
-			if err != nil {
-				return err
-			}
-			if err := pb.Put([]byte(r.Key), b); err != nil {
-				return err
-			}
+		if err := putRecords(pb, put); err != nil {
+			return err
 		}
-		eb := tx.Bucket(bucketEvents)
-		for i := range events {
-			seq, err := eb.NextSequence()
-			if err != nil {
-				return err
-			}
-			events[i].Seq = seq
-			b, err := json.Marshal(events[i])
-			if err != nil {
-				return err
-			}
-			if err := eb.Put(u64(seq), b); err != nil {
-				return err
-			}
-		}
-		return nil
+		return appendEvents(tx.Bucket(bucketEvents), events)
 	})
 }
 

@@ -369,18 +369,10 @@ func (s *Store) Commit(recs []PointRecord, rounds []RoundRecord, events []Event)
 		return nil
 	}
 	return s.db.Update(func(tx *bolt.Tx) error {
-		pb, rb, eb := tx.Bucket(bucketPoints), tx.Bucket(bucketRounds), tx.Bucket(bucketEvents)
-		for _, r := range recs {
-			r.V = recordVersion
-			r.Sum = recordSum(r)
-			b, err := json.Marshal(r)
-			if err != nil {
-				return err
-			}
-			if err := pb.Put([]byte(r.Key), b); err != nil {
-				return err
-			}
+		if err := putRecords(tx.Bucket(bucketPoints), recs); err != nil {
+			return err
 		}
+		rb := tx.Bucket(bucketRounds)
 		for _, r := range rounds {
 			r.V = recordVersion
 			b, err := json.Marshal(r)
@@ -391,22 +383,44 @@ func (s *Store) Commit(recs []PointRecord, rounds []RoundRecord, events []Event)
 				return err
 			}
 		}
-		for i := range events {
-			seq, err := eb.NextSequence()
-			if err != nil {
-				return err
-			}
-			events[i].Seq = seq
-			b, err := json.Marshal(events[i])
-			if err != nil {
-				return err
-			}
-			if err := eb.Put(u64(seq), b); err != nil {
-				return err
-			}
-		}
-		return nil
+		return appendEvents(tx.Bucket(bucketEvents), events)
 	})
+}
+
+// putRecords writes point records with their version and checksum.
+func putRecords(pb *bolt.Bucket, recs []PointRecord) error {
+	for _, r := range recs {
+		r.V = recordVersion
+		r.Sum = recordSum(r)
+		b, err := json.Marshal(r)
+		if err != nil {
+			return err
+		}
+		if err := pb.Put([]byte(r.Key), b); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// appendEvents appends events to the log, giving each its sequence
+// number.
+func appendEvents(eb *bolt.Bucket, events []Event) error {
+	for i := range events {
+		seq, err := eb.NextSequence()
+		if err != nil {
+			return err
+		}
+		events[i].Seq = seq
+		b, err := json.Marshal(events[i])
+		if err != nil {
+			return err
+		}
+		if err := eb.Put(u64(seq), b); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 func u64(v uint64) []byte {
