@@ -40,28 +40,52 @@ type LinePoint struct {
 	At   float64
 }
 
-// Outcome is what a backend computed for one point. A calculation that
-// ran but did not converge is an Outcome with Converged false and a Class,
+// Outcome is what a backend computed for one point, and the part of a
+// [Result] (the point's result file) that says so. A calculation that ran
+// but did not converge is an Outcome with Converged false and a Class,
 // not an error.
 type Outcome struct {
-	Energy     float64 // hartree
-	Converged  bool
-	Iterations int
-	SSquared   *float64 // ⟨S²⟩ for unrestricted methods
-	// OrbitalsPath is a file (absolute, or relative to Task.Dir) that a
-	// later neighbour may start from; "" if none.
-	OrbitalsPath string
-	Extra        map[string]float64
-	// Class names the failure when Converged is false ("not-converged",
-	// …); empty on success.
-	Class FailureClass
-	// Detail explains a failure (the error text, with the end of the
-	// program's output where there is one).
-	Detail string
+	Energy     float64  `json:"energy_hartree"` // hartree
+	Converged  bool     `json:"converged"`
+	Iterations int      `json:"iterations,omitempty"`
+	SSquared   *float64 `json:"s_squared,omitempty"` // ⟨S²⟩ for unrestricted methods
+	// Orbitals is a file that a later neighbour may start from; "" if
+	// none. A backend may give it absolute or relative to Task.Dir (the
+	// point directory); a Result holds it relative to the point directory.
+	Orbitals string `json:"orbitals,omitempty"`
+	// Extra holds further numbers of the calculation, by name (each name
+	// carries its unit: "dipole_x_e_bohr", "mp2_correlation_hartree").
+	Extra map[string]float64 `json:"extra,omitempty"`
+	// Class names the failure when Converged is false; empty on success.
+	Class FailureClass `json:"class,omitempty"`
+	// Error explains a failure (the error text, with the end of the
+	// program's output where there is one). In a Result it starts with
+	// the backend's name.
+	Error string `json:"error,omitempty"`
 	// Permanent marks a failure that would come back the same way on
 	// another try (a missing program, an energy that is not in the
 	// output): the point is not retried.
-	Permanent bool
+	Permanent bool `json:"permanent,omitempty"`
+	// Flags are yes/no facts about how the point was computed.
+	Flags PointFlags `json:"flags,omitzero"`
+}
+
+// PointFlags are yes/no facts a backend reports about how it computed a
+// point; the zero value says nothing happened that a flag names.
+type PointFlags struct {
+	// FromNeighbour: the calculation started from a done neighbour (its
+	// orbitals, or for a relaxed point its relaxed geometry and Hessian)
+	// and kept that start.
+	FromNeighbour bool `json:"from_neighbour,omitempty"`
+	// GuessReplaced: a cold start run beside the neighbour's reached a
+	// lower state and replaced it (the built-in engine's cold check).
+	GuessReplaced bool `json:"guess_replaced,omitempty"`
+	// Relaxed: the geometry was optimised with the scanned coordinates
+	// held (a relaxed scan).
+	Relaxed bool `json:"relaxed,omitempty"`
+	// GradientsRead: the relaxation read its gradients from the program's
+	// output rather than by finite differences of energies.
+	GradientsRead bool `json:"gradients_read,omitempty"`
 }
 
 // Backend computes the energy of one point. Compute must honour ctx

@@ -107,37 +107,31 @@ func (r pointComputer) computeSafely(ctx context.Context, t Task) (out Outcome, 
 	return r.backend.Compute(ctx, t)
 }
 
-func (r pointComputer) base(t Task, start time.Time) Result {
-	return Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Backend: r.backend.Name(),
-		Host: r.host, PID: os.Getpid(), Started: start, Finished: r.now()}
-}
-
 func (r pointComputer) failure(t Task, start time.Time, class FailureClass, err error) Result {
-	res := r.base(t, start)
-	res.Status, res.Class, res.Error = ResultFailed, class, err.Error()
-	return res
+	return failedResult(t, r.fp, r.backend.Name(), r.host, class, false, err.Error(), start, r.now())
 }
 
+// resultOf is the Result of task t whose backend returned o: done when o
+// converged to a finite energy, otherwise failed with o's class (or
+// ClassNotConverged) and an error that names the backend.
 func (r pointComputer) resultOf(t Task, start time.Time, o Outcome) Result {
-	res := r.base(t, start)
-	res.Energy, res.Converged, res.Iterations, res.SSquared, res.Extra = o.Energy, o.Converged, o.Iterations, o.SSquared, o.Extra
-	if o.OrbitalsPath != "" {
-		res.Orbitals = orbitalsRel(t.Dir, o.OrbitalsPath)
+	res := Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Outcome: o, Backend: r.backend.Name(),
+		Host: r.host, PID: os.Getpid(), Started: start, Finished: r.now()}
+	if o.Orbitals != "" {
+		res.Orbitals = orbitalsRel(t.Dir, o.Orbitals)
 	}
 	if o.Converged && !math.IsNaN(o.Energy) && !math.IsInf(o.Energy, 0) {
 		res.Status = ResultDone
-	} else {
-		res.Status, res.Class = ResultFailed, o.Class
-		if res.Class == "" {
-			res.Class = ClassNotConverged
-		}
-		res.Error = fmt.Sprintf("backend %s: %s", r.backend.Name(), res.Class)
-		if o.Detail != "" { // the class is in res.Class: not twice in the text
-			res.Error = fmt.Sprintf("backend %s: %s", r.backend.Name(), o.Detail)
-		}
-		if o.Permanent {
-			res.Permanent = true
-		}
+		res.Class, res.Error, res.Permanent = "", "", false
+		return res
+	}
+	res.Status = ResultFailed
+	if res.Class == "" {
+		res.Class = ClassNotConverged
+	}
+	res.Error = fmt.Sprintf("backend %s: %s", r.backend.Name(), res.Class)
+	if o.Error != "" { // the class is in res.Class: not twice in the text
+		res.Error = fmt.Sprintf("backend %s: %s", r.backend.Name(), o.Error)
 	}
 	return res
 }

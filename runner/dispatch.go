@@ -47,7 +47,7 @@ type dispatcher struct {
 
 // ContinuationBackend is implemented by backends that start a point from
 // the orbitals of a done neighbour (Task.GuessPath) and leave their own
-// for the next (Outcome.OrbitalsPath); UsesGuess reports whether this one
+// for the next (Outcome.Orbitals); UsesGuess reports whether this one
 // does (a spec can turn the guess off). The round loop orders points for
 // continuation only for such backends; others get plain order.
 type ContinuationBackend interface {

@@ -2,10 +2,13 @@ package runner
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"os"
 	"path/filepath"
 	"testing"
+	"time"
+	"wellscan/planner"
 )
 
 // TestFormat_ResultFilesOfEarlierVersion reads result files written before
@@ -90,5 +93,60 @@ func TestFormat_RecordsOfEarlierVersion(t *testing.T) {
 	got, _ := json.Marshal(ev)
 	if !bytes.Equal(append(got, '\n'), want) {
 		t.Errorf("re-encoded event differs:\n%s\nwant\n%s", got, want)
+	}
+}
+
+// flagBackend returns a fixed Outcome.
+type flagBackend struct{ o Outcome }
+
+func (b flagBackend) Name() string { return "flags" }
+func (b flagBackend) Compute(context.Context, Task) (Outcome, error) {
+	return b.o, nil
+}
+
+// TestResult_OutcomeToRecord follows one Outcome through its only
+// conversions: into the result file (orbitals made relative to the point
+// directory, the flags kept) and into the store's record; a failure's
+// error names the backend.
+func TestResult_OutcomeToRecord(t *testing.T) {
+	dir := t.TempDir()
+	task := Task{Key: "r=1.000", Dir: PointDir(dir, "r=1.000"), Attempt: 1}
+	s2 := 0.75
+	o := Outcome{Energy: -1.5, Converged: true, Iterations: 7, SSquared: &s2, Orbitals: filepath.Join(task.Dir, "orb.bin"),
+		Extra: map[string]float64{"basis_functions": 10}, Flags: PointFlags{FromNeighbour: true, Relaxed: true},
+		Class: ClassError, Error: "ignored on success"}
+	pc := pointComputer{dir: dir, fp: "fp", backend: flagBackend{o}, now: time.Now, spec: &planner.Spec{}}
+	c := pc.work(t.Context(), task)
+	res, ok := ReadResult(dir, task.Key, "fp")
+	if !ok {
+		t.Fatalf("no result file after work: %+v", c)
+	}
+	if res.Status != ResultDone || res.Orbitals != "orb.bin" || !res.Flags.FromNeighbour || !res.Flags.Relaxed || res.Class != "" || res.Error != "" {
+		t.Errorf("result = %+v, want done, orbitals orb.bin, both flags, no class or error", res)
+	}
+	var rec PointRecord
+	rec.Key = task.Key
+	rec.setDone(res, storedOrbitals(dir, rec.Key, res.Orbitals))
+	if rec.State != Done || *rec.Energy != -1.5 || rec.Iterations != 7 || *rec.SSquared != 0.75 || rec.Flags != res.Flags ||
+		rec.Orbitals != "points/r=1.000/orb.bin" || rec.Extra["basis_functions"] != 10 {
+		t.Errorf("record = %+v, want the result's energy, diagnostics, flags and orbitals points/r=1.000/orb.bin", rec)
+	}
+	back := rec.doneResult("fp", "host", "orb.bin")
+	if back.Outcome.Energy != res.Energy || back.Flags != res.Flags || back.Orbitals != res.Orbitals || back.Status != ResultDone {
+		t.Errorf("doneResult = %+v, want the result's outcome back", back)
+	}
+
+	fail := Outcome{Class: ClassSCFNotConverged, Error: "no convergence after 50 iterations", Permanent: true}
+	pc.backend = flagBackend{fail}
+	task.Key, task.Dir = "r=2.000", PointDir(dir, "r=2.000")
+	c = pc.work(t.Context(), task)
+	if c.Result.Status != ResultFailed || c.Result.Class != ClassSCFNotConverged || !c.Result.Permanent ||
+		c.Result.Error != "backend flags: no convergence after 50 iterations" {
+		t.Errorf("failed result = %+v, want scf-not-converged, permanent, error naming the backend", c.Result)
+	}
+	rec = PointRecord{Key: task.Key}
+	rec.setFailure(c.Result)
+	if rec.Class != ClassSCFNotConverged || rec.LastError != c.Result.Error {
+		t.Errorf("failed record class %q error %q, want the result's", rec.Class, rec.LastError)
 	}
 }

@@ -42,19 +42,13 @@ func (r *scanRun) apply(rec *PointRecord, res Result) {
 		rec.Attempts = res.Attempt
 	}
 	if res.Status == ResultDone {
-		e := res.Energy
-		rec.State, rec.Energy, rec.Converged, rec.Iterations, rec.SSquared, rec.Extra = Done, &e, true, res.Iterations, res.SSquared, res.Extra
-		rec.Class, rec.LastError = "", ""
-		rec.Seconds = res.Finished.Sub(res.Started).Seconds()
-		if res.Orbitals != "" {
-			rec.Orbitals = r.storedOrbitals(rec.Key, res.Orbitals)
-		}
+		rec.setDone(res, storedOrbitals(r.Dir, rec.Key, res.Orbitals))
 		r.indexPoint(rec)
 		r.touch(rec)
-		r.emit(Event{Kind: EventDone, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%.10f hartree", e)})
+		r.emit(Event{Kind: EventDone, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%.10f hartree", res.Energy)})
 		return
 	}
-	rec.Class, rec.LastError = res.Class, res.Error
+	rec.setFailure(res)
 	rec.Permanent = res.Permanent || !retriable(res.Class)
 	if !rec.Permanent && rec.Attempts < r.Spec.Queue.Attempts {
 		rec.State = Planned
@@ -67,14 +61,17 @@ func (r *scanRun) apply(rec *PointRecord, res Result) {
 	r.emit(Event{Kind: EventFailed, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("%s after %d attempts: %s", res.Class, rec.Attempts, res.Error)})
 }
 
-// storedOrbitals turns the orbitals path of key's result file (relative
-// to the point directory; an absolute one from an older writer is
-// accepted) into the store's form: slash-separated, relative to the scan
-// directory.
-func (r *scanRun) storedOrbitals(key, orb string) string {
+// storedOrbitals turns the orbitals path of key's result file in scan dir
+// (relative to the point directory; an absolute one from an older writer
+// is accepted) into the store's form: slash-separated, relative to the
+// scan directory; "" for none.
+func storedOrbitals(dir, key, orb string) string {
+	if orb == "" {
+		return ""
+	}
 	p := filepath.Join(PointsDir, key, orb)
 	if filepath.IsAbs(orb) {
-		if rel, err := filepath.Rel(r.Dir, orb); err == nil {
+		if rel, err := filepath.Rel(dir, orb); err == nil {
 			p = rel
 		}
 	}

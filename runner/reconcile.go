@@ -2,7 +2,6 @@ package runner
 
 import (
 	"fmt"
-	"os"
 	"path/filepath"
 )
 
@@ -89,15 +88,13 @@ func (r *scanRun) restoreResult(rec *PointRecord) {
 		}
 		msg = fmt.Sprintf("%s says %s E = %.10f hartree but the store (checksum intact) says E = %.10f hartree; kept the store's copy and rewrote the file", ResultFile, res.Status, res.Energy, *rec.Energy)
 	}
-	res := Result{Key: rec.Key, Fingerprint: r.fp, Attempt: rec.Attempts, Status: ResultDone, Energy: *rec.Energy,
-		Converged: rec.Converged, Iterations: rec.Iterations, SSquared: rec.SSquared, Extra: rec.Extra,
-		Backend: rec.Backend, Host: r.host, PID: os.Getpid(), Started: rec.Started, Finished: rec.Finished}
+	orb := ""
 	if rec.Orbitals != "" {
 		if rel, err := filepath.Rel(PointDir(r.Dir, rec.Key), filepath.Join(r.Dir, filepath.FromSlash(rec.Orbitals))); err == nil {
-			res.Orbitals = rel
+			orb = rel
 		}
 	}
-
+	res := rec.doneResult(r.fp, r.host, orb)
 	if err := writeResult(r.Dir, res, r.suffix, false); err != nil {
 		return // a convenience copy; the store has the result
 	}

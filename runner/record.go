@@ -41,6 +41,7 @@ type PointRecord struct {
 	Iterations int                `json:"iterations,omitempty"`
 	SSquared   *float64           `json:"s_squared,omitempty"`
 	Extra      map[string]float64 `json:"extra,omitempty"`
+	Flags      PointFlags         `json:"flags,omitzero"`
 	Orbitals   string             `json:"orbitals,omitempty"` // relative to the scan directory
 	Backend    string             `json:"backend,omitempty"`
 	JobID      string             `json:"job_id,omitempty"`

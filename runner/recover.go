@@ -206,15 +206,11 @@ func RebuildStore(dir string, spec *planner.Spec, force bool, now time.Time) (ou
 		rec := PointRecord{Key: key, Values: p.Values, Round: 1, Attempts: res.Attempt, Backend: res.Backend,
 			Planned: res.Started, Started: res.Started, Finished: res.Finished}
 		if res.Status == ResultDone {
-			en := res.Energy
-			rec.State, rec.Energy, rec.Converged, rec.Iterations, rec.SSquared, rec.Extra = Done, &en, true, res.Iterations, res.SSquared, res.Extra
-			rec.Seconds = res.Finished.Sub(res.Started).Seconds()
-			if res.Orbitals != "" {
-				rec.Orbitals = filepath.ToSlash(filepath.Join(PointsDir, key, res.Orbitals))
-			}
+			rec.setDone(res, storedOrbitals(dir, key, res.Orbitals))
 			out.Done++
 		} else {
-			rec.State, rec.Class, rec.LastError = Failed, res.Class, res.Error
+			rec.State = Failed
+			rec.setFailure(res)
 			out.Failed++
 		}
 		recs = append(recs, rec)

@@ -119,7 +119,7 @@ type missingProgram struct{ calls atomic.Int32 }
 func (*missingProgram) Name() string { return "command" }
 func (m *missingProgram) Compute(ctx context.Context, t runner.Task) (runner.Outcome, error) {
 	m.calls.Add(1)
-	return runner.Outcome{Class: "program-missing", Detail: `program "qmprog": executable file not found in $PATH`, Permanent: true}, nil
+	return runner.Outcome{Class: "program-missing", Error: `program "qmprog": executable file not found in $PATH`, Permanent: true}, nil
 }
 
 // TestRunner_SameFailure_StopsRound_ThenSettingsChange is issue 19 item 1

@@ -116,5 +116,5 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if errors.As(err, &re) && re.Err != nil {
 		detail = re.Err.Error()
 	}
-	return runner.Outcome{Class: out.Class, Detail: detail, Permanent: !retryable(out.Class)}, nil
+	return runner.Outcome{Class: out.Class, Error: detail, Permanent: !retryable(out.Class)}, nil
 }

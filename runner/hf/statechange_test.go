@@ -151,7 +151,9 @@ func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanR
 		if p.Extra["cold_check_guesses"] > 0 {
 			out.checks++
 		}
-		out.replaced += int(p.Extra["cold_check_replaced"])
+		if p.Flags.GuessReplaced {
+			out.replaced++
+		}
 	}
 	return out
 }

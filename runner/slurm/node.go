@@ -107,9 +107,7 @@ func (n NodeTask) Run(ctx context.Context) error {
 		}
 		if err != nil {
 			now := time.Now()
-			host, _ := os.Hostname()
-			res := runner.Result{Key: k, Fingerprint: fp, Attempt: attempt, Status: runner.ResultFailed, Class: runner.ClassGeometry,
-				Error: err.Error(), Permanent: true, Backend: backend.Name(), Host: host, PID: os.Getpid(), Started: now, Finished: now}
+			res := runner.FailedResult(runner.Task{Key: k, Attempt: attempt}, fp, backend.Name(), runner.ClassGeometry, true, err.Error(), now, now)
 			if werr := runner.WriteResult(scanDir, res); werr != nil {
 				return werr
 			}

@@ -638,9 +638,7 @@ func (r *run) findToken(token string) string {
 // failure is a failed Result for t made by the queue (not by the node).
 func (r *run) failure(t runner.Task, class runner.FailureClass, permanent bool, msg string) runner.Result {
 	now := r.now()
-	host, _ := os.Hostname()
-	return runner.Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Status: runner.ResultFailed, Class: class,
-		Error: msg, Permanent: permanent, Backend: "slurm", Host: host, PID: os.Getpid(), Started: now, Finished: now}
+	return runner.FailedResult(t, r.fp, "slurm", class, permanent, msg, now, now)
 }
 
 // cycle runs one poll: one status command, then the result files of every
