@@ -49,8 +49,8 @@ type ExecRunner struct {
 	Env []string
 }
 
-// DefaultCommandTimeout bounds one scheduler command (lessons memo §1).
-const DefaultCommandTimeout = 60 * time.Second
+// defaultCommandTimeout bounds one scheduler command (lessons memo §1).
+const defaultCommandTimeout = 60 * time.Second
 
 // Run implements [Runner].
 func (r ExecRunner) Run(ctx context.Context, c Cmd) (Output, error) {
@@ -59,7 +59,7 @@ func (r ExecRunner) Run(ctx context.Context, c Cmd) (Output, error) {
 	}
 	timeout := r.Timeout
 	if timeout == 0 {
-		timeout = DefaultCommandTimeout
+		timeout = defaultCommandTimeout
 	}
 	ctx, cancel := context.WithTimeout(ctx, timeout)
 	defer cancel()

@@ -41,7 +41,7 @@ func (n NodeTask) Run(ctx context.Context) error {
 	if err != nil {
 		return fmt.Errorf("slurm: job directory: %w", err)
 	}
-	m, err := ReadManifest(jobDir)
+	m, err := readManifest(jobDir)
 	if err != nil {
 		return err
 	}
@@ -49,7 +49,7 @@ func (n NodeTask) Run(ctx context.Context) error {
 	if err != nil {
 		return err
 	}
-	var meta JobMeta
+	var meta jobMeta
 	b, err := os.ReadFile(filepath.Join(jobDir, JobMetaFile))
 	if err != nil {
 		return fmt.Errorf("slurm: read %s: %w", JobMetaFile, err)

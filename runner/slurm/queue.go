@@ -25,15 +25,15 @@ const NodeSubcommand = "node-task"
 // submission token, the scan directory and each point's attempt number.
 const JobMetaFile = "job.json"
 
-// JobIDFile holds the job id once sbatch has answered.
-const JobIDFile = "jobid"
+// jobIDFile holds the job id once sbatch has answered.
+const jobIDFile = "jobid"
 
 // JobsDir is the directory of a scan that holds one directory per
 // submission, named by its token.
 const JobsDir = "jobs"
 
-// JobMeta is the content of jobs/<token>/job.json.
-type JobMeta struct {
+// jobMeta is the content of jobs/<token>/job.json.
+type jobMeta struct {
 	Token   string `json:"token"`
 	ScanDir string `json:"scan_dir"`
 	// Fingerprint is the spec fingerprint at submission; a node refuses to
@@ -64,7 +64,7 @@ type QueueStats struct {
 //
 // Each batch of tasks the round loop hands over (tasks arriving within
 // Gather of each other) becomes one array (split at MaxArraySize) whose
-// tasks each compute [PackSize] points in turn (Config.PointsPerTask when
+// tasks each compute packSize points in turn (config.PointsPerTask when
 // set, else sized from the point times measured so far). The queue polls
 // with one batched status command per cycle, hands every point whose
 // result file appears back as a Completion, and turns tasks that ended
@@ -73,7 +73,7 @@ type QueueStats struct {
 //   - NODE_FAIL, BOOT_FAIL, PREEMPTED, lost (vanished, or COMPLETED without
 //     a result, after the grace period): the point goes back to planned
 //     without using an attempt (a Completion with Interrupted set), at most
-//     RetryPolicy.Infra times per point and run; after that a failure of
+//     retryPolicy.Infra times per point and run; after that a failure of
 //     class "lost" that uses an attempt.
 //   - TIMEOUT / OUT_OF_MEMORY: with escalation budget left, back to planned
 //     without using an attempt, and the point's later tasks ask for more
@@ -92,20 +92,23 @@ type QueueStats struct {
 // of earlier submissions (found by their token in one status listing)
 // instead of submitting their points again.
 type Queue struct {
-	Spec   *planner.Spec
-	Config Config
+	// Client runs the scheduler's commands; a test may give it a
+	// recording Runner.
 	Client *Client
 	// Binary is the wellscan executable for the job scripts (absolute).
 	Binary string
-	// Policy is the poll schedule; Grace the lost grace period.
-	Policy PollPolicy
-	Grace  time.Duration
-	Retry  RetryPolicy
-	// Gather is how long the queue waits for more tasks before it submits
-	// a batch; 0 means DefaultGather.
-	Gather time.Duration
-	// Now is the clock; nil means time.Now.
-	Now func() time.Time
+
+	spec   *planner.Spec
+	config config
+	// policy is the poll schedule; grace the lost grace period.
+	policy pollPolicy
+	grace  time.Duration
+	retry  retryPolicy
+	// gather is how long the queue waits for more tasks before it submits
+	// a batch; 0 means defaultGather.
+	gather time.Duration
+	// now is the clock; nil means time.Now.
+	now func() time.Time
 
 	mu      sync.Mutex
 	stats   QueueStats
@@ -114,15 +117,15 @@ type Queue struct {
 
 var _ runner.Batch = (*Queue)(nil)
 
-// DefaultGather is the default Queue.Gather: the round loop hands over a
+// defaultGather is the default Queue.gather: the round loop hands over a
 // round's points within microseconds of each other, so 100 ms gathers a
 // whole round into one submission while adding little to its latency.
-const DefaultGather = 100 * time.Millisecond
+const defaultGather = 100 * time.Millisecond
 
 // NewQueue builds the queue of spec: [queue.slurm] decoded, the Slurm
 // profile, scheduler commands run with os/exec.
 func NewQueue(spec *planner.Spec) (*Queue, error) {
-	cfg, err := DecodeConfig(spec)
+	cfg, err := decodeConfig(spec)
 	if err != nil {
 		return nil, err
 	}
@@ -141,8 +144,8 @@ func NewQueue(spec *planner.Spec) (*Queue, error) {
 	if err != nil {
 		return nil, err
 	}
-	retry := DefaultRetryPolicy()
-	return &Queue{Spec: spec, Config: cfg, Client: client, Binary: bin, Policy: cfg.Policy(), Grace: cfg.Grace(), Retry: retry}, nil
+	retry := defaultRetryPolicy()
+	return &Queue{spec: spec, config: cfg, Client: client, Binary: bin, policy: cfg.Policy(), grace: cfg.Grace(), retry: retry}, nil
 }
 
 // Name implements runner.Queue: the scheduler profile's name ("slurm").
@@ -160,17 +163,17 @@ func (q *Queue) Slots() int {
 }
 
 func (q *Queue) throttle() int {
-	if q.Config.Throttle > 0 {
-		return q.Config.Throttle
+	if q.config.Throttle > 0 {
+		return q.config.Throttle
 	}
-	return DefaultThrottle
+	return defaultThrottle
 }
 
 func (q *Queue) pointsPerTask() int {
-	if q.Config.PointsPerTask > 0 {
-		return q.Config.PointsPerTask
+	if q.config.PointsPerTask > 0 {
+		return q.config.PointsPerTask
 	}
-	return DefaultPointsPerTask
+	return defaultPointsPerTask
 }
 
 // Stats returns a copy of the counters.
@@ -189,12 +192,12 @@ func (q *Queue) count(f func(*QueueStats)) {
 // inflight is one point handed to Slurm.
 type inflight struct {
 	task runner.Task
-	ref  TaskRef
+	ref  taskRef
 }
 
 // keyState is what one Run remembers per point across its tries.
 type keyState struct {
-	budget Budget
+	budget budget
 	res    Resources // escalated resources; zero: the config's
 }
 
@@ -208,44 +211,44 @@ type run struct {
 	scanDir string
 	fp      string
 	jobName string
-	poller  *Poller
+	poller  *poller
 	maxArr  int
 
 	listed    bool
 	failing   int                // poll cycles in a row whose status command failed
-	adoptable map[string]TaskRef // key → live task of an earlier submission
+	adoptable map[string]taskRef // key → live task of an earlier submission
 	// endedEarlier: key → the final state of its latest task, which ended
 	// while no run watched it (a detached scan, a killed orchestrator).
-	endedEarlier map[string]PointTask
-	byRef        map[TaskRef][]string
+	endedEarlier map[string]pointTask
+	byRef        map[taskRef][]string
 	pending      map[string]*inflight
-	ended        map[TaskRef]time.Time // when a task was first seen final (or lost)
+	ended        map[taskRef]time.Time // when a task was first seen final (or lost)
 	keys         map[string]*keyState
 	batch        []runner.Task
 	seq          int
-	policy       PollPolicy
+	policy       pollPolicy
 	measured     []time.Duration // compute time of points finished in this run
 }
 
 // Submit implements runner.Batch.
 func (q *Queue) Submit(ctx context.Context, in <-chan runner.Task, out chan<- runner.Completion, opts runner.BatchOptions) error {
-	if q.Spec == nil || q.Client == nil || q.Binary == "" {
+	if q.spec == nil || q.Client == nil || q.Binary == "" {
 		return errors.New("slurm: Queue needs Spec, Client and Binary (use NewQueue)")
 	}
-	if err := q.Policy.Validate(); err != nil {
+	if err := q.policy.Validate(); err != nil {
 		return err
 	}
-	now := q.Now
+	now := q.now
 	if now == nil {
 		now = time.Now
 	}
-	gather := q.Gather
+	gather := q.gather
 	if gather == 0 {
-		gather = DefaultGather
+		gather = defaultGather
 	}
-	r := &run{q: q, opts: opts, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.Spec),
-		adoptable: map[string]TaskRef{}, endedEarlier: map[string]PointTask{}, byRef: map[TaskRef][]string{}, pending: map[string]*inflight{},
-		ended: map[TaskRef]time.Time{}, keys: map[string]*keyState{}, maxArr: 1000, policy: q.Policy}
+	r := &run{q: q, opts: opts, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.spec),
+		adoptable: map[string]taskRef{}, endedEarlier: map[string]pointTask{}, byRef: map[taskRef][]string{}, pending: map[string]*inflight{},
+		ended: map[taskRef]time.Time{}, keys: map[string]*keyState{}, maxArr: 1000, policy: q.policy}
 
 	var gatherT, pollT *time.Timer
 	var gatherC, pollC <-chan time.Time
@@ -266,7 +269,7 @@ func (q *Queue) Submit(ctx context.Context, in <-chan runner.Task, out chan<- ru
 	var lookC <-chan time.Time
 	var lookCost time.Duration
 	var lookSince time.Time // the last submission, or the first point handed over
-	look := q.Config.Look()
+	look := q.config.Look()
 	armLook := func(first bool) {
 		if lookT != nil {
 			return
@@ -418,7 +421,7 @@ func (r *run) arrive(t runner.Task) error {
 			return fmt.Errorf("slurm: scan directory of %s: %w", t.Dir, err)
 		}
 		name := JobNameFor(dir)
-		p, err := NewPoller(r.q.Client, name, r.now)
+		p, err := newPoller(r.q.Client, name, r.now)
 		if err != nil {
 			return err
 		}
@@ -428,7 +431,7 @@ func (r *run) arrive(t runner.Task) error {
 		r.q.mu.Unlock()
 		if r.q.Client.Profile().Name != "slurm" {
 			// No limits query for other schedulers: keep the defaults.
-		} else if lim, err := ReadSlurmLimits(r.ctx, r.q.Client.runner); err == nil {
+		} else if lim, err := readSlurmLimits(r.ctx, r.q.Client.runner); err == nil {
 			r.maxArr = min(1000, max(1, lim.MaxArraySize-1))
 			r.policy = r.policy.WithoutAccounting(lim.MinJobAge)
 		}
@@ -461,7 +464,7 @@ func (r *run) arrive(t runner.Task) error {
 		// if this run had seen it end. A retry goes into this batch (with
 		// more time or memory where the class asks for it).
 		delete(r.endedEarlier, t.Key)
-		st := TaskStatus{TaskState: pt.State, Seen: true}
+		st := taskStatus{TaskState: pt.State, Seen: true}
 		if c := r.decide(t, pt.Class(), st, pt.Ref); !c.Interrupted {
 			r.out <- c
 			return nil
@@ -472,18 +475,18 @@ func (r *run) arrive(t runner.Task) error {
 }
 
 // listLive runs one status listing and records, for every point whose
-// latest task (see [LatestTasks]) is still live, that task, to adopt it;
+// latest task (see latestTasks) is still live, that task, to adopt it;
 // for points whose latest task ended while no run watched it, its final
 // state, to decide on when the point arrives. A failed listing adopts
 // nothing (points are then submitted again; the node side skips points
 // already done, so at worst work is repeated).
 func (r *run) listLive() {
-	tasks, err := r.q.Client.Status(r.ctx, r.jobName)
+	tasks, err := r.q.Client.listStatus(r.ctx, r.jobName)
 	if err != nil {
 		return
 	}
-	tracked := map[TaskRef]bool{}
-	for k, pt := range LatestTasks(r.scanDir, tasks, true) {
+	tracked := map[taskRef]bool{}
+	for k, pt := range latestTasks(r.scanDir, tasks, true) {
 		if pt.Class().Terminal() {
 			r.endedEarlier[k] = pt
 			continue
@@ -499,7 +502,7 @@ func (r *run) listLive() {
 // resources returns the resources for a set of points: the config's, with
 // time and memory raised to the largest escalation among them.
 func (r *run) resources(ts []runner.Task) Resources {
-	res := r.q.Config.Resources()
+	res := r.q.config.Resources()
 	for _, t := range ts {
 		if ks := r.keys[t.Key]; ks != nil {
 			res.Time = max(res.Time, ks.res.Time)
@@ -525,7 +528,7 @@ func (r *run) expectedTask() time.Duration {
 	if p == 0 {
 		return 0
 	}
-	return time.Duration(PackSize(r.q.Config.PointsPerTask, r.measured, 0)) * p
+	return time.Duration(packSize(r.q.config.PointsPerTask, r.measured, 0)) * p
 }
 
 // submitBatch packs the batch into arrays and submits them.
@@ -540,7 +543,7 @@ func (r *run) submitBatch() {
 		}
 		return batch[a].Key < batch[b].Key
 	})
-	k := PackSize(r.q.Config.PointsPerTask, r.measured, r.resources(batch).Time)
+	k := packSize(r.q.config.PointsPerTask, r.measured, r.resources(batch).Time)
 	per := k * r.maxArr
 	for start := 0; start < len(batch); start += per {
 		r.submitArray(batch[start:min(start+per, len(batch))], k)
@@ -556,7 +559,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 	jobDir := filepath.Join(r.scanDir, JobsDir, token)
 	prof := r.q.Client.Profile()
 	m := &Manifest{First: prof.FirstIndex}
-	meta := JobMeta{Token: token, ScanDir: r.scanDir, Fingerprint: r.fp, Attempts: map[string]int{}}
+	meta := jobMeta{Token: token, ScanDir: r.scanDir, Fingerprint: r.fp, Attempts: map[string]int{}}
 	for i := 0; i < len(ts); i += k {
 		var keys []string
 		for _, t := range ts[i:min(i+k, len(ts))] {
@@ -582,15 +585,15 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 		return
 	}
 	mb, _ := json.MarshalIndent(meta, "", "  ")
-	if err := WriteResultAtomic(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
+	if err := writeResultAtomic(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
 		fail(runner.ClassIO, false, err)
 		return
 	}
 	submitted := r.now()
-	id, err := r.q.Client.SubmitEnv(r.ctx, script, r.q.Config.SubmitEnv(os.Environ()))
+	id, err := r.q.Client.submitEnv(r.ctx, script, r.q.config.SubmitEnv(os.Environ()))
 	if err != nil {
-		var se *SubmitError
-		if errors.As(err, &se) && se.Kind == SubmitRejected {
+		var se *submitError
+		if errors.As(err, &se) && se.Kind == submitRejected {
 			fail(runner.ClassSubmitRejected, true, err)
 			return
 		}
@@ -610,25 +613,25 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 			return
 		}
 	}
-	_ = os.WriteFile(filepath.Join(jobDir, JobIDFile), []byte(id+"\n"), 0o600)
+	_ = os.WriteFile(filepath.Join(jobDir, jobIDFile), []byte(id+"\n"), 0o600)
 	r.poller.Track(id, m.First, len(m.Tasks), submitted)
 	for i, keys := range m.Tasks {
-		ref := TaskRef{Array: id, Index: m.First + i}
+		ref := taskRef{Array: id, Index: m.First + i}
 		r.byRef[ref] = keys
 	}
 	for j, t := range ts {
-		r.pending[t.Key] = &inflight{task: t, ref: TaskRef{Array: id, Index: m.First + j/k}}
+		r.pending[t.Key] = &inflight{task: t, ref: taskRef{Array: id, Index: m.First + j/k}}
 	}
 	r.q.count(func(s *QueueStats) { s.Submissions++; s.Points += len(ts) })
 }
 
 func (r *run) findToken(token string) string {
-	tasks, err := r.q.Client.Status(r.ctx, r.jobName)
+	tasks, err := r.q.Client.listStatus(r.ctx, r.jobName)
 	if err != nil {
 		return ""
 	}
 	for _, t := range tasks {
-		if tok, ok := t.Token(); ok && tok == token {
+		if tok, ok := t.token(); ok && tok == token {
 			return t.Array
 		}
 	}
@@ -665,7 +668,7 @@ func (r *run) cycle() bool {
 	})
 	changed := snap.Changed
 	now := r.now()
-	refs := make([]TaskRef, 0, len(r.byRef))
+	refs := make([]taskRef, 0, len(r.byRef))
 	for ref := range r.byRef {
 		refs = append(refs, ref)
 	}
@@ -710,8 +713,8 @@ func (r *run) cycle() bool {
 		class := st.Class()
 		switch {
 		case class.Terminal():
-		case st.Lost(now, r.q.Grace):
-			class = ClassLost
+		case st.Lost(now, r.q.grace):
+			class = classLost
 		default:
 			delete(r.ended, ref)
 			continue
@@ -721,7 +724,7 @@ func (r *run) cycle() bool {
 			r.ended[ref] = now
 			continue
 		}
-		if class != ClassLost && now.Sub(since) < r.q.Grace {
+		if class != classLost && now.Sub(since) < r.q.grace {
 			continue // results may not be visible yet on a shared filesystem
 		}
 		for _, k := range left {
@@ -738,27 +741,27 @@ func (r *run) cycle() bool {
 }
 
 // decide turns a task that ended without a result for t into a Completion.
-func (r *run) decide(t runner.Task, class Class, st TaskStatus, ref TaskRef) runner.Completion {
+func (r *run) decide(t runner.Task, class Class, st taskStatus, ref taskRef) runner.Completion {
 	ks := r.key(t.Key)
 	res := r.resources([]runner.Task{t})
-	d := r.q.Retry.Decide(class, res, ks.budget)
+	d := r.q.retry.Decide(class, res, ks.budget)
 	logs := filepath.Join(r.scanDir, JobsDir, "*", fmt.Sprintf("slurm-%s_%d.err", ref.Array, ref.Index))
 	msg := fmt.Sprintf("array task %s ended %s without a result for this point (%s; log %s)", ref, nonEmpty(st.Native, class.String()), d.Reason, logs)
 	switch class {
-	case ClassInfra, ClassPreempted, ClassLost, ClassCompleted:
+	case classInfra, classPreempted, classLost, classCompleted:
 		if d.Retry {
 			ks.budget = d.Used
 			r.q.count(func(s *QueueStats) { s.InfraRetries++ })
 			return runner.Completion{Task: t, Interrupted: true}
 		}
 		return runner.Completion{Task: t, Result: r.failure(t, runner.ClassLost, false, msg)}
-	case ClassTimeout, ClassOutOfMemory:
+	case classTimeout, classOutOfMemory:
 		if d.Retry {
 			ks.budget, ks.res = d.Used, d.Resources
 			return runner.Completion{Task: t, Interrupted: true}
 		}
-		return runner.Completion{Task: t, Result: r.failure(t, map[Class]runner.FailureClass{ClassTimeout: runner.ClassTimeout, ClassOutOfMemory: runner.ClassOutOfMemory}[class], true, msg)}
-	case ClassCancelled:
+		return runner.Completion{Task: t, Result: r.failure(t, map[Class]runner.FailureClass{classTimeout: runner.ClassTimeout, classOutOfMemory: runner.ClassOutOfMemory}[class], true, msg)}
+	case classCancelled:
 		return runner.Completion{Task: t, Result: r.failure(t, runner.ClassCancelled, true, msg)}
 	}
 	return runner.Completion{Task: t, Result: r.failure(t, runner.ClassTaskFailed, false, msg)}
@@ -794,16 +797,16 @@ const (
 	packSamples  = 3
 )
 
-// PackSize returns the points per array task: configured (> 0) wins;
+// packSize returns the points per array task: configured (> 0) wins;
 // with at least three measured point durations, ceil(30 min / p50)
 // clamped to [1, 64] and lowered until k·p90 ≤ 0.8·limit (limit 0: no
-// walltime known); otherwise DefaultPointsPerTask.
-func PackSize(configured int, measured []time.Duration, limit time.Duration) int {
+// walltime known); otherwise defaultPointsPerTask.
+func packSize(configured int, measured []time.Duration, limit time.Duration) int {
 	if configured > 0 {
 		return configured
 	}
 	if len(measured) < packSamples {
-		return DefaultPointsPerTask
+		return defaultPointsPerTask
 	}
 	d := append([]time.Duration(nil), measured...)
 	sort.Slice(d, func(a, b int) bool { return d[a] < d[b] })
@@ -822,7 +825,7 @@ func PackSize(configured int, measured []time.Duration, limit time.Duration) int
 // ClientFor returns a client for the scheduler spec's [queue] names,
 // running commands with os/exec.
 func ClientFor(spec *planner.Spec) (*Client, error) {
-	cfg, err := DecodeConfig(spec)
+	cfg, err := decodeConfig(spec)
 	if err != nil {
 		return nil, err
 	}

@@ -196,7 +196,7 @@ func runFakeIn(t *testing.T, dir string, fake Runner, detach bool, opts ...func(
 	}
 	q.Client = mustClient(t, q.Client.Profile(), fake)
 	q.Binary = "/nonexistent/wellscan" // the fake runs the node side in process
-	q.Gather = 20 * time.Millisecond
+	q.gather = 20 * time.Millisecond
 	for _, o := range opts {
 		o(q)
 	}
@@ -331,7 +331,7 @@ func TestDecodeConfig_Errors(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			_, err = DecodeConfig(spec)
+			_, err = decodeConfig(spec)
 			if err == nil || !strings.Contains(err.Error(), tc.wantKey) {
 				t.Errorf("DecodeConfig(%s) = %v, want an error naming %s", tc.body, err, tc.wantKey)
 			}
@@ -344,12 +344,12 @@ func TestDecodeConfig_Defaults(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	c, err := DecodeConfig(spec)
+	c, err := decodeConfig(spec)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got := c.Policy(); got != DefaultPollPolicy() {
-		t.Errorf("policy %+v, want the memo defaults %+v", got, DefaultPollPolicy())
+	if got := c.Policy(); got != defaultPollPolicy() {
+		t.Errorf("policy %+v, want the memo defaults %+v", got, defaultPollPolicy())
 	}
 	if c.Grace() != 3*time.Minute {
 		t.Errorf("grace %s, want 3 poll intervals (3m)", c.Grace())
@@ -371,7 +371,7 @@ func newFakeQueue(t *testing.T, spec *planner.Spec, fake *fakeSlurm) *Queue {
 	}
 	q.Client = mustClient(t, Slurm(), fake)
 	q.Binary = "/nonexistent/wellscan"
-	q.Gather = 20 * time.Millisecond
+	q.gather = 20 * time.Millisecond
 	return q
 }
 
@@ -465,7 +465,7 @@ func TestPackSize_Cases(t *testing.T) {
 		want       int
 	}{
 		{"configured wins", 5, ms(1, 1, 1), time.Hour, 5},
-		{"nothing measured", 0, ms(1, 1), time.Hour, DefaultPointsPerTask},
+		{"nothing measured", 0, ms(1, 1), time.Hour, defaultPointsPerTask},
 		{"30 min of 4-min points", 0, ms(4, 4, 4), 0, 8},                   // ceil(30/4)
 		{"long points: one per task", 0, ms(50, 60, 70), 0, 1},             // ceil(30/60) = 1
 		{"fast points: capped", 0, ms(0, 0, 0), 0, packMax},                // 1 ms floor → cap
@@ -473,7 +473,7 @@ func TestPackSize_Cases(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			if got := PackSize(tc.configured, tc.measured, tc.limit); got != tc.want {
+			if got := packSize(tc.configured, tc.measured, tc.limit); got != tc.want {
 				t.Errorf("PackSize = %d, want %d", got, tc.want)
 			}
 		})
@@ -495,7 +495,7 @@ func TestDecodeConfig_READMEExample(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	c, err := DecodeConfig(spec)
+	c, err := decodeConfig(spec)
 	if err != nil {
 		t.Fatal(err)
 	}
