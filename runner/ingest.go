@@ -7,6 +7,7 @@ import (
 
 // ingest applies a completion to its record; it returns the record.
 func (r *scanRun) ingest(c Completion) *PointRecord {
+	c = r.home.excuse(c, r.Now())
 	rec := r.recs[c.Task.Key]
 	if rec == nil {
 		return nil

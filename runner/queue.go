@@ -48,12 +48,15 @@ func (r *scanRun) startQueue(ctx context.Context) (*queueRun, error) {
 		notices: make(chan string, noticeBuffer),
 		errc:    make(chan error, 1),
 	}
+	// The queue's context also ends when the scan directory moves away
+	// (moved.go).
+	qctx := r.home.context(ctx)
 	switch queue := r.Queue.(type) {
 	case Pool:
-		go func() { q.errc <- queue.Run(ctx, r.work, q.in, q.out) }()
+		go func() { q.errc <- queue.Run(qctx, r.work, q.in, q.out) }()
 	case Batch:
 		opts := BatchOptions{Detach: r.Detach, Notice: q.notice}
-		go func() { q.errc <- queue.Submit(ctx, q.in, q.out, opts) }()
+		go func() { q.errc <- queue.Submit(qctx, q.in, q.out, opts) }()
 	}
 	return q, nil
 }

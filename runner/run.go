@@ -87,6 +87,7 @@ func (r *Runner) Run(ctx context.Context) (Summary, error) {
 	if err != nil {
 		return Summary{}, err
 	}
+	defer s.home.close()
 	if err := s.reconcile(); err != nil {
 		return Summary{}, err
 	}
@@ -210,6 +211,9 @@ func (r *scanRun) runRound(ctx context.Context, q *queueRun) error {
 	for {
 		if ctx.Err() != nil {
 			return ctx.Err()
+		}
+		if err := r.home.check(r.Now(), false); err != nil {
+			return err
 		}
 		for next == nil && queue.len() > 0 {
 			rec := queue.next()

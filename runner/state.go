@@ -49,9 +49,11 @@ type scanRun struct {
 	warned    map[string]bool  // convenience files already warned about (warnOnce)
 	firsts    []Result         // the first completions of this run, while none is done (sameFailureStop)
 	firstsOff bool             // sameFailureStop has decided
+	home      *scanHome        // the scan directory as opened at the start (moved.go)
 }
 
-// newScanRun fills the defaults of the settings in cfg and loads the
+// newScanRun fills the defaults of the settings in cfg, starts watching
+// the scan directory (close r.home when the run ends) and loads the
 // store's records.
 func newScanRun(cfg Runner) (*scanRun, error) {
 	r := &scanRun{Runner: cfg}
@@ -80,12 +82,14 @@ func newScanRun(cfg Runner) (*scanRun, error) {
 	} else {
 		return nil, fmt.Errorf("runner: scan directory %s: %w", r.Dir, err)
 	}
+	r.home = watchHome(r.Dir)
 	r.host, _ = os.Hostname()
 	r.suffix = tmpSuffix()
 	fp, _ := json.Marshal(r.Spec.Fingerprint())
 	r.fp = string(fp)
 	r.dirty, r.dirtyR = map[string]bool{}, map[int]bool{}
 	if err := r.load(); err != nil {
+		r.home.close()
 		return nil, err
 	}
 	return r, nil
@@ -281,5 +285,5 @@ func (r *scanRun) snapshot(state string) {
 		rounds = append(rounds, *rr)
 	}
 	snap := BuildSnapshot(r.Spec, recs, rounds, state, r.Now())
-	r.warnOnce("snapshot", WriteSnapshot(r.Dir, snap))
+	r.warnOnce("snapshot", r.writeSnapshot(snap))
 }

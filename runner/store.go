@@ -86,7 +86,11 @@ type Store struct {
 	readOnly bool
 	seq      uint64
 	stale    *LockInfo // lock record of a run that died, found by Open
-	notes    []string  // what OpenScan accepted that the user should hear of
+	// root is the scan directory as opened by Open for writing: Close
+	// removes the lock record through it, wherever the directory went
+	// meanwhile (a scan moved while it ran).
+	root  *os.Root
+	notes []string // what OpenScan accepted that the user should hear of
 }
 
 // OpenOptions tune Open.
@@ -160,6 +164,7 @@ func Open(dir string, opts OpenOptions) (s *Store, err error) {
 			db.Close()
 			return nil, err
 		}
+		s.root, _ = os.OpenRoot(dir) // nil: Close removes the record by path
 	}
 	if err := s.checkFormat(); err != nil {
 		s.Close()
@@ -283,7 +288,12 @@ func (s *Store) checkFormat() (err error) {
 // the store was open for writing.
 func (s *Store) Close() error {
 	err := s.db.Close()
-	if !s.readOnly {
+	switch {
+	case s.root != nil:
+		s.root.Remove(LockFile)
+		s.root.Close()
+		s.root = nil
+	case !s.readOnly:
 		os.Remove(filepath.Join(s.dir, LockFile))
 	}
 	return err

@@ -72,6 +72,9 @@ func TestConfig_Run_MorseScript(t *testing.T) {
 	}
 	c := morseConfig(t)
 	root := t.TempDir()
+	if err := os.Mkdir(filepath.Join(root, "points"), 0o700); err != nil {
+		t.Fatal(err)
+	}
 	for _, r := range []float64{0.95, 1.13, 1.3, 2.5} {
 		job := diatomic(filepath.Join(root, "points", "r="+strconv.FormatFloat(r, 'f', 5, 64)), r)
 		out, err := c.Run(t.Context(), job)

@@ -29,6 +29,12 @@ const RelaxDir = "relax"
 // optimiser's checkpoint lets the next attempt continue.
 func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task) (runner.Outcome, error) {
 	step := nextStep(filepath.Join(t.Dir, RelaxDir))
+	// Each program run makes only its own directory (Config.Run), so
+	// relax/ is made here, inside the point directory and never through
+	// a symbolic link.
+	if err := runner.MkdirScan(t.Dir, RelaxDir); err != nil {
+		return runner.Outcome{Class: runner.ClassSetupFailed, Error: err.Error(), Permanent: true}, nil
+	}
 	var (
 		mu       sync.Mutex
 		lastFail *RunError

@@ -79,10 +79,13 @@ func ClassOf(err error) runner.FailureClass {
 	return ""
 }
 
-// maxOutputBytes bounds how much of an output file is read for the energy
-// (64 MiB): far more than the output of one point, small enough that
-// several points at once cannot exhaust memory. A larger output fails the
-// point with a message to write the energy to a file of its own.
+// maxOutputBytes bounds what is read whole for an energy or a gradient
+// (64 MiB): a JSON document, or an output searched by a pattern that can
+// match across lines — far more than such an output holds, small enough
+// that several points at once cannot exhaust memory. Label and line-bound
+// pattern extractors read any output line by line, in bounded memory
+// (parsers.Extractor.ExtractFrom), and are not capped. A larger output
+// fails the point with a message saying why it was needed whole.
 const maxOutputBytes = 64 << 20
 
 // stderrTailLines is how many lines of stderr a non-zero exit quotes.
@@ -93,7 +96,9 @@ const stderrTailLines = 8
 // cancellation), checks the expected outputs and extracts the energy. The
 // error, when not nil, is a [*RunError] whose class is also in the
 // Outcome. The exit-status file is written in every case where the
-// directory exists.
+// directory exists. job.Dir is made when missing, but not its parent,
+// which must exist (a scan directory moved away while it runs is never
+// made again at its old path).
 func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	dir, err := filepath.Abs(job.Dir)
 	out := Outcome{ExitCode: -1}
@@ -114,9 +119,12 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 		return fail(runner.ClassSetupFailed, err)
 	}
 	x, _ := c.Energy.Compile() // Validate compiled it already
-	if err := os.MkdirAll(dir, 0o700); err != nil {
+	// Only the point's own directory is made, never its parents: a scan
+	// directory moved or deleted while it runs must not be made again
+	// (empty) at its old path.
+	if err := os.Mkdir(dir, 0o700); err != nil && !errors.Is(err, fs.ErrExist) {
 		dir = ""
-		return fail(runner.ClassSetupFailed, err)
+		return fail(runner.ClassSetupFailed, fmt.Errorf("point directory: %w", err))
 	}
 	// Every file of the point is created inside its directory and never
 	// through a symbolic link (see pointFiles).
@@ -300,15 +308,21 @@ func (c Config) collectGradient(pf *pointFiles, atoms int) ([][3]float64, runner
 	default:
 		source = c.GradientFrom
 	}
-	text, err := pf.readCapped(source)
+	f, err := pf.openOutput(source)
 	if err != nil {
 		return nil, runner.ClassOutputMissing, fmt.Errorf("gradient: %w", err)
 	}
-	g, err := gx.Extract(text, atoms)
+	defer f.Close()
+	g, err := gx.ExtractFrom(f, atoms, maxOutputBytes)
 	if err != nil {
 		class := runner.ClassGradientMissing
-		if errors.Is(err, parsers.ErrGradientInvalid) {
+		switch {
+		case errors.Is(err, parsers.ErrGradientInvalid):
 			class = runner.ClassGradientInvalid
+		case errors.Is(err, parsers.ErrOutputTooLarge):
+			class = runner.ClassOutputMissing
+		case !errors.Is(err, parsers.ErrGradientMissing):
+			class = runner.ClassOutputMissing // a read error
 		}
 		return nil, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
@@ -338,15 +352,22 @@ func (c Config) collect(pf *pointFiles, x parsers.Extractor) (float64, runner.Fa
 	if len(missing) > 0 {
 		return 0, runner.ClassOutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", "))
 	}
-	text, err := pf.readCapped(source)
+	f, err := pf.openOutput(source)
 	if err != nil {
 		return 0, runner.ClassOutputMissing, err
 	}
-	e, err := x.Extract(text)
+	defer f.Close()
+	e, err := x.ExtractFrom(f, maxOutputBytes)
 	if err != nil {
 		class := runner.ClassEnergyMissing
-		if errors.Is(err, parsers.ErrEnergyInvalid) {
+		switch {
+		case errors.Is(err, parsers.ErrEnergyInvalid):
 			class = runner.ClassEnergyInvalid
+		case errors.Is(err, parsers.ErrOutputTooLarge):
+			class = runner.ClassOutputMissing
+			err = fmt.Errorf("%w; have the program write its energy to a file of its own and name it in energy_from, or use a label or a pattern that stays within a line", err)
+		case !errors.Is(err, parsers.ErrEnergyMissing):
+			class = runner.ClassOutputMissing // a read error
 		}
 		return 0, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}

@@ -81,7 +81,7 @@ func latestTasks(scanDir string, tasks []TaskState, record bool) map[string]poin
 			m, _ = readManifest(filepath.Join(scanDir, JobsDir, tok))
 			manifests[tok] = m
 			if m != nil && record {
-				_ = os.WriteFile(filepath.Join(scanDir, JobsDir, tok, jobIDFile), []byte(t.Array+"\n"), 0o600)
+				_ = writeJobFile(filepath.Join(scanDir, JobsDir, tok), jobIDFile, []byte(t.Array+"\n"))
 			}
 		}
 		if m == nil {

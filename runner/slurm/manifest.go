@@ -67,13 +67,15 @@ func (m *Manifest) marshal() ([]byte, error) {
 	return b.Bytes(), nil
 }
 
-// writeManifest writes dir/tasks.tsv atomically.
-func writeManifest(dir string, m *Manifest) error {
+// writeManifest writes tasks.tsv into the job directory jobDir
+// (<scan>/jobs/<token>) atomically and never through a symbolic link
+// (see writeJobFile).
+func writeManifest(jobDir string, m *Manifest) error {
 	data, err := m.marshal()
 	if err != nil {
 		return err
 	}
-	return writeResultAtomic(dir, manifestName, data)
+	return writeJobFile(jobDir, manifestName, data)
 }
 
 // readManifest reads dir/tasks.tsv. Errors name the file and line.
@@ -133,9 +135,12 @@ func parseManifest(name string, data []byte) (*Manifest, error) {
 	return m, nil
 }
 
-// PrepareJob creates spec.JobDir, writes the manifest and the rendered
-// script (submit.sh) into it, and returns the script path. The manifest
-// must have one entry per array task and start at the profile's first index.
+// PrepareJob creates spec.JobDir (<scan>/jobs/<token>), writes the
+// manifest and the rendered script (submit.sh) into it, and returns the
+// script path. The manifest must have one entry per array task and start
+// at the profile's first index. Every write goes through the scan
+// directory and refuses a symbolic link by name (see mkdirJob,
+// writeJobFile).
 func PrepareJob(p *Profile, spec ScriptSpec, m *Manifest) (string, error) {
 	if len(m.Tasks) != spec.Tasks || m.First != p.FirstIndex {
 		return "", fmt.Errorf("slurm: job %s: manifest has tasks %d..%d, script wants %d tasks from %d",
@@ -145,13 +150,13 @@ func PrepareJob(p *Profile, spec ScriptSpec, m *Manifest) (string, error) {
 	if err != nil {
 		return "", err
 	}
-	if err := os.MkdirAll(spec.JobDir, 0o700); err != nil {
-		return "", fmt.Errorf("slurm: create job directory: %w", err)
+	if err := mkdirJob(spec.JobDir); err != nil {
+		return "", err
 	}
 	if err := writeManifest(spec.JobDir, m); err != nil {
 		return "", err
 	}
-	if err := writeResultAtomic(spec.JobDir, "submit.sh", script); err != nil {
+	if err := writeJobFile(spec.JobDir, "submit.sh", script); err != nil {
 		return "", err
 	}
 	return filepath.Join(spec.JobDir, "submit.sh"), nil

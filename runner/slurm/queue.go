@@ -585,8 +585,8 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 		return
 	}
 	mb, _ := json.MarshalIndent(meta, "", "  ")
-	if err := writeResultAtomic(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
-		fail(runner.ClassIO, false, err)
+	if err := writeJobFile(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
+		fail("io", false, err)
 		return
 	}
 	submitted := r.now()
@@ -613,7 +613,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 			return
 		}
 	}
-	_ = os.WriteFile(filepath.Join(jobDir, jobIDFile), []byte(id+"\n"), 0o600)
+	_ = writeJobFile(jobDir, jobIDFile, []byte(id+"\n"))
 	r.poller.Track(id, m.First, len(m.Tasks), submitted)
 	for i, keys := range m.Tasks {
 		ref := taskRef{Array: id, Index: m.First + i}

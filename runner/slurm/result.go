@@ -19,7 +19,9 @@ var errNotVisible = errors.New("slurm: result not visible yet")
 // writeResultAtomic writes data to dir/name so that a reader sees either no
 // file or the whole file: a temporary file in the same directory, fsync,
 // close, rename over name, then fsync of the directory so the rename itself
-// is durable. name must be a plain file name.
+// is durable. name must be a plain file name. It follows symbolic links:
+// files inside a scan directory are written with writeJobFile or
+// [runner.WriteScanFile] instead, which refuse them.
 func writeResultAtomic(dir, name string, data []byte) (err error) {
 	if name == "" || name != filepath.Base(name) || name == "." || name == ".." {
 		return fmt.Errorf("slurm: result name %q must be a plain file name", name)

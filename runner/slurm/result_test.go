@@ -43,7 +43,7 @@ func TestWriteResultAtomic_WritesWholeFileAndNoTemp(t *testing.T) {
 func TestWriteResultAtomic_BadName(t *testing.T) {
 	for _, name := range []string{"", "a/b", "..", "."} {
 		if err := writeResultAtomic(t.TempDir(), name, []byte("{}")); err == nil {
-			t.Errorf("WriteResultAtomic(name %q) = nil, want an error", name)
+			t.Errorf("writeResultAtomic(name %q) = nil, want an error", name)
 		}
 	}
 }
@@ -94,7 +94,7 @@ func TestReadResult_DirectoryIsRealError(t *testing.T) {
 func ptr(s string) *string { return &s }
 
 func TestManifest_RoundTrip(t *testing.T) {
-	dir := t.TempDir()
+	dir := filepath.Join(t.TempDir(), JobsDir, "tok-1")
 	m := &Manifest{First: 1, Tasks: [][]string{{"r=1.12800", "r=1.13000"}, {"r1=0.95000,theta=104.500"}}}
 	if err := writeManifest(dir, m); err != nil {
 		t.Fatal(err)
