@@ -8,7 +8,7 @@ import (
 
 // Class is wellscan's reading of a scheduler state. The result file decides
 // success before any of this: a valid result means done whatever the class
-// (lessons memo §3).
+// (SOURCES.md §3).
 type Class int
 
 const (
@@ -105,7 +105,7 @@ func Classify(state string) Class {
 }
 
 // retryPolicy says how a point whose task ended without a valid result is
-// retried. Budgets are separate (lessons memo §3): task failures use
+// retried. Budgets are separate (SOURCES.md §3): task failures use
 // Attempts, infrastructure failures use Infra, resource growth uses
 // Escalations.
 type retryPolicy struct {
@@ -129,7 +129,7 @@ type retryPolicy struct {
 	RetryCancelled bool
 }
 
-// defaultRetryPolicy returns the lessons memo defaults: attempts 3, infra 5,
+// defaultRetryPolicy returns the defaults of SOURCES.md §3: attempts 3, infra 5,
 // escalations 2, time ×2, memory ×1.5, no caps known.
 func defaultRetryPolicy() retryPolicy {
 	return retryPolicy{Attempts: 3, Infra: 5, Escalations: 2, TimeFactor: 2, MemFactor: 1.5}

@@ -7,7 +7,7 @@ import (
 
 func TestClassify_States(t *testing.T) {
 	// Slurm base states and flags (Slurm job_state_codes), mapped as in the
-	// lessons memo §3 table.
+	// SOURCES.md §3.
 	tests := map[string]Class{
 		"PENDING": classWaiting, "CONFIGURING": classWaiting,
 		"RUNNING": classActive, "COMPLETING": classActive, "SUSPENDED": classActive,

@@ -75,7 +75,7 @@ func (e *commandError) Error() string {
 var errNoAccounting = errors.New("slurm: no accounting on this scheduler")
 
 // Texts in Slurm's messages (observed with Slurm 22.05 on the local node,
-// localhost notes §4, and quoted in the lessons memo §2).
+// SOURCES.md §4 and §2).
 var (
 	rejectedTexts = []string{
 		"Invalid partition", "Requested node configuration is not available", "Invalid job array specification",
@@ -233,7 +233,7 @@ func (t TaskState) token() (string, bool) {
 }
 
 // taskRef identifies an array task: array job id and index. Match tasks by
-// these, never by id arithmetic (localhost notes pitfall 15).
+// these, never by id arithmetic (SOURCES.md §11).
 type taskRef struct {
 	Array string
 	Index int
@@ -354,7 +354,7 @@ func (c *Client) parseLines(re *regexp.Regexp, out []byte, jobName string, histo
 }
 
 // maxExpand bounds range expansion of one folded index list. wellscan
-// submits arrays of at most 1000 tasks (lessons memo §11), so a listing that
+// submits arrays of at most 1000 tasks (SOURCES.md §2), so a listing that
 // expands beyond this is not ours, or is corrupt; refusing it also keeps a
 // hostile line from allocating without limit.
 const maxExpand = 1 << 16
@@ -468,7 +468,7 @@ func (c *Client) Cancel(ctx context.Context, jobName string) error {
 }
 
 // cancelIDs cancels the given job ids, at most CancelBatch per command
-// (100 by default, lessons memo §8).
+// (100 by default, SOURCES.md §8).
 func (c *Client) cancelIDs(ctx context.Context, ids []string) error {
 	batch := c.profile.CancelBatch
 	if batch <= 0 {

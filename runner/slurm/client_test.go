@@ -91,8 +91,8 @@ func TestClient_Submit_ArgvNoShell(t *testing.T) {
 }
 
 func TestClient_Submit_ClassifiesRejections(t *testing.T) {
-	// Messages and exit codes observed with Slurm 22.05 (localhost notes §4),
-	// and limit texts quoted in the lessons memo §2.
+	// Messages and exit codes observed with Slurm 22.05 (SOURCES.md §4),
+	// and the limit texts of SOURCES.md §2.
 	tests := []struct {
 		name   string
 		code   int
@@ -134,7 +134,7 @@ func TestClient_Submit_GarbageOutput(t *testing.T) {
 func TestClient_Status_Slurm(t *testing.T) {
 	// Lines in the shape printed by squeue -h -r -t all -o '%i|%A|%F|%K|%T|%r'
 	// on the local Slurm 22.05 (array 8: task 2 kept the array's own id, the
-	// others got new ids when they started; localhost notes pitfall 15).
+	// others got new ids when they started; SOURCES.md §11).
 	out := "8_0|9|8|0|COMPLETED|None|ws:1a2b3c4d-r1-1\n8_1|10|8|1|RUNNING|None|ws:1a2b3c4d-r1-1\n8_2|8|8|2|PENDING|JobArrayTaskLimit|ws:1a2b3c4d-r1-1\n4|4|4|N/A|CANCELLED|None|(null)\n"
 	r := &fakeRunner{respond: func(c Cmd) (Output, error) { return Output{Stdout: []byte(out)}, nil }}
 	c := mustClient(t, Slurm(), r)
@@ -187,7 +187,7 @@ func TestClient_Status_Errors(t *testing.T) {
 }
 
 func TestClient_ParseStatus_FoldedPendingRange(t *testing.T) {
-	// Without -r squeue folds pending tasks: "8_[2-4%2]" (localhost notes pitfall 15).
+	// Without -r squeue folds pending tasks: "8_[2-4%2]" (SOURCES.md §11).
 	p := Slurm()
 	p.IndexRanges = true
 	c := mustClient(t, p, &fakeRunner{})
@@ -206,7 +206,7 @@ func TestClient_ParseStatus_FoldedPendingRange(t *testing.T) {
 
 func TestClient_ParseHistory_Slurm(t *testing.T) {
 	// sacct -X -P -n -o JobIDRaw,JobID,State,ExitCode lines; states and exit
-	// codes as observed with slurmdbd (localhost notes §4 table).
+	// codes as observed with slurmdbd (SOURCES.md §4 table).
 	out := "12|12_0|COMPLETED|0:0\n13|12_1|TIMEOUT|0:0\n14|14|CANCELLED by 0|0:0\n12|12_[2-9%2]|PENDING|0:0\n15|15|FAILED|3:0\n"
 	c := mustClient(t, Slurm(), &fakeRunner{})
 	got, err := c.parseHistory([]byte(out), "ws-1a2b3c4d")
@@ -226,7 +226,7 @@ func TestClient_ParseHistory_Slurm(t *testing.T) {
 
 func TestClient_History_AccountingDisabled(t *testing.T) {
 	c := mustClient(t, Slurm(), &fakeRunner{respond: func(Cmd) (Output, error) {
-		// sacct without slurmdbd (localhost notes §4): this text on stderr, exit 1.
+		// sacct without slurmdbd (SOURCES.md §4): this text on stderr, exit 1.
 		return Output{Stderr: []byte("Slurm accounting storage is disabled\n"), ExitCode: 1}, nil
 	}})
 	if _, err := c.listHistory(t.Context(), "ws-1a2b3c4d", testTime); !errors.Is(err, errNoAccounting) {

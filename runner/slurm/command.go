@@ -40,7 +40,7 @@ type Runner interface {
 
 // ExecRunner runs commands with os/exec, without a shell.
 type ExecRunner struct {
-	// Timeout bounds each command; 0 means 60 s (lessons memo §1).
+	// Timeout bounds each command; 0 means 60 s (SOURCES.md §1).
 	Timeout time.Duration
 	// Env is the child environment; nil means the current environment. When
 	// the current environment belongs to a Slurm job (SLURM_JOB_ID is set,
@@ -49,7 +49,7 @@ type ExecRunner struct {
 	Env []string
 }
 
-// defaultCommandTimeout bounds one scheduler command (lessons memo §1).
+// defaultCommandTimeout bounds one scheduler command (SOURCES.md §1).
 const defaultCommandTimeout = 60 * time.Second
 
 // Run implements [Runner].

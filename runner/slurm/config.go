@@ -216,7 +216,7 @@ func (c config) Look() lookPolicy {
 	return p
 }
 
-// Policy returns the poll policy: the lessons memo defaults, or ones
+// Policy returns the poll policy: the defaults of SOURCES.md §1, or ones
 // scaled from PollInterval.
 func (c config) Policy() pollPolicy {
 	p := defaultPollPolicy()

@@ -387,7 +387,7 @@ func TestLive_FailedTask_ExitCode(t *testing.T) {
 	snap := e.waitFinal(60 * time.Second)
 	task := snap.Tasks[taskRef{id, 0}]
 	if task.State != "FAILED" {
-		t.Fatalf("state %q, want FAILED (exit 3; localhost notes §4)", task.State)
+		t.Fatalf("state %q, want FAILED (exit 3; SOURCES.md §4)", task.State)
 	}
 	if d := defaultRetryPolicy().Decide(task.Class(), spec.Resources, budget{}); !d.Retry || d.Used.Attempts != 1 {
 		t.Errorf("Decide(FAILED) = %+v, want a retry charged to attempts", d)
@@ -395,7 +395,7 @@ func TestLive_FailedTask_ExitCode(t *testing.T) {
 }
 
 // Costs 60-90 s: Slurm checks time limits every 30 s and has minute
-// resolution (localhost notes pitfall 13).
+// resolution (SOURCES.md §11).
 func TestLive_Timeout_RetriedWithMoreTime(t *testing.T) {
 	if os.Getenv("WELLSCAN_SLURM_SLOW") != "1" {
 		t.Skip("set WELLSCAN_SLURM_SLOW=1 to run the ~90 s TIMEOUT test")
@@ -428,7 +428,7 @@ func TestLive_History_Sacct(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// sacct shows array tasks 2-5 s after squeue (localhost notes §5).
+	// sacct shows array tasks 2-5 s after squeue (SOURCES.md §5).
 	want := map[taskRef]string{{id, 0}: "COMPLETED", {id, 1}: "FAILED"}
 	deadline := time.Now().Add(30 * time.Second)
 	for {
@@ -458,7 +458,7 @@ func TestLive_History_Sacct(t *testing.T) {
 // Tasks leave squeue after MinJobAge; the poller then asks sacct once per
 // cycle for their final states. Needs a local Slurm started with
 // SLURM_LOCAL_ACCOUNTING=1 SLURM_LOCAL_MIN_JOB_AGE=5 (jobs vanish ~7 s after
-// they end, localhost notes §4); skipped otherwise.
+// they end, SOURCES.md §4); skipped otherwise.
 func TestLive_Poll_SacctAfterJobsLeaveQueue(t *testing.T) {
 	e := newLiveEnv(t)
 	lim, err := readSlurmLimits(t.Context(), ExecRunner{})

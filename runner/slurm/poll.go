@@ -9,7 +9,7 @@ import (
 )
 
 // pollPolicy sets how often the scheduler is asked. Defaults from the
-// lessons memo §1 and §11: first poll 30 s after a submit, then every 60 s,
+// SOURCES.md §1: first poll 30 s after a submit, then every 60 s,
 // ×1.5 while nothing changes, up to 300 s, reset on any change, never below
 // 15 s.
 type pollPolicy struct {
@@ -309,7 +309,7 @@ func (p *poller) Poll(ctx context.Context) (pollSnapshot, error) {
 }
 
 // maxPollFailures is how many status failures in a row poller.Watch
-// tolerates before it gives up (lessons memo §1: "scheduler unreachable"
+// tolerates before it gives up (SOURCES.md §1: "scheduler unreachable"
 // after 5 failed cycles).
 const maxPollFailures = 5
 

@@ -11,7 +11,7 @@ import (
 var testTime = time.Date(2026, 5, 1, 10, 0, 0, 0, time.UTC)
 
 func TestPollPolicy_Next_DefaultSchedule(t *testing.T) {
-	// Lessons memo §1/§11: 30 s first, 60 s, ×1.5 while unchanged, cap 300 s,
+	// SOURCES.md §1: 30 s first, 60 s, ×1.5 while unchanged, cap 300 s,
 	// reset to 60 s on a change.
 	p := defaultPollPolicy()
 	if err := p.Validate(); err != nil {

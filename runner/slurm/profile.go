@@ -226,7 +226,7 @@ func Slurm() *Profile {
 		JobID:      `^(?P<id>[0-9]+)(?:;\S+)?$`,
 		Status:     []string{"squeue", "--me", "-h", "-r", "-t", "all", "--name={{.JobName}}", "-o", "%i|%A|%F|%K|%T|%r|%k"},
 		StatusLine: `^(?P<display>[^|]*)\|(?P<id>[^|]*)\|(?P<array>[^|]*)\|(?P<index>[^|]*)\|(?P<state>[^|]*)\|(?P<reason>[^|]*)(?:\|(?P<comment>.*))?$`,
-		// After MinJobAge a job id is unknown to the controller (localhost notes §4).
+		// After MinJobAge a job id is unknown to the controller (SOURCES.md §4).
 		StatusNotFound: []string{"Invalid job id specified"},
 		NoIndex:        []string{"N/A"},
 		States:         slurmStates(),
@@ -333,7 +333,7 @@ func lsfProfile() *Profile {
 		JobID:         `Job <(?P<id>[0-9]+)> is submitted`,
 		Status:        []string{"bjobs", "-a", "-noheader", "-J", "{{.JobName}}", "-o", "jobid jobindex stat delimiter='|'"},
 		StatusLine:    `^(?P<array>[0-9]+)\|(?P<index>[0-9]+)\|(?P<state>[A-Z]+)$`,
-		// "Job <name> is not found" goes to stderr (lessons memo §10).
+		// "Job <name> is not found" goes to stderr (SOURCES.md §10).
 		StatusNotFound: []string{"is not found", "No matching job found"},
 		NoIndex:        []string{"0"},
 		States: map[string]string{

@@ -787,7 +787,7 @@ func (q *Queue) DetachNote() string {
 	return fmt.Sprintf("detached from %s: the scan's jobs (name %s) keep running and a later run picks up their results; see them with 'wellscan status DIR', cancel them with 'wellscan cancel DIR'", sched, name)
 }
 
-// Packing from measured point times (lessons memo §2; the numbers are
+// Packing from measured point times (SOURCES.md §2; the numbers are
 // ours): a task should run about packTarget, at most packMax points, and
 // k·p90 must stay under packHeadroom of the walltime.
 const (

@@ -84,7 +84,7 @@ func (f *fakeSlurm) Run(ctx context.Context, c Cmd) (Output, error) {
 		}
 		return Output{Stdout: []byte(fmt.Sprintf("%d\n", id))}, nil
 	case "sacct":
-		// As Slurm answers without accounting (localhost notes §4).
+		// As Slurm answers without accounting (SOURCES.md §4).
 		return Output{ExitCode: 1, Stderr: []byte("sacct: error: Slurm accounting storage is disabled\n")}, nil
 	case "squeue":
 		f.polls++

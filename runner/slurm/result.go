@@ -55,7 +55,7 @@ func writeResultAtomic(dir, name string, data []byte) (err error) {
 	final := filepath.Join(dir, name)
 	if err = os.Rename(tmp, final); err != nil {
 		// On NFS a retransmitted rename can report ENOENT although it
-		// happened (lessons memo §5): trust the final file if it is there
+		// happened (SOURCES.md §5): trust the final file if it is there
 		// and the temporary one is gone.
 		if _, statErr := os.Stat(final); statErr != nil || fileExists(tmp) {
 			return fmt.Errorf("slurm: rename %s: %w", tmp, err)

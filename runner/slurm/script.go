@@ -49,7 +49,7 @@ type ScriptSpec struct {
 	// into --comment as "ws:<token>" so an interrupted submit can be adopted.
 	Token string
 	// Tasks is the number of array tasks (manifest lines); Throttle caps how
-	// many run at once (0 means 100, the lessons memo default).
+	// many run at once (0 means 100, ours, SOURCES.md §2).
 	Tasks, Throttle int
 	// JobDir is the directory of this submission (jobs/<id>/); the script,
 	// the manifest and the scheduler's output files live there.
@@ -63,7 +63,7 @@ type ScriptSpec struct {
 }
 
 // defaultThrottle is the %N throttle used when a ScriptSpec gives none
-// (lessons memo §11, "ours").
+// (ours, SOURCES.md §2).
 const defaultThrottle = 100
 
 // scriptData feeds the directive templates; every field is already

@@ -90,7 +90,7 @@ func TestRender_Time_Formatting(t *testing.T) {
 		dhms, hms  string
 		minutesLSF string
 	}{
-		{30 * time.Second, "0-00:01:00", "00:01:00", "1"}, // Slurm rounds up to whole minutes (localhost notes pitfall 13)
+		{30 * time.Second, "0-00:01:00", "00:01:00", "1"}, // Slurm rounds up to whole minutes (SOURCES.md §11)
 		{time.Minute, "0-00:01:00", "00:01:00", "1"},
 		{61 * time.Second, "0-00:02:00", "00:02:00", "2"},
 		{25*time.Hour + 30*time.Minute, "1-01:30:00", "25:30:00", "1530"},

@@ -10,7 +10,7 @@ import (
 
 // valueRE is what a scheduler value (partition, account, QoS, job name,
 // comment token) may contain: no spaces, quotes, shell metacharacters or
-// newlines. Common practice, following the lessons memo §7.
+// newlines. Common practice (SOURCES.md §7).
 var valueRE = regexp.MustCompile(`^[A-Za-z0-9._:+,=@%-]+$`)
 
 // optionNameRE is the shape of a long scheduler option name in an extra
