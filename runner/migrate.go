@@ -58,7 +58,7 @@ func canonicalKeys(spec *planner.Spec, recs map[string]*PointRecord) (renamed []
 			recs[cp.Key] = rec
 			renamed = append(renamed, rec)
 			removed = append(removed, k)
-			events = append(events, Event{Kind: "resume", Key: cp.Key, Message: fmt.Sprintf("point %s is the same geometry as %s (the torsion's values are kept modulo its period): recorded under %s", k, cp.Key, cp.Key)})
+			events = append(events, Event{Kind: EventResume, Key: cp.Key, Message: fmt.Sprintf("point %s is the same geometry as %s (the torsion's values are kept modulo its period): recorded under %s", k, cp.Key, cp.Key)})
 		case rec.State == Done && other.State != Done:
 			// The computed one wins the canonical key.
 			rec.Key, rec.Values = cp.Key, cp.Values
@@ -67,7 +67,7 @@ func canonicalKeys(spec *planner.Spec, recs map[string]*PointRecord) (renamed []
 			recs[cp.Key] = rec
 			renamed = append(renamed, rec)
 			removed = append(removed, k)
-			events = append(events, Event{Kind: "resume", Key: cp.Key, Message: fmt.Sprintf("point %s (done) is the same geometry as %s (%s): its energy is recorded under %s", k, cp.Key, other.State, cp.Key)})
+			events = append(events, Event{Kind: EventResume, Key: cp.Key, Message: fmt.Sprintf("point %s (done) is the same geometry as %s (%s): its energy is recorded under %s", k, cp.Key, other.State, cp.Key)})
 		default:
 			msg := fmt.Sprintf("point %s is the same geometry as %s (the torsion's values are kept modulo its period); %s is kept", k, cp.Key, cp.Key)
 			if rec.State == Done && other.State == Done && rec.Energy != nil && other.Energy != nil {
@@ -79,7 +79,7 @@ func canonicalKeys(spec *planner.Spec, recs map[string]*PointRecord) (renamed []
 			}
 			delete(recs, k)
 			removed = append(removed, k)
-			events = append(events, Event{Kind: "resume", Key: k, Message: msg})
+			events = append(events, Event{Kind: EventResume, Key: k, Message: msg})
 		}
 	}
 	return renamed, removed, events

@@ -178,7 +178,7 @@ func (h *scanHome) gone() bool {
 
 // writeSnapshot writes status.json where the directory is now: through
 // the directory the run opened once it has moved, by path otherwise.
-func (r *Runner) writeSnapshot(s Snapshot) error {
+func (r *scanRun) writeSnapshot(s Snapshot) error {
 	if !r.home.gone() {
 		err := WriteSnapshot(r.Dir, s)
 		if err == nil || r.home.check(r.Now(), true) == nil {

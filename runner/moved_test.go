@@ -38,7 +38,7 @@ func TestRunner_ScanMovedMidRun(t *testing.T) {
 	var done atomic.Int32
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: b, Queue: local.New(2),
 		OnEvent: func(e runner.Event) {
-			if e.Kind == string(runner.Done) && done.Add(1) == 3 {
+			if e.Kind == runner.EventDone && done.Add(1) == 3 {
 				if err := os.Rename(dir, moved); err != nil {
 					t.Error(err)
 				}
@@ -149,7 +149,7 @@ func TestRunner_ScanDeletedMidRun(t *testing.T) {
 	var done atomic.Int32
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: b, Queue: local.New(2),
 		OnEvent: func(e runner.Event) {
-			if e.Kind == string(runner.Done) && done.Add(1) == 3 {
+			if e.Kind == runner.EventDone && done.Add(1) == 3 {
 				// Workers keep writing while it goes: retry until it is gone.
 				var err error
 				for range 20 {

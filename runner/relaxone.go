@@ -108,8 +108,8 @@ func RelaxGeometry(ctx context.Context, spec *planner.Spec, b Backend, dir strin
 		return nil, err
 	}
 	st, serr := ReadRelaxState(dir)
-	if out.Class != "" && out.Class != "relax-not-converged" {
-		return nil, &RelaxFailure{Dir: dir, Class: out.Class, Detail: out.Detail}
+	if out.Class != "" && out.Class != ClassRelaxNotConverged {
+		return nil, &RelaxFailure{Dir: dir, Class: string(out.Class), Detail: out.Error}
 	}
 	if serr != nil {
 		return nil, fmt.Errorf("runner: relax %s: %w", dir, serr)

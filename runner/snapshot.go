@@ -76,10 +76,10 @@ type PointJSON struct {
 
 // PointErrorJSON is the last error of a point.
 type PointErrorJSON struct {
-	Key   string `json:"key"`
-	Class string `json:"class"`
-	Error string `json:"error"`
-	State State  `json:"state"`
+	Key   string       `json:"key"`
+	Class FailureClass `json:"class"`
+	Error string       `json:"error"`
+	State State        `json:"state"`
 }
 
 // BuildSnapshot summarises records for status.json.

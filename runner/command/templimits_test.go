@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"wellscan/parsers"
+	"wellscan/runner"
 )
 
 // TestConfig_Render_Limits is issue 15 item 10: a template that loops a
@@ -68,7 +69,7 @@ func TestConfig_Run_OutputCap(t *testing.T) {
 	c := morseConfig(t)
 	c.Args = []string{"head", "-c", "70000000", "/dev/zero"}
 	out, err := c.Run(t.Context(), diatomic(t.TempDir(), 1.13))
-	if out.Class != OutputMissing || !errors.Is(err, parsers.ErrOutputTooLarge) || !strings.Contains(err.Error(), "more than 67108864 bytes") || !strings.Contains(err.Error(), "longer than 1048576 bytes") {
+	if out.Class != runner.ClassOutputMissing || !errors.Is(err, parsers.ErrOutputTooLarge) || !strings.Contains(err.Error(), "more than 67108864 bytes") || !strings.Contains(err.Error(), "longer than 1048576 bytes") {
 		t.Fatalf("Run = %v (%s), want output-missing naming the 64 MiB cap and the over-long line", err, out.Class)
 	}
 }

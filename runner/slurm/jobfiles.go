@@ -21,13 +21,13 @@ func jobInScan(jobDir string) (scan, rel string, err error) {
 	return filepath.Dir(parent), filepath.Join(JobsDir, filepath.Base(abs)), nil
 }
 
-// MkdirJob makes the job directory jobDir (<scan>/jobs/<token>, and
+// mkdirJob makes the job directory jobDir (<scan>/jobs/<token>, and
 // jobs/ itself) inside its scan directory, 0700, through the scan's
 // confined writer ([runner.MkdirScan]): a symbolic link at jobs/ or at
 // jobs/<token> is refused by name, so neither the files wellscan writes
 // there nor the scheduler's output files (the script sends them into the
 // job directory) can land outside the scan directory.
-func MkdirJob(jobDir string) error {
+func mkdirJob(jobDir string) error {
 	scan, rel, err := jobInScan(jobDir)
 	if err != nil {
 		return err
@@ -38,12 +38,12 @@ func MkdirJob(jobDir string) error {
 	return nil
 }
 
-// WriteJobFile writes name (a plain file name) into the job directory
+// writeJobFile writes name (a plain file name) into the job directory
 // jobDir (<scan>/jobs/<token>) through the scan's confined writer
 // ([runner.WriteScanFile]): a temporary file, fsync, rename, fsync of
 // the directory; 0600; a symbolic link at jobs/, jobs/<token> or the
 // file itself is refused by name and nothing is written through it.
-func WriteJobFile(jobDir, name string, data []byte) error {
+func writeJobFile(jobDir, name string, data []byte) error {
 	if name == "" || name != filepath.Base(name) || name == "." || name == ".." {
 		return fmt.Errorf("slurm: job file name %q must be a plain file name", name)
 	}

@@ -67,9 +67,9 @@ func TestPrepareJob_SymlinksRefused(t *testing.T) {
 		{link: "jobs", toDir: true},
 		{link: "jobs/tok-1", toDir: true},
 		{link: "jobs/tok-1/submit.sh"},
-		{link: "jobs/tok-1/" + ManifestName},
-		{link: "jobs/tok-1/" + JobMetaFile, write: func(d string) error { return WriteJobFile(d, JobMetaFile, []byte("{}\n")) }},
-		{link: "jobs/tok-1/" + JobIDFile, write: func(d string) error { return WriteJobFile(d, JobIDFile, []byte("1000\n")) }},
+		{link: "jobs/tok-1/" + manifestName},
+		{link: "jobs/tok-1/" + JobMetaFile, write: func(d string) error { return writeJobFile(d, JobMetaFile, []byte("{}\n")) }},
+		{link: "jobs/tok-1/" + jobIDFile, write: func(d string) error { return writeJobFile(d, jobIDFile, []byte("1000\n")) }},
 	} {
 		t.Run(strings.ReplaceAll(tc.link, "/", "_"), func(t *testing.T) {
 			scan := t.TempDir()
