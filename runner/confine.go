@@ -280,6 +280,22 @@ func (d ReportDest) WriteFile(name string, data []byte) error {
 	return d.FS.WriteFile(filepath.Join(d.Rel, name), data, tmpSuffix(), false)
 }
 
+// OpenDirDest makes dir (and its parents, 0700) if needed and returns a
+// report destination writing into it with the same confined, atomic
+// writer as a scan's own files (temporary file and rename, 0600, never
+// through a symbolic link): for reports written outside the scan
+// directory. The caller closes d.FS.
+func OpenDirDest(dir string) (d ReportDest, err error) {
+	if err := os.MkdirAll(dir, 0o700); err != nil {
+		return ReportDest{}, fmt.Errorf("runner: %w", err)
+	}
+	fs, err := OpenScanFS(dir)
+	if err != nil {
+		return ReportDest{}, err
+	}
+	return ReportDest{FS: fs, Rel: "."}, nil
+}
+
 // renameInScan renames inside the scan directory dir (see ScanFS.Rename).
 func renameInScan(dir, oldRel, newRel string) error {
 	f, err := OpenScanFS(dir)

@@ -68,8 +68,13 @@ part once stage 2 is. Nothing is computed here.`,
 					return err
 				}
 				dest = runner.ReportDest{FS: fs, Rel: "forcefield"}
-			} else if dest, err = report.DirDest(out); err != nil {
-				return err
+			} else {
+				d, err := runner.OpenDirDest(out)
+				if err != nil {
+					return err
+				}
+				defer d.FS.Close()
+				dest = d
 			}
 			rep, err := writeForceField(args[0], dest, spec)
 			if err != nil {

@@ -86,8 +86,15 @@ stopped part-way; what is missing is said loudly in the summary.`,
 				if err := report.WriteTo(cmd.Context(), runner.ReportDest{FS: fs, Rel: "report"}, in); err != nil {
 					return err
 				}
-			} else if err := report.Write(cmd.Context(), out, in); err != nil {
-				return err
+			} else {
+				dest, err := runner.OpenDirDest(out)
+				if err != nil {
+					return err
+				}
+				defer dest.FS.Close()
+				if err := report.WriteTo(cmd.Context(), dest, in); err != nil {
+					return err
+				}
 			}
 			for _, f := range report.Files() {
 				if !in.HasEnergies() && (f == "curve.svg" || f == "curve.png") {

@@ -1,6 +1,7 @@
 package hf
 
 import (
+	"bytes"
 	"context"
 	"errors"
 	"fmt"
@@ -395,28 +396,16 @@ func readOrbitalsFile(path string) (*Orbitals, error) {
 	return ReadOrbitals(f)
 }
 
-// writeOrbitalsFile writes the orbitals by temporary file and rename, so a
-// neighbour never reads a half-written file.
+// writeOrbitalsFile writes the orbitals into the point directory dir
+// through the runner's confined writer (temporary file, fsync, rename; no
+// symbolic link followed), so a neighbour never reads a half-written file.
 func writeOrbitalsFile(dir string, o *Orbitals) (string, error) {
-	tmp, err := os.CreateTemp(dir, ".orbitals-*")
-	if err != nil {
+	var buf bytes.Buffer
+	if err := WriteOrbitals(&buf, o); err != nil {
 		return "", err
 	}
-	defer os.Remove(tmp.Name())
-	if err := WriteOrbitals(tmp, o); err != nil {
-		tmp.Close()
+	if err := runner.WriteScanFile(dir, OrbitalsFile, buf.Bytes()); err != nil {
 		return "", err
 	}
-	if err := tmp.Sync(); err != nil {
-		tmp.Close()
-		return "", err
-	}
-	if err := tmp.Close(); err != nil {
-		return "", err
-	}
-	path := filepath.Join(dir, OrbitalsFile)
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		return "", err
-	}
-	return path, nil
+	return filepath.Join(dir, OrbitalsFile), nil
 }

@@ -5,12 +5,9 @@ import (
 	"context"
 	"encoding/csv"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
-	"os"
-	"path/filepath"
 	"runtime"
 	"sort"
 	"strconv"
@@ -154,41 +151,6 @@ type Dest interface {
 	Remove(name string) error
 }
 
-// dirDest writes into a plain directory, each file through a temporary
-// file and a rename.
-type dirDest string
-
-func (d dirDest) WriteFile(name string, data []byte) error {
-	return writeAtomic(filepath.Join(string(d), name), data)
-}
-
-func (d dirDest) Remove(name string) error {
-	if err := os.Remove(filepath.Join(string(d), name)); err != nil && !errors.Is(err, os.ErrNotExist) {
-		return err
-	}
-	return nil
-}
-
-// DirDest is a [Dest] writing into a plain directory outside a scan
-// (created if needed, mode 0700), each file through a temporary file and a
-// rename.
-func DirDest(dir string) (Dest, error) {
-	if err := os.MkdirAll(dir, 0o700); err != nil {
-		return nil, fmt.Errorf("report: %w", err)
-	}
-	return dirDest(dir), nil
-}
-
-// Write writes every report file into dir (created if needed, mode 0700;
-// files 0600 like the rest of a scan), each through a temporary file and
-// a rename so that a reader never sees half a file.
-func Write(ctx context.Context, dir string, in Input) error {
-	if err := os.MkdirAll(dir, 0o700); err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	return WriteTo(ctx, dirDest(dir), in)
-}
-
 // WriteTo renders every report file and hands each to dest.
 func WriteTo(ctx context.Context, dest Dest, in Input) (err error) {
 	// The plotting library reports some impossible requests by panicking;
@@ -266,28 +228,6 @@ func (in Input) check() error {
 		if p.Energy != nil && (math.IsNaN(*p.Energy) || math.IsInf(*p.Energy, 0)) {
 			return fmt.Errorf("report: point %s has a non-finite energy", p.Key)
 		}
-	}
-	return nil
-}
-
-func writeAtomic(path string, b []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	_, werr := f.Write(b)
-	cerr := f.Close()
-	if err := errors.Join(werr, cerr); err != nil {
-		os.Remove(f.Name())
-		return fmt.Errorf("report: %s: %w", path, err)
-	}
-	if err := os.Chmod(f.Name(), 0o600); err != nil {
-		os.Remove(f.Name())
-		return fmt.Errorf("report: %w", err)
-	}
-	if err := os.Rename(f.Name(), path); err != nil {
-		os.Remove(f.Name())
-		return fmt.Errorf("report: %w", err)
 	}
 	return nil
 }

@@ -33,9 +33,9 @@
 //   - The submission token travels in the job comment and comes back in the
 //     status listing (TaskState.token), so a submit interrupted by a crash
 //     can be adopted instead of repeated.
-//   - writeResultAtomic and readResult are the compute-node/orchestrator
-//     halves of the result-file protocol: a result file decides success,
-//     whatever the scheduler says.
+//   - readResult is the orchestrator's half of the result-file protocol (a
+//     compute node writes with [runner.WriteResult]): a result file decides
+//     success, whatever the scheduler says.
 //
 // On top of these, [Queue] is the round loop's [runner.Batch] for
 // `[queue] kind = "slurm"`: it packs the points it receives into job

@@ -7,7 +7,7 @@
 // The test binary doubles as the compute-node worker: the job scripts exec
 // it with the argument "node-run", and TestMain then behaves as a tiny
 // worker that reads its manifest line and writes one result file per point
-// with writeResultAtomic.
+// with runner.WriteScanFile.
 package slurm
 
 import (
@@ -23,6 +23,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"wellscan/runner"
 )
 
 const workerSubcommand = "node-run"
@@ -73,7 +75,7 @@ func fakeWorker(args []string) int {
 		data, _ := json.Marshal(map[string]any{
 			"v": 1, "key": k, "task": *task, "job": os.Getenv("SLURM_ARRAY_JOB_ID"),
 		})
-		if err := writeResultAtomic(dir, "result.json", data); err != nil {
+		if err := runner.WriteScanFile(dir, "result.json", data); err != nil {
 			fmt.Fprintln(os.Stderr, err)
 			return 1
 		}

@@ -9,52 +9,6 @@ import (
 	"testing"
 )
 
-func TestWriteResultAtomic_WritesWholeFileAndNoTemp(t *testing.T) {
-	dir := t.TempDir()
-	data := []byte(`{"v":1,"key":"r=1.12800","energy_hartree":-112.7}`)
-	if err := writeResultAtomic(dir, "result.json", data); err != nil {
-		t.Fatal(err)
-	}
-	// Overwrite: a second attempt replaces the file whole.
-	data2 := []byte(`{"v":1,"key":"r=1.12800","energy_hartree":-112.8}`)
-	if err := writeResultAtomic(dir, "result.json", data2); err != nil {
-		t.Fatal(err)
-	}
-	got, err := readResult(filepath.Join(dir, "result.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if string(got) != string(data2) {
-		t.Errorf("ReadResult = %s, want %s", got, data2)
-	}
-	entries, err := os.ReadDir(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(entries) != 1 {
-		var names []string
-		for _, e := range entries {
-			names = append(names, e.Name())
-		}
-		t.Errorf("directory holds %v, want only result.json (no temporary files left)", names)
-	}
-}
-
-func TestWriteResultAtomic_BadName(t *testing.T) {
-	for _, name := range []string{"", "a/b", "..", "."} {
-		if err := writeResultAtomic(t.TempDir(), name, []byte("{}")); err == nil {
-			t.Errorf("writeResultAtomic(name %q) = nil, want an error", name)
-		}
-	}
-}
-
-func TestWriteResultAtomic_MissingDir(t *testing.T) {
-	err := writeResultAtomic(filepath.Join(t.TempDir(), "nope"), "result.json", []byte("{}"))
-	if err == nil || !strings.Contains(err.Error(), "nope") {
-		t.Errorf("error = %v, want one naming the missing directory", err)
-	}
-}
-
 func TestReadResult_NotVisibleYet(t *testing.T) {
 	dir := t.TempDir()
 	whole := `{"v":1,"key":"r=1.12800","energy_hartree":-112.7}`
