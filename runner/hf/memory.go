@@ -87,7 +87,8 @@ type integralPlan struct {
 
 // planIntegrals chooses the mode for shells under budget (bytes; ≤ 0:
 // direct): in core when every integral fits; otherwise semi-direct with
-// the longest prefix of shells whose integrals fit, when that holds at
+// the longest prefix of whole shell groups (general contractions) whose
+// integrals fit, when that holds at
 // least a tenth of all unique integrals (below that the kept part saves
 // too little to be worth its memory and bookkeeping); otherwise direct.
 func planIntegrals(shells []integral.Shell, budget int64) integralPlan {
@@ -98,13 +99,18 @@ func planIntegrals(shells []integral.Shell, budget int64) integralPlan {
 	if budget <= 0 {
 		return integralPlan{mode: ModeDirect}
 	}
-	split, n := 0, 0
+	// Split only where a general contraction starts: the direct part
+	// computes whole contractions (integral.NewDirectFrom).
+	starts := integral.GroupStart(shells)
+	split, n, m := 0, 0, 0
 	for i, s := range shells {
-		m := n + s.NumFunctions()
+		m += s.NumFunctions()
 		if integral.InCoreBytes(m) > budget {
 			break
 		}
-		split, n = i+1, m
+		if i+1 == len(shells) || starts[i+1] {
+			split, n = i+1, m
+		}
 	}
 	if split == 0 || 10*integral.InCoreBytes(n) < integral.InCoreBytes(nbf) {
 		return integralPlan{mode: ModeDirect}

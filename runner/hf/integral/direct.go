@@ -17,7 +17,7 @@ type Direct struct {
 	eb        *eriBasis
 	workers   int
 	threshold float64
-	from      int // first bra shell: quartets whose shells all lie below it are left out
+	from      int // first direct shell group: quartets whose groups all lie below it are left out
 }
 
 // NewDirect prepares shell-pair data and Schwarz factors for
@@ -30,7 +30,7 @@ func NewDirect(shells []Shell, norm CartNorm, workers int, threshold float64) (*
 		return nil, fmt.Errorf("integral: screening threshold %v, want ≥ 0", threshold)
 	}
 	workers = resolveWorkers(workers)
-	eb, err := newERIBasis(context.Background(), shells, norm, workers)
+	eb, err := newERIBasis(context.Background(), shells, norm, workers, true)
 	if err != nil {
 		return nil, err
 	}
@@ -41,15 +41,24 @@ func NewDirect(shells []Shell, norm CartNorm, workers int, threshold float64) (*
 // one shell with index ≥ from: the quartets among shells[:from] are left
 // out, for a caller that holds their integrals in core (ComputeERI of
 // shells[:from]) and adds their J and K itself. from = 0 is NewDirect.
+// from must not split a general contraction (GroupStart(shells)[from]
+// must hold when from < len(shells)).
 func NewDirectFrom(shells []Shell, norm CartNorm, workers int, threshold float64, from int) (*Direct, error) {
 	if from < 0 || from > len(shells) {
 		return nil, fmt.Errorf("integral: first direct shell %d, want 0…%d", from, len(shells))
+	}
+	if from < len(shells) && !GroupStart(shells)[from] {
+		return nil, fmt.Errorf("integral: first direct shell %d continues the general contraction of shell %d; split the basis where a contraction starts", from, from-1)
 	}
 	d, err := NewDirect(shells, norm, workers, threshold)
 	if err != nil {
 		return nil, err
 	}
-	d.from = from
+	for g := range d.eb.gs {
+		if d.eb.gs[g].first < from {
+			d.from = g + 1
+		}
+	}
 	return d, nil
 }
 
@@ -80,23 +89,9 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 	for x := range nd {
 		D[x] = denseCopy(dens[x], n)
 	}
-	// Largest |D| over each shell block (over all densities).
-	ns := len(eb.ps)
-	dmax := make([]float64, ns*ns)
-	for a := range ns {
-		for b := range ns {
-			sa, sb := &eb.ps[a], &eb.ps[b]
-			var m float64
-			for x := range nd {
-				for i := sa.off; i < sa.off+sa.nfunc; i++ {
-					for jj := sb.off; jj < sb.off+sb.nfunc; jj++ {
-						m = max(m, math.Abs(D[x][i*n+jj]))
-					}
-				}
-			}
-			dmax[a*ns+b] = m
-		}
-	}
+	// Largest |D| over each shell-group block (over all densities).
+	ns := len(eb.gs)
+	dmax := groupMax(eb.gs, n, D)
 	type acc struct{ a, b [][]float64 }
 	var mu sync.Mutex
 	var accs []acc
@@ -106,7 +101,7 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 	var wg sync.WaitGroup
 	for range min(d.workers, np) {
 		wg.Go(func() {
-			w := newERIWork(eb.maxl)
+			w := eb.newWork()
 			ac := acc{a: make([][]float64, nd), b: make([][]float64, nd)}
 			for x := range nd {
 				ac.a[x] = make([]float64, n*n)
@@ -133,6 +128,7 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 					if s*dm < d.threshold {
 						continue
 					}
+					w.cut = primCut(d.threshold, dm, bp, kp)
 					blk := w.quartet(bp, kp)
 					f := 1.0
 					if bp.same {
@@ -177,6 +173,29 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 		}
 	}
 	return nil
+}
+
+// groupMax is the largest |D[x]_ij| over the functions i of group a and j
+// of group b, over all densities, as [a·len(gs)+b].
+func groupMax(gs []shellGroup, n int, D [][]float64) []float64 {
+	ns := len(gs)
+	out := make([]float64, ns*ns)
+	for a := range ns {
+		ia, na := gs[a].off, gs[a].m*gs[a].nfunc
+		for b := 0; b <= a; b++ {
+			ib, nb := gs[b].off, gs[b].m*gs[b].nfunc
+			var m float64
+			for _, d := range D {
+				for i := ia; i < ia+na; i++ {
+					for _, v := range d[i*n+ib : i*n+ib+nb] {
+						m = max(m, math.Abs(v))
+					}
+				}
+			}
+			out[a*ns+b], out[b*ns+a] = m, m
+		}
+	}
+	return out
 }
 
 // jkBlock adds one shell quartet's contributions. Every element of the

@@ -81,19 +81,29 @@ type primPair struct {
 	p, inv2p float64
 	a        float64 // exponent of the pair's first shell (the second is p − a)
 	P, PA    [3]float64
-	U        float64 // √2 π^{5/4} c_a c_b exp(−μ|AB|²) / p
+	// U is √2 π^{5/4} c_a c_b exp(−μ|AB|²) / p; for a pair of shell
+	// groups with member combinations (shellPair.cw) the coefficients
+	// are left out of U and applied as the weights cw[c0:c1].
+	U      float64
+	c0, c1 int32
+	// bound bounds the pair's contribution: one primitive quartet adds at
+	// most bound(bra)·bound(ket) to any integral of the block
+	// (setPrimBounds; +Inf when not computed).
+	bound float64
 }
 
 // shellPair holds what the two-electron code needs for one pair of shells.
 // The first shell has the higher angular momentum (HRR builds on it);
 // fi/fj list the function indices of its output rows/columns.
 type shellPair struct {
-	s1, s2   int // shell indices in pair order
+	s1, s2   int // shell (or shell group) indices in pair order
 	l1, l2   int
+	nc1, nc2 int        // members of the two shell groups (1 for single shells)
+	cw       []comboW   // member-combination weights of the primitive pairs (nil: folded into U)
 	AB       [3]float64 // centre1 − centre2
 	prims    []primPair
 	same     bool // s1 == s2
-	n1, n2   int  // output functions
+	n1, n2   int  // output functions (all members of a group)
 	fi, fj   []int
 	schwarz  float64 // √max|(ab|ab)|
 	sh1, sh2 *prepShell
@@ -109,7 +119,7 @@ func newShellPair(ps []prepShell, a, b int) shellPair {
 		a, b = b, a
 	}
 	sa, sb := &ps[a], &ps[b]
-	sp := shellPair{s1: a, s2: b, l1: sa.l, l2: sb.l, same: a == b, n1: sa.nfunc, n2: sb.nfunc, sh1: sa, sh2: sb}
+	sp := shellPair{s1: a, s2: b, l1: sa.l, l2: sb.l, same: a == b, nc1: 1, nc2: 1, n1: sa.nfunc, n2: sb.nfunc, sh1: sa, sh2: sb}
 	for d := range 3 {
 		sp.AB[d] = sa.center[d] - sb.center[d]
 	}
@@ -122,7 +132,7 @@ func newShellPair(ps []prepShell, a, b int) shellPair {
 			if k < primScreen {
 				continue
 			}
-			pp := primPair{p: p, inv2p: 0.5 / p, a: alpha, U: pref * sa.coefs[i] * sb.coefs[j] * k / p}
+			pp := primPair{p: p, inv2p: 0.5 / p, a: alpha, U: pref * sa.coefs[i] * sb.coefs[j] * k / p, bound: math.Inf(1)}
 			for d := range 3 {
 				pp.P[d] = (alpha*sa.center[d] + beta*sb.center[d]) / p
 				pp.PA[d] = pp.P[d] - sa.center[d]
@@ -145,23 +155,36 @@ func newShellPair(ps []prepShell, a, b int) shellPair {
 // is allocated per quartet.
 type eriWork struct {
 	v      []float64 // VRR [m][f][e]
-	c      []float64 // contracted [f][e]
+	c      []float64 // contracted [combination][f][e]
+	t      []float64 // per bra primitive pair: [ket combination][f][e]
 	h1, h2 []float64 // HRR ping-pong
-	out    []float64 // final block
+	out    []float64 // final block (fast paths)
+	gout   []float64 // final block of a group quartet
 	fb     []float64 // Boys values
 	base   []float64
+	// cut is the primitive screening threshold of the next quartet: a
+	// primitive quartet whose bound product (primPair.bound) is below it
+	// is skipped. 0 keeps every primitive quartet.
+	cut float64
 }
 
-func newERIWork(maxl int) *eriWork {
+func newERIWork(maxl int) *eriWork { return newERIWorkGroups(maxl, 1, 1) }
+
+// newERIWorkGroups is newERIWork for shell groups of up to maxm members
+// (maxm² member combinations per pair) and blocks of up to maxBlock
+// elements.
+func newERIWorkGroups(maxl, maxm, maxBlock int) *eriWork {
 	nE := ncum(2 * maxl)
 	nc := ncart(maxl)
-	h := max(nE*nc*nE, nE*nc*nc*nc, nc*nc*nc*nc)
+	h := max(nE*nc*nE, nE*nc*nc*nc, nc*nc*nc*nc, maxBlock)
 	return &eriWork{
 		v:    make([]float64, (4*maxl+1)*nE*nE),
-		c:    make([]float64, nE*nE),
+		c:    make([]float64, maxm*maxm*maxm*maxm*nE*nE),
+		t:    make([]float64, maxm*maxm*nE*nE),
 		h1:   make([]float64, h),
 		h2:   make([]float64, h),
 		out:  make([]float64, nc*nc*nc*nc),
+		gout: make([]float64, max(maxBlock, 1)),
 		fb:   make([]float64, 4*maxl+1),
 		base: make([]float64, 4*maxl+1),
 	}
@@ -202,7 +225,8 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 	// The fast paths assume the higher angular momentum first in each
 	// pair, as newShellPair orders them; the shifted pairs of the gradient
 	// code may have it second and take the general path.
-	switch ordered := bp.l1 >= bp.l2 && kp.l1 >= kp.l2; {
+	grouped := bp.nc1*bp.nc2 > 1 || kp.nc1*kp.nc2 > 1
+	switch ordered := bp.l1 >= bp.l2 && kp.l1 >= kp.l2 && !grouped; {
 	case ordered && L == 0:
 		return w.quartetSSSS(bp, kp)
 	case ordered && L == 1:
@@ -213,15 +237,32 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 	nE, nF := ncum(Lab), ncum(Lcd)
 	e0, f0 := ncum(la-1), ncum(lc-1)
 	nEr, nFr := nE-e0, nF-f0
-	C := w.c[:nEr*nFr]
-	for i := range C {
-		C[i] = 0
+	nEF := nEr * nFr
+	nbc, nkc := bp.nc1*bp.nc2, kp.nc1*kp.nc2
+	C := w.c[:nbc*nkc*nEF]
+	clear(C)
+	acc := C[:nEF] // ungrouped: primitive quartets go straight into C
+	if grouped {
+		acc = w.t[:nkc*nEF]
 	}
 	V := w.v
 	stM := nF * nE // stride of m
+	cut, kb0 := w.cut, 0.0
+	if len(kp.prims) > 0 {
+		kb0 = kp.prims[0].bound
+	}
 	for _, pa := range bp.prims {
+		if pa.bound*kb0 < cut {
+			break // sorted: no later bra primitive pair reaches the cut either
+		}
 		p := pa.p
+		if grouped {
+			clear(acc)
+		}
 		for _, pc := range kp.prims {
+			if pa.bound*pc.bound < cut {
+				break
+			}
 			q := pc.p
 			pq := p + q
 			rho := p * q / pq
@@ -298,25 +339,94 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 					}
 				}
 			}
-			// Contract [e0|f0]^(0).
-			for f := f0; f < nF; f++ {
-				src := V[f*nE+e0 : f*nE+nE]
-				dst := C[(f-f0)*nEr : (f-f0+1)*nEr]
-				for k, v := range src {
-					dst[k] += v
+			// Contract [e0|f0]^(0) over the ket primitives (into every
+			// ket member combination the pair contributes to).
+			if len(kp.cw) == 0 {
+				for f := f0; f < nF; f++ {
+					src := V[f*nE+e0 : f*nE+nE]
+					dst := acc[(f-f0)*nEr : (f-f0+1)*nEr]
+					for k, v := range src {
+						dst[k] += v
+					}
+				}
+				continue
+			}
+			for _, cw := range kp.cw[pc.c0:pc.c1] {
+				tk := acc[int(cw.k)*nEF : int(cw.k+1)*nEF]
+				for f := f0; f < nF; f++ {
+					src := V[f*nE+e0 : f*nE+nE]
+					dst := tk[(f-f0)*nEr : (f-f0+1)*nEr]
+					for k, v := range src {
+						dst[k] += cw.w * v
+					}
+				}
+			}
+		}
+		if !grouped {
+			continue
+		}
+		// Contract over the bra primitives.
+		if len(bp.cw) == 0 {
+			for k, v := range acc {
+				C[k] += v
+			}
+			continue
+		}
+		for _, cw := range bp.cw[pa.c0:pa.c1] {
+			dst := C[int(cw.k)*nkc*nEF : int(cw.k+1)*nkc*nEF]
+			for k, v := range acc {
+				dst[k] += cw.w * v
+			}
+		}
+	}
+	if !grouped {
+		return w.finish(w.hrr(C, la, lb, lc, ld, bp.AB, kp.AB), bp, kp)
+	}
+	return w.finishGroups(C, bp, kp)
+}
+
+// finishGroups applies the horizontal recurrence and the finishing step
+// to every member combination of a group quartet, contracted in C as
+// [bra combination][ket combination][f][e], and assembles the block
+// [bra functions][ket functions] with functions numbered member-major.
+func (w *eriWork) finishGroups(C []float64, bp, kp *shellPair) []float64 {
+	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
+	nEF := (ncum(la+lb) - ncum(la-1)) * (ncum(lc+ld) - ncum(lc-1))
+	nkc := kp.nc1 * kp.nc2
+	f1, f2, f3, f4 := bp.sh1.nfunc, bp.sh2.nfunc, kp.sh1.nfunc, kp.sh2.nfunc
+	N2, N3, N4 := bp.n2, kp.n1, kp.n2
+	out := w.gout[:bp.n1*N2*N3*N4]
+	for bc := range bp.nc1 * bp.nc2 {
+		ma, mb := bc/bp.nc2, bc%bp.nc2
+		for kc := range nkc {
+			mc, md := kc/kp.nc2, kc%kp.nc2
+			src := C[(bc*nkc+kc)*nEF : (bc*nkc+kc+1)*nEF]
+			// hrr must not read from h1/h2; C is w.c.
+			blk := w.finish(w.hrr(src, la, lb, lc, ld, bp.AB, kp.AB), bp, kp)
+			for a := range f1 {
+				for b := range f2 {
+					row := out[((ma*f1+a)*N2+mb*f2+b)*N3*N4:]
+					sub := blk[(a*f2+b)*f3*f4:]
+					for c := range f3 {
+						copy(row[(mc*f3+c)*N4+md*f4:(mc*f3+c)*N4+md*f4+f4], sub[c*f4:(c+1)*f4])
+					}
 				}
 			}
 		}
 	}
-	return w.finish(w.hrr(C, la, lb, lc, ld, bp.AB, kp.AB), bp, kp)
+	return out
 }
 
 // quartetSSSS is the fast path for four s shells.
 func (w *eriWork) quartetSSSS(bp, kp *shellPair) []float64 {
 	var sum float64
+	cut := w.cut
 	for _, pa := range bp.prims {
 		p := pa.p
 		for _, pc := range kp.prims {
+			if pa.bound*pc.bound < cut {
+				break // sorted by bound, largest first
+			}
 			q := pc.p
 			pq := p + q
 			rho := p * q / pq
@@ -335,9 +445,13 @@ func (w *eriWork) quartetSSSS(bp, kp *shellPair) []float64 {
 func (w *eriWork) quartetL1(bp, kp *shellPair) []float64 {
 	var s0, s1, s2 float64
 	braP := bp.l1 == 1
+	cut := w.cut
 	for _, pa := range bp.prims {
 		p := pa.p
 		for _, pc := range kp.prims {
+			if pa.bound*pc.bound < cut {
+				break // sorted by bound, largest first
+			}
 			q := pc.p
 			pq := p + q
 			rho := p * q / pq
@@ -370,9 +484,13 @@ func (w *eriWork) quartetL1(bp, kp *shellPair) []float64 {
 // (Obara & Saika 1986).
 func (w *eriWork) quartetPSPS(bp, kp *shellPair) []float64 {
 	var acc [9]float64
+	cut := w.cut
 	for _, pa := range bp.prims {
 		p := pa.p
 		for _, pc := range kp.prims {
+			if pa.bound*pc.bound < cut {
+				break // sorted by bound, largest first
+			}
 			q := pc.p
 			pq := p + q
 			rho := p * q / pq

@@ -18,13 +18,22 @@ import (
 const incoreScreen = 1e-15
 
 // eriBasis is the shell-pair data shared by the in-core and direct codes.
+// Pairs are pairs of shell groups (general contractions, group.go); with
+// grouping off every group is one shell and group indices are shell
+// indices.
 type eriBasis struct {
-	ps    []prepShell
-	pairs []shellPair // index a(a+1)/2 + b for shells a ≥ b
-	order []int       // bra pairs, most expensive task first
-	nbf   int
-	maxl  int
+	ps       []prepShell
+	gs       []shellGroup
+	pairs    []shellPair // index a(a+1)/2 + b for groups a ≥ b
+	order    []int       // bra pairs, most expensive task first
+	nbf      int
+	maxl     int
+	maxm     int // most members of a group
+	maxBlock int // largest quartet block
 }
+
+// newWork returns scratch for the quartets of this basis.
+func (eb *eriBasis) newWork() *eriWork { return newERIWorkGroups(eb.maxl, eb.maxm, eb.maxBlock) }
 
 func resolveWorkers(workers int) int {
 	if workers <= 0 {
@@ -33,23 +42,30 @@ func resolveWorkers(workers int) int {
 	return workers
 }
 
-func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int) (*eriBasis, error) {
+// newERIBasis prepares the shell pairs: of shell groups when grouped
+// (general contractions computed once per primitive set, with primitive
+// pair bounds for primitive screening), of single shells otherwise.
+func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int, grouped bool) (*eriBasis, error) {
 	ps, err := prepare(shells, norm)
 	if err != nil {
 		return nil, err
 	}
-	eb := &eriBasis{ps: ps, nbf: NumFunctions(shells)}
-	for _, s := range ps {
-		eb.maxl = max(eb.maxl, s.l)
+	eb := &eriBasis{ps: ps, gs: buildGroups(shells, ps, grouped), nbf: NumFunctions(shells)}
+	maxf := 0
+	for _, g := range eb.gs {
+		eb.maxl = max(eb.maxl, g.rep.l)
+		eb.maxm = max(eb.maxm, g.m)
+		maxf = max(maxf, g.m*g.rep.ncart)
 	}
-	ns := len(ps)
-	eb.pairs = make([]shellPair, ns*(ns+1)/2)
-	for a := range ns {
+	eb.maxBlock = maxf * maxf * maxf * maxf
+	ng := len(eb.gs)
+	eb.pairs = make([]shellPair, ng*(ng+1)/2)
+	for a := range ng {
 		for b := 0; b <= a; b++ {
-			eb.pairs[a*(a+1)/2+b] = newShellPair(ps, a, b)
+			eb.pairs[a*(a+1)/2+b] = newGroupPair(eb.gs, a, b)
 		}
 	}
-	// Schwarz factors √max|(ab|ab)|, in parallel.
+	// Schwarz factors √max|(ab|ab)| and primitive pair bounds, in parallel.
 	err = parallelFor(ctx, resolveWorkers(workers), len(eb.pairs), func(w *eriWork, p int) {
 		sp := &eb.pairs[p]
 		blk := w.quartet(sp, sp)
@@ -61,7 +77,10 @@ func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int
 			}
 		}
 		sp.schwarz = math.Sqrt(m)
-	}, eb.maxl)
+		if grouped {
+			setPrimBounds(w, sp)
+		}
+	}, eb.newWork)
 	if err != nil {
 		return nil, fmt.Errorf("integral: Schwarz factors: %w", err)
 	}
@@ -95,13 +114,13 @@ func (eb *eriBasis) buildOrder() {
 // with its own scratch, handing out indices dynamically (largest first,
 // which for shell pairs is roughly the most expensive first). It stops
 // early and returns ctx.Err() if the context ends.
-func parallelFor(ctx context.Context, workers, n int, body func(w *eriWork, i int), maxl int) error {
+func parallelFor(ctx context.Context, workers, n int, body func(w *eriWork, i int), newWork func() *eriWork) error {
 	var next atomic.Int64
 	next.Store(int64(n))
 	var wg sync.WaitGroup
 	for range min(workers, max(n, 1)) {
 		wg.Go(func() {
-			w := newERIWork(maxl)
+			w := newWork()
 			for ctx.Err() == nil {
 				i := int(next.Add(-1))
 				if i < 0 {
@@ -154,7 +173,7 @@ func (e *ERI) NumFunctions() int { return e.n }
 // malformed shells or when ctx ends.
 func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int) (*ERI, error) {
 	workers = resolveWorkers(workers)
-	eb, err := newERIBasis(ctx, shells, norm, workers)
+	eb, err := newERIBasis(ctx, shells, norm, workers, true)
 	if err != nil {
 		return nil, err
 	}
@@ -182,6 +201,7 @@ func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int)
 			if bp.schwarz*kp.schwarz < incoreScreen {
 				continue
 			}
+			w.cut = primCut(incoreScreen, 1, bp, kp)
 			blk := w.quartet(bp, kp)
 			n2, n3, n4 := bp.n2, kp.n1, kp.n2
 			for i, I := range bp.fi {
@@ -196,7 +216,7 @@ func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int)
 				}
 			}
 		}
-	}, eb.maxl)
+	}, eb.newWork)
 	if err != nil {
 		return nil, fmt.Errorf("integral: two-electron integrals: %w", err)
 	}
@@ -368,4 +388,13 @@ func (e *ERI) jkRow(IJ int, D, Dp, jp, B [][]float64) {
 		bj[j] += f2 * di[i]
 		jpd[IJ] += jsum
 	}
+}
+
+// primCut is the primitive screening threshold of a shell quartet screened
+// at threshold thr with density weight dm: primitive quartets whose bound
+// product is below thr/(dm·K), K the number of primitive quartets, are
+// skipped, so that all of them together change any integral of the block
+// by less than thr/dm, the size of the quartet-level screening error.
+func primCut(thr, dm float64, bp, kp *shellPair) float64 {
+	return thr / (dm * float64(len(bp.prims)*len(kp.prims)))
 }

@@ -120,7 +120,7 @@ func (d *Direct) PairBlock(ctx context.Context, b int, dst []float64, kls []int)
 		return kls, fmt.Errorf("integral: pair block needs %d elements, got %d", nk*np, len(dst))
 	}
 	clear(dst[:nk*np])
-	w := newERIWork(eb.maxl)
+	w := eb.newWork()
 	for P := range eb.pairs {
 		if P%64 == 0 {
 			if err := ctx.Err(); err != nil {
@@ -132,6 +132,7 @@ func (d *Direct) PairBlock(ctx context.Context, b int, dst []float64, kls []int)
 			continue
 		}
 		n1, n2, n3, n4 := bp.n1, bp.n2, kp.n1, kp.n2
+		w.cut = primCut(incoreScreen, 1, bp, kp)
 		if P >= b {
 			blk := w.quartet(bp, kp)
 			for i, I := range bp.fi {
