@@ -37,7 +37,7 @@ func TestEnergy_IntegralModes_Agree(t *testing.T) {
 		if ref.IntegralMode != hf.ModeInCore {
 			t.Fatalf("%s: 1 GiB budget gave mode %q, want in-core", tc.name, ref.IntegralMode)
 		}
-		// The oxygen shells (15 of 19 functions, 39 % of the integrals) fit.
+		// About two fifths of the blocks fit.
 		part := integral.InCoreBytes(ref.BasisFunctions-4) + 1
 		for _, mc := range []struct {
 			mode   string
@@ -84,7 +84,7 @@ func TestEnergy_IntegralModes_AgreeGeneralContractions(t *testing.T) {
 	if ref.IntegralMode != hf.ModeInCore {
 		t.Fatalf("1 GiB budget gave mode %q, want in-core", ref.IntegralMode)
 	}
-	// The oxygen shells (14 of 24 functions) fit; the hydrogens' 5 each do not.
+	// About a sixth of the blocks fit.
 	part := integral.InCoreBytes(ref.BasisFunctions-10) + 1
 	for _, mc := range []struct {
 		mode   string
@@ -96,6 +96,9 @@ func TestEnergy_IntegralModes_AgreeGeneralContractions(t *testing.T) {
 		}
 		if res.IntegralMode != mc.mode {
 			t.Errorf("budget %d B gave mode %q, want %q", mc.budget, res.IntegralMode, mc.mode)
+		}
+		if mc.mode == hf.ModeSemiDirect && (res.IntegralBytes <= 0 || res.IntegralBytes > mc.budget) {
+			t.Errorf("semi-direct: kept %d B under a budget of %d B", res.IntegralBytes, mc.budget)
 		}
 		if !scalar.EqualWithinAbs(res.Energy, ref.Energy, 1e-10) {
 			t.Errorf("%s: E = %.12f, in-core %.12f (Δ %.1e)", mc.mode, res.Energy, ref.Energy, res.Energy-ref.Energy)
