@@ -106,6 +106,9 @@ type shellPair struct {
 	n1, n2   int  // output functions (all members of a group)
 	fi, fj   []int
 	schwarz  float64 // √max|(ab|ab)|
+	// tail[j] is the sum of prims[j:].bound (prims sorted by bound,
+	// largest first); nil when the bounds are not computed.
+	tail     []float64
 	sh1, sh2 *prepShell
 }
 
@@ -162,9 +165,9 @@ type eriWork struct {
 	gout   []float64 // final block of a group quartet
 	fb     []float64 // Boys values
 	base   []float64
-	// cut is the primitive screening threshold of the next quartet: a
-	// primitive quartet whose bound product (primPair.bound) is below it
-	// is skipped. 0 keeps every primitive quartet.
+	// cut is the primitive screening allowance of the next quartet: the
+	// primitive quartets skipped change no integral of the block by more
+	// than cut in total (see primsFor). 0 keeps every primitive quartet.
 	cut float64
 }
 
@@ -247,40 +250,36 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 	}
 	V := w.v
 	stM := nF * nE // stride of m
-	cut, kb0 := w.cut, 0.0
-	if len(kp.prims) > 0 {
-		kb0 = kp.prims[0].bound
-	}
+	bud := w.budget(bp)
 	for _, pa := range bp.prims {
-		if pa.bound*kb0 < cut {
-			break // sorted: no later bra primitive pair reaches the cut either
+		kps := kp.primsFor(pa.bound, bud)
+		if len(kps) == 0 {
+			break // sorted: no later bra primitive pair reaches the budget either
 		}
 		p := pa.p
 		if grouped {
 			clear(acc)
 		}
-		for _, pc := range kp.prims {
-			if pa.bound*pc.bound < cut {
-				break
-			}
+		for _, pc := range kps {
 			q := pc.p
-			pq := p + q
-			rho := p * q / pq
+			inv := 1 / (p + q)
+			rho := p * q * inv
+			// W − P = −q/(p+q) PQ, W − Q = p/(p+q) PQ
+			wp, wq := -q*inv, p*inv
 			var PQ, WP, WQ [3]float64
 			for d := range 3 {
 				PQ[d] = pa.P[d] - pc.P[d]
-				Wd := (p*pa.P[d] + q*pc.P[d]) / pq
-				WP[d] = Wd - pa.P[d]
-				WQ[d] = Wd - pc.P[d]
+				WP[d] = wp * PQ[d]
+				WQ[d] = wq * PQ[d]
 			}
 			T := rho * (PQ[0]*PQ[0] + PQ[1]*PQ[1] + PQ[2]*PQ[2])
-			pref := pa.U * pc.U / math.Sqrt(pq)
+			pref := pa.U * pc.U * math.Sqrt(inv)
 			boys(T, L, w.fb)
 			for m := 0; m <= L; m++ {
 				V[m*stM] = pref * w.fb[m]
 			}
 			// Electron 1: [e0|00]^(m), m ≤ L − l_e.
-			i2p, rp := pa.inv2p, rho/p
+			i2p, rp := pa.inv2p, q*inv
 			for e := 1; e < nE; e++ {
 				fc := &flatTab[e]
 				i := fc.dir
@@ -303,7 +302,7 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 				}
 			}
 			// Electron 2: [e0|f0]^(m), m ≤ Lcd − l_f.
-			i2q, rq, i2pq := pc.inv2p, rho/q, 0.5/pq
+			i2q, rq, i2pq := pc.inv2p, p*inv, 0.5*inv
 			for f := 1; f < nF; f++ {
 				fc := &flatTab[f]
 				i := fc.dir
@@ -417,22 +416,42 @@ func (w *eriWork) finishGroups(C []float64, bp, kp *shellPair) []float64 {
 	return out
 }
 
+// budget is the share of w.cut of one bra primitive pair of bp.
+func (w *eriWork) budget(bp *shellPair) float64 {
+	if w.cut == 0 || len(bp.prims) == 0 {
+		return 0
+	}
+	return w.cut / float64(len(bp.prims))
+}
+
+// primsFor returns the leading primitive pairs of the ket pair sp that a
+// bra primitive pair of bound b must be combined with: the tail left out
+// has b·Σ bound < bud, so the bra primitive's skipped contributions to any
+// integral add up to less than bud (Schwarz inequality, setPrimBounds).
+// Without bounds (sp.tail nil) or budget it returns them all.
+func (sp *shellPair) primsFor(b, bud float64) []primPair {
+	j := len(sp.prims)
+	if bud == 0 || sp.tail == nil {
+		return sp.prims
+	}
+	for j > 0 && b*sp.tail[j-1] < bud {
+		j--
+	}
+	return sp.prims[:j]
+}
+
 // quartetSSSS is the fast path for four s shells.
 func (w *eriWork) quartetSSSS(bp, kp *shellPair) []float64 {
 	var sum float64
-	cut := w.cut
+	bud := w.budget(bp)
 	for _, pa := range bp.prims {
 		p := pa.p
-		for _, pc := range kp.prims {
-			if pa.bound*pc.bound < cut {
-				break // sorted by bound, largest first
-			}
+		for _, pc := range kp.primsFor(pa.bound, bud) {
 			q := pc.p
 			pq := p + q
 			rho := p * q / pq
 			dx, dy, dz := pa.P[0]-pc.P[0], pa.P[1]-pc.P[1], pa.P[2]-pc.P[2]
-			boys(rho*(dx*dx+dy*dy+dz*dz), 0, w.fb)
-			sum += pa.U * pc.U / math.Sqrt(pq) * w.fb[0]
+			sum += pa.U * pc.U / math.Sqrt(pq) * boys0(rho*(dx*dx+dy*dy+dz*dz))
 		}
 	}
 	w.out[0] = sum
@@ -445,29 +464,26 @@ func (w *eriWork) quartetSSSS(bp, kp *shellPair) []float64 {
 func (w *eriWork) quartetL1(bp, kp *shellPair) []float64 {
 	var s0, s1, s2 float64
 	braP := bp.l1 == 1
-	cut := w.cut
+	bud := w.budget(bp)
 	for _, pa := range bp.prims {
 		p := pa.p
-		for _, pc := range kp.prims {
-			if pa.bound*pc.bound < cut {
-				break // sorted by bound, largest first
-			}
+		for _, pc := range kp.primsFor(pa.bound, bud) {
 			q := pc.p
-			pq := p + q
-			rho := p * q / pq
+			inv := 1 / (p + q)
+			rho := p * q * inv
 			dx, dy, dz := pa.P[0]-pc.P[0], pa.P[1]-pc.P[1], pa.P[2]-pc.P[2]
 			boys(rho*(dx*dx+dy*dy+dz*dz), 1, w.fb)
-			pref := pa.U * pc.U / math.Sqrt(pq)
+			pref := pa.U * pc.U * math.Sqrt(inv)
 			t0, t1 := pref*w.fb[0], pref*w.fb[1]
 			if braP {
 				// W − P = −q/(p+q) (P − Q)
-				g := -q / pq * t1
+				g := -q * inv * t1
 				s0 += pa.PA[0]*t0 + g*dx
 				s1 += pa.PA[1]*t0 + g*dy
 				s2 += pa.PA[2]*t0 + g*dz
 			} else {
 				// W − Q = p/(p+q) (P − Q)
-				g := p / pq * t1
+				g := p * inv * t1
 				s0 += pc.PA[0]*t0 + g*dx
 				s1 += pc.PA[1]*t0 + g*dy
 				s2 += pc.PA[2]*t0 + g*dz
@@ -484,29 +500,26 @@ func (w *eriWork) quartetL1(bp, kp *shellPair) []float64 {
 // (Obara & Saika 1986).
 func (w *eriWork) quartetPSPS(bp, kp *shellPair) []float64 {
 	var acc [9]float64
-	cut := w.cut
+	bud := w.budget(bp)
 	for _, pa := range bp.prims {
 		p := pa.p
-		for _, pc := range kp.prims {
-			if pa.bound*pc.bound < cut {
-				break // sorted by bound, largest first
-			}
+		for _, pc := range kp.primsFor(pa.bound, bud) {
 			q := pc.p
-			pq := p + q
-			rho := p * q / pq
+			inv := 1 / (p + q)
+			rho := p * q * inv
 			PQ := [3]float64{pa.P[0] - pc.P[0], pa.P[1] - pc.P[1], pa.P[2] - pc.P[2]}
 			boys(rho*(PQ[0]*PQ[0]+PQ[1]*PQ[1]+PQ[2]*PQ[2]), 2, w.fb)
-			pref := pa.U * pc.U / math.Sqrt(pq)
+			pref := pa.U * pc.U * math.Sqrt(inv)
 			t0, t1, t2 := pref*w.fb[0], pref*w.fb[1], pref*w.fb[2]
 			// W − P = −q/(p+q) PQ, W − Q = p/(p+q) PQ
-			wp, wq := -q/pq, p/pq
+			wp, wq := -q*inv, p*inv
 			var s0, s1 [3]float64
 			for i := range 3 {
 				wpi := wp * PQ[i]
 				s0[i] = pa.PA[i]*t0 + wpi*t1
 				s1[i] = pa.PA[i]*t1 + wpi*t2
 			}
-			cross := 0.5 / pq * t1
+			cross := 0.5 * inv * t1
 			for i := range 3 {
 				for k := range 3 {
 					v := pc.PA[k]*s0[i] + wq*PQ[k]*s1[i]

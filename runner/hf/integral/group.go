@@ -198,7 +198,8 @@ func finishGain(s *prepShell) float64 {
 // gains of both shells, and sorts the primitive pairs by it, largest
 // first. By the Schwarz inequality one primitive quartet then contributes
 // at most bound(bra)·bound(ket) to any integral of the finished block,
-// which is what quartet's primitive screening (eriWork.cut) relies on.
+// which is what quartet's primitive screening (eriWork.cut, primsFor)
+// relies on.
 func setPrimBounds(w *eriWork, sp *shellPair) {
 	raw1, raw2 := *sp.sh1, *sp.sh2
 	raw1.transform, raw2.transform = false, false
@@ -238,4 +239,8 @@ func setPrimBounds(w *eriWork, sp *shellPair) {
 		}
 		return 0
 	})
+	sp.tail = make([]float64, len(sp.prims)+1)
+	for j := len(sp.prims) - 1; j >= 0; j-- {
+		sp.tail[j] = sp.tail[j+1] + sp.prims[j].bound
+	}
 }

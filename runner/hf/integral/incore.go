@@ -264,11 +264,11 @@ func (e *ERI) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDense
 	return e.d.JK(ctx, dens, j, k)
 }
 
-// primCut is the primitive screening threshold of a shell quartet screened
-// at threshold thr with density weight dm: primitive quartets whose bound
-// product is below thr/(dm·K), K the number of primitive quartets, are
-// skipped, so that all of them together change any integral of the block
-// by less than thr/dm, the size of the quartet-level screening error.
-func primCut(thr, dm float64, bp, kp *shellPair) float64 {
-	return thr / (dm * float64(len(bp.prims)*len(kp.prims)))
+// primCut is the primitive screening allowance (eriWork.cut) of a shell
+// quartet screened at threshold thr with density weight dm: the primitive
+// quartets skipped change any integral of the block by less than thr/dm
+// in total, so their contribution to J and K stays below thr, the size of
+// the quartet-level screening error.
+func primCut(thr, dm float64, _, _ *shellPair) float64 {
+	return thr / dm
 }
