@@ -75,7 +75,7 @@ func twoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 		}
 	}
 	workers = resolveWorkers(workers)
-	eb, err := newERIBasis(ctx, shells, norm, workers, false)
+	eb, err := newERIBasis(ctx, shells, norm, workers, groupNone)
 	if err != nil {
 		return nil, err
 	}

@@ -37,7 +37,7 @@ func newDirect(ctx context.Context, shells []Shell, norm CartNorm, workers int, 
 		return nil, fmt.Errorf("integral: screening threshold %v, want ≥ 0", threshold)
 	}
 	workers = resolveWorkers(workers)
-	eb, err := newERIBasis(ctx, shells, norm, workers, true)
+	eb, err := newERIBasis(ctx, shells, norm, workers, groupAll)
 	if err != nil {
 		return nil, err
 	}
@@ -201,9 +201,9 @@ func groupMax(gs []shellGroup, n int, D [][]float64) []float64 {
 	ns := len(gs)
 	out := make([]float64, ns*ns)
 	for a := range ns {
-		ia, na := gs[a].off, gs[a].m*gs[a].nfunc
+		ia, na := gs[a].off, gs[a].nf
 		for b := 0; b <= a; b++ {
-			ib, nb := gs[b].off, gs[b].m*gs[b].nfunc
+			ib, nb := gs[b].off, gs[b].nf
 			var m float64
 			for _, d := range D {
 				for i := ia; i < ia+na; i++ {

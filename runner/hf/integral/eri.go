@@ -98,14 +98,22 @@ type primPair struct {
 type shellPair struct {
 	s1, s2   int // shell (or shell group) indices in pair order
 	l1, l2   int
-	nc1, nc2 int        // members of the two shell groups (1 for single shells)
-	cw       []comboW   // member-combination weights of the primitive pairs (nil: folded into U)
-	AB       [3]float64 // centre1 − centre2
-	prims    []primPair
-	same     bool // s1 == s2
-	n1, n2   int  // output functions (all members of a group)
-	fi, fj   []int
-	schwarz  float64 // √max|(ab|ab)|
+	nc1, nc2 int         // members of the two shell groups (1 for single shells)
+	g1, g2   *shellGroup // the groups, when either has several members
+	// rng[2k], rng[2k+1] bound the Cartesian window of member combination
+	// k (components of l_a … l_a+l_b, counted from the group's lowest
+	// member's l) that its integrals need; nil with one combination.
+	rng []int32
+	// lmin1, lmin2 are the lowest angular momenta of the groups' members
+	// (l1, l2 for single shells).
+	lmin1, lmin2 int
+	cw           []comboW   // member-combination weights of the primitive pairs (nil: folded into U)
+	AB           [3]float64 // centre1 − centre2
+	prims        []primPair
+	same         bool // s1 == s2
+	n1, n2       int  // output functions (all members of a group)
+	fi, fj       []int
+	schwarz      float64 // √max|(ab|ab)|
 	// tail[j] is the sum of prims[j:].bound (prims sorted by bound,
 	// largest first); nil when the bounds are not computed.
 	tail     []float64
@@ -122,7 +130,7 @@ func newShellPair(ps []prepShell, a, b int) shellPair {
 		a, b = b, a
 	}
 	sa, sb := &ps[a], &ps[b]
-	sp := shellPair{s1: a, s2: b, l1: sa.l, l2: sb.l, same: a == b, nc1: 1, nc2: 1, n1: sa.nfunc, n2: sb.nfunc, sh1: sa, sh2: sb}
+	sp := shellPair{s1: a, s2: b, l1: sa.l, l2: sb.l, same: a == b, nc1: 1, nc2: 1, n1: sa.nfunc, n2: sb.nfunc, sh1: sa, sh2: sb, lmin1: sa.l, lmin2: sb.l}
 	for d := range 3 {
 		sp.AB[d] = sa.center[d] - sb.center[d]
 	}
@@ -238,6 +246,11 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 		return w.quartetPSPS(bp, kp)
 	}
 	nE, nF := ncum(Lab), ncum(Lcd)
+	if grouped {
+		// Members of lower angular momentum need [e0|f0] from their own
+		// l on: the recurrences run from the lowest member's.
+		la, lc = bp.lmin1, kp.lmin1
+	}
 	e0, f0 := ncum(la-1), ncum(lc-1)
 	nEr, nFr := nE-e0, nF-f0
 	nEF := nEr * nFr
@@ -351,8 +364,9 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 				continue
 			}
 			for _, cw := range kp.cw[pc.c0:pc.c1] {
+				// Only the f window of this ket member combination.
 				tk := acc[int(cw.k)*nEF : int(cw.k+1)*nEF]
-				for f := f0; f < nF; f++ {
+				for f := f0 + int(kp.rng[2*cw.k]); f < f0+int(kp.rng[2*cw.k+1]); f++ {
 					src := V[f*nE+e0 : f*nE+nE]
 					dst := tk[(f-f0)*nEr : (f-f0+1)*nEr]
 					for k, v := range src {
@@ -372,9 +386,22 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 			continue
 		}
 		for _, cw := range bp.cw[pa.c0:pa.c1] {
+			// Only the e window of this bra member combination, and
+			// the f window of every ket one.
 			dst := C[int(cw.k)*nkc*nEF : int(cw.k+1)*nkc*nEF]
-			for k, v := range acc {
-				dst[k] += cw.w * v
+			elo, ehi := int(bp.rng[2*cw.k]), int(bp.rng[2*cw.k+1])
+			for kc := range nkc {
+				flo, fhi := 0, nFr
+				if len(kp.rng) > 0 {
+					flo, fhi = int(kp.rng[2*kc]), int(kp.rng[2*kc+1])
+				}
+				for fr := flo; fr < fhi; fr++ {
+					o := kc*nEF + fr*nEr
+					d, a := dst[o+elo:o+ehi], acc[o+elo:o+ehi]
+					for k, v := range a {
+						d[k] += cw.w * v
+					}
+				}
 			}
 		}
 	}
@@ -386,28 +413,50 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 
 // finishGroups applies the horizontal recurrence and the finishing step
 // to every member combination of a group quartet, contracted in C as
-// [bra combination][ket combination][f][e], and assembles the block
-// [bra functions][ket functions] with functions numbered member-major.
+// [bra combination][ket combination][f][e] over l_e from the bra group's
+// lowest member and l_f from the ket group's, and assembles the block
+// [bra functions][ket functions] with the functions of a group numbered
+// member by member.
 func (w *eriWork) finishGroups(C []float64, bp, kp *shellPair) []float64 {
-	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
-	nEF := (ncum(la+lb) - ncum(la-1)) * (ncum(lc+ld) - ncum(lc-1))
+	Lab, Lcd := bp.l1+bp.l2, kp.l1+kp.l2
+	nE, nF := ncum(Lab), ncum(Lcd)
+	e0, f0 := ncum(bp.lmin1-1), ncum(kp.lmin1-1)
+	nEr := nE - e0
+	nEF := nEr * (nF - f0)
 	nkc := kp.nc1 * kp.nc2
-	f1, f2, f3, f4 := bp.sh1.nfunc, bp.sh2.nfunc, kp.sh1.nfunc, kp.sh2.nfunc
 	N2, N3, N4 := bp.n2, kp.n1, kp.n2
 	out := w.gout[:bp.n1*N2*N3*N4]
+	member := func(g *shellGroup, sh *prepShell, m int) (*prepShell, int) {
+		if g == nil {
+			return sh, 0
+		}
+		return g.mem[m], g.moff[m]
+	}
 	for bc := range bp.nc1 * bp.nc2 {
-		ma, mb := bc/bp.nc2, bc%bp.nc2
+		A, oa := member(bp.g1, bp.sh1, bc/bp.nc2)
+		B, ob := member(bp.g2, bp.sh2, bc%bp.nc2)
 		for kc := range nkc {
-			mc, md := kc/kp.nc2, kc%kp.nc2
+			Cs, oc := member(kp.g1, kp.sh1, kc/kp.nc2)
+			D, od := member(kp.g2, kp.sh2, kc%kp.nc2)
+			la, lb, lc, ld := A.l, B.l, Cs.l, D.l
 			src := C[(bc*nkc+kc)*nEF : (bc*nkc+kc+1)*nEF]
-			// hrr must not read from h1/h2; C is w.c.
-			blk := w.finish(w.hrr(src, la, lb, lc, ld, bp.AB, kp.AB), bp, kp)
+			// The member's window of [e0|f0], in the layout hrr reads.
+			me0, mf0 := ncum(la-1), ncum(lc-1)
+			mnE, mnF := ncum(la+lb), ncum(lc+ld)
+			mnEr := mnE - me0
+			sub := w.t[:mnEr*(mnF-mf0)]
+			for f := mf0; f < mnF; f++ {
+				copy(sub[(f-mf0)*mnEr:(f-mf0+1)*mnEr], src[(f-f0)*nEr+me0-e0:(f-f0)*nEr+mnE-e0])
+			}
+			// hrr must not read from h1/h2; sub is w.t.
+			blk := w.finishShells(w.hrr(sub, la, lb, lc, ld, bp.AB, kp.AB), [4]*prepShell{A, B, Cs, D})
+			f1, f2, f3, f4 := A.nfunc, B.nfunc, Cs.nfunc, D.nfunc
 			for a := range f1 {
 				for b := range f2 {
-					row := out[((ma*f1+a)*N2+mb*f2+b)*N3*N4:]
-					sub := blk[(a*f2+b)*f3*f4:]
+					row := out[((oa+a)*N2+ob+b)*N3*N4:]
+					sb := blk[(a*f2+b)*f3*f4:]
 					for c := range f3 {
-						copy(row[(mc*f3+c)*N4+md*f4:(mc*f3+c)*N4+md*f4+f4], sub[c*f4:(c+1)*f4])
+						copy(row[(oc+c)*N4+od:(oc+c)*N4+od+f4], sb[c*f4:(c+1)*f4])
 					}
 				}
 			}
@@ -538,7 +587,11 @@ func (w *eriWork) quartetPSPS(bp, kp *shellPair) []float64 {
 // finish applies component scales and spherical transforms to the
 // Cartesian block cart, which lives in w.h1 or w.h2.
 func (w *eriWork) finish(cart []float64, bp, kp *shellPair) []float64 {
-	s := [4]*prepShell{bp.sh1, bp.sh2, kp.sh1, kp.sh2}
+	return w.finishShells(cart, [4]*prepShell{bp.sh1, bp.sh2, kp.sh1, kp.sh2})
+}
+
+// finishShells is finish for the shells s of the four positions.
+func (w *eriWork) finishShells(cart []float64, s [4]*prepShell) []float64 {
 	if !s[0].transform && !s[1].transform && !s[2].transform && !s[3].transform {
 		return cart
 	}

@@ -22,12 +22,15 @@ import (
 // coefficients of each column, zero where a column lacks a primitive,
 // are applied after the recurrence, skipping the zeros).
 
-// SameContraction reports whether shell b continues the general
-// contraction that shell a starts: same angular momentum, centre, atom and
-// function type, and every exponent of b is one of a's. A run of shells
-// in which every shell continues the first is one shell group.
+// SameContraction reports whether shell b continues the shell group that
+// shell a starts: same centre and atom, and every exponent of b is one of
+// a's. The members of a group share the primitive set of its first shell:
+// the columns of a general contraction (same angular momentum), and shells
+// of different angular momentum over the same exponents (the sp shells of
+// the Pople sets). A run of shells in which every shell continues the
+// first is one shell group.
 func SameContraction(a, b Shell) bool {
-	if a.L != b.L || a.Center != b.Center || a.Atom != b.Atom || (a.Pure && a.L >= 2) != (b.Pure && b.L >= 2) {
+	if a.Center != b.Center || a.Atom != b.Atom {
 		return false
 	}
 	for _, x := range b.Exps {
@@ -56,29 +59,55 @@ func GroupStart(shells []Shell) []bool {
 
 // shellGroup is a run of shells that share one primitive set.
 type shellGroup struct {
-	rep   *prepShell // the first member: l, centre, function type, scales
+	rep   *prepShell // a member of the highest angular momentum
 	first int        // index of the first member
 	m     int        // number of members
 	exps  []float64  // the first member's exponents
 	coefs []float64  // [member][primitive]: prepShell coefficients, 0 where a member lacks the primitive
-	nfunc int        // output functions per member
+	nf    int        // output functions of all members
 	off   int        // first function index of the group
+	lmin  int        // lowest angular momentum of a member
+	mem   []*prepShell
+	moff  []int // first function of each member, relative to off
+	ncart int   // Cartesian components of all members
 }
 
-// buildGroups groups the prepared shells. With grouped false every shell
-// is its own group (for code that needs single shells).
-func buildGroups(shells []Shell, ps []prepShell, grouped bool) []shellGroup {
+// Grouping modes of buildGroups.
+const (
+	groupNone  = iota // every shell its own group
+	groupSameL        // general contractions only (members of one angular momentum)
+	groupAll          // every run SameContraction allows
+)
+
+// buildGroups groups the prepared shells.
+func buildGroups(shells []Shell, ps []prepShell, mode int) []shellGroup {
 	var gs []shellGroup
 	starts := GroupStart(shells)
 	for i := range ps {
-		if grouped && !starts[i] {
-			gs[len(gs)-1].m++
+		cont := !starts[i] && mode != groupNone
+		if cont && mode == groupSameL && ps[i].l != gs[len(gs)-1].mem[0].l {
+			cont = false
+		}
+		if cont {
+			g := &gs[len(gs)-1]
+			g.m++
+			g.mem = append(g.mem, &ps[i])
 			continue
 		}
-		gs = append(gs, shellGroup{rep: &ps[i], first: i, m: 1, exps: ps[i].exps, nfunc: ps[i].nfunc, off: ps[i].off})
+		gs = append(gs, shellGroup{first: i, m: 1, exps: ps[i].exps, off: ps[i].off, mem: []*prepShell{&ps[i]}})
 	}
 	for g := range gs {
 		sg := &gs[g]
+		sg.rep, sg.lmin = sg.mem[0], sg.mem[0].l
+		for k, s := range sg.mem {
+			sg.moff = append(sg.moff, sg.nf)
+			sg.nf += s.nfunc
+			sg.ncart += s.ncart
+			if s.l > sg.rep.l {
+				sg.rep = sg.mem[k]
+			}
+			sg.lmin = min(sg.lmin, s.l)
+		}
 		sg.coefs = make([]float64, sg.m*len(sg.exps))
 		for k := range sg.m {
 			s := &ps[sg.first+k]
@@ -114,7 +143,16 @@ func newGroupPair(gs []shellGroup, a, b int) shellPair {
 	sa, sb := ga.rep, gb.rep
 	single := ga.m == 1 && gb.m == 1
 	sp := shellPair{s1: a, s2: b, l1: sa.l, l2: sb.l, same: a == b, nc1: ga.m, nc2: gb.m,
-		n1: ga.m * ga.nfunc, n2: gb.m * gb.nfunc, sh1: sa, sh2: sb}
+		n1: ga.nf, n2: gb.nf, sh1: sa, sh2: sb, lmin1: ga.lmin, lmin2: gb.lmin}
+	if !single {
+		sp.g1, sp.g2 = ga, gb
+		base := ncum(ga.lmin - 1)
+		for _, A := range ga.mem {
+			for _, B := range gb.mem {
+				sp.rng = append(sp.rng, int32(ncum(A.l-1)-base), int32(ncum(A.l+B.l)-base))
+			}
+		}
+	}
 	for d := range 3 {
 		sp.AB[d] = sa.center[d] - sb.center[d]
 	}
@@ -201,34 +239,46 @@ func finishGain(s *prepShell) float64 {
 // which is what quartet's primitive screening (eriWork.cut, primsFor)
 // relies on.
 func setPrimBounds(w *eriWork, sp *shellPair) {
-	raw1, raw2 := *sp.sh1, *sp.sh2
-	raw1.transform, raw2.transform = false, false
-	gain := finishGain(sp.sh1) * finishGain(sp.sh2)
-	one := shellPair{s1: sp.s1, s2: sp.s2, l1: sp.l1, l2: sp.l2, AB: sp.AB, nc1: 1, nc2: 1,
-		n1: raw1.ncart, n2: raw2.ncart, sh1: &raw1, sh2: &raw2, prims: make([]primPair, 1)}
 	cut := w.cut
 	w.cut = 0
 	defer func() { w.cut = cut }()
-	n1, n2 := one.n1, one.n2
-	for x := range sp.prims {
-		pp := &sp.prims[x]
+	// diag is √max|[ab|ab]| of primitive pair pp over the raw Cartesian
+	// components of shells A and B (the pair's centres and exponents).
+	one := shellPair{s1: sp.s1, s2: sp.s2, AB: sp.AB, nc1: 1, nc2: 1, prims: make([]primPair, 1)}
+	diag := func(pp *primPair, A, B *prepShell) float64 {
+		rawA, rawB := *A, *B
+		rawA.transform, rawB.transform = false, false
+		one.l1, one.l2, one.lmin1, one.lmin2 = A.l, B.l, A.l, B.l
+		one.n1, one.n2, one.sh1, one.sh2 = A.ncart, B.ncart, &rawA, &rawB
 		one.prims[0] = *pp
 		one.prims[0].c0, one.prims[0].c1 = 0, 0
-		wmax := 1.0
-		if len(sp.cw) > 0 {
-			wmax = 0
-			for _, c := range sp.cw[pp.c0:pp.c1] {
-				wmax = max(wmax, math.Abs(c.w))
-			}
-		}
 		blk := w.quartet(&one, &one)
+		n1, n2 := one.n1, one.n2
 		var m float64
 		for i := range n1 {
 			for j := range n2 {
 				m = max(m, math.Abs(blk[((i*n2+j)*n1+i)*n2+j]))
 			}
 		}
-		pp.bound = math.Sqrt(m) * wmax * gain
+		return math.Sqrt(m)
+	}
+	for x := range sp.prims {
+		pp := &sp.prims[x]
+		if len(sp.cw) == 0 {
+			pp.bound = diag(pp, sp.sh1, sp.sh2) * finishGain(sp.sh1) * finishGain(sp.sh2)
+			continue
+		}
+		pp.bound = 0
+		for _, c := range sp.cw[pp.c0:pp.c1] {
+			A, B := sp.sh1, sp.sh2
+			if sp.g1 != nil {
+				A = sp.g1.mem[int(c.k)/sp.nc2]
+			}
+			if sp.g2 != nil {
+				B = sp.g2.mem[int(c.k)%sp.nc2]
+			}
+			pp.bound = max(pp.bound, diag(pp, A, B)*math.Abs(c.w)*finishGain(A)*finishGain(B))
+		}
 	}
 	slices.SortStableFunc(sp.prims, func(a, b primPair) int {
 		switch {

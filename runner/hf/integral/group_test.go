@@ -36,7 +36,7 @@ func TestGroups_GeneralContractions(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		gs := buildGroups(shells, ps, true)
+		gs := buildGroups(shells, ps, groupAll)
 		var members []int
 		for _, g := range gs {
 			members = append(members, g.m)
@@ -50,7 +50,7 @@ func TestGroups_GeneralContractions(t *testing.T) {
 				t.Fatalf("group members %v, want %v", members, want)
 			}
 		}
-		if ug := buildGroups(shells, ps, false); len(ug) != len(shells) {
+		if ug := buildGroups(shells, ps, groupNone); len(ug) != len(shells) {
 			t.Errorf("ungrouped: %d groups for %d shells", len(ug), len(shells))
 		}
 	}
@@ -66,6 +66,12 @@ func TestGroups_GeneralContractions(t *testing.T) {
 // (quartets below 1e-15 stored as zero, primitive quartets skipped below
 // 1e-15 in total per block).
 func TestGeneralContraction_MatchesSeparateShells(t *testing.T) {
+	// Water in 6-31G* groups the oxygen's s and p shells over one
+	// exponent set (2sp, 3sp): 4 groups (1s, 2sp, 3sp, d) from 6 shells.
+	sp := basisShells(t, "6-31gs-HCO.json", waterAtoms(t), false)
+	if gs := buildGroups(sp, mustPrepare(sp, NormPerComponent), groupAll); len(sp) != 10 || len(gs) != 8 || gs[1].m != 2 || gs[1].lmin != 0 || gs[1].rep.l != 1 {
+		t.Fatalf("6-31G* water: %d shells in %d groups (second: %d members), want 10 in 8 (2sp: 2 members, l 0 and 1)", len(sp), len(gs), gs[1].m)
+	}
 	water := waterAtoms(t)
 	for _, tc := range []struct {
 		name   string
@@ -74,6 +80,7 @@ func TestGeneralContraction_MatchesSeparateShells(t *testing.T) {
 		{"cc-pVDZ pure, zero columns kept", basisShells(t, "cc-pvdz-HCO.json", water, true)},
 		{"cc-pVDZ pure, zeros dropped", dropZeros(basisShells(t, "cc-pvdz-HCO.json", water, true))},
 		{"cc-pVDZ Cartesian, zeros dropped", dropZeros(basisShells(t, "cc-pvdz-HCO.json", water, false))},
+		{"6-31G* (sp shells)", basisShells(t, "6-31gs-HCO.json", water, false)},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			eri, err := ComputeERI(t.Context(), tc.shells, NormPerComponent, 2)

@@ -42,20 +42,22 @@ func resolveWorkers(workers int) int {
 	return workers
 }
 
-// newERIBasis prepares the shell pairs: of shell groups when grouped
-// (general contractions computed once per primitive set, with primitive
-// pair bounds for primitive screening), of single shells otherwise.
-func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int, grouped bool) (*eriBasis, error) {
+// newERIBasis prepares the shell pairs: of shell groups as mode says
+// (buildGroups; shells sharing primitives computed once per primitive set,
+// with primitive pair bounds for primitive screening), of single shells
+// (no bounds) with groupNone.
+func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int, mode int) (*eriBasis, error) {
+	grouped := mode != groupNone
 	ps, err := prepare(shells, norm)
 	if err != nil {
 		return nil, err
 	}
-	eb := &eriBasis{ps: ps, gs: buildGroups(shells, ps, grouped), nbf: NumFunctions(shells)}
+	eb := &eriBasis{ps: ps, gs: buildGroups(shells, ps, mode), nbf: NumFunctions(shells)}
 	maxf := 0
 	for _, g := range eb.gs {
 		eb.maxl = max(eb.maxl, g.rep.l)
 		eb.maxm = max(eb.maxm, g.m)
-		maxf = max(maxf, g.m*g.rep.ncart)
+		maxf = max(maxf, g.ncart)
 	}
 	eb.maxBlock = maxf * maxf * maxf * maxf
 	ng := len(eb.gs)
@@ -186,7 +188,7 @@ func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int)
 	d.storedOnly = true
 	e := &ERI{d: d, fg: make([]int32, d.eb.nbf), fl: make([]int32, d.eb.nbf)}
 	for g, sg := range d.eb.gs {
-		for i := range sg.m * sg.nfunc {
+		for i := range sg.nf {
 			e.fg[sg.off+i], e.fl[sg.off+i] = int32(g), int32(i)
 		}
 	}

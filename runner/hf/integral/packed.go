@@ -41,7 +41,7 @@ func (e *PackedERI) NumFunctions() int { return e.n }
 // error for malformed shells or when ctx ends.
 func ComputePacked(ctx context.Context, shells []Shell, norm CartNorm, workers int) (*PackedERI, error) {
 	workers = resolveWorkers(workers)
-	eb, err := newERIBasis(ctx, shells, norm, workers, true)
+	eb, err := newERIBasis(ctx, shells, norm, workers, groupSameL)
 	if err != nil {
 		return nil, err
 	}
