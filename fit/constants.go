@@ -5,9 +5,9 @@ package fit
 // values of the fundamental physical constants: 2018", Rev. Mod. Phys. 93,
 // 025010 (2021), doi:10.1103/RevModPhys.93.025010).
 //
-// They duplicate a few of planner's constants on purpose: fit imports no
-// other wellscan package, so it carries the handful it needs, with the same
-// edition named. A test in the cmd layer may compare the two sets.
+// This is the program's one source of these numbers: fit is a leaf
+// (it imports no other wellscan package), so planner and fit/forcefield
+// take them from here by name.
 const (
 	// BohrInAngstrom is the Bohr radius a0 in ångström (CODATA 2018).
 	BohrInAngstrom = 0.529177210903
@@ -25,6 +25,22 @@ const (
 	// AmuInElectronMass is m_u/m_e (CODATA 2018: electron mass
 	// 5.48579909065e-4 u).
 	AmuInElectronMass = 1 / 5.48579909065e-4
+	// KcalInKJ is the thermochemical calorie in joule per gram-calorie
+	// (exactly 4.184, by definition).
+	KcalInKJ = 4.184
+	// SpeedOfLightCmPerS is c in cm/s (exact, by definition of the metre).
+	SpeedOfLightCmPerS = 29979245800
+	// AvogadroPerMol is N_A in mol⁻¹ (exact since 2019, CODATA 2018).
+	AvogadroPerMol = 6.02214076e23
+	// ElementaryChargeC is e in coulomb (exact, CODATA 2018).
+	ElementaryChargeC = 1.602176634e-19
+	// VacuumPermittivityFPerM is ε0 in F/m (CODATA 2018).
+	VacuumPermittivityFPerM = 8.8541878128e-12
+	// AtomicMassUnitKg is m_u in kg (CODATA 2018).
+	AtomicMassUnitKg = 1.66053906660e-27
+	// BohrElectronInDebye converts a dipole from e·a0 to debye: e·a0 =
+	// 8.4783536255e-30 C·m (CODATA 2018) and 1 D = 1e-21/c C·m.
+	BohrElectronInDebye = 8.4783536255e-30 * 299792458 / 1e-21
 	// HartreeInJoule is E_h in joule (CODATA 2018).
 	HartreeInJoule = 4.3597447222071e-18
 	// HartreePerBohr2InNPerM converts a force constant from E_h/a0² to N/m

@@ -54,3 +54,33 @@ func ExampleCurve() {
 	// ω_e = 1318.7 cm⁻¹, ω_e x_e = 9.90 cm⁻¹
 	// G(0) = 656.9 cm⁻¹
 }
+
+// A threefold hindered rotor, V(φ) = V3/2 (1 − cos 3φ) with V3 = 0.005 E_h
+// (invented, ethane-like) and a reduced moment of inertia of 5.5
+// amu·bohr², sampled every 10° over one period of 120°. The barrier is V3
+// (1097.4 cm⁻¹) and the harmonic wavenumber √(9V3/2 / I) (328.8 cm⁻¹),
+// both exact for the model.
+func ExampleTorsion() {
+	p := 2 * math.Pi / 3
+	var x, e []float64
+	for i := range 12 {
+		v := p * float64(i) / 12
+		x = append(x, v)
+		e = append(e, -79.2+0.0025*(1-math.Cos(3*v)))
+	}
+	res, err := fit.Torsion(context.Background(), x, e, p, fit.TorsionOptions{
+		Inertia: func(float64) (float64, error) { return 5.5, nil },
+	})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	m, b := res.Minima[0], res.Barriers[0]
+	fmt.Printf("minimum at %.0f°, %d per turn, harmonic %.1f cm⁻¹\n", m.XDegree, m.Multiplicity, m.HarmonicCm1)
+	fmt.Printf("barrier at %.0f°: %.1f cm⁻¹ = %.3f kcal/mol\n", b.XDegree, b.HeightCm1, b.HeightKcal)
+	fmt.Printf("rotor: %d wells per turn, ZPE %.1f cm⁻¹\n", res.Rotor.WellsPerTurn, res.Rotor.ZPE)
+	// Output:
+	// minimum at 0°, 3 per turn, harmonic 328.8 cm⁻¹
+	// barrier at 60°: 1097.4 cm⁻¹ = 3.138 kcal/mol
+	// rotor: 3 wells per turn, ZPE 158.0 cm⁻¹
+}

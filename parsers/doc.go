@@ -12,6 +12,15 @@
 // cannot be right for a molecule (positive total energy, a spike against
 // both neighbours).
 //
+// [Extractor.ExtractFrom] and [GradientExtractor.ExtractFrom] read from an
+// io.Reader and return exactly what Extract returns for the same bytes,
+// in memory that does not grow with the output wherever the extractor
+// allows it: labels, patterns that cannot match across a line break and
+// gradient blocks are read line by line, keeping only the matches the
+// match rule needs; JSON is decoded one document at a time; a pattern
+// that can span lines reads the whole output, within a cap
+// ([ErrOutputTooLarge]).
+//
 // XYZ files are read and written with [ReadXYZ] and [WriteXYZ] (several
 // frames per file); [FormatXYZComment] and [ParseXYZComment] put a point's
 // key and energy on a frame's comment line.

@@ -132,6 +132,12 @@ type Extractor struct {
 	path  JSONPath
 	match int // n>0: n-th from the start; n<0: from the end
 	unit  EnergyUnit
+	// lineBound: every match lies within one line, so ExtractFrom reads
+	// line by line (else notLineBound says why not); needle is a text
+	// every match contains (nil: none known).
+	lineBound    bool
+	notLineBound string
+	needle       []byte
 }
 
 // The extractor kinds.
@@ -204,6 +210,7 @@ func (s ExtractorSpec) Compile() (Extractor, error) {
 		// Split on blanks and tabs only: the pattern joins the words with
 		// [ \t]+, and any other character stays part of a word.
 		words := strings.FieldsFunc(label, func(r rune) bool { return r == ' ' || r == '\t' })
+		x.needle = []byte(words[0]) // every match holds the label's first word
 		for i, w := range words {
 			words[i] = regexp.QuoteMeta(w)
 		}
@@ -213,6 +220,7 @@ func (s ExtractorSpec) Compile() (Extractor, error) {
 		}
 		x.re = re
 		x.desc = fmt.Sprintf("label %q", clip(label))
+
 	case KindJSON:
 		if s.Pattern != "" || s.Label != "" {
 			return Extractor{}, errors.New("parsers: energy extractor of kind json takes a path, not a pattern or label")
@@ -234,6 +242,10 @@ func (s ExtractorSpec) Compile() (Extractor, error) {
 		// A pattern that matches nothing at all would match at every
 		// position of the output; no energy is written as nothing.
 		return Extractor{}, fmt.Errorf("parsers: energy %s matches the empty text, so it would match everywhere; make the energy group match at least one character (\\S+, not \\S*)", x.desc)
+	}
+	x.lineBound, x.notLineBound = lineBound(x.re.String())
+	if x.kind == KindRegexp {
+		x.needle = needleOf(x.re)
 	}
 	return x, nil
 }

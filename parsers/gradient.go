@@ -227,6 +227,12 @@ func (x GradientExtractor) Extract(output []byte, natoms int) ([][3]float64, err
 	if err != nil {
 		return nil, fmt.Errorf("%w\n%s", err, Tail(output, TailLines))
 	}
+	return x.finish(rows)
+}
+
+// finish checks the rows read and converts them to hartree/bohr (forces
+// negated).
+func (x GradientExtractor) finish(rows [][3]float64) ([][3]float64, error) {
 	f := x.unit.toHartreePerBohr()
 	if x.force {
 		f = -f

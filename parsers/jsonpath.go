@@ -201,19 +201,5 @@ func (x Extractor) findJSON(output []byte) (string, *ExtractError) {
 	if i < 0 || i >= len(docs) {
 		return "", &ExtractError{Err: ErrEnergyMissing, Detail: fmt.Sprintf("looking for %s: the output holds %d JSON document(s), but %s was asked for", x.desc, len(docs), matchName(x.match))}
 	}
-	v, where, ok := x.path.Lookup(docs[i])
-	if !ok {
-		return "", &ExtractError{Err: ErrEnergyMissing, Detail: fmt.Sprintf("%s: %s", x.desc, where)}
-	}
-	switch t := v.(type) {
-	case json.Number:
-		return string(t), nil
-	case float64:
-		return strconv.FormatFloat(t, 'g', -1, 64), nil
-	case string:
-		return t, nil
-	case nil:
-		return "", &ExtractError{Err: ErrEnergyMissing, Detail: fmt.Sprintf("%s is null", x.desc)}
-	}
-	return "", &ExtractError{Err: ErrEnergyInvalid, Detail: fmt.Sprintf("%s is %s, not a number", x.desc, jsonKind(v))}
+	return x.jsonValue(docs[i])
 }

@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/spatial/r3"
 )
 
 // CoordKind is the kind of an internal coordinate.
@@ -495,16 +496,20 @@ func perpendicular(w [3]float64) [3]float64 {
 	return cross(e, w)
 }
 
-func sub(a, b [3]float64) [3]float64 { return [3]float64{a[0] - b[0], a[1] - b[1], a[2] - b[2]} }
-func add(a, b [3]float64) [3]float64 { return [3]float64{a[0] + b[0], a[1] + b[1], a[2] + b[2]} }
+// Vector algebra on positions ([3]float64, bohr) through gonum's
+// spatial/r3.
+func v3(a [3]float64) r3.Vec         { return r3.Vec{X: a[0], Y: a[1], Z: a[2]} }
+func a3(v r3.Vec) [3]float64         { return [3]float64{v.X, v.Y, v.Z} }
+func sub(a, b [3]float64) [3]float64 { return a3(r3.Sub(v3(a), v3(b))) }
+func add(a, b [3]float64) [3]float64 { return a3(r3.Add(v3(a), v3(b))) }
 func scale(a [3]float64, s float64) [3]float64 {
-	return [3]float64{a[0] * s, a[1] * s, a[2] * s}
+	return a3(r3.Scale(s, v3(a)))
 }
-func dot(a, b [3]float64) float64 { return a[0]*b[0] + a[1]*b[1] + a[2]*b[2] }
+func dot(a, b [3]float64) float64 { return r3.Dot(v3(a), v3(b)) }
 func cross(a, b [3]float64) [3]float64 {
-	return [3]float64{a[1]*b[2] - a[2]*b[1], a[2]*b[0] - a[0]*b[2], a[0]*b[1] - a[1]*b[0]}
+	return a3(r3.Cross(v3(a), v3(b)))
 }
-func norm(a [3]float64) float64    { return math.Sqrt(dot(a, a)) }
+func norm(a [3]float64) float64    { return r3.Norm(v3(a)) }
 func unit(a [3]float64) [3]float64 { return scale(a, 1/norm(a)) }
 func atomList(idx []int) string {
 	var b strings.Builder

@@ -9,6 +9,8 @@ import (
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
+
+	"wellscan/fit/forcefield"
 )
 
 // ForceFieldSpec is the [forcefield] table: instead of scanning
@@ -659,40 +661,10 @@ func cleanSign(v []float64) {
 // same list, in the same order, as fit/forcefield.QFFDisplacements after
 // its first (reference) entry.
 func quarticStencil(n int) [][]int {
-	mk := func(pairs ...int) []int {
-		s := make([]int, n)
-		for k := 0; k < len(pairs); k += 2 {
-			s[pairs[k]] = pairs[k+1]
-		}
-		return s
-	}
-	var out [][]int
-	for i := range n {
-		for _, s := range []int{-2, -1, 1, 2} {
-			out = append(out, mk(i, s))
-		}
-	}
-	for i := range n {
-		for j := i + 1; j < n; j++ {
-			for _, si := range []int{-1, 1} {
-				for _, sj := range []int{-1, 1} {
-					out = append(out, mk(i, si, j, sj))
-				}
-			}
-		}
-	}
-	for i := range n {
-		for j := i + 1; j < n; j++ {
-			for k := j + 1; k < n; k++ {
-				for _, si := range []int{-1, 1} {
-					for _, sj := range []int{-1, 1} {
-						for _, sk := range []int{-1, 1} {
-							out = append(out, mk(i, si, j, sj, k, sk))
-						}
-					}
-				}
-			}
-		}
+	ds := forcefield.QFFDisplacements(n)[1:] // without the reference
+	out := make([][]int, len(ds))
+	for k, d := range ds {
+		out[k] = d.Steps
 	}
 	return out
 }
@@ -980,47 +952,11 @@ func symmetrise(m Molecule, ops []SymOp) (Molecule, float64) {
 func symmetryAdaptedBasis(m Molecule, masses []float64, ops []SymOp) (basis [][]float64, irrep []int, chars [][]int, linear bool, err error) {
 	n := len(m.Atoms)
 	n3 := 3 * n
-	com := centreOfMass(m, masses)
-	var tr [][]float64
-	for k := range 3 {
-		v := make([]float64, n3)
-		for a := range n {
-			v[3*a+k] = math.Sqrt(masses[a])
-		}
-		tr = append(tr, v)
+	pos := make([][3]float64, n)
+	for a := range n {
+		pos[a] = m.Atoms[a].Pos
 	}
-	for k := range 3 {
-		var e [3]float64
-		e[k] = 1
-		v := make([]float64, n3)
-		for a := range n {
-			c := cross(e, sub(m.Atoms[a].Pos, com))
-			for q := range 3 {
-				v[3*a+q] = math.Sqrt(masses[a]) * c[q]
-			}
-		}
-		tr = append(tr, v)
-	}
-	var ortho [][]float64
-	for _, v := range tr {
-		n0 := math.Sqrt(dotN(v, v))
-		for range 2 {
-			for _, u := range ortho {
-				c := dotN(u, v)
-				for i := range v {
-					v[i] -= c * u[i]
-				}
-			}
-		}
-		nv := math.Sqrt(dotN(v, v))
-		if nv <= 1e-6*math.Max(n0, 1) {
-			continue
-		}
-		for i := range v {
-			v[i] /= nv
-		}
-		ortho = append(ortho, v)
-	}
+	ortho := forcefield.ExternalMotions(pos, masses)
 	linear = len(ortho) == 5
 	pvib := mat.NewDense(n3, n3, nil)
 	for i := range n3 {
@@ -1118,14 +1054,6 @@ func symmetryAdaptedBasis(m Molecule, masses []float64, ops []SymOp) (basis [][]
 
 // axisSign is the sign op.R gives principal axis k.
 func axisSign(op SymOp, k int) int { return op.Signs[k] }
-
-func dotN(a, b []float64) float64 {
-	s := 0.0
-	for i := range a {
-		s += a[i] * b[i]
-	}
-	return s
-}
 
 // ffParseKey rebuilds a stage-1 point from its key; stage-2 keys depend on
 // stage-1 results and are not rebuilt from the key alone.

@@ -3,6 +3,7 @@ package planner
 import (
 	"fmt"
 	"math"
+	"path/filepath"
 )
 
 // RelaxSpec is the [relax] table: settings of relaxed scans (a [[scan]]
@@ -38,6 +39,9 @@ type HeldCoordinate struct {
 // Relaxed reports whether the spec's points are relaxed (every other
 // coordinate optimised) rather than rigid.
 func (s *Spec) Relaxed() bool {
+	if s.single {
+		return true
+	}
 	for _, sc := range s.Scan {
 		if sc.Relax != nil && *sc.Relax {
 			return true
@@ -155,11 +159,14 @@ func (s *Spec) validateRelax() error {
 	if relaxed > 0 && relaxed < len(s.Scan) {
 		return s.errAt("scan", "relax = true in %d of %d [[scan]] blocks: a point is either relaxed or rigid, so set it in every block (or none)", relaxed, len(s.Scan))
 	}
+	if s.single && s.Engine.Kind == "model" {
+		return s.errAt("engine.kind", "wellscan relax needs an engine that computes molecules (builtin or command); a model potential has no geometry to optimise")
+	}
 	if relaxed > 0 && s.Engine.Kind == "model" {
 		return s.errAt("scan", "relax = true needs an engine that computes molecules (builtin or command); a model potential has no other coordinates to optimise")
 	}
 	r := s.Relax
-	if relaxed == 0 && (len(r.Hold) > 0 || len(r.Tie) > 0 || r.MaxSteps != 0 || r.Tighter != 0) {
+	if relaxed == 0 && !s.single && (len(r.Hold) > 0 || len(r.Tie) > 0 || r.MaxSteps != 0 || r.Tighter != 0) {
 		return s.errAt("relax", "[relax] settings apply to relaxed scans only; add relax = true to the [[scan]] blocks")
 	}
 	if r.MaxSteps < 0 {
@@ -214,4 +221,45 @@ func (s *Spec) relaxFingerprint() any {
 		return nil
 	}
 	return map[string]any{"hold": s.Relax.Hold, "tie": s.Relax.Tie, "max_steps": s.Relax.MaxSteps, "tighter": s.Relax.Tighter}
+}
+
+// LoadSingle reads the spec of one geometry optimisation (`wellscan relax
+// DIR`): [molecule], [engine] (builtin or command), optionally [relax]
+// (hold, tie, max_steps, tighter) and [queue] (threads), and no [[scan]]
+// blocks, [refine] or [forcefield]. The spec counts as relaxed (Relaxed
+// is true, Held lists the [relax] holds only, Coordinates is empty), so a
+// backend computes its one point as it would a relaxed scan point, with
+// no coordinate values.
+func LoadSingle(path string) (*Spec, error) {
+	data, err := readCapped(path, MaxSpecBytes, "a spec")
+	if err != nil {
+		return nil, err
+	}
+	return decode(data, path, filepath.Dir(path), true)
+}
+
+// DecodeSingle is LoadSingle for a spec held in memory; filename labels
+// errors and is the base for relative paths.
+func DecodeSingle(data []byte, filename string) (*Spec, error) {
+	if len(data) > MaxSpecBytes {
+		return nil, fmt.Errorf("planner: %s: %d bytes, more than the %d a spec may have", filename, len(data), MaxSpecBytes)
+	}
+	return decode(data, filename, filepath.Dir(filename), true)
+}
+
+// Single reports whether the spec describes one geometry optimisation
+// (LoadSingle) rather than a scan.
+func (s *Spec) Single() bool { return s.single }
+
+// checkSingle refuses the tables of a scan in a single-geometry spec.
+func (s *Spec) checkSingle() error {
+	switch {
+	case len(s.Scan) > 0:
+		return s.errAt("scan[1]", "wellscan relax optimises the one geometry in [molecule] and takes no [[scan]] blocks; run a scan with wellscan run (relax = true in each [[scan]] for a relaxed scan)")
+	case s.meta.IsDefined("forcefield"):
+		return s.errAt("forcefield", "wellscan relax takes no [forcefield] table; compute a force field with wellscan run")
+	case s.meta.IsDefined("refine"):
+		return s.errAt("refine", "[refine] applies to scans; wellscan relax computes one geometry")
+	}
+	return nil
 }

@@ -94,3 +94,38 @@ func TestSpec_GeometryFrom_SetsScanValues(t *testing.T) {
 		t.Errorf("fixed atom 3 moved by %g bohr", d)
 	}
 }
+
+// TestDecodeSingle: a spec of one geometry (no [[scan]]) is relaxed,
+// holds only its [relax] coordinates, and refuses the tables of a scan
+// and a model engine; Decode refuses it and points at `wellscan relax`.
+func TestDecodeSingle(t *testing.T) {
+	const base = "[molecule]\ngeometry = \"\"\"\nO 0 0 0\nH 0.96 0 0\nH -0.24 0.93 0\n\"\"\"\n"
+	s, err := DecodeSingle([]byte(base+"[engine]\nkind = \"builtin\"\nbasis = \"sto-3g\"\n[relax]\nhold = [[2, 1, 3]]\nmax_steps = 7\n"), "single.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !s.Single() || !s.Relaxed() || s.ScanMode() != "relaxed" || len(s.Coordinates()) != 0 || len(s.InitialPoints()) != 0 {
+		t.Errorf("single spec: Single %v Relaxed %v mode %q, %d coordinates, %d points", s.Single(), s.Relaxed(), s.ScanMode(), len(s.Coordinates()), len(s.InitialPoints()))
+	}
+	h := s.Held()
+	// The bend of the geometry above, computed here: acos(u·v/|u||v|).
+	want := math.Acos((0.96 * -0.24) / (0.96 * math.Hypot(0.24, 0.93)))
+	if len(h) != 1 || h[0].Kind != KindAngle || math.Abs(h[0].Value-want) > 1e-12 { // exact arithmetic up to rounding
+		t.Errorf("Held = %+v, want one bend of %.12f rad", h, want)
+	}
+	if n, _ := s.RelaxLimits(); n != 7 {
+		t.Errorf("max_steps = %d, want 7", n)
+	}
+	for _, tc := range []struct{ text, want string }{
+		{base + "[engine]\nkind = \"builtin\"\nbasis = \"sto-3g\"\n[[scan]]\nname = \"r\"\nbond = [1, 2]\nvalues = [1]\n", "no [[scan]] blocks"},
+		{base + "[engine]\nkind = \"builtin\"\nbasis = \"sto-3g\"\n[refine]\nadaptive = false\n", "[refine] applies to scans"},
+		{base + "[engine]\nkind = \"model\"\n[[engine.model.term]]\nshape = \"harmonic\"\nforce = 1\n", "no geometry to optimise"},
+	} {
+		if _, err := DecodeSingle([]byte(tc.text), "single.toml"); err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("DecodeSingle: error %v, want %q", err, tc.want)
+		}
+	}
+	if _, err := Decode([]byte(base+"[engine]\nkind = \"builtin\"\nbasis = \"sto-3g\"\n"), "scan.toml"); err == nil || !strings.Contains(err.Error(), "wellscan relax DIR") {
+		t.Errorf("Decode without [[scan]]: %v, want a pointer to wellscan relax DIR", err)
+	}
+}

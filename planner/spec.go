@@ -46,6 +46,7 @@ type Spec struct {
 	files  *fileHashes // hash of the files the engine reads, computed once
 	ff     *FF         // nil for a coordinate scan
 	notes  []string    // remarks that are not errors (Notes)
+	single bool        // one geometry to optimise, no [[scan]] (LoadSingle)
 }
 
 // MoleculeSpec is the [molecule] table.
@@ -245,7 +246,7 @@ func Load(path string) (*Spec, error) {
 	if err != nil {
 		return nil, err
 	}
-	return decode(data, path, filepath.Dir(path))
+	return decode(data, path, filepath.Dir(path), false)
 }
 
 // Decode decodes and validates a spec. filename labels errors and is the
@@ -254,16 +255,16 @@ func Decode(data []byte, filename string) (*Spec, error) {
 	if len(data) > MaxSpecBytes {
 		return nil, fmt.Errorf("planner: %s: %d bytes, more than the %d a spec may have", filename, len(data), MaxSpecBytes)
 	}
-	return decode(data, filename, filepath.Dir(filename))
+	return decode(data, filename, filepath.Dir(filename), false)
 }
 
 var tomlErrRE = regexp.MustCompile(`^toml: line (\d+) \(last key "([^"]*)"\): (.*)$`)
 
-func decode(data []byte, filename, dir string) (*Spec, error) {
+func decode(data []byte, filename, dir string, single bool) (*Spec, error) {
 	if err := checkTOMLShape(data, filename); err != nil {
 		return nil, err
 	}
-	s := &Spec{file: filename, dir: dir, text: append([]byte(nil), data...), files: &fileHashes{}}
+	s := &Spec{file: filename, dir: dir, text: append([]byte(nil), data...), files: &fileHashes{}, single: single}
 	md, err := toml.NewDecoder(bytes.NewReader(data)).Decode(s)
 	if err != nil {
 		var pe toml.ParseError

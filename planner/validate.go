@@ -55,7 +55,11 @@ func (s *Spec) validate() error {
 	if err := s.buildMolecule(); err != nil {
 		return err
 	}
-	if s.meta.IsDefined("forcefield") {
+	if s.single {
+		if err := s.checkSingle(); err != nil {
+			return err
+		}
+	} else if s.meta.IsDefined("forcefield") {
 		if len(s.Scan) > 0 {
 			return s.errAt("forcefield", "give [[scan]] blocks or a [forcefield] table, not both")
 		}
@@ -198,7 +202,7 @@ func (s *Spec) buildMolecule() error {
 
 func (s *Spec) buildCoordinates() error {
 	if len(s.Scan) == 0 {
-		return s.errAt("scan", "missing: give one or two [[scan]] blocks")
+		return s.errAt("scan", "missing: give one or two [[scan]] blocks (to optimise one geometry, use wellscan relax DIR)")
 	}
 	if len(s.Scan) > 2 {
 		return s.errAt(fmt.Sprintf("scan[%d]", 3), "at most two [[scan]] blocks (a 1-D scan or a 2-D product grid)")

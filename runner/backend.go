@@ -40,28 +40,52 @@ type LinePoint struct {
 	At   float64
 }
 
-// Outcome is what a backend computed for one point. A calculation that
-// ran but did not converge is an Outcome with Converged false and a Class,
+// Outcome is what a backend computed for one point, and the part of a
+// [Result] (the point's result file) that says so. A calculation that ran
+// but did not converge is an Outcome with Converged false and a Class,
 // not an error.
 type Outcome struct {
-	Energy     float64 // hartree
-	Converged  bool
-	Iterations int
-	SSquared   *float64 // ⟨S²⟩ for unrestricted methods
-	// OrbitalsPath is a file (absolute, or relative to Task.Dir) that a
-	// later neighbour may start from; "" if none.
-	OrbitalsPath string
-	Extra        map[string]float64
-	// Class names the failure when Converged is false ("not-converged",
-	// …); empty on success.
-	Class string
-	// Detail explains a failure (the error text, with the end of the
-	// program's output where there is one).
-	Detail string
+	Energy     float64  `json:"energy_hartree"` // hartree
+	Converged  bool     `json:"converged"`
+	Iterations int      `json:"iterations,omitempty"`
+	SSquared   *float64 `json:"s_squared,omitempty"` // ⟨S²⟩ for unrestricted methods
+	// Orbitals is a file that a later neighbour may start from; "" if
+	// none. A backend may give it absolute or relative to Task.Dir (the
+	// point directory); a Result holds it relative to the point directory.
+	Orbitals string `json:"orbitals,omitempty"`
+	// Extra holds further numbers of the calculation, by name (each name
+	// carries its unit: "dipole_x_e_bohr", "mp2_correlation_hartree").
+	Extra map[string]float64 `json:"extra,omitempty"`
+	// Class names the failure when Converged is false; empty on success.
+	Class FailureClass `json:"class,omitempty"`
+	// Error explains a failure (the error text, with the end of the
+	// program's output where there is one). In a Result it starts with
+	// the backend's name.
+	Error string `json:"error,omitempty"`
 	// Permanent marks a failure that would come back the same way on
 	// another try (a missing program, an energy that is not in the
 	// output): the point is not retried.
-	Permanent bool
+	Permanent bool `json:"permanent,omitempty"`
+	// Flags are yes/no facts about how the point was computed.
+	Flags PointFlags `json:"flags,omitzero"`
+}
+
+// PointFlags are yes/no facts a backend reports about how it computed a
+// point; the zero value says nothing happened that a flag names.
+type PointFlags struct {
+	// FromNeighbour: the calculation started from a done neighbour (its
+	// orbitals, or for a relaxed point its relaxed geometry and Hessian)
+	// and kept that start.
+	FromNeighbour bool `json:"from_neighbour,omitempty"`
+	// GuessReplaced: a cold start run beside the neighbour's reached a
+	// lower state and replaced it (the built-in engine's cold check).
+	GuessReplaced bool `json:"guess_replaced,omitempty"`
+	// Relaxed: the geometry was optimised with the scanned coordinates
+	// held (a relaxed scan).
+	Relaxed bool `json:"relaxed,omitempty"`
+	// GradientsRead: the relaxation read its gradients from the program's
+	// output rather than by finite differences of energies.
+	GradientsRead bool `json:"gradients_read,omitempty"`
 }
 
 // Backend computes the energy of one point. Compute must honour ctx
@@ -90,18 +114,63 @@ type Completion struct {
 	LeftRunning bool
 }
 
-// Worker runs one task to completion, writing its result file. Queues
-// call it (in process) or arrange for its equivalent to run elsewhere.
+// Worker runs one task to completion in this process, writing its result
+// file: what a [Pool] calls for each task.
 type Worker func(ctx context.Context, t Task) Completion
 
-// Queue runs tasks. Run reads tasks from in until in is closed, runs each
-// with w and sends exactly one Completion per task on out; it returns once
-// every task it took has completed. When ctx is cancelled it stops taking
-// new work; tasks in flight end early with Interrupted set. Run must not
-// close out.
+// Queue is where a scan's points run. A queue is one of two kinds and
+// implements exactly one of their interfaces: a [Pool] runs tasks in this
+// process with the runner's own worker; a [Batch] hands them to a system
+// that computes them elsewhere and may outlive this process. [Runner.Run]
+// refuses a queue that is neither.
 type Queue interface {
+	// Name names the queue in events and messages ("local", "slurm").
 	Name() string
 	// Slots is how many tasks may run at once.
 	Slots() int
-	Run(ctx context.Context, w Worker, in <-chan Task, out chan<- Completion) error
+}
+
+// Pool is a queue whose workers run tasks in this process (runner/local),
+// one per free worker: the round loop then orders the points for the
+// continuation guess and may hold a worker back until a first point is
+// done.
+type Pool interface {
+	Queue
+	// Run reads tasks from in until in is closed, runs each with compute
+	// and sends exactly one Completion per task on out; it returns once
+	// every task it took has completed. When ctx is cancelled it stops
+	// taking new work; tasks in flight end early with Interrupted set.
+	// Run must not close out.
+	Run(ctx context.Context, compute Worker, in <-chan Task, out chan<- Completion) error
+}
+
+// Batch is a queue that hands tasks to a system that computes them
+// elsewhere (a batch scheduler whose compute nodes call [ComputePoint])
+// and keeps running them after this process stops.
+type Batch interface {
+	Queue
+	// Submit reads tasks from in until in is closed, has each computed
+	// elsewhere and sends exactly one Completion per task on out (its
+	// result, a failure of the queue's own, or Interrupted for a task to
+	// plan again without using an attempt); it returns once every task it
+	// took has completed. When ctx is cancelled, or with opts.Detach once
+	// in is closed, it stops watching instead: tasks the batch system has
+	// go back with LeftRunning set, the others Interrupted. Submit must
+	// not close out.
+	Submit(ctx context.Context, in <-chan Task, out chan<- Completion, opts BatchOptions) error
+	// DetachNote says what an interrupted run leaves with the batch
+	// system: that the tasks go on, and how to see and cancel them.
+	DetachNote() string
+}
+
+// BatchOptions are what the round loop tells a [Batch] for one Submit.
+type BatchOptions struct {
+	// Detach: once in is closed, submit what is gathered and return at
+	// once, every task in flight as LeftRunning ([Runner.Detach]).
+	Detach bool
+	// Notice, if not nil, is told what the user should hear of while tasks
+	// run (the scheduler stops answering, and answers again); the round
+	// loop passes each message on as an [EventNotice]. It may be called
+	// from the queue's goroutine and never blocks.
+	Notice func(msg string)
 }

@@ -184,8 +184,13 @@ func (f *ScanFS) WriteFile(rel string, data []byte, suffix string, durable bool)
 		return fmt.Errorf("runner: close %s: %w", full, err)
 	}
 	if err := f.root.Rename(tmp, rel); err != nil {
-		f.root.Remove(tmp)
-		return fmt.Errorf("runner: rename %s: %w", full, err)
+		// On NFS a retransmitted rename can report ENOENT although it
+		// happened: the temporary name is gone and the file is in place.
+		_, tmpErr := f.root.Lstat(tmp)
+		if st, stErr := f.root.Lstat(rel); !errors.Is(err, fs.ErrNotExist) || !errors.Is(tmpErr, fs.ErrNotExist) || stErr != nil || !st.Mode().IsRegular() {
+			f.root.Remove(tmp)
+			return fmt.Errorf("runner: rename %s: %w", full, err)
+		}
 	}
 	if !durable {
 		return nil

@@ -127,10 +127,6 @@ func lagrange(xs, ys []float64, x float64) float64 {
 	return s
 }
 
-// ClassEnergyJump is the failure class of a point that the energy-jump
-// rule rejected (see [FindJumps]).
-const ClassEnergyJump = "energy-jump"
-
 // Jump is a done point that breaks away from both of its neighbours along
 // one scan line. Energies are hartree.
 type Jump struct {

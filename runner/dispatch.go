@@ -3,12 +3,14 @@ package runner
 import (
 	"container/heap"
 	"math"
+
+	"wellscan/planner"
 )
 
 // dispatcher decides which planned point goes to the next free worker.
 // Continuation works best when a point starts from a done neighbour one
 // step away, so on a queue that runs points in this process's workers
-// (InProcessQueue) points are handed out by the squared distance to their
+// (a Pool) points are handed out by the squared distance to their
 // nearest done point with orbitals (smallest first, then round, then
 // coordinate order). A round with nothing done starts from the planned
 // point nearest the middle of all planned points; with one or two slots
@@ -32,7 +34,7 @@ import (
 // re-scan when the queue of points with a done neighbour runs dry, which
 // is linear and happens about once per round.
 type dispatcher struct {
-	r        *Runner
+	r        *scanRun
 	h        dispatchHeap
 	key      map[string]float64 // the distance each planned point is queued with
 	planned  map[string]*PointRecord
@@ -45,27 +47,19 @@ type dispatcher struct {
 
 // ContinuationBackend is implemented by backends that start a point from
 // the orbitals of a done neighbour (Task.GuessPath) and leave their own
-// for the next (Outcome.OrbitalsPath); UsesGuess reports whether this one
+// for the next (Outcome.Orbitals); UsesGuess reports whether this one
 // does (a spec can turn the guess off). The round loop orders points for
 // continuation only for such backends; others get plain order.
 type ContinuationBackend interface {
 	UsesGuess() bool
 }
 
-// InProcessQueue is implemented by queues whose workers run tasks in this
-// process, one per free worker (runner/local): the round loop then orders
-// the points for the continuation guess and may hold a worker back until
-// a first point is done.
-type InProcessQueue interface {
-	InProcess() bool
-}
-
-func newDispatcher(r *Runner) *dispatcher {
+func newDispatcher(r *scanRun) *dispatcher {
 	d := &dispatcher{r: r, key: map[string]float64{}, planned: map[string]*PointRecord{},
 		running: map[string]*PointRecord{}, prepared: map[string]Task{}}
-	q, ok := r.Queue.(InProcessQueue)
+	_, pool := r.Queue.(Pool)
 	cb, cont := r.Backend.(ContinuationBackend)
-	d.plain = !ok || !q.InProcess() || !cont || !cb.UsesGuess() || r.Spec.Engine.Guess == "fresh"
+	d.plain = !pool || !cont || !cb.UsesGuess() || r.Spec.Engine.Guess == "fresh"
 	d.wait = r.Queue.Slots() <= 2
 	for _, rec := range r.recs {
 		if rec.State == Done {
@@ -287,6 +281,44 @@ func (d *dispatcher) neighbours(rec *PointRecord, f func(*PointRecord)) {
 				}
 			}
 		}
+	}
+}
+
+// task builds the Task for rec: geometry, directory, continuation guess
+// and a thread share.
+func (r *scanRun) task(rec *PointRecord, active int) (Task, error) {
+	p := planner.Point{Key: rec.Key, Values: rec.Values}
+	mol, err := r.Spec.Geometry(p)
+	if err != nil {
+		return Task{}, err
+	}
+	t := Task{Key: rec.Key, Values: rec.Values, Mol: mol, Dir: PointDir(r.Dir, rec.Key), Attempt: rec.Attempts + 1, Cold: rec.Jumps > 0}
+	// A point whose energy jumped is recomputed from a cold start: its
+	// continuation guess may be what carried it onto another state.
+	r.setGuess(&t, rec)
+	r.setThreads(&t, active)
+	return t, nil
+}
+
+// preparedTask is task, reusing the geometry of a task prepared for rec
+// earlier and not handed out; the guess and thread share are chosen anew.
+func (r *scanRun) preparedTask(d *dispatcher, rec *PointRecord, active int) (Task, error) {
+	if t, ok := d.prepared[rec.Key]; ok && t.Attempt == rec.Attempts+1 {
+		r.setGuess(&t, rec)
+		r.setThreads(&t, active)
+		return t, nil
+	}
+	t, err := r.task(rec, active)
+	if err == nil {
+		d.prepared[rec.Key] = t
+	}
+	return t, err
+}
+
+func (r *scanRun) setThreads(t *Task, active int) {
+	t.Threads = r.Spec.Queue.Threads
+	if t.Threads == 0 {
+		t.Threads = max(1, r.CPUs/max(1, min(r.Queue.Slots(), active)))
 	}
 }
 

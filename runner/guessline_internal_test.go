@@ -9,7 +9,7 @@ func TestGuessLine_PicksPointsOnTheLine(t *testing.T) {
 	done := func(key string, v ...float64) *PointRecord {
 		return &PointRecord{Key: key, Values: v, State: Done, Orbitals: "points/" + key + "/orbitals.bin"}
 	}
-	r := &Runner{Dir: "/scan", recs: map[string]*PointRecord{}}
+	r := &scanRun{Runner: Runner{Dir: "/scan"}, recs: map[string]*PointRecord{}}
 	for _, p := range []*PointRecord{
 		done("a", 1.0, 2.0), done("b", 1.2, 2.0), done("c", 1.4, 2.0), done("d", 3.0, 2.0), // row y = 2
 		done("e", 1.6, 2.5), // off the row

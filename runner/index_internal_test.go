@@ -95,13 +95,12 @@ func TestCoordTree_LineNext(t *testing.T) {
 	}
 }
 
-// inProcessQueue is a queue stand-in with slots and the in-process mark;
-// the dispatcher tests never run it.
+// inProcessQueue is a Pool stand-in with slots; the dispatcher tests
+// never run it.
 type inProcessQueue struct{ slots int }
 
-func (q inProcessQueue) Name() string    { return "test" }
-func (q inProcessQueue) Slots() int      { return q.slots }
-func (q inProcessQueue) InProcess() bool { return true }
+func (q inProcessQueue) Name() string { return "test" }
+func (q inProcessQueue) Slots() int   { return q.slots }
 func (q inProcessQueue) Run(context.Context, Worker, <-chan Task, chan<- Completion) error {
 	return nil
 }
@@ -119,7 +118,7 @@ func (guessBackend) Compute(context.Context, Task) (Outcome, error) { return Out
 // (a point beside a running one would start cold), then the points next
 // to done ones, nearest first.
 func TestDispatcher_LineOrder(t *testing.T) {
-	r := &Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{2}, Backend: guessBackend{}, recs: map[string]*PointRecord{}}
+	r := &scanRun{Runner: Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{2}, Backend: guessBackend{}}, recs: map[string]*PointRecord{}}
 	for i := range 9 {
 		k := fmt.Sprintf("x%d", i)
 		r.recs[k] = &PointRecord{Key: k, Values: []float64{float64(i)}, State: Planned, Round: 1}
@@ -163,7 +162,7 @@ func TestDispatcher_LineOrder(t *testing.T) {
 // done, the workers after the first seed the points farthest from the
 // running ones instead of waiting.
 func TestDispatcher_ManySlots_SeedsFarApart(t *testing.T) {
-	r := &Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{4}, Backend: guessBackend{}, recs: map[string]*PointRecord{}}
+	r := &scanRun{Runner: Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{4}, Backend: guessBackend{}}, recs: map[string]*PointRecord{}}
 	for i := range 9 {
 		k := fmt.Sprintf("x%d", i)
 		r.recs[k] = &PointRecord{Key: k, Values: []float64{float64(i)}, State: Planned, Round: 1}
@@ -188,7 +187,7 @@ func TestDispatcher_ManySlots_SeedsFarApart(t *testing.T) {
 // TestDispatcher_PlainOrder_WithoutContinuation: a backend that does not
 // continue from neighbours gets the points in coordinate order.
 func TestDispatcher_PlainOrder_WithoutContinuation(t *testing.T) {
-	r := &Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{2}, recs: map[string]*PointRecord{}}
+	r := &scanRun{Runner: Runner{Spec: &planner.Spec{}, Queue: inProcessQueue{2}}, recs: map[string]*PointRecord{}}
 	for i := range 5 {
 		k := fmt.Sprintf("x%d", i)
 		r.recs[k] = &PointRecord{Key: k, Values: []float64{float64(i)}, State: Planned, Round: 1}
@@ -209,7 +208,7 @@ func TestDispatcher_PlainOrder_WithoutContinuation(t *testing.T) {
 // waves of slots still to run, not the elapsed time (which on a batch
 // queue is mostly waiting) over the points recorded.
 func TestRunner_ETA_FromPointTimes(t *testing.T) {
-	r := &Runner{Queue: inProcessQueue{2}}
+	r := &scanRun{Runner: Runner{Queue: inProcessQueue{2}}}
 	if got := r.eta(5); got != 0 {
 		t.Errorf("eta before any point = %s, want 0 (unknown)", got)
 	}

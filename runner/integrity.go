@@ -92,24 +92,24 @@ func resultSum(r Result) string {
 // fingerprint) and says done, replaces the record; otherwise the point is
 // planned again (its attempts kept). Either way an event names the point
 // and the copy that is kept.
-func (r *Runner) repairDamaged(rec *PointRecord) {
+func (r *scanRun) repairDamaged(rec *PointRecord) {
 	rec.Damaged = ""
-	if res, ok := ReadResult(r.Dir, rec.Key, r.fp); ok && res.Status == "done" {
+	if res, ok := ReadResult(r.Dir, rec.Key, r.fp); ok && res.Status == ResultDone {
 		r.apply(rec, res)
-		r.emit(Event{Kind: "repair", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("the stored record of %s failed its checksum; kept the copy in %s (checksum intact): E = %.10f hartree",
+		r.emit(Event{Kind: EventRepair, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("the stored record of %s failed its checksum; kept the copy in %s (checksum intact): E = %.10f hartree",
 			rec.Key, PointDir(r.Dir, rec.Key)+"/"+ResultFile, res.Energy)})
 		return
 	}
 	rec.State, rec.Energy, rec.Converged, rec.Class, rec.LastError = Planned, nil, false, "", ""
 	r.touch(rec)
-	r.emit(Event{Kind: "repair", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("the stored record of %s failed its checksum and no intact result file exists; the store's copy is discarded and the point computed again", rec.Key)})
+	r.emit(Event{Kind: EventRepair, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("the stored record of %s failed its checksum and no intact result file exists; the store's copy is discarded and the point computed again", rec.Key)})
 }
 
 // warnOnce records a "warning" event the first time a convenience file
 // (the store backup, status.json) cannot be written: the scan goes on,
 // since the store holds everything, but the user is told why the file is
 // missing or stale (a symbolic link in its place, a full disk).
-func (r *Runner) warnOnce(what string, err error) {
+func (r *scanRun) warnOnce(what string, err error) {
 	if err == nil {
 		return
 	}
@@ -120,5 +120,5 @@ func (r *Runner) warnOnce(what string, err error) {
 		return
 	}
 	r.warned[what] = true
-	r.emit(Event{Kind: "warning", Round: r.round, Message: fmt.Sprintf("could not write the %s (the scan goes on; the store has every result): %v", what, err)})
+	r.emit(Event{Kind: EventWarning, Round: r.round, Message: fmt.Sprintf("could not write the %s (the scan goes on; the store has every result): %v", what, err)})
 }

@@ -91,7 +91,7 @@ func eventsFor(evs []runner.Event, key string) (retries, failures []runner.Event
 		switch e.Kind {
 		case "retry":
 			retries = append(retries, e)
-		case string(runner.Failed):
+		case runner.EventFailed:
 			failures = append(failures, e)
 		}
 	}

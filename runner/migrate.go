@@ -1,9 +1,9 @@
 package runner
 
 import (
-	"encoding/json"
 	"fmt"
 	"math"
+	"runtime/debug"
 	"sort"
 
 	bolt "go.etcd.io/bbolt"
@@ -15,7 +15,8 @@ import (
 // why, in one transaction (so a crash cannot lose a record between the
 // two). Used when points are folded onto canonical keys; the point
 // directories stay on disk.
-func (s *Store) Rekey(put []PointRecord, del []string, events []Event) error {
+func (s *Store) Rekey(put []PointRecord, del []string, events []Event) (err error) {
+	defer guardStore(s.path(), &err, debug.SetPanicOnFault(true))
 	return s.db.Update(func(tx *bolt.Tx) error {
 		pb := tx.Bucket(bucketPoints)
 		for _, k := range del {
@@ -23,32 +24,10 @@ func (s *Store) Rekey(put []PointRecord, del []string, events []Event) error {
 				return err
 			}
 		}
-		for _, r := range put {
-			r.V = recordVersion
-			b, err := json.Marshal(r)
-			if err != nil {
-				return err
-			}
-			if err := pb.Put([]byte(r.Key), b); err != nil {
-				return err
-			}
+		if err := putRecords(pb, put); err != nil {
+			return err
 		}
-		eb := tx.Bucket(bucketEvents)
-		for i := range events {
-			seq, err := eb.NextSequence()
-			if err != nil {
-				return err
-			}
-			events[i].Seq = seq
-			b, err := json.Marshal(events[i])
-			if err != nil {
-				return err
-			}
-			if err := eb.Put(u64(seq), b); err != nil {
-				return err
-			}
-		}
-		return nil
+		return appendEvents(tx.Bucket(bucketEvents), events)
 	})
 }
 
@@ -79,7 +58,7 @@ func canonicalKeys(spec *planner.Spec, recs map[string]*PointRecord) (renamed []
 			recs[cp.Key] = rec
 			renamed = append(renamed, rec)
 			removed = append(removed, k)
-			events = append(events, Event{Kind: "resume", Key: cp.Key, Message: fmt.Sprintf("point %s is the same geometry as %s (the torsion's values are kept modulo its period): recorded under %s", k, cp.Key, cp.Key)})
+			events = append(events, Event{Kind: EventResume, Key: cp.Key, Message: fmt.Sprintf("point %s is the same geometry as %s (the torsion's values are kept modulo its period): recorded under %s", k, cp.Key, cp.Key)})
 		case rec.State == Done && other.State != Done:
 			// The computed one wins the canonical key.
 			rec.Key, rec.Values = cp.Key, cp.Values
@@ -88,7 +67,7 @@ func canonicalKeys(spec *planner.Spec, recs map[string]*PointRecord) (renamed []
 			recs[cp.Key] = rec
 			renamed = append(renamed, rec)
 			removed = append(removed, k)
-			events = append(events, Event{Kind: "resume", Key: cp.Key, Message: fmt.Sprintf("point %s (done) is the same geometry as %s (%s): its energy is recorded under %s", k, cp.Key, other.State, cp.Key)})
+			events = append(events, Event{Kind: EventResume, Key: cp.Key, Message: fmt.Sprintf("point %s (done) is the same geometry as %s (%s): its energy is recorded under %s", k, cp.Key, other.State, cp.Key)})
 		default:
 			msg := fmt.Sprintf("point %s is the same geometry as %s (the torsion's values are kept modulo its period); %s is kept", k, cp.Key, cp.Key)
 			if rec.State == Done && other.State == Done && rec.Energy != nil && other.Energy != nil {
@@ -100,7 +79,7 @@ func canonicalKeys(spec *planner.Spec, recs map[string]*PointRecord) (renamed []
 			}
 			delete(recs, k)
 			removed = append(removed, k)
-			events = append(events, Event{Kind: "resume", Key: k, Message: msg})
+			events = append(events, Event{Kind: EventResume, Key: k, Message: msg})
 		}
 	}
 	return renamed, removed, events

@@ -41,10 +41,11 @@ type PointRecord struct {
 	Iterations int                `json:"iterations,omitempty"`
 	SSquared   *float64           `json:"s_squared,omitempty"`
 	Extra      map[string]float64 `json:"extra,omitempty"`
+	Flags      PointFlags         `json:"flags,omitzero"`
 	Orbitals   string             `json:"orbitals,omitempty"` // relative to the scan directory
 	Backend    string             `json:"backend,omitempty"`
 	JobID      string             `json:"job_id,omitempty"`
-	Class      string             `json:"class,omitempty"` // failure class of the last attempt
+	Class      FailureClass       `json:"class,omitempty"` // failure class of the last attempt
 	LastError  string             `json:"last_error,omitempty"`
 	Planned    time.Time          `json:"planned"`
 	Started    time.Time          `json:"started,omitzero"`
@@ -73,13 +74,58 @@ type PointRecord struct {
 type Event struct {
 	Seq     uint64    `json:"seq"`
 	Time    time.Time `json:"time"`
-	Kind    string    `json:"kind"` // a State, or "round", "refine", "retry", "resume", "interrupt", "finish"
+	Kind    EventKind `json:"kind"`
 	Key     string    `json:"key,omitempty"`
 	Round   int       `json:"round,omitempty"`
 	Message string    `json:"message,omitempty"`
 	// Progress is filled for observers (not stored).
 	Progress *Progress `json:"-"`
 }
+
+// EventKind says what an [Event] records. The strings are what the
+// store's event log and `run --json` hold.
+type EventKind string
+
+// Event kinds. A point that changes state is recorded under the kind of
+// its new state.
+const (
+	EventPlanned   = EventKind(Planned)
+	EventSubmitted = EventKind(Submitted)
+	EventRunning   = EventKind(Running)
+	EventDone      = EventKind(Done)
+	EventFailed    = EventKind(Failed)
+	EventDropped   = EventKind(Dropped)
+
+	// EventRound: a round was planned (from the grid, or by refinement).
+	EventRound EventKind = "round"
+	// EventRefine: refinement judged a finished round.
+	EventRefine EventKind = "refine"
+	// EventRetry: a failed point is planned again (attempts left, an
+	// energy jump, or the user's request).
+	EventRetry EventKind = "retry"
+	// EventResume: the store was brought in line with the files on disk,
+	// or accepted a change (an engine change before any point finished,
+	// keys made canonical).
+	EventResume EventKind = "resume"
+	// EventInterrupt: the run was cancelled; points in flight return to
+	// planned.
+	EventInterrupt EventKind = "interrupt"
+	// EventDetach: a detached run left its points with the queue.
+	EventDetach EventKind = "detach"
+	// EventFinish: refinement is over.
+	EventFinish EventKind = "finish"
+	// EventRepair: a record that failed its checksum was replaced.
+	EventRepair EventKind = "repair"
+	// EventWarning: a convenience file (status.json, the store backup)
+	// could not be written; the scan goes on.
+	EventWarning EventKind = "warning"
+	// EventRebuild: the store was rebuilt from the result files.
+	EventRebuild EventKind = "rebuild"
+	// EventNotice: a message from the queue while points run (a
+	// scheduler that stopped answering, and answers again). Observers get
+	// it; the store's log does not keep it.
+	EventNotice EventKind = "notice"
+)
 
 // Progress is a count of the scan's points at one moment.
 type Progress struct {

@@ -205,16 +205,12 @@ func RebuildStore(dir string, spec *planner.Spec, force bool, now time.Time) (ou
 		}
 		rec := PointRecord{Key: key, Values: p.Values, Round: 1, Attempts: res.Attempt, Backend: res.Backend,
 			Planned: res.Started, Started: res.Started, Finished: res.Finished}
-		if res.Status == "done" {
-			en := res.Energy
-			rec.State, rec.Energy, rec.Converged, rec.Iterations, rec.SSquared, rec.Extra = Done, &en, true, res.Iterations, res.SSquared, res.Extra
-			rec.Seconds = res.Finished.Sub(res.Started).Seconds()
-			if res.Orbitals != "" {
-				rec.Orbitals = filepath.ToSlash(filepath.Join(PointsDir, key, res.Orbitals))
-			}
+		if res.Status == ResultDone {
+			rec.setDone(res, storedOrbitals(dir, key, res.Orbitals))
 			out.Done++
 		} else {
-			rec.State, rec.Class, rec.LastError = Failed, res.Class, res.Error
+			rec.State = Failed
+			rec.setFailure(res)
 			out.Failed++
 		}
 		recs = append(recs, rec)
@@ -232,7 +228,7 @@ func RebuildStore(dir string, spec *planner.Spec, force bool, now time.Time) (ou
 		s := &Store{db: db, dir: dir}
 		err = errors.Join(db.Update(func(tx *bolt.Tx) error { return initBuckets(tx, now) }),
 			s.SetSpec(spec.Text(), fp),
-			s.Commit(recs, nil, []Event{{Time: now, Kind: "rebuild", Message: fmt.Sprintf("store rebuilt from result files: %d done, %d failed, %d point directories without a usable result", out.Done, out.Failed, len(out.Skipped))}}),
+			s.Commit(recs, nil, []Event{{Time: now, Kind: EventRebuild, Message: fmt.Sprintf("store rebuilt from result files: %d done, %d failed, %d point directories without a usable result", out.Done, out.Failed, len(out.Skipped))}}),
 			db.Sync())
 		return errors.Join(err, db.Close())
 	}(); err != nil {

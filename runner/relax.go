@@ -233,9 +233,14 @@ func writePointFiles(t Task, res *geomopt.Result, mode string) error {
 }
 
 // writePointFile writes name into the point directory pointDir
-// (<scan>/points/<key>) through the scan's confined writer: temporary
+// (<scan>/points/<key>, or a directory of its own for one geometry)
+// through the scan's confined writer: temporary
 // file, fsync, rename, never through a symbolic link.
 func writePointFile(pointDir, name string, data []byte) error {
+	if filepath.Base(filepath.Dir(pointDir)) != PointsDir {
+		// A point outside a scan (wellscan relax DIR) is its own root.
+		return writeInScan(pointDir, name, data, tmpSuffix(), true)
+	}
 	scan := filepath.Dir(filepath.Dir(pointDir))
 	return writeInScan(scan, filepath.Join(PointsDir, filepath.Base(pointDir), name), data, tmpSuffix(), true)
 }

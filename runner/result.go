@@ -12,33 +12,90 @@ import (
 // resultVersion is the schema version of result files.
 const resultVersion = 1
 
+// ResultStatus says how a point's computation ended; the strings are
+// what result files hold.
+type ResultStatus string
+
+// Result statuses.
+const (
+	// ResultDone: an energy was computed and converged.
+	ResultDone ResultStatus = "done"
+	// ResultFailed: no usable energy; the Result's Class says why.
+	ResultFailed ResultStatus = "failed"
+)
+
 // Result is the content of points/<key>/result.json, written by whoever
-// computed the point. Status is "done" or "failed".
+// computed the point: which point and attempt, the backend's [Outcome],
+// and who computed it when.
 type Result struct {
-	V           int                `json:"v"`
-	Key         string             `json:"key"`
-	Fingerprint string             `json:"fingerprint"`
-	Attempt     int                `json:"attempt"`
-	Status      string             `json:"status"`
-	Energy      float64            `json:"energy_hartree"`
-	Converged   bool               `json:"converged"`
-	Iterations  int                `json:"iterations,omitempty"`
-	SSquared    *float64           `json:"s_squared,omitempty"`
-	Orbitals    string             `json:"orbitals,omitempty"` // relative to the point directory
-	Extra       map[string]float64 `json:"extra,omitempty"`
-	Class       string             `json:"class,omitempty"`
-	Error       string             `json:"error,omitempty"`
-	// Permanent: the failure would recur on another try; not retried.
-	Permanent bool      `json:"permanent,omitempty"`
-	Backend   string    `json:"backend"`
-	Host      string    `json:"host"`
-	PID       int       `json:"pid"`
-	Started   time.Time `json:"started"`
-	Finished  time.Time `json:"finished"`
+	V           int          `json:"v"`
+	Key         string       `json:"key"`
+	Fingerprint string       `json:"fingerprint"`
+	Attempt     int          `json:"attempt"`
+	Status      ResultStatus `json:"status"`
+	// Outcome is what was computed (its orbitals file relative to the
+	// point directory; its error, for a failure, starting with the
+	// backend's name). Its fields come here in the file.
+	Outcome
+	Backend  string    `json:"backend"`
+	Host     string    `json:"host"`
+	PID      int       `json:"pid"`
+	Started  time.Time `json:"started"`
+	Finished time.Time `json:"finished"`
 	// Sum is the file's checksum (see resultSum); a file whose content
 	// does not match it is treated as absent. Files of an earlier
 	// wellscan have none and are not checked.
 	Sum string `json:"sum,omitempty"`
+}
+
+// FailedResult is the Result of task t that failed where no backend
+// computed it (a batch queue whose submission failed, a compute node that
+// cannot build the geometry): attempt t.Attempt failed with class and
+// msg between start and end, on this host, reported by the named backend
+// or queue. permanent: the failure would come back on another try.
+func FailedResult(t Task, fingerprint, backend string, class FailureClass, permanent bool, msg string, start, end time.Time) Result {
+	host, _ := os.Hostname()
+	return failedResult(t, fingerprint, backend, host, class, permanent, msg, start, end)
+}
+
+func failedResult(t Task, fingerprint, backend, host string, class FailureClass, permanent bool, msg string, start, end time.Time) Result {
+	return Result{Key: t.Key, Fingerprint: fingerprint, Attempt: t.Attempt, Status: ResultFailed,
+		Outcome: Outcome{Class: class, Error: msg, Permanent: permanent},
+		Backend: backend, Host: host, PID: os.Getpid(), Started: start, Finished: end}
+}
+
+// The one conversion between a Result (what a worker wrote) and a
+// PointRecord (what the store keeps): the record holds the Outcome of a
+// done point, and the class and error of a failed one.
+
+// setDone records the done result res on rec; orbitals is res's orbitals
+// file in the store's form (slash-separated, relative to the scan
+// directory), "" to keep rec's.
+func (rec *PointRecord) setDone(res Result, orbitals string) {
+	e := res.Energy
+	rec.State, rec.Energy, rec.Converged = Done, &e, true
+	rec.Iterations, rec.SSquared, rec.Extra, rec.Flags = res.Iterations, res.SSquared, res.Extra, res.Flags
+	rec.Class, rec.LastError = "", ""
+	rec.Seconds = res.Finished.Sub(res.Started).Seconds()
+	if orbitals != "" {
+		rec.Orbitals = orbitals
+	}
+}
+
+// setFailure records the class and error of the failed result res on
+// rec (its state is the caller's to decide: planned again or failed).
+func (rec *PointRecord) setFailure(res Result) {
+	rec.Class, rec.LastError = res.Class, res.Error
+}
+
+// doneResult is the Result a done record stands for, as its result file
+// held it: fingerprint fp, written by host; orbitals is the record's
+// orbitals file relative to the point directory ("" for none).
+func (rec *PointRecord) doneResult(fp, host, orbitals string) Result {
+	return Result{Key: rec.Key, Fingerprint: fp, Attempt: rec.Attempts, Status: ResultDone,
+		Outcome: Outcome{Energy: *rec.Energy, Converged: rec.Converged, Iterations: rec.Iterations, SSquared: rec.SSquared,
+			Orbitals: orbitals, Extra: rec.Extra, Flags: rec.Flags},
+		Backend: rec.Backend, Host: host, PID: os.Getpid(), Started: rec.Started, Finished: rec.Finished}
 }
 
 // PointDir is the work directory of the point with key in scan dir.
@@ -78,7 +135,7 @@ func ReadResult(dir, key, fingerprint string) (Result, bool) {
 	if json.Unmarshal(b, &r) != nil || r.V != resultVersion || r.Key != key || r.Fingerprint != fingerprint {
 		return Result{}, false
 	}
-	if r.Status != "done" && r.Status != "failed" {
+	if r.Status != ResultDone && r.Status != ResultFailed {
 		return Result{}, false
 	}
 	if r.Sum != "" && r.Sum != resultSum(r) {

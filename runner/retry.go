@@ -11,14 +11,6 @@ import (
 	"wellscan/planner"
 )
 
-// permanentClasses are failure classes that come back the same way on
-// another try; records written before PointRecord.Permanent existed are
-// judged by them.
-var permanentClasses = map[string]bool{
-	"program-missing": true, "output-missing": true, "energy-missing": true, "energy-invalid": true,
-	"setup-failed": true, ClassEnergyJump: true, "geometry": true, "not-converged": true, "scf-not-converged": true,
-}
-
 // isPermanent reports whether a failed record may be retried only on the
 // user's request.
 func isPermanent(rec *PointRecord) bool {
@@ -28,13 +20,13 @@ func isPermanent(rec *PointRecord) bool {
 // retryIfAllowed plans a failed point again when its failure may pass on
 // another try and the spec now allows more attempts than it has had (the
 // user raised [queue] attempts).
-func (r *Runner) retryIfAllowed(rec *PointRecord) {
+func (r *scanRun) retryIfAllowed(rec *PointRecord) {
 	if isPermanent(rec) || rec.Attempts >= r.Spec.Queue.Attempts {
 		return
 	}
 	rec.State = Planned
 	r.touch(rec)
-	r.emit(Event{Kind: "retry", Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("failed after %d attempt(s) (%s); queue.attempts is now %d, so it is tried again", rec.Attempts, rec.Class, r.Spec.Queue.Attempts)})
+	r.emit(Event{Kind: EventRetry, Key: rec.Key, Round: rec.Round, Message: fmt.Sprintf("failed after %d attempt(s) (%s); queue.attempts is now %d, so it is tried again", rec.Attempts, rec.Class, r.Spec.Queue.Attempts)})
 }
 
 // Selection picks failed points for RetryPoints: every failed point, the
@@ -42,7 +34,7 @@ func (r *Runner) retryIfAllowed(rec *PointRecord) {
 type Selection struct {
 	All     bool
 	Keys    []string
-	Classes []string
+	Classes []FailureClass
 }
 
 func (s Selection) match(rec *PointRecord) bool {
@@ -100,7 +92,7 @@ func RetryPoints(dir string, spec *planner.Spec, sel Selection, now time.Time) (
 		if rec.State != Failed && rec.State != Dropped {
 			continue
 		}
-		failed = append(failed, fmt.Sprintf("%s (%s)", rec.Key, orWord(rec.Class, string(rec.State))))
+		failed = append(failed, fmt.Sprintf("%s (%s)", rec.Key, orWord(string(rec.Class), string(rec.State))))
 		if !sel.match(rec) {
 			continue
 		}
@@ -108,8 +100,8 @@ func RetryPoints(dir string, spec *planner.Spec, sel Selection, now time.Time) (
 		rec.State, rec.Attempts, rec.Jumps, rec.Permanent, rec.Damaged = Planned, 0, 0, false, ""
 		changed = append(changed, *rec)
 		keys = append(keys, rec.Key)
-		events = append(events, Event{Time: now, Kind: "retry", Key: rec.Key, Round: rec.Round,
-			Message: fmt.Sprintf("planned again by request (was %s: %s); attempts start afresh", was, orWord(rec.Class, "dropped"))})
+		events = append(events, Event{Time: now, Kind: EventRetry, Key: rec.Key, Round: rec.Round,
+			Message: fmt.Sprintf("planned again by request (was %s: %s); attempts start afresh", was, orWord(string(rec.Class), "dropped"))})
 	}
 	for _, k := range sel.Keys {
 		if !known[k] {
@@ -164,7 +156,7 @@ func DropPoints(dir string, spec *planner.Spec, keys []string, reason string, no
 		}
 		rec.State, rec.Class, rec.LastError = Dropped, "", msg
 		changed = append(changed, *rec)
-		events = append(events, Event{Time: now, Kind: string(Dropped), Key: k, Round: rec.Round, Message: msg})
+		events = append(events, Event{Time: now, Kind: EventDropped, Key: k, Round: rec.Round, Message: msg})
 	}
 	if len(changed) == 0 {
 		return nil, nil
@@ -188,11 +180,6 @@ func orWord(s, d string) string {
 // not one bad point, few enough to save the rest of the grid.
 const sameFailureCount = 3
 
-// setupClasses are failures of the set-up rather than of a point: they
-// recur at every point (the program does not start, a file it needs is
-// missing, the template cannot be rendered).
-var setupClasses = map[string]bool{"program-missing": true, "setup-failed": true, "output-missing": true}
-
 // ErrSameFailure is returned (wrapped) by Run when its first points all
 // failed the same deterministic way and the round was stopped.
 var ErrSameFailure = errors.New("runner: the first points all failed the same way")
@@ -202,12 +189,12 @@ var ErrSameFailure = errors.New("runner: the first points all failed the same wa
 // returns an error that stops the round with one message (the remaining
 // points stay planned, and their attempts are untouched). Once any point
 // is done, or the first ones differ, it never fires.
-func (r *Runner) sameFailureStop(c Completion) error {
+func (r *scanRun) sameFailureStop(c Completion) error {
 	if r.firstsOff || c.Interrupted || c.LeftRunning {
 		return nil
 	}
 	res := c.Result
-	if c.Reused || res.Status == "done" || !res.Permanent || !setupClasses[res.Class] ||
+	if c.Reused || res.Status == ResultDone || !res.Permanent || !setupClasses[res.Class] ||
 		(len(r.firsts) > 0 && r.firsts[0].Class != res.Class) {
 		r.firstsOff = true
 		return nil
@@ -223,6 +210,6 @@ func (r *Runner) sameFailureStop(c Completion) error {
 	}
 	msg := fmt.Sprintf("the first %d points (%s) all failed with %s, which comes back the same way at every point; the round is stopped so that the rest of the grid is not tried in vain. The error: %s. Fix the settings and run again: a change to [engine] is accepted while no point has finished, and the failed points are planned again",
 		len(keys), strings.Join(keys, ", "), res.Class, res.Error)
-	r.emit(Event{Kind: string(Failed), Round: r.round, Message: msg})
+	r.emit(Event{Kind: EventFailed, Round: r.round, Message: msg})
 	return fmt.Errorf("%w: %s", ErrSameFailure, msg)
 }

@@ -63,7 +63,7 @@ func TestRetryAndDrop(t *testing.T) {
 		t.Fatalf("run = %v, want ErrPointsFailed", err)
 	}
 	now := time.Now()
-	if _, err := runner.RetryPoints(dir, spec, runner.Selection{Classes: []string{"program-missing"}}, now); !errors.Is(err, runner.ErrNothingSelected) || !strings.Contains(err.Error(), "r=1.10000 (error)") {
+	if _, err := runner.RetryPoints(dir, spec, runner.Selection{Classes: []runner.FailureClass{runner.ClassProgramMissing}}, now); !errors.Is(err, runner.ErrNothingSelected) || !strings.Contains(err.Error(), "r=1.10000 (error)") {
 		t.Errorf("RetryPoints(no such class) = %v, want ErrNothingSelected listing r=1.10000 (error)", err)
 	}
 	if _, err := runner.DropPoints(dir, spec, []string{"r=9.99999"}, "", now); !errors.Is(err, runner.ErrNothingSelected) {
@@ -104,7 +104,7 @@ func TestRetryAndDrop(t *testing.T) {
 	var kinds []string
 	for _, e := range evs {
 		if e.Key == "r=1.10000" && (e.Kind == "dropped" || strings.Contains(e.Message, "by request")) {
-			kinds = append(kinds, e.Kind)
+			kinds = append(kinds, string(e.Kind))
 		}
 	}
 	if strings.Join(kinds, ",") != "dropped,retry" {
@@ -119,7 +119,7 @@ type missingProgram struct{ calls atomic.Int32 }
 func (*missingProgram) Name() string { return "command" }
 func (m *missingProgram) Compute(ctx context.Context, t runner.Task) (runner.Outcome, error) {
 	m.calls.Add(1)
-	return runner.Outcome{Class: "program-missing", Detail: `program "qmprog": executable file not found in $PATH`, Permanent: true}, nil
+	return runner.Outcome{Class: "program-missing", Error: `program "qmprog": executable file not found in $PATH`, Permanent: true}, nil
 }
 
 // TestRunner_SameFailure_StopsRound_ThenSettingsChange is issue 19 item 1
@@ -186,7 +186,7 @@ func TestRunner_PointsDeletedMidRun(t *testing.T) {
 	deleted := make(chan struct{})
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: b, Queue: local.New(2),
 		OnEvent: func(e runner.Event) {
-			if e.Kind == string(runner.Done) && done.Add(1) == 3 {
+			if e.Kind == runner.EventDone && done.Add(1) == 3 {
 				// Workers keep writing while it goes: retry until it is gone.
 				var err error
 				for range 20 {

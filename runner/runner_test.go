@@ -362,3 +362,31 @@ func TestRun_Resume_CountsEarlierPoints(t *testing.T) {
 			err, again.Computed, again.Earlier, first.Earlier, first.Counts[runner.Done])
 	}
 }
+
+// nameOnlyQueue has a name and slots but neither runs nor submits tasks.
+type nameOnlyQueue struct{}
+
+func (nameOnlyQueue) Name() string { return "half" }
+func (nameOnlyQueue) Slots() int   { return 1 }
+
+// A queue that is neither a Pool nor a Batch is refused before the store
+// is touched: no point is planned.
+func TestRunner_Run_QueueNeitherPoolNorBatch(t *testing.T) {
+	dir, spec := scanDir(t, morseSpec)
+	st, err := runner.OpenScan(dir, spec, runner.OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer st.Close()
+	b, err := model.New(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: b, Queue: nameOnlyQueue{}}
+	if _, err := r.Run(t.Context()); err == nil || !strings.Contains(err.Error(), "neither a runner.Pool nor a runner.Batch") {
+		t.Fatalf("Run with a queue of neither kind = %v, want the refusal", err)
+	}
+	if recs, err := st.Points(); err != nil || len(recs) != 0 {
+		t.Errorf("store holds %d points (%v) after the refusal, want none", len(recs), err)
+	}
+}

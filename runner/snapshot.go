@@ -76,10 +76,10 @@ type PointJSON struct {
 
 // PointErrorJSON is the last error of a point.
 type PointErrorJSON struct {
-	Key   string `json:"key"`
-	Class string `json:"class"`
-	Error string `json:"error"`
-	State State  `json:"state"`
+	Key   string       `json:"key"`
+	Class FailureClass `json:"class"`
+	Error string       `json:"error"`
+	State State        `json:"state"`
 }
 
 // BuildSnapshot summarises records for status.json.
@@ -160,11 +160,19 @@ func coords(spec *planner.Spec, v []float64) map[string]float64 {
 
 // WriteSnapshot writes status.json atomically.
 func WriteSnapshot(dir string, s Snapshot) error {
+	b, err := snapshotJSON(s)
+	if err != nil {
+		return err
+	}
+	return writeInScan(dir, StatusFile, b, tmpSuffix(), true)
+}
+
+func snapshotJSON(s Snapshot) ([]byte, error) {
 	b, err := json.MarshalIndent(s, "", "  ")
 	if err != nil {
-		return fmt.Errorf("runner: status snapshot: %w", err)
+		return nil, fmt.Errorf("runner: status snapshot: %w", err)
 	}
-	return writeInScan(dir, StatusFile, append(b, '\n'), tmpSuffix(), true)
+	return append(b, '\n'), nil
 }
 
 // ReadSnapshot reads status.json.

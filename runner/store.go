@@ -86,7 +86,11 @@ type Store struct {
 	readOnly bool
 	seq      uint64
 	stale    *LockInfo // lock record of a run that died, found by Open
-	notes    []string  // what OpenScan accepted that the user should hear of
+	// root is the scan directory as opened by Open for writing: Close
+	// removes the lock record through it, wherever the directory went
+	// meanwhile (a scan moved while it ran).
+	root  *os.Root
+	notes []string // what OpenScan accepted that the user should hear of
 }
 
 // OpenOptions tune Open.
@@ -160,6 +164,7 @@ func Open(dir string, opts OpenOptions) (s *Store, err error) {
 			db.Close()
 			return nil, err
 		}
+		s.root, _ = os.OpenRoot(dir) // nil: Close removes the record by path
 	}
 	if err := s.checkFormat(); err != nil {
 		s.Close()
@@ -283,7 +288,12 @@ func (s *Store) checkFormat() (err error) {
 // the store was open for writing.
 func (s *Store) Close() error {
 	err := s.db.Close()
-	if !s.readOnly {
+	switch {
+	case s.root != nil:
+		s.root.Remove(LockFile)
+		s.root.Close()
+		s.root = nil
+	case !s.readOnly:
 		os.Remove(filepath.Join(s.dir, LockFile))
 	}
 	return err
@@ -369,18 +379,10 @@ func (s *Store) Commit(recs []PointRecord, rounds []RoundRecord, events []Event)
 		return nil
 	}
 	return s.db.Update(func(tx *bolt.Tx) error {
-		pb, rb, eb := tx.Bucket(bucketPoints), tx.Bucket(bucketRounds), tx.Bucket(bucketEvents)
-		for _, r := range recs {
-			r.V = recordVersion
-			r.Sum = recordSum(r)
-			b, err := json.Marshal(r)
-			if err != nil {
-				return err
-			}
-			if err := pb.Put([]byte(r.Key), b); err != nil {
-				return err
-			}
+		if err := putRecords(tx.Bucket(bucketPoints), recs); err != nil {
+			return err
 		}
+		rb := tx.Bucket(bucketRounds)
 		for _, r := range rounds {
 			r.V = recordVersion
 			b, err := json.Marshal(r)
@@ -391,22 +393,44 @@ func (s *Store) Commit(recs []PointRecord, rounds []RoundRecord, events []Event)
 				return err
 			}
 		}
-		for i := range events {
-			seq, err := eb.NextSequence()
-			if err != nil {
-				return err
-			}
-			events[i].Seq = seq
-			b, err := json.Marshal(events[i])
-			if err != nil {
-				return err
-			}
-			if err := eb.Put(u64(seq), b); err != nil {
-				return err
-			}
-		}
-		return nil
+		return appendEvents(tx.Bucket(bucketEvents), events)
 	})
+}
+
+// putRecords writes point records with their version and checksum.
+func putRecords(pb *bolt.Bucket, recs []PointRecord) error {
+	for _, r := range recs {
+		r.V = recordVersion
+		r.Sum = recordSum(r)
+		b, err := json.Marshal(r)
+		if err != nil {
+			return err
+		}
+		if err := pb.Put([]byte(r.Key), b); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// appendEvents appends events to the log, giving each its sequence
+// number.
+func appendEvents(eb *bolt.Bucket, events []Event) error {
+	for i := range events {
+		seq, err := eb.NextSequence()
+		if err != nil {
+			return err
+		}
+		events[i].Seq = seq
+		b, err := json.Marshal(events[i])
+		if err != nil {
+			return err
+		}
+		if err := eb.Put(u64(seq), b); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 func u64(v uint64) []byte {

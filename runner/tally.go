@@ -6,7 +6,7 @@ import "time"
 // at every flush from the records that changed (every state change
 // touches its record), so the progress shown with each commit costs
 // nothing per point already recorded.
-func (r *Runner) tallyCounts() map[State]int {
+func (r *scanRun) tallyCounts() map[State]int {
 	if r.tally == nil {
 		r.tally, r.tallied = map[State]int{}, make(map[string]State, len(r.recs))
 		for _, s := range States {
@@ -25,7 +25,7 @@ func (r *Runner) tallyCounts() map[State]int {
 }
 
 // retally brings the tally in line with the records marked dirty.
-func (r *Runner) retally() {
+func (r *scanRun) retally() {
 	if r.tally == nil {
 		return
 	}
@@ -47,7 +47,7 @@ func (r *Runner) retally() {
 
 // measure adds the compute time of a point this run computed (its result
 // file's start and finish) to the basis of the ETA.
-func (r *Runner) measure(res Result) {
+func (r *scanRun) measure(res Result) {
 	if d := res.Finished.Sub(res.Started); d > 0 {
 		r.pointTime += d
 	}
@@ -58,7 +58,7 @@ func (r *Runner) measure(res Result) {
 // 0 (unknown) before any point was computed here. Time spent waiting for
 // a batch queue or a poll is not a point's compute time and does not
 // inflate the estimate.
-func (r *Runner) eta(left int) time.Duration {
+func (r *scanRun) eta(left int) time.Duration {
 	if r.computed == 0 || left <= 0 {
 		return 0
 	}
@@ -73,7 +73,7 @@ func (r *Runner) eta(left int) time.Duration {
 // snapshot holds every point (and checks the curve for discontinuities),
 // so on a large scan it would otherwise cost more per point the more
 // points there are. The wall clock paces it, whatever Runner.Now is.
-func (r *Runner) snapshotRunning() {
+func (r *scanRun) snapshotRunning() {
 	now := time.Now()
 	if now.Before(r.snapNext) {
 		return

@@ -83,7 +83,7 @@ func ScanWarnings(recs []PointRecord, rounds []RoundRecord) []Warning {
 	for _, r := range recs {
 		switch r.State {
 		case Failed:
-			c := r.Class
+			c := string(r.Class)
 			if c == "" {
 				c = "failed"
 			}

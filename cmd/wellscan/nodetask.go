@@ -6,6 +6,7 @@ import (
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
+	"wellscan/runner"
 	"wellscan/runner/slurm"
 )
 
@@ -37,7 +38,7 @@ scan's store is never opened. Job scripts written by "wellscan run" for
 				return usageError{fmt.Errorf("--job-dir and a non-negative --task are required")}
 			}
 			return slurm.NodeTask{JobDir: o.jobDir, Task: o.task, NewBackend: newBackend,
-				OnPoint: func(key, what, status string) {
+				OnPoint: func(key, what string, status runner.ResultStatus) {
 					fmt.Fprintf(a.stderr, "wellscan %s: %s %s (%s)\n", slurm.NodeSubcommand, what, key, status)
 				}}.Run(cmd.Context())
 		},

@@ -16,6 +16,7 @@ import (
 	"wellscan/parsers"
 	"wellscan/planner"
 	"wellscan/planner/geomopt"
+	"wellscan/runner"
 	"wellscan/runner/hf"
 	"wellscan/runner/hf/basis"
 )
@@ -51,13 +52,27 @@ func (o *relaxOptions) AddFlags(fs *pflag.FlagSet) {
 func newRelaxCommand(a *app) *cobra.Command {
 	o := &relaxOptions{}
 	cmd := &cobra.Command{
-		Use:   "relax FILE.xyz",
-		Short: "Optimise the geometry of one molecule with the built-in engine",
-		Long: `Minimise the energy of the molecule in an XYZ file over its nuclear
-positions: rational-function quasi-Newton steps with a trust radius and
-BFGS updates in redundant internal coordinates (bonds, bends, torsions),
-analytic RHF/UHF gradients or MP2 gradients by central differences.
---hold keeps chosen coordinates exactly at their starting values.
+		Use:   "relax FILE.xyz | relax DIR",
+		Short: "Optimise the geometry of one molecule (built-in engine or an external program)",
+		Long: `Minimise the energy of one molecule over its nuclear positions:
+rational-function quasi-Newton steps with a trust radius and BFGS updates
+in redundant internal coordinates (bonds, bends, torsions).
+
+relax FILE.xyz uses the built-in engine (analytic RHF/UHF gradients, MP2
+by central differences) with the flags below; --hold keeps chosen
+coordinates exactly at their starting values.
+
+relax DIR reads DIR/scan.toml: [molecule], [engine] (kind = "builtin", or
+kind = "command" with [engine.command] as for a scan, plus gradient = {…}
+to read the program's gradient; without it the program's energies are
+differenced), optionally [relax] (hold, tie, max_steps, tighter) and
+[queue] threads, and no [[scan]]. Every program run gets its own
+directory DIR/relax/step-NNN (and step-NNN/d-MMMp|m for the displaced
+energies of a central difference). DIR/relax-state.json is the
+checkpoint, rewritten after every gradient: a killed run loses at most
+the gradient in flight and the next 'wellscan relax DIR' continues it
+(or, when finished, prints the result again). DIR also gets relaxed.xyz,
+relax-trajectory.xyz and relax-gradients.log.
 
 Prints the optimised geometry (XYZ, Å), the energy, the final forces and
 the internal coordinates. The exit status is 1, with a loud message, when
@@ -65,7 +80,8 @@ the optimisation does not converge; the last geometry is then printed but
 is NOT a minimum.`,
 		Example: `  wellscan relax water.xyz --basis 6-31G*
   wellscan relax ch3.xyz --method uhf --multiplicity 2 --out ch3-opt.xyz
-  wellscan relax h2o2.xyz --hold torsion:3,1,2,4 --trajectory steps.xyz`,
+  wellscan relax h2o2.xyz --hold torsion:3,1,2,4 --trajectory steps.xyz
+  wellscan relax opt-dir --out opt.xyz     # opt-dir/scan.toml: [molecule], [engine], no [[scan]]`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runRelax(cmd, a, o, args[0])
@@ -107,6 +123,8 @@ type relaxReport struct {
 	EnergyHartree  float64        `json:"energy_hartree"`
 	Method         string         `json:"method"`
 	Basis          string         `json:"basis"`
+	Program        string         `json:"program,omitempty"`   // external program (wellscan relax DIR)
+	Directory      string         `json:"directory,omitempty"` // wellscan relax DIR
 	Gradients      int            `json:"gradients"`
 	GradientKind   string         `json:"gradient"`
 	Symbols        []string       `json:"symbols"`
@@ -126,6 +144,9 @@ type internalLine struct {
 }
 
 func runRelax(cmd *cobra.Command, a *app, o *relaxOptions, path string) error {
+	if st, err := os.Stat(path); err == nil && st.IsDir() {
+		return runRelaxDir(cmd, a, o, path)
+	}
 	unit, ok := planner.ParseLengthUnit(o.units)
 	if !ok {
 		return usageError{fmt.Errorf("--units: unknown unit %q (expected angstrom or bohr)", o.units)}
@@ -186,7 +207,20 @@ func runRelax(cmd *cobra.Command, a *app, o *relaxOptions, path string) error {
 	if res == nil {
 		return err
 	}
-	rep := newRelaxReport(res, src, mol, o.hold)
+	rep := newRelaxReport(res, mol, o.hold)
+	if l := src.Last; l != nil {
+		rep.Method, rep.Basis = string(l.Method), l.Basis
+		rep.GradientKind = "analytic"
+		if !l.Analytic {
+			rep.GradientKind = fmt.Sprintf("central differences, step %g bohr", l.FDStep)
+		}
+	}
+	return emitRelax(a, o, rep, res, mol, err)
+}
+
+// emitRelax writes --out and --trajectory and prints the report; err is
+// the optimiser's (a non-converged run exits 1 after printing).
+func emitRelax(a *app, o *relaxOptions, rep relaxReport, res *geomopt.Result, mol planner.Molecule, err error) error {
 	if o.out != "" {
 		if e := writeXYZFile(o.out, []parsers.Frame{xyzFrame(res.Mol, fmt.Sprintf("wellscan relax: E = %.10f Eh (%s)", res.Energy, convergedWord(res.Converged)))}); e != nil {
 			return e
@@ -256,16 +290,9 @@ func writeXYZFile(path string, frames []parsers.Frame) error {
 	return f.Close()
 }
 
-func newRelaxReport(res *geomopt.Result, src *hf.GradientSource, mol planner.Molecule, held []string) relaxReport {
+func newRelaxReport(res *geomopt.Result, mol planner.Molecule, held []string) relaxReport {
 	rep := relaxReport{Converged: res.Converged, Reason: res.Reason, EnergyHartree: res.Energy,
 		Gradients: res.Gradients, MaxForce: res.MaxForce, RMSForce: res.RMSForce, Held: held}
-	if l := src.Last; l != nil {
-		rep.Method, rep.Basis = string(l.Method), l.Basis
-		rep.GradientKind = "analytic"
-		if !l.Analytic {
-			rep.GradientKind = fmt.Sprintf("central differences, step %g bohr", l.FDStep)
-		}
-	}
 	for a, at := range res.Mol.Atoms {
 		rep.Symbols = append(rep.Symbols, at.Element.Symbol)
 		var p, f [3]float64
@@ -295,7 +322,14 @@ func printRelax(w io.Writer, rep relaxReport) {
 	if !rep.Converged {
 		fmt.Fprintf(w, "!! GEOMETRY OPTIMISATION NOT CONVERGED (%s): the geometry below is NOT a minimum !!\n\n", rep.Reason)
 	}
-	fmt.Fprintf(w, "method / basis   %s / %s, %s gradients\n", strings.ToUpper(rep.Method), rep.Basis, rep.GradientKind)
+	if rep.Program != "" {
+		fmt.Fprintf(w, "program          %s\ngradients        %s\n", rep.Program, rep.GradientKind)
+	} else {
+		fmt.Fprintf(w, "method / basis   %s / %s, %s gradients\n", strings.ToUpper(rep.Method), rep.Basis, rep.GradientKind)
+	}
+	if rep.Directory != "" {
+		fmt.Fprintf(w, "directory        %s (checkpoint %s; a rerun continues it)\n", rep.Directory, runner.RelaxStateFile)
+	}
 	fmt.Fprintf(w, "optimisation     %s after %d gradients (%s)\n", convergedWord(rep.Converged), rep.Gradients, rep.Reason)
 	fmt.Fprintf(w, "energy           %.10f Eh\n", rep.EnergyHartree)
 	if len(rep.Held) > 0 {

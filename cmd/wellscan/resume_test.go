@@ -90,7 +90,7 @@ func storeState(t *testing.T, dir string) (map[string]pointState, map[string]int
 	}
 	done := map[string]int{}
 	for _, e := range evs {
-		if e.Kind == string(runner.Done) {
+		if e.Kind == runner.EventDone {
 			done[e.Key]++
 		}
 	}

@@ -51,7 +51,11 @@ also tried again by 'run' itself once [queue] attempts is raised.`,
 			if err != nil {
 				return err
 			}
-			done, err := runner.RetryPoints(dir, spec, runner.Selection{All: o.all, Keys: keys, Classes: o.classes}, time.Now())
+			sel := runner.Selection{All: o.all, Keys: keys}
+			for _, c := range o.classes {
+				sel.Classes = append(sel.Classes, runner.FailureClass(c))
+			}
+			done, err := runner.RetryPoints(dir, spec, sel, time.Now())
 			if err != nil {
 				return lockedExit(err)
 			}

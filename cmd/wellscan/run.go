@@ -16,7 +16,6 @@ import (
 
 	"wellscan/planner"
 	"wellscan/runner"
-	"wellscan/runner/slurm"
 )
 
 type runOptions struct {
@@ -119,24 +118,29 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 		fmt.Fprintf(a.stderr, "wellscan: note: %s\n", n)
 	}
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: queue, Detach: o.detach}
-	if d, ok := queue.(interface{ SetDetach(bool) }); ok {
-		d.SetDetach(o.detach)
-	}
-	if bq, ok := queue.(*slurm.Queue); ok && !o.quiet && !o.json {
-		bq.OnNotice = func(msg string) {
-			fmt.Fprintf(a.stderr, "%swellscan: %s\n", time.Now().Format("2006-01-02 15:04:05 "), msg)
-		}
-	}
 	switch {
 	case o.json:
 		enc := json.NewEncoder(a.stdout)
-		r.OnEvent = func(e runner.Event) { _ = enc.Encode(jsonEvent(e)) }
+		r.OnEvent = func(e runner.Event) {
+			if e.Kind != runner.EventNotice { // not part of the --json stream
+				_ = enc.Encode(jsonEvent(e))
+			}
+		}
 	case !o.quiet:
 		w := a.rawStderr
 		if w == nil {
 			w = a.stderr
 		}
-		r.OnEvent = newProgressPrinter(w, spec).event
+		progress := newProgressPrinter(w, spec).event
+		r.OnEvent = func(e runner.Event) {
+			if e.Kind == runner.EventNotice {
+				// A queue's notice (a scheduler that stopped answering):
+				// its own line, with the time, on a terminal too.
+				fmt.Fprintf(a.stderr, "%swellscan: %s\n", e.Time.Format("2006-01-02 15:04:05 "), e.Message)
+				return
+			}
+			progress(e)
+		}
 	}
 	sum, err := r.Run(ctx)
 	switch {
@@ -146,8 +150,8 @@ func runScan(ctx context.Context, a *app, dir string, spec *planner.Spec, o runO
 		err = fmt.Errorf("%w: %s", errSomePointsFailed, strings.TrimPrefix(err.Error(), runner.ErrPointsFailed.Error()+": "))
 	case ctx.Err() != nil:
 		fmt.Fprintf(a.stderr, "wellscan: interrupted; the store is intact, rerun `wellscan run %s` to resume\n", dir)
-		if d, ok := queue.(interface{ DetachNote() string }); ok {
-			fmt.Fprintf(a.stderr, "wellscan: %s\n", d.DetachNote())
+		if sum.QueueNote != "" {
+			fmt.Fprintf(a.stderr, "wellscan: %s\n", sum.QueueNote)
 		}
 	}
 	return &sum, err
@@ -183,7 +187,7 @@ func newProgressPrinter(w io.Writer, spec *planner.Spec) *progressPrinter {
 
 func (p *progressPrinter) event(e runner.Event) {
 	switch e.Kind {
-	case "round", "refine", "resume", "interrupt", "detach", "retry", "repair", "warning", string(runner.Failed):
+	case runner.EventRound, runner.EventRefine, runner.EventResume, runner.EventInterrupt, runner.EventDetach, runner.EventRetry, runner.EventRepair, runner.EventWarning, runner.EventFailed:
 		if p.tty {
 			fmt.Fprint(p.w, "\r\033[K")
 		}
@@ -193,7 +197,7 @@ func (p *progressPrinter) event(e runner.Event) {
 		}
 		fmt.Fprintf(p.w, "%s%s\n", p.stamp(), msg)
 		return
-	case string(runner.Done):
+	case runner.EventDone:
 	default:
 		return
 	}
@@ -301,7 +305,7 @@ type extremumJSON struct {
 }
 
 func jsonEvent(e runner.Event) eventJSON {
-	out := eventJSON{Seq: e.Seq, Time: e.Time, Kind: e.Kind, Key: e.Key, Round: e.Round, Message: e.Message}
+	out := eventJSON{Seq: e.Seq, Time: e.Time, Kind: string(e.Kind), Key: e.Key, Round: e.Round, Message: e.Message}
 	if p := e.Progress; p != nil {
 		out.Counts = map[string]int{}
 		for st, n := range p.Counts {

@@ -143,51 +143,8 @@ func VibrationalBasis(pos [][3]float64, masses []float64) (*mat.Dense, bool, err
 			return nil, false, fmt.Errorf("%w: mass of atom %d is %v amu, want > 0", ErrInput, a+1, m)
 		}
 	}
-	com := centreOfMass(pos, masses)
 	n3 := 3 * n
-	var tr [][]float64
-	for k := range 3 {
-		v := make([]float64, n3)
-		for a := range n {
-			v[3*a+k] = math.Sqrt(masses[a])
-		}
-		tr = append(tr, v)
-	}
-	for k := range 3 {
-		e := [3]float64{}
-		e[k] = 1
-		v := make([]float64, n3)
-		for a := range n {
-			r := [3]float64{pos[a][0] - com[0], pos[a][1] - com[1], pos[a][2] - com[2]}
-			c := cross3(e, r)
-			for q := range 3 {
-				v[3*a+q] = math.Sqrt(masses[a]) * c[q]
-			}
-		}
-		tr = append(tr, v)
-	}
-	// Gram–Schmidt (twice, for orthogonality to rounding); a rotation whose
-	// norm collapses is the one about the axis of a linear molecule.
-	var ortho [][]float64
-	for _, v := range tr {
-		n0 := math.Sqrt(dotv(v, v))
-		for range 2 {
-			for _, u := range ortho {
-				c := dotv(u, v)
-				for i := range v {
-					v[i] -= c * u[i]
-				}
-			}
-		}
-		nv := math.Sqrt(dotv(v, v))
-		if nv <= 1e-6*math.Max(n0, 1) {
-			continue
-		}
-		for i := range v {
-			v[i] /= nv
-		}
-		ortho = append(ortho, v)
-	}
+	ortho := ExternalMotions(pos, masses)
 	p := mat.NewSymDense(n3, nil)
 	for i := range n3 {
 		p.SetSym(i, i, 1)
@@ -341,6 +298,62 @@ func centreOfMass(pos [][3]float64, masses []float64) [3]float64 {
 		c[k] /= tot
 	}
 	return c
+}
+
+// ExternalMotions returns the infinitesimal translations and rotations
+// about the centre of mass in mass-weighted Cartesian coordinates,
+// orthonormalised (Gram–Schmidt, twice): 6 vectors, or 5 for a linear
+// molecule (the rotation about its axis has no length). The vibrational
+// space is their orthogonal complement (the Eckart conditions; Wilson,
+// Decius & Cross 1955, §11-2). Masses must be positive.
+func ExternalMotions(pos [][3]float64, masses []float64) [][]float64 {
+	n := len(masses)
+	com := centreOfMass(pos, masses)
+	n3 := 3 * n
+	var tr [][]float64
+	for k := range 3 {
+		v := make([]float64, n3)
+		for a := range n {
+			v[3*a+k] = math.Sqrt(masses[a])
+		}
+		tr = append(tr, v)
+	}
+	for k := range 3 {
+		e := [3]float64{}
+		e[k] = 1
+		v := make([]float64, n3)
+		for a := range n {
+			r := [3]float64{pos[a][0] - com[0], pos[a][1] - com[1], pos[a][2] - com[2]}
+			c := cross3(e, r)
+			for q := range 3 {
+				v[3*a+q] = math.Sqrt(masses[a]) * c[q]
+			}
+		}
+		tr = append(tr, v)
+	}
+	// Gram–Schmidt (twice, for orthogonality to rounding); a rotation whose
+	// norm collapses is the one about the axis of a linear molecule.
+	var ortho [][]float64
+	for _, v := range tr {
+		n0 := math.Sqrt(dotv(v, v))
+		for range 2 {
+			for _, u := range ortho {
+				c := dotv(u, v)
+				for i := range v {
+					v[i] -= c * u[i]
+				}
+			}
+		}
+		nv := math.Sqrt(dotv(v, v))
+		if nv <= 1e-6*math.Max(n0, 1) {
+			continue
+		}
+		for i := range v {
+			v[i] /= nv
+		}
+		ortho = append(ortho, v)
+	}
+	return ortho
 }
 
 // InertiaTensor returns the inertia tensor (amu·bohr²) of the positions

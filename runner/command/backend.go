@@ -107,7 +107,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		return runner.Outcome{Energy: out.Energy, Converged: true,
 			Extra: map[string]float64{"seconds": out.Elapsed.Seconds()}}, nil
 	}
-	if out.Class == Cancelled || ctx.Err() != nil {
+	if out.Class == runner.ClassCancelled || ctx.Err() != nil {
 		return runner.Outcome{}, errors.Join(ctx.Err(), err)
 	}
 	// The class travels in Outcome.Class; the detail is what happened.
@@ -116,5 +116,5 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if errors.As(err, &re) && re.Err != nil {
 		detail = re.Err.Error()
 	}
-	return runner.Outcome{Class: string(out.Class), Detail: detail, Permanent: !out.Class.Retryable()}, nil
+	return runner.Outcome{Class: out.Class, Error: detail, Permanent: !retryable(out.Class)}, nil
 }

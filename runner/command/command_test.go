@@ -17,6 +17,7 @@ import (
 
 	"wellscan/parsers"
 	"wellscan/planner"
+	"wellscan/runner"
 )
 
 func testdata(t *testing.T, name string) string {
@@ -71,6 +72,9 @@ func TestConfig_Run_MorseScript(t *testing.T) {
 	}
 	c := morseConfig(t)
 	root := t.TempDir()
+	if err := os.Mkdir(filepath.Join(root, "points"), 0o700); err != nil {
+		t.Fatal(err)
+	}
 	for _, r := range []float64{0.95, 1.13, 1.3, 2.5} {
 		job := diatomic(filepath.Join(root, "points", "r="+strconv.FormatFloat(r, 'f', 5, 64)), r)
 		out, err := c.Run(t.Context(), job)
@@ -122,49 +126,49 @@ func TestConfig_Run_FailureClasses(t *testing.T) {
 	tests := []struct {
 		name    string
 		config  func(Config) Config
-		class   FailureClass
+		class   runner.FailureClass
 		code    int
 		cause   error  // errors.Is target, or nil
 		message string // part of the error text
 	}{
 		{"missing binary", func(c Config) Config { c.Args = []string{"wellscan-test-no-such-program"}; return c },
-			ProgramMissing, -1, exec.ErrNotFound, "wellscan-test-no-such-program"},
+			runner.ClassProgramMissing, -1, exec.ErrNotFound, "wellscan-test-no-such-program"},
 		{"missing path", func(c Config) Config { c.Args = []string{"/nonexistent/toyprog"}; return c },
-			ProgramMissing, -1, os.ErrNotExist, "/nonexistent/toyprog"},
+			runner.ClassProgramMissing, -1, os.ErrNotExist, "/nonexistent/toyprog"},
 		{"not executable", func(c Config) Config { c.Args = []string{notExec}; return c },
-			ProgramMissing, -1, os.ErrPermission, "toyprog"},
+			runner.ClassProgramMissing, -1, os.ErrPermission, "toyprog"},
 		{"missing script", func(c Config) Config { c.Args, c.Shell, c.Script = nil, true, "/nonexistent/run.sh"; return c },
-			ProgramMissing, -1, os.ErrNotExist, "run.sh"},
+			runner.ClassProgramMissing, -1, os.ErrNotExist, "run.sh"},
 		{"exit 3", func(c Config) Config { c.Args = []string{"sh", testdata(t, "exit3.sh")}; return c },
-			ExitNonZero, 3, nil, "exited with status 3; stderr: last 1 line(s) of the output:\n  | toy: unknown keyword 'nonsense' on line 2"},
+			runner.ClassExitNonZero, 3, nil, "exited with status 3; stderr: last 1 line(s) of the output:\n  | toy: unknown keyword 'nonsense' on line 2"},
 		{"killed by a signal", func(c Config) Config {
 			c.Args = []string{"sh", "-c", "echo toy: crashing >&2; kill -KILL $$"}
 			return c
 		},
-			ExitNonZero, -1, nil, "sh was killed by signal killed; stderr: last 1 line(s) of the output:\n  | toy: crashing"},
+			runner.ClassExitNonZero, -1, nil, "sh was killed by signal killed; stderr: last 1 line(s) of the output:\n  | toy: crashing"},
 		{"energy missing", func(c Config) Config { return printConfig(t, "converged, but no energy line") },
-			EnergyMissing, 0, parsers.ErrEnergyMissing, "| converged, but no energy line"},
+			runner.ClassEnergyMissing, 0, parsers.ErrEnergyMissing, "| converged, but no energy line"},
 		{"energy NaN", func(c Config) Config { return printConfig(t, "well energy / eV : NaN") },
-			EnergyInvalid, 0, parsers.ErrEnergyInvalid, `"NaN" is not a finite number`},
+			runner.ClassEnergyInvalid, 0, parsers.ErrEnergyInvalid, `"NaN" is not a finite number`},
 		{"energy positive", func(c Config) Config { return printConfig(t, "well energy / eV : 2.5") },
-			EnergyInvalid, 0, parsers.ErrEnergyInvalid, "is positive"},
+			runner.ClassEnergyInvalid, 0, parsers.ErrEnergyInvalid, "is positive"},
 		{"output missing", func(c Config) Config {
 			c = printConfig(t, "well energy / eV : -2.5")
 			c.Outputs = []string{"toy.orbitals"}
 			return c
-		}, OutputMissing, 0, nil, "did not write toy.orbitals"},
+		}, runner.ClassOutputMissing, 0, nil, "did not write toy.orbitals"},
 		{"energy file missing", func(c Config) Config {
 			c = printConfig(t, "well energy / eV : -2.5")
 			c.EnergyFrom = "toy.out"
 			return c
-		}, OutputMissing, 0, nil, "did not write toy.out"},
+		}, runner.ClassOutputMissing, 0, nil, "did not write toy.out"},
 		{"template error", func(c Config) Config {
 			c.Template = filepath.Join(t.TempDir(), "bad.tmpl")
 			if err := os.WriteFile(c.Template, []byte("line one\n{{.Coords.theta}}\n"), 0o644); err != nil {
 				t.Fatal(err)
 			}
 			return c
-		}, SetupFailed, -1, nil, `bad.tmpl:2:9: executing "`},
+		}, runner.ClassSetupFailed, -1, nil, `bad.tmpl:2:9: executing "`},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -214,8 +218,8 @@ func TestConfig_Run_StaleOutputRemoved(t *testing.T) {
 		t.Fatal(err)
 	}
 	out, err := c.Run(t.Context(), diatomic(dir, 1.1))
-	if out.Class != OutputMissing {
-		t.Errorf("Run = %v, class %q; want %s", err, out.Class, OutputMissing)
+	if out.Class != runner.ClassOutputMissing {
+		t.Errorf("Run = %v, class %q; want %s", err, out.Class, runner.ClassOutputMissing)
 	}
 }
 
@@ -277,8 +281,8 @@ func TestConfig_Run_TimeoutKillsProcessGroup(t *testing.T) {
 	dir := t.TempDir()
 	start := time.Now()
 	out, err := c.Run(t.Context(), diatomic(dir, 1.1))
-	if out.Class != TimedOut || !strings.Contains(err.Error(), "timeout of 500ms") {
-		t.Fatalf("Run = %v, class %q; want %s", err, out.Class, TimedOut)
+	if out.Class != runner.ClassTimedOut || !strings.Contains(err.Error(), "timeout of 500ms") {
+		t.Fatalf("Run = %v, class %q; want %s", err, out.Class, runner.ClassTimedOut)
 	}
 	if el := time.Since(start); el > 10*time.Second {
 		t.Errorf("Run took %v; the timeout and grace are 0.7 s", el)
@@ -287,7 +291,7 @@ func TestConfig_Run_TimeoutKillsProcessGroup(t *testing.T) {
 		t.Errorf("exit code %d, want -1 for a killed program", out.ExitCode)
 	}
 	waitDead(t, grandchild(t, dir))
-	if !out.Class.Retryable() {
+	if !retryable(out.Class) {
 		t.Error("a timeout should be retryable")
 	}
 }
@@ -309,8 +313,8 @@ func TestConfig_Run_CancelKillsProcessGroup(t *testing.T) {
 		cancel()
 	}()
 	out, err := c.Run(ctx, diatomic(dir, 1.1))
-	if out.Class != Cancelled || !errors.Is(err, context.Canceled) {
-		t.Fatalf("Run = %v, class %q; want %s wrapping context.Canceled", err, out.Class, Cancelled)
+	if out.Class != runner.ClassCancelled || !errors.Is(err, context.Canceled) {
+		t.Fatalf("Run = %v, class %q; want %s wrapping context.Canceled", err, out.Class, runner.ClassCancelled)
 	}
 	waitDead(t, grandchild(t, dir))
 }
@@ -372,14 +376,14 @@ func TestConfig_Run_NoInjection(t *testing.T) {
 	}
 }
 
-func TestFailureClass_Retryable(t *testing.T) {
-	tests := map[FailureClass]bool{
-		ProgramMissing: false, ExitNonZero: true, TimedOut: true, OutputMissing: false,
-		EnergyMissing: false, EnergyInvalid: false, SetupFailed: false, Cancelled: true,
+func TestRetryable(t *testing.T) {
+	tests := map[runner.FailureClass]bool{
+		runner.ClassProgramMissing: false, runner.ClassExitNonZero: true, runner.ClassTimedOut: true, runner.ClassOutputMissing: false,
+		runner.ClassEnergyMissing: false, runner.ClassEnergyInvalid: false, runner.ClassSetupFailed: false, runner.ClassCancelled: true,
 	}
 	for class, want := range tests {
-		if got := class.Retryable(); got != want {
-			t.Errorf("%s.Retryable() = %v, want %v", class, got, want)
+		if got := retryable(class); got != want {
+			t.Errorf("retryable(%s) = %v, want %v", class, got, want)
 		}
 	}
 }

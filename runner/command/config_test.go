@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"wellscan/parsers"
+	"wellscan/runner"
 )
 
 // fullTable is an [engine] table as a TOML decoder gives it to DecodeConfig.
@@ -112,8 +113,8 @@ func TestConfig_Check_Program(t *testing.T) {
 		t.Errorf("Check of the Morse config: %v", err)
 	}
 	c.Args = []string{"wellscan-test-no-such-program"}
-	if err := c.Check(); ClassOf(err) != ProgramMissing {
-		t.Errorf("Check with a missing program = %v, want class %s", err, ProgramMissing)
+	if err := c.Check(); ClassOf(err) != runner.ClassProgramMissing {
+		t.Errorf("Check with a missing program = %v, want class %s", err, runner.ClassProgramMissing)
 	}
 }
 

@@ -12,8 +12,9 @@
 // script run with /bin/sh that receives the point's values as WELLSCAN_*
 // environment variables and files), the timeout, the files the program
 // must leave behind, and how to find the energy. [Config.Run] does one
-// point and returns an [Outcome] whose [FailureClass] says what went wrong,
-// if anything, and whether retrying can help ([FailureClass.Retryable]).
+// point and returns an [Outcome] whose class ([runner.FailureClass]) says
+// what went wrong, if anything; the backend marks the failures that a
+// retry cannot mend as permanent.
 //
 // # Files
 //

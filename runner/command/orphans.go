@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"wellscan/parsers"
+	"wellscan/runner"
 )
 
 // runRecord is points/<key>/running.json: which program runs for the
@@ -94,7 +95,7 @@ const adoptPoll = 50 * time.Millisecond
 // energy (ok). Otherwise the caller runs the program again: it is certain
 // by then that no earlier copy still runs in the directory. A record from
 // another machine or boot cannot be checked from here and is dropped.
-func (c Config) adopt(ctx context.Context, pf *pointFiles, x parsers.Extractor, attempt int) (e float64, ok bool, class FailureClass, err error) {
+func (c Config) adopt(ctx context.Context, pf *pointFiles, x parsers.Extractor, attempt int) (e float64, ok bool, class runner.FailureClass, err error) {
 	rec, found := pf.readRecord()
 	if !found {
 		return 0, false, "", nil
@@ -109,13 +110,13 @@ func (c Config) adopt(ctx context.Context, pf *pointFiles, x parsers.Extractor, 
 		if c.Timeout > 0 && time.Since(rec.Started) > c.Timeout {
 			killToken(rec)
 			_ = pf.root.Remove(RunRecordFile)
-			return 0, false, TimedOut, fmt.Errorf("the program an earlier run started for this point (PID %d, %s) was still running after the timeout of %v; it was killed", rec.PID, rec.Started.Format(time.RFC3339), c.Timeout)
+			return 0, false, runner.ClassTimedOut, fmt.Errorf("the program an earlier run started for this point (PID %d, %s) was still running after the timeout of %v; it was killed", rec.PID, rec.Started.Format(time.RFC3339), c.Timeout)
 		}
 		select {
 		case <-ctx.Done():
 			killToken(rec)
 			_ = pf.root.Remove(RunRecordFile)
-			return 0, false, Cancelled, ctx.Err()
+			return 0, false, runner.ClassCancelled, ctx.Err()
 		case <-time.After(adoptPoll):
 		}
 	}

@@ -3,7 +3,6 @@ package command
 import (
 	"errors"
 	"fmt"
-	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -62,9 +61,9 @@ func (p *pointFiles) writeFile(name string, data []byte) error {
 	return errors.Join(werr, f.Close())
 }
 
-// readCapped reads the regular file name, at most maxOutputBytes; a larger
-// file, a link leading outside the directory or a FIFO is an error.
-func (p *pointFiles) readCapped(name string) ([]byte, error) {
+// openOutput opens the regular file name for reading an energy or a
+// gradient; a link leading outside the directory or a FIFO is an error.
+func (p *pointFiles) openOutput(name string) (*os.File, error) {
 	st, err := p.root.Stat(name)
 	if err != nil {
 		return nil, err
@@ -72,22 +71,7 @@ func (p *pointFiles) readCapped(name string) ([]byte, error) {
 	if !st.Mode().IsRegular() {
 		return nil, fmt.Errorf("%s is not a regular file (%s); the energy is read only from regular files", name, st.Mode().Type())
 	}
-	if st.Size() > maxOutputBytes {
-		return nil, fmt.Errorf("%s is %d bytes, more than the %d read for an energy; have the program write its energy to a file of its own and name it in energy_from", name, st.Size(), maxOutputBytes)
-	}
-	f, err := p.root.Open(name)
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
-	b, err := io.ReadAll(io.LimitReader(f, maxOutputBytes+1))
-	if err != nil {
-		return nil, err
-	}
-	if len(b) > maxOutputBytes {
-		return nil, fmt.Errorf("%s grew past the %d bytes read for an energy", name, maxOutputBytes)
-	}
-	return b, nil
+	return p.root.Open(name)
 }
 
 // writeStatus records how the run ended; a failure to write it is not

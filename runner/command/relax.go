@@ -29,6 +29,12 @@ const RelaxDir = "relax"
 // optimiser's checkpoint lets the next attempt continue.
 func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task) (runner.Outcome, error) {
 	step := nextStep(filepath.Join(t.Dir, RelaxDir))
+	// Each program run makes only its own directory (Config.Run), so
+	// relax/ is made here, inside the point directory and never through
+	// a symbolic link.
+	if err := runner.MkdirScan(t.Dir, RelaxDir); err != nil {
+		return runner.Outcome{Class: runner.ClassSetupFailed, Error: err.Error(), Permanent: true}, nil
+	}
 	var (
 		mu       sync.Mutex
 		lastFail *RunError
@@ -104,42 +110,29 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task) (runner.Out
 			return runner.Outcome{}, errors.Join(ctx.Err(), err)
 		}
 		if lastFail != nil {
-			return runner.Outcome{Class: string(lastFail.Class), Detail: err.Error(), Permanent: !lastFail.Class.Retryable()}, nil
+			return runner.Outcome{Class: lastFail.Class, Error: err.Error(), Permanent: !retryable(lastFail.Class)}, nil
 		}
 		return runner.Outcome{}, err
 	}
 	res := pr.Result
-	kind := 1.0
-	if b.cfg.Gradient == nil {
-		kind = 0
-	}
 	out := runner.Outcome{Energy: res.Energy, Converged: res.Converged, Iterations: res.Gradients,
+		Flags: runner.PointFlags{Relaxed: true, FromNeighbour: pr.FromNeighbour, GradientsRead: b.cfg.Gradient != nil},
 		Extra: map[string]float64{
-			"relaxed":                1,
 			"relax_gradients":        float64(res.Gradients),
 			"relax_max_force":        res.MaxForce,
 			"relax_rms_force":        res.RMSForce,
-			"relax_from_neighbour":   b2f(pr.FromNeighbour),
 			"relax_resumed_at":       float64(pr.ResumedAt),
 			"relax_constraint_error": pr.MaxConstraintError,
-			"relax_gradient_read":    kind,
 			"program_runs":           float64(runs),
 		}}
 	if !res.Converged {
-		out.Class, out.Detail = "relax-not-converged", res.Reason
+		out.Class, out.Error = runner.ClassRelaxNotConverged, res.Reason
 		return out, nil
 	}
 	// The checkpoint is what a neighbour starts from (the runner hands
 	// its path to the next point as the continuation file).
-	out.OrbitalsPath = filepath.Join(t.Dir, runner.RelaxStateFile)
+	out.Orbitals = filepath.Join(t.Dir, runner.RelaxStateFile)
 	return out, nil
-}
-
-func b2f(b bool) float64 {
-	if b {
-		return 1
-	}
-	return 0
 }
 
 // nextStep is one more than the highest step-NNN directory in dir (0 when

@@ -17,52 +17,19 @@ import (
 
 	"wellscan/parsers"
 	"wellscan/planner"
+	"wellscan/runner"
 )
 
-// FailureClass says why a point failed; the empty class means it did not.
-// The classes are recorded per point and decide whether a retry can help.
-type FailureClass string
-
-// The failure classes.
-const (
-	// ProgramMissing: the program (or the shell script) does not exist or
-	// is not executable.
-	ProgramMissing FailureClass = "program-missing"
-	// ExitNonZero: the program exited with a non-zero status or was killed
-	// by a signal it did not get from wellscan.
-	ExitNonZero FailureClass = "exit-nonzero"
-	// TimedOut: the program ran past Config.Timeout and was killed.
-	TimedOut FailureClass = "timed-out"
-	// OutputMissing: the program exited cleanly but left out a file listed
-	// in Config.Outputs (or the energy file).
-	OutputMissing FailureClass = "output-missing"
-	// EnergyMissing: the output holds no energy where the extractor looks.
-	EnergyMissing FailureClass = "energy-missing"
-	// EnergyInvalid: the energy is NaN, infinite, not a number, or
-	// implausible (positive, unless allowed).
-	EnergyInvalid FailureClass = "energy-invalid"
-	// SetupFailed: the point could not be prepared (template error,
-	// directory or file could not be written).
-	SetupFailed FailureClass = "setup-failed"
-	// Cancelled: the context was cancelled; the point did not fail on its
-	// own and should be run again later, without counting an attempt.
-	Cancelled FailureClass = "cancelled"
-	// GradientMissing: a gradient was asked for but the output has none
-	// where the extractor looks.
-	GradientMissing FailureClass = "gradient-missing"
-	// GradientInvalid: the gradient read is not N rows of finite numbers.
-	GradientInvalid FailureClass = "gradient-invalid"
-)
-
-// Retryable reports whether running the same point again may succeed. A
-// missing program, a template error, or an output that holds no valid
-// energy comes back the same way every time (the same input gives the same
-// output), so those are not retried blindly. A non-zero exit (a crash, a
-// full disk, a licence server), a timeout (a loaded machine; the lead may
-// raise the limit) and a cancellation can go differently next time.
-func (f FailureClass) Retryable() bool {
+// retryable reports whether running the same point again may succeed
+// after a failure of class f. A missing program, a template error, or an
+// output that holds no valid energy comes back the same way every time
+// (the same input gives the same output), so those are not retried
+// blindly. A non-zero exit (a crash, a full disk, a licence server), a
+// timeout (a loaded machine; the lead may raise the limit) and a
+// cancellation can go differently next time.
+func retryable(f runner.FailureClass) bool {
 	switch f {
-	case ExitNonZero, TimedOut, Cancelled:
+	case runner.ClassExitNonZero, runner.ClassTimedOut, runner.ClassCancelled:
 		return true
 	}
 	return false
@@ -76,7 +43,7 @@ type Outcome struct {
 	// Gradient is dE/dR per atom (hartree/bohr) when Config.Gradient is
 	// set; nil otherwise.
 	Gradient [][3]float64
-	Class    FailureClass
+	Class    runner.FailureClass
 	ExitCode int
 	Input    string
 	Stdout   string
@@ -92,7 +59,7 @@ type Outcome struct {
 // exec error, or an error of this package.
 type RunError struct {
 	Key   string
-	Class FailureClass
+	Class runner.FailureClass
 	Err   error
 }
 
@@ -104,7 +71,7 @@ func (e *RunError) Unwrap() error { return e.Err }
 
 // ClassOf returns the failure class carried by err, or "" when err is nil
 // or not from this package.
-func ClassOf(err error) FailureClass {
+func ClassOf(err error) runner.FailureClass {
 	var re *RunError
 	if errors.As(err, &re) {
 		return re.Class
@@ -112,10 +79,13 @@ func ClassOf(err error) FailureClass {
 	return ""
 }
 
-// maxOutputBytes bounds how much of an output file is read for the energy
-// (64 MiB): far more than the output of one point, small enough that
-// several points at once cannot exhaust memory. A larger output fails the
-// point with a message to write the energy to a file of its own.
+// maxOutputBytes bounds what is read whole for an energy or a gradient
+// (64 MiB): a JSON document, or an output searched by a pattern that can
+// match across lines — far more than such an output holds, small enough
+// that several points at once cannot exhaust memory. Label and line-bound
+// pattern extractors read any output line by line, in bounded memory
+// (parsers.Extractor.ExtractFrom), and are not capped. A larger output
+// fails the point with a message saying why it was needed whole.
 const maxOutputBytes = 64 << 20
 
 // stderrTailLines is how many lines of stderr a non-zero exit quotes.
@@ -126,40 +96,45 @@ const stderrTailLines = 8
 // cancellation), checks the expected outputs and extracts the energy. The
 // error, when not nil, is a [*RunError] whose class is also in the
 // Outcome. The exit-status file is written in every case where the
-// directory exists.
+// directory exists. job.Dir is made when missing, but not its parent,
+// which must exist (a scan directory moved away while it runs is never
+// made again at its old path).
 func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	dir, err := filepath.Abs(job.Dir)
 	out := Outcome{ExitCode: -1}
-	fail := func(class FailureClass, err error) (Outcome, error) {
+	fail := func(class runner.FailureClass, err error) (Outcome, error) {
 		out.Class = class
 		return out, &RunError{Key: job.Key, Class: class, Err: err}
 	}
 	if err != nil || job.Dir == "" {
 		dir = ""
-		return fail(SetupFailed, fmt.Errorf("point directory %q: %v", job.Dir, err))
+		return fail(runner.ClassSetupFailed, fmt.Errorf("point directory %q: %v", job.Dir, err))
 	}
 	if err := ctx.Err(); err != nil {
 		dir = ""
-		return fail(Cancelled, err)
+		return fail(runner.ClassCancelled, err)
 	}
 	if err := c.Validate(); err != nil {
 		dir = ""
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	x, _ := c.Energy.Compile() // Validate compiled it already
-	if err := os.MkdirAll(dir, 0o700); err != nil {
+	// Only the point's own directory is made, never its parents: a scan
+	// directory moved or deleted while it runs must not be made again
+	// (empty) at its old path.
+	if err := os.Mkdir(dir, 0o700); err != nil && !errors.Is(err, fs.ErrExist) {
 		dir = ""
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, fmt.Errorf("point directory: %w", err))
 	}
 	// Every file of the point is created inside its directory and never
 	// through a symbolic link (see pointFiles).
 	pf, err := openPointFiles(dir)
 	if err != nil {
 		dir = ""
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	defer pf.Close()
-	fail = func(class FailureClass, err error) (Outcome, error) {
+	fail = func(class runner.FailureClass, err error) (Outcome, error) {
 		out.Class = class
 		pf.writeStatus(out, err)
 		return out, &RunError{Key: job.Key, Class: class, Err: err}
@@ -189,42 +164,42 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	}
 	for _, name := range stale {
 		if err := pf.root.Remove(name); err != nil && !errors.Is(err, fs.ErrNotExist) {
-			return fail(SetupFailed, fmt.Errorf("removing %s left by an earlier attempt: %w", name, err))
+			return fail(runner.ClassSetupFailed, fmt.Errorf("removing %s left by an earlier attempt: %w", name, err))
 		}
 	}
 
 	input, err := c.RenderContext(ctx, job)
 	if err != nil {
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	if err := pf.writeFile(c.InputName, input); err != nil {
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	if err := writeGeometry(pf, job); err != nil {
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	token, err := newRunToken()
 	if err != nil {
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	env, err := c.environ(job, dir)
 	if err != nil {
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	env = append(env, envPrefix+"RUN_TOKEN="+token)
 	path, args, err := c.program()
 	if err != nil {
-		return fail(ProgramMissing, err)
+		return fail(runner.ClassProgramMissing, err)
 	}
 
 	stdout, err := pf.create(StdoutFile)
 	if err != nil {
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	defer stdout.Close()
 	stderr, err := pf.create(StderrFile)
 	if err != nil {
-		return fail(SetupFailed, err)
+		return fail(runner.ClassSetupFailed, err)
 	}
 	defer stderr.Close()
 
@@ -236,14 +211,14 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	// the record looks for the token's processes, with or without a PID.
 	rec := runRecord{Token: token, Host: hostName(), BootID: bootID(), Started: start, Key: job.Key, Attempt: job.Attempt}
 	if err := pf.writeRecord(rec); err != nil {
-		return fail(SetupFailed, fmt.Errorf("writing %s: %w", RunRecordFile, err))
+		return fail(runner.ClassSetupFailed, fmt.Errorf("writing %s: %w", RunRecordFile, err))
 	}
 	if err := cmd.Start(); err != nil {
 		_ = pf.root.Remove(RunRecordFile)
 		if errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission) || errors.Is(err, exec.ErrNotFound) {
-			return fail(ProgramMissing, err)
+			return fail(runner.ClassProgramMissing, err)
 		}
-		return fail(SetupFailed, fmt.Errorf("starting %s: %w", path, err))
+		return fail(runner.ClassSetupFailed, fmt.Errorf("starting %s: %w", path, err))
 	}
 	done := make(chan error, 1)
 	go func() { done <- cmd.Wait() }()
@@ -263,15 +238,15 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	if grace == 0 {
 		grace = DefaultKillGrace
 	}
-	var stopped FailureClass
+	var stopped runner.FailureClass
 	var stopErr error
 	select {
 	case err = <-done:
 	case <-timeout:
-		stopped, stopErr = TimedOut, fmt.Errorf("still running after the timeout of %v; its process group was killed", c.Timeout)
+		stopped, stopErr = runner.ClassTimedOut, fmt.Errorf("still running after the timeout of %v; its process group was killed", c.Timeout)
 		err = stopGroup(cmd, done, grace)
 	case <-ctx.Done():
-		stopped, stopErr = Cancelled, ctx.Err()
+		stopped, stopErr = runner.ClassCancelled, ctx.Err()
 		err = stopGroup(cmd, done, grace)
 	}
 	// Whatever the program left running in its group ends with it, and so
@@ -300,9 +275,9 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 	if err != nil {
 		var ee *exec.ExitError
 		if !errors.As(err, &ee) {
-			return fail(SetupFailed, fmt.Errorf("waiting for %s: %w", path, err))
+			return fail(runner.ClassSetupFailed, fmt.Errorf("waiting for %s: %w", path, err))
 		}
-		return fail(ExitNonZero, fmt.Errorf("%s %s%s", filepath.Base(path), describeExit(cmd.ProcessState), outputTail(out.Stderr, out.Stdout)))
+		return fail(runner.ClassExitNonZero, fmt.Errorf("%s %s%s", filepath.Base(path), describeExit(cmd.ProcessState), outputTail(out.Stderr, out.Stdout)))
 	}
 
 	e, class, err := c.collect(pf, x)
@@ -323,7 +298,7 @@ func (c Config) Run(ctx context.Context, job Job) (Outcome, error) {
 
 // collectGradient reads the nuclear gradient (hartree/bohr per atom) a
 // finished program printed, as c.Gradient says.
-func (c Config) collectGradient(pf *pointFiles, atoms int) ([][3]float64, FailureClass, error) {
+func (c Config) collectGradient(pf *pointFiles, atoms int) ([][3]float64, runner.FailureClass, error) {
 	gx, _ := c.Gradient.Compile() // Validate compiled it already
 	source := StdoutFile
 	switch c.GradientFrom {
@@ -333,15 +308,21 @@ func (c Config) collectGradient(pf *pointFiles, atoms int) ([][3]float64, Failur
 	default:
 		source = c.GradientFrom
 	}
-	text, err := pf.readCapped(source)
+	f, err := pf.openOutput(source)
 	if err != nil {
-		return nil, OutputMissing, fmt.Errorf("gradient: %w", err)
+		return nil, runner.ClassOutputMissing, fmt.Errorf("gradient: %w", err)
 	}
-	g, err := gx.Extract(text, atoms)
+	defer f.Close()
+	g, err := gx.ExtractFrom(f, atoms, maxOutputBytes)
 	if err != nil {
-		class := GradientMissing
-		if errors.Is(err, parsers.ErrGradientInvalid) {
-			class = GradientInvalid
+		class := runner.ClassGradientMissing
+		switch {
+		case errors.Is(err, parsers.ErrGradientInvalid):
+			class = runner.ClassGradientInvalid
+		case errors.Is(err, parsers.ErrOutputTooLarge):
+			class = runner.ClassOutputMissing
+		case !errors.Is(err, parsers.ErrGradientMissing):
+			class = runner.ClassOutputMissing // a read error
 		}
 		return nil, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
@@ -350,7 +331,7 @@ func (c Config) collectGradient(pf *pointFiles, atoms int) ([][3]float64, Failur
 
 // collect checks the outputs a finished program left and extracts its
 // energy (hartree).
-func (c Config) collect(pf *pointFiles, x parsers.Extractor) (float64, FailureClass, error) {
+func (c Config) collect(pf *pointFiles, x parsers.Extractor) (float64, runner.FailureClass, error) {
 	var missing []string
 	for _, o := range c.Outputs {
 		if _, err := pf.root.Stat(o); err != nil {
@@ -369,38 +350,46 @@ func (c Config) collect(pf *pointFiles, x parsers.Extractor) (float64, FailureCl
 		}
 	}
 	if len(missing) > 0 {
-		return 0, OutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", "))
+		return 0, runner.ClassOutputMissing, fmt.Errorf("the program exited with status 0 but did not write %s", strings.Join(missing, ", "))
 	}
-	text, err := pf.readCapped(source)
+	f, err := pf.openOutput(source)
 	if err != nil {
-		return 0, OutputMissing, err
+		return 0, runner.ClassOutputMissing, err
 	}
-	e, err := x.Extract(text)
+	defer f.Close()
+	e, err := x.ExtractFrom(f, maxOutputBytes)
 	if err != nil {
-		class := EnergyMissing
-		if errors.Is(err, parsers.ErrEnergyInvalid) {
-			class = EnergyInvalid
+		class := runner.ClassEnergyMissing
+		switch {
+		case errors.Is(err, parsers.ErrEnergyInvalid):
+			class = runner.ClassEnergyInvalid
+		case errors.Is(err, parsers.ErrOutputTooLarge):
+			class = runner.ClassOutputMissing
+			err = fmt.Errorf("%w; have the program write its energy to a file of its own and name it in energy_from, or use a label or a pattern that stays within a line", err)
+		case !errors.Is(err, parsers.ErrEnergyMissing):
+			class = runner.ClassOutputMissing // a read error
 		}
 		return 0, class, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
 	if err := (parsers.Plausibility{AllowPositive: c.AllowPositive}).Check(e); err != nil {
-		return 0, EnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err)
+		return 0, runner.ClassEnergyInvalid, fmt.Errorf("%s: %w", filepath.Base(source), err)
 	}
 	return e, "", nil
 }
 
 // Check looks for the program (or script) and parses the template, so that
 // a plan can report both before anything runs. Its error is a [*RunError]
-// of class ProgramMissing or SetupFailed, with an empty key.
+// of class [runner.ClassProgramMissing] or [runner.ClassSetupFailed], with
+// an empty key.
 func (c Config) Check() error {
 	if err := c.Validate(); err != nil {
-		return &RunError{Class: SetupFailed, Err: err}
+		return &RunError{Class: runner.ClassSetupFailed, Err: err}
 	}
 	if _, _, err := c.program(); err != nil {
-		return &RunError{Class: ProgramMissing, Err: err}
+		return &RunError{Class: runner.ClassProgramMissing, Err: err}
 	}
 	if _, err := c.parseTemplate(); err != nil {
-		return &RunError{Class: SetupFailed, Err: err}
+		return &RunError{Class: runner.ClassSetupFailed, Err: err}
 	}
 	return nil
 }
@@ -411,7 +400,7 @@ func (c Config) Check() error {
 func (c Config) Program() (string, error) {
 	p, _, err := c.program()
 	if err != nil {
-		return "", &RunError{Class: ProgramMissing, Err: err}
+		return "", &RunError{Class: runner.ClassProgramMissing, Err: err}
 	}
 	return p, nil
 }

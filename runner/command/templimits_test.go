@@ -3,11 +3,13 @@ package command
 import (
 	"context"
 	"errors"
+	"math"
 	"strings"
 	"testing"
 	"time"
 
 	"wellscan/parsers"
+	"wellscan/runner"
 )
 
 // TestConfig_Render_Limits is issue 15 item 10: a template that loops a
@@ -56,9 +58,10 @@ func TestConfig_Render_Limits(t *testing.T) {
 	}
 }
 
-// TestConfig_Run_OutputCap is issue 15 item 11: a program's output is
-// read for an energy only up to 64 MiB; a larger one fails the point with
-// a message instead of being read whole into memory.
+// TestConfig_Run_OutputCap is issue 15 item 11: what must be read whole
+// for an energy is read only up to 64 MiB. 70 MB without a line break
+// cannot be read line by line; the point fails with a message naming the
+// cap and why, instead of the output being read whole into memory.
 func TestConfig_Run_OutputCap(t *testing.T) {
 	if testing.Short() {
 		t.Skip("writes 70 MB")
@@ -66,7 +69,27 @@ func TestConfig_Run_OutputCap(t *testing.T) {
 	c := morseConfig(t)
 	c.Args = []string{"head", "-c", "70000000", "/dev/zero"}
 	out, err := c.Run(t.Context(), diatomic(t.TempDir(), 1.13))
-	if out.Class != OutputMissing || err == nil || !strings.Contains(err.Error(), "more than the 67108864 read for an energy") {
-		t.Fatalf("Run = %v (%s), want output-missing naming the 64 MiB cap", err, out.Class)
+	if out.Class != runner.ClassOutputMissing || !errors.Is(err, parsers.ErrOutputTooLarge) || !strings.Contains(err.Error(), "more than 67108864 bytes") || !strings.Contains(err.Error(), "longer than 1048576 bytes") {
+		t.Fatalf("Run = %v (%s), want output-missing naming the 64 MiB cap and the over-long line", err, out.Class)
+	}
+}
+
+// TestConfig_Run_LargeOutputStreamed is issue 15 item 11: a label
+// extractor reads a program's output line by line, so 100 MB of output
+// (more than the 64 MiB read whole before) gives its energy.
+func TestConfig_Run_LargeOutputStreamed(t *testing.T) {
+	if testing.Short() {
+		t.Skip("writes 100 MB")
+	}
+	c := morseConfig(t)
+	c.Args = []string{"sh", "-c", `yes "  cycle  delta E = 1.0e-05  rms D = 2.0e-05" | head -c 100000000; echo; echo "well energy / eV : -2000.5"`}
+	out, err := c.Run(t.Context(), diatomic(t.TempDir(), 1.13))
+	if err != nil {
+		t.Fatalf("Run = %v (%s)", err, out.Class)
+	}
+	// CODATA 2018: 1 hartree = 27.211386245988 eV; the factor is the
+	// same constant, so only rounding (1 ulp) separates the two.
+	if want := -2000.5 / 27.211386245988; math.Abs(out.Energy-want) > 1e-12 {
+		t.Errorf("E = %.12f hartree, want %.12f", out.Energy, want)
 	}
 }

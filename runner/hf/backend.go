@@ -177,11 +177,11 @@ func (b *Backend) computeLimit(ctx context.Context, t runner.Task, opts Options)
 		}
 		switch {
 		case errors.Is(err, ErrNotConverged):
-			return runner.Outcome{Class: "scf-not-converged", Detail: err.Error()}, nil
+			return runner.Outcome{Class: runner.ClassSCFNotConverged, Error: err.Error()}, nil
 		case errors.Is(err, ErrCCNotConverged):
-			return runner.Outcome{Class: "cc-not-converged", Detail: err.Error()}, nil
+			return runner.Outcome{Class: runner.ClassCCNotConverged, Error: err.Error()}, nil
 		case errors.Is(err, ErrCCMemory):
-			return runner.Outcome{Class: "memory-budget", Detail: err.Error(), Permanent: true}, nil
+			return runner.Outcome{Class: runner.ClassMemoryBudget, Error: err.Error(), Permanent: true}, nil
 		}
 		return runner.Outcome{}, err
 	}
@@ -228,11 +228,11 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	if b.limit != nil {
 		return b.computeLimit(ctx, t, opts)
 	}
-	guessNote := -1.0
+	fromNeighbour := false
 	if b.useGuess && t.GuessPath != "" {
 		if g, err := readOrbitalsFile(t.GuessPath); err == nil {
 			opts.Guess = g
-			guessNote = 1
+			fromNeighbour = true
 			// More done points on the line: extrapolate the density
 			// along it (quadratic with three, linear with two).
 			pos := []float64{t.LineAt}
@@ -262,7 +262,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			return runner.Outcome{}, ctx.Err()
 		}
 		if errors.Is(err, ErrCCMemory) {
-			return runner.Outcome{Class: "memory-budget", Detail: err.Error(), Permanent: true}, nil
+			return runner.Outcome{Class: runner.ClassMemoryBudget, Error: err.Error(), Permanent: true}, nil
 		}
 		return runner.Outcome{}, err
 	}
@@ -273,25 +273,27 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	for _, tr := range res.Trials {
 		iterations += tr.Iterations
 	}
-	checked, replaced := 0.0, 0.0 // cold guesses run besides the neighbour's, and whether one won
+	checked, replaced := 0.0, false // cold guesses run besides the neighbour's, and whether one won
 	if opts.Guess != nil && res.GuessRejected == "" {
 		checked = float64(len(res.Trials) - 1)
 		if g := res.SCFResult.Guess; g != GuessFromOrbitals && g != GuessExtrapolated {
-			replaced = 1
-			guessNote = -1
+			replaced = true
+			fromNeighbour = false
 		}
+	}
+	if res.GuessRejected != "" {
+		fromNeighbour = false
 	}
 	out := runner.Outcome{
 		Energy:     res.Energy,
 		Converged:  res.Converged,
 		Iterations: res.Iterations,
+		Flags:      runner.PointFlags{FromNeighbour: fromNeighbour, GuessReplaced: replaced},
 		Extra: map[string]float64{
 			"electronic_energy_hartree": res.ElectronicEnergy,
 			"nuclear_repulsion_hartree": res.NuclearRepulsion,
 			"basis_functions":           float64(res.BasisFunctions),
-			"guess_from_neighbour":      guessNote,
 			"cold_check_guesses":        checked,
-			"cold_check_replaced":       replaced,
 			"scf_iterations_all_runs":   float64(iterations),
 			// How the two-electron integrals were handled: 1 all in core,
 			// 0 integral-direct, in between the share kept in core
@@ -324,26 +326,23 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 			// The SCF converged (its orbitals are still written for the
 			// neighbours) but the coupled-cluster energy is no result.
 			out.Converged = false
-			out.Class = "cc-not-converged"
-			out.Detail = err.Error()
+			out.Class = runner.ClassCCNotConverged
+			out.Error = err.Error()
 		}
-	}
-	if res.GuessRejected != "" {
-		out.Extra["guess_from_neighbour"] = -1
 	}
 	if res.Reference == UHF || res.Method == UHF {
 		s2 := res.S2
 		out.SSquared = &s2
 	}
 	if !res.Converged {
-		out.Class = "scf-not-converged"
-		out.Detail = res.Reason
+		out.Class = runner.ClassSCFNotConverged
+		out.Error = res.Reason
 		return out, nil
 	}
 	if out.Class != "" {
 		if res.Orbitals != nil && t.Dir != "" {
 			if _, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
-				out.OrbitalsPath = OrbitalsFile // relative to t.Dir, as runner.Outcome asks
+				out.Orbitals = OrbitalsFile // relative to t.Dir, as runner.Outcome asks
 			}
 		}
 		return out, nil
@@ -352,7 +351,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 		if _, err := writeOrbitalsFile(t.Dir, res.Orbitals); err == nil {
 			// Relative to t.Dir, as runner.Outcome asks: t.Dir itself may
 			// be relative to the working directory.
-			out.OrbitalsPath = OrbitalsFile
+			out.Orbitals = OrbitalsFile
 		}
 	}
 	return out, nil

@@ -90,7 +90,7 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task, opts Option
 			return runner.Outcome{}, ctx.Err()
 		}
 		if errors.Is(err, ErrNotConverged) {
-			return runner.Outcome{Converged: false, Class: "scf-not-converged", Detail: err.Error()}, nil
+			return runner.Outcome{Converged: false, Class: runner.ClassSCFNotConverged, Error: err.Error()}, nil
 		}
 		return runner.Outcome{}, err
 	}
@@ -99,12 +99,11 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task, opts Option
 		Energy:     res.Energy,
 		Converged:  res.Converged,
 		Iterations: res.Gradients,
+		Flags:      runner.PointFlags{Relaxed: true, FromNeighbour: pr.FromNeighbour},
 		Extra: map[string]float64{
-			"relaxed":                  1,
 			"relax_gradients":          float64(res.Gradients),
 			"relax_max_force":          res.MaxForce,
 			"relax_rms_force":          res.RMSForce,
-			"relax_from_neighbour":     b2f(pr.FromNeighbour),
 			"relax_resumed_at":         float64(pr.ResumedAt),
 			"relax_constraint_error":   pr.MaxConstraintError,
 			"relax_gradients_computed": float64(src.Calls),
@@ -115,8 +114,8 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task, opts Option
 		out.SSquared = &s2
 	}
 	if !res.Converged {
-		out.Class = "relax-not-converged"
-		out.Detail = res.Reason
+		out.Class = runner.ClassRelaxNotConverged
+		out.Error = res.Reason
 		return out, nil
 	}
 	if orbPath == "" {
@@ -124,15 +123,8 @@ func (b *Backend) computeRelaxed(ctx context.Context, t runner.Task, opts Option
 			orbPath = filepath.Join(t.Dir, OrbitalsFile)
 		}
 	}
-	out.OrbitalsPath = orbPath
+	out.Orbitals = orbPath
 	return out, nil
-}
-
-func b2f(b bool) float64 {
-	if b {
-		return 1
-	}
-	return 0
 }
 
 // WithoutNeighbourGeometry returns a copy of b whose relaxed points start

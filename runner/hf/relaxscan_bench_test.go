@@ -43,7 +43,7 @@ func BenchmarkRelaxedScan_NeighbourStart(b *testing.B) {
 				recs := runScanText(b, text, 1, tc.wrap)
 				var grads, n float64
 				for _, r := range recs {
-					if r.Extra["relax_from_neighbour"] == 1 || tc.name == "cold" && r.Key != "phi=0.000" {
+					if r.Flags.FromNeighbour || tc.name == "cold" && r.Key != "phi=0.000" {
 						grads += r.Extra["relax_gradients"]
 						n++
 					}

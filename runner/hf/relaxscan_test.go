@@ -121,7 +121,7 @@ func TestRelaxedScan_EthaneBarrier(t *testing.T) {
 		if e := r.Extra["relax_constraint_error"] * 180 / math.Pi; e > 1e-4 {
 			t.Errorf("point %s: held torsion off by %.2e°", k, e)
 		}
-		if r.Extra["relaxed"] != 1 {
+		if !r.Flags.Relaxed {
 			t.Errorf("point %s not marked relaxed", k)
 		}
 	}
@@ -204,7 +204,7 @@ basis = "sto-3g"
 	if e := r.Extra["relax_constraint_error"]; e > 1e-8 { // ties and the torsion, bohr or rad
 		t.Errorf("largest constraint error %.2e", e)
 	}
-	if r.Extra["relaxed"] != 1 || r.Energy == nil {
+	if !r.Flags.Relaxed || r.Energy == nil {
 		t.Fatalf("point not relaxed: %+v", r)
 	}
 }

@@ -14,7 +14,7 @@ import (
 // round loop with the scan directory given relative to the working
 // directory, as `wellscan run DIR` and `cd DIR; wellscan run .` do, and
 // requires that every point after the first started from a neighbour's
-// orbitals (guess_from_neighbour = 1) and that the stored orbitals paths
+// orbitals (Flags.FromNeighbour) and that the stored orbitals paths
 // are relative to the scan directory and name files that exist. Before
 // the fix the orbitals path was relative to the working directory, got
 // the point directory prefixed a second time, and no guess file was ever
@@ -39,7 +39,7 @@ func TestScan_RelativeDir_UsesContinuation(t *testing.T) {
 				if rec.State != runner.Done {
 					t.Fatalf("%s: %s (%s)", rec.Key, rec.State, rec.LastError)
 				}
-				if rec.Extra["guess_from_neighbour"] == 1 {
+				if rec.Flags.FromNeighbour {
 					cont++
 				}
 				if rec.Orbitals == "" || filepath.IsAbs(rec.Orbitals) || !strings.HasPrefix(rec.Orbitals, runner.PointsDir+"/"+rec.Key+"/") {

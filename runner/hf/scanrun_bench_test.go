@@ -70,7 +70,7 @@ func BenchmarkScanRunner_COGuess(b *testing.B) {
 					}
 					iters += rec.Iterations
 					points++
-					if rec.Extra["guess_from_neighbour"] == 1 {
+					if rec.Flags.FromNeighbour {
 						cont++
 					}
 				}
@@ -106,7 +106,7 @@ func BenchmarkScanRunner_COWorkers(b *testing.B) {
 					}
 					iters += rec.Iterations
 					points++
-					if rec.Extra["guess_from_neighbour"] == 1 {
+					if rec.Flags.FromNeighbour {
 						cont++
 					}
 				}

@@ -1,6 +1,7 @@
 package hf_test
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -61,16 +62,33 @@ func runScanText(t testing.TB, text string, workers int, wrap func(*hf.Backend) 
 // relative to the working directory.
 func runScanTextAt(t testing.TB, dir, text string, workers int, wrap func(*hf.Backend) runner.Backend) []runner.PointRecord {
 	t.Helper()
-	return runScanTextQueue(t, dir, text, local.New(workers), wrap)
+	return runScanTextQueue(t, dir, text, false, workers, wrap)
 }
 
-// plainOrder hides the local queue's in-process mark, so the round loop
-// hands points out in plain coordinate order instead of growing them from
-// the middle of the scan (runner/dispatch.go).
-type plainOrder struct{ runner.Queue }
+// plainOrder is a batch-queue stand-in that computes the points on a
+// local pool of its own, as a compute node would (runner.ComputePoint):
+// the round loop, seeing a batch queue, hands the points out in plain
+// coordinate order instead of growing them from the middle of the scan
+// (runner/dispatch.go).
+type plainOrder struct {
+	pool    *local.Queue
+	spec    *planner.Spec
+	dir     string
+	backend runner.Backend
+}
 
-// runScanTextQueue is runScanTextAt on queue q.
-func runScanTextQueue(t testing.TB, dir, text string, q runner.Queue, wrap func(*hf.Backend) runner.Backend) []runner.PointRecord {
+func (p plainOrder) Name() string       { return "plain-order" }
+func (p plainOrder) Slots() int         { return p.pool.Slots() }
+func (p plainOrder) DetachNote() string { return "" }
+func (p plainOrder) Submit(ctx context.Context, in <-chan runner.Task, out chan<- runner.Completion, _ runner.BatchOptions) error {
+	return p.pool.Run(ctx, func(ctx context.Context, t runner.Task) runner.Completion {
+		return runner.ComputePoint(ctx, p.spec, p.dir, p.backend, t)
+	}, in, out)
+}
+
+// runScanTextQueue is runScanTextAt on a local pool of workers, or, with
+// plain, on a plainOrder queue of as many workers.
+func runScanTextQueue(t testing.TB, dir, text string, plain bool, workers int, wrap func(*hf.Backend) runner.Backend) []runner.PointRecord {
 	t.Helper()
 	path := filepath.Join(dir, "scan.toml")
 	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
@@ -88,6 +106,10 @@ func runScanTextQueue(t testing.TB, dir, text string, q runner.Queue, wrap func(
 	b, err := hf.NewBackend(spec)
 	if err != nil {
 		t.Fatal(err)
+	}
+	var q runner.Queue = local.New(workers)
+	if plain {
+		q = plainOrder{pool: local.New(workers), spec: spec, dir: dir, backend: wrap(b)}
 	}
 	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: wrap(b), Queue: q}
 	if _, err := r.Run(t.Context()); err != nil && !errors.Is(err, runner.ErrPointsFailed) {
@@ -113,7 +135,7 @@ func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanR
 	// the closed-shell state into the broken-symmetry region, which is what
 	// the cold check is for (growing from the middle of the grid starts in
 	// that region and hides the problem in this scan).
-	recs := runScanTextQueue(t, t.TempDir(), text, plainOrder{local.New(2)}, func(b *hf.Backend) runner.Backend { return b.WithColdCheck(check) })
+	recs := runScanTextQueue(t, t.TempDir(), text, true, 2, func(b *hf.Backend) runner.Backend { return b.WithColdCheck(check) })
 	sort.Slice(recs, func(i, j int) bool {
 		if recs[i].Values[0] != recs[j].Values[0] {
 			return recs[i].Values[0] < recs[j].Values[0]
@@ -129,7 +151,9 @@ func runStateChangeScan(t testing.TB, grid, bs string, check hf.ColdCheck) scanR
 		if p.Extra["cold_check_guesses"] > 0 {
 			out.checks++
 		}
-		out.replaced += int(p.Extra["cold_check_replaced"])
+		if p.Flags.GuessReplaced {
+			out.replaced++
+		}
 	}
 	return out
 }

@@ -15,11 +15,14 @@ import (
 	"wellscan/runner"
 )
 
-// Queue is the local worker pool. The zero value uses every CPU.
+// Queue is the local worker pool, a [runner.Pool]. The zero value uses
+// every CPU.
 type Queue struct {
 	// Workers is the number of points computed at once; 0: runtime.NumCPU().
 	Workers int
 }
+
+var _ runner.Pool = (*Queue)(nil)
 
 // New returns a pool of n workers (0: one per CPU).
 func New(n int) *Queue { return &Queue{Workers: n} }
@@ -35,11 +38,7 @@ func (q *Queue) Slots() int {
 	return runtime.NumCPU()
 }
 
-// InProcess implements runner.InProcessQueue: tasks run in this process,
-// one per free worker.
-func (q *Queue) InProcess() bool { return true }
-
-// Run implements runner.Queue: each worker takes tasks from in until it is
+// Run implements runner.Pool: each worker takes tasks from in until it is
 // closed. After ctx is cancelled, tasks still arriving are returned as
 // interrupted without running.
 func (q *Queue) Run(ctx context.Context, w runner.Worker, in <-chan runner.Task, out chan<- runner.Completion) error {

@@ -173,7 +173,7 @@ func (b *Backend) Compute(ctx context.Context, t runner.Task) (runner.Outcome, e
 	// A spike (engine.model.spikes) stands for a point that lands on
 	// another state whatever its starting guess.
 	return runner.Outcome{Energy: b.Energy(t.Values) + b.spikes[t.Key], Converged: true, Iterations: 1,
-		OrbitalsPath: stateFile, Extra: map[string]float64{"guess_distance": gd}}, nil
+		Orbitals: stateFile, Extra: map[string]float64{"guess_distance": gd}}, nil
 }
 
 // stateFile is the model's state file in a point directory.

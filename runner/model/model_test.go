@@ -89,7 +89,7 @@ func TestBackend_Compute_GuessAndFailure(t *testing.T) {
 	if err != nil || first.Extra["guess_distance"] != -1 || !first.Converged {
 		t.Fatalf("cold point: %+v, %v", first, err)
 	}
-	t1 := task(3.5, filepath.Join(dir, "r=3.00000", first.OrbitalsPath))
+	t1 := task(3.5, filepath.Join(dir, "r=3.00000", first.Orbitals))
 	second, err := b.Compute(t.Context(), t1)
 	// 0.5 Å in bohr, from the two points' values.
 	if want := 0.5 * planner.AngstromInBohr; err != nil || !scalar.EqualWithinAbs(second.Extra["guess_distance"], want, 1e-12) {

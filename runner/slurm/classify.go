@@ -8,50 +8,50 @@ import (
 
 // Class is wellscan's reading of a scheduler state. The result file decides
 // success before any of this: a valid result means done whatever the class
-// (lessons memo §3).
+// (SOURCES.md §3).
 type Class int
 
 const (
-	// ClassUnknown: the state is not recognised, or there is none. Never
-	// success: check the result file, wait the grace period, then ClassLost.
-	ClassUnknown Class = iota
-	// ClassWaiting: PENDING, CONFIGURING, POWER_UP_NODE.
-	ClassWaiting
-	// ClassActive: RUNNING, COMPLETING, SUSPENDED, STOPPED, SIGNALING,
+	// classUnknown: the state is not recognised, or there is none. Never
+	// success: check the result file, wait the grace period, then classLost.
+	classUnknown Class = iota
+	// classWaiting: PENDING, CONFIGURING, POWER_UP_NODE.
+	classWaiting
+	// classActive: RUNNING, COMPLETING, SUSPENDED, STOPPED, SIGNALING,
 	// RESIZING, STAGE_OUT.
-	ClassActive
-	// ClassRequeued: REQUEUED, REQUEUE_FED — Slurm is requeueing under the
+	classActive
+	// classRequeued: REQUEUED, REQUEUE_FED — Slurm is requeueing under the
 	// same id; wait, never resubmit.
-	ClassRequeued
-	// ClassHeld: REQUEUE_HOLD, SPECIAL_EXIT, RESV_DEL_HOLD — needs a person.
-	ClassHeld
-	// ClassCompleted: COMPLETED (the task ran to its end).
-	ClassCompleted
-	// ClassFailed: FAILED — the worker itself failed; the point's own error.
-	ClassFailed
-	// ClassTimeout: TIMEOUT.
-	ClassTimeout
-	// ClassOutOfMemory: OUT_OF_MEMORY.
-	ClassOutOfMemory
-	// ClassInfra: NODE_FAIL, BOOT_FAIL, LAUNCH_FAILED, RECONFIG_FAIL, REVOKED.
-	ClassInfra
-	// ClassPreempted: PREEMPTED (when not requeued by Slurm).
-	ClassPreempted
-	// ClassCancelled: CANCELLED.
-	ClassCancelled
-	// ClassDeadline: DEADLINE (only with --deadline).
-	ClassDeadline
-	// ClassLost: the task left the scheduler with no final state and no
+	classRequeued
+	// classHeld: REQUEUE_HOLD, SPECIAL_EXIT, RESV_DEL_HOLD — needs a person.
+	classHeld
+	// classCompleted: COMPLETED (the task ran to its end).
+	classCompleted
+	// classFailed: FAILED — the worker itself failed; the point's own error.
+	classFailed
+	// classTimeout: TIMEOUT.
+	classTimeout
+	// classOutOfMemory: OUT_OF_MEMORY.
+	classOutOfMemory
+	// classInfra: NODE_FAIL, BOOT_FAIL, LAUNCH_FAILED, RECONFIG_FAIL, REVOKED.
+	classInfra
+	// classPreempted: PREEMPTED (when not requeued by Slurm).
+	classPreempted
+	// classCancelled: CANCELLED.
+	classCancelled
+	// classDeadline: DEADLINE (only with --deadline).
+	classDeadline
+	// classLost: the task left the scheduler with no final state and no
 	// result file within the grace period. Set by the caller, never by
 	// [Classify].
-	ClassLost
+	classLost
 )
 
 var classNames = map[Class]string{
-	ClassUnknown: "unknown", ClassWaiting: "waiting", ClassActive: "active", ClassRequeued: "requeued",
-	ClassHeld: "held", ClassCompleted: "completed", ClassFailed: "failed", ClassTimeout: "timeout",
-	ClassOutOfMemory: "out-of-memory", ClassInfra: "infrastructure", ClassPreempted: "preempted",
-	ClassCancelled: "cancelled", ClassDeadline: "deadline", ClassLost: "lost",
+	classUnknown: "unknown", classWaiting: "waiting", classActive: "active", classRequeued: "requeued",
+	classHeld: "held", classCompleted: "completed", classFailed: "failed", classTimeout: "timeout",
+	classOutOfMemory: "out-of-memory", classInfra: "infrastructure", classPreempted: "preempted",
+	classCancelled: "cancelled", classDeadline: "deadline", classLost: "lost",
 }
 
 func (c Class) String() string {
@@ -64,8 +64,8 @@ func (c Class) String() string {
 // Terminal reports whether the task will not run again by itself.
 func (c Class) Terminal() bool {
 	switch c {
-	case ClassCompleted, ClassFailed, ClassTimeout, ClassOutOfMemory, ClassInfra, ClassPreempted,
-		ClassCancelled, ClassDeadline, ClassLost:
+	case classCompleted, classFailed, classTimeout, classOutOfMemory, classInfra, classPreempted,
+		classCancelled, classDeadline, classLost:
 		return true
 	}
 	return false
@@ -77,38 +77,38 @@ func (c Class) Terminal() bool {
 func Classify(state string) Class {
 	switch state {
 	case "PENDING", "CONFIGURING", "POWER_UP_NODE":
-		return ClassWaiting
+		return classWaiting
 	case "RUNNING", "COMPLETING", "SUSPENDED", "STOPPED", "SIGNALING", "RESIZING", "STAGE_OUT":
-		return ClassActive
+		return classActive
 	case "REQUEUED", "REQUEUE_FED":
-		return ClassRequeued
+		return classRequeued
 	case "REQUEUE_HOLD", "SPECIAL_EXIT", "RESV_DEL_HOLD":
-		return ClassHeld
+		return classHeld
 	case "COMPLETED":
-		return ClassCompleted
+		return classCompleted
 	case "FAILED":
-		return ClassFailed
+		return classFailed
 	case "TIMEOUT":
-		return ClassTimeout
+		return classTimeout
 	case "OUT_OF_MEMORY":
-		return ClassOutOfMemory
+		return classOutOfMemory
 	case "NODE_FAIL", "BOOT_FAIL", "LAUNCH_FAILED", "RECONFIG_FAIL", "REVOKED":
-		return ClassInfra
+		return classInfra
 	case "PREEMPTED":
-		return ClassPreempted
+		return classPreempted
 	case "CANCELLED":
-		return ClassCancelled
+		return classCancelled
 	case "DEADLINE":
-		return ClassDeadline
+		return classDeadline
 	}
-	return ClassUnknown
+	return classUnknown
 }
 
-// RetryPolicy says how a point whose task ended without a valid result is
-// retried. Budgets are separate (lessons memo §3): task failures use
+// retryPolicy says how a point whose task ended without a valid result is
+// retried. Budgets are separate (SOURCES.md §3): task failures use
 // Attempts, infrastructure failures use Infra, resource growth uses
 // Escalations.
-type RetryPolicy struct {
+type retryPolicy struct {
 	// Attempts is the number of task failures (FAILED, DEADLINE) a point may
 	// have in total; the last one is final.
 	Attempts int
@@ -129,25 +129,25 @@ type RetryPolicy struct {
 	RetryCancelled bool
 }
 
-// DefaultRetryPolicy returns the lessons memo defaults: attempts 3, infra 5,
+// defaultRetryPolicy returns the defaults of SOURCES.md §3: attempts 3, infra 5,
 // escalations 2, time ×2, memory ×1.5, no caps known.
-func DefaultRetryPolicy() RetryPolicy {
-	return RetryPolicy{Attempts: 3, Infra: 5, Escalations: 2, TimeFactor: 2, MemFactor: 1.5}
+func defaultRetryPolicy() retryPolicy {
+	return retryPolicy{Attempts: 3, Infra: 5, Escalations: 2, TimeFactor: 2, MemFactor: 1.5}
 }
 
-// Budget counts what a point has used so far.
-type Budget struct {
+// budget counts what a point has used so far.
+type budget struct {
 	Attempts, Infra, Escalations int
 }
 
-// Decision is what to do with one point.
-type Decision struct {
+// decision is what to do with one point.
+type decision struct {
 	Class Class
 	// Retry: plan the point again with Resources.
 	Retry     bool
 	Resources Resources
 	// Used is the budget after this decision.
-	Used Budget
+	Used budget
 	// Reason explains the decision for logs and `status --failed`.
 	Reason string
 }
@@ -155,14 +155,14 @@ type Decision struct {
 // Decide applies the policy to a point that has no valid result and whose
 // task is in class c, ran with res, and has used budget used. Non-terminal
 // classes (and unknown) give no retry: wait.
-func (p RetryPolicy) Decide(c Class, res Resources, used Budget) Decision {
-	d := Decision{Class: c, Resources: res, Used: used}
+func (p retryPolicy) Decide(c Class, res Resources, used budget) decision {
+	d := decision{Class: c, Resources: res, Used: used}
 	switch c {
-	case ClassFailed, ClassDeadline:
+	case classFailed, classDeadline:
 		d.Used.Attempts++
 		d.Retry = d.Used.Attempts < p.Attempts
 		d.Reason = fmt.Sprintf("task failed (%s): the point's own error; attempt %d of %d", c, d.Used.Attempts, p.Attempts)
-	case ClassTimeout:
+	case classTimeout:
 		d.Retry, d.Reason = p.grow(&d, "time", func() (bool, string) {
 			if res.Time <= 0 {
 				return false, "no time limit was set, so it cannot be raised; set one in the spec"
@@ -177,7 +177,7 @@ func (p RetryPolicy) Decide(c Class, res Resources, used Budget) Decision {
 			d.Resources.Time = next
 			return true, fmt.Sprintf("time limit %s → %s", res.Time, next)
 		})
-	case ClassOutOfMemory:
+	case classOutOfMemory:
 		d.Retry, d.Reason = p.grow(&d, "memory", func() (bool, string) {
 			if res.MemMB <= 0 {
 				return false, "no memory was requested, so it cannot be raised; set one in the spec"
@@ -192,12 +192,12 @@ func (p RetryPolicy) Decide(c Class, res Resources, used Budget) Decision {
 			d.Resources.MemMB = next
 			return true, fmt.Sprintf("memory %d → %d MiB", res.MemMB, next)
 		})
-	case ClassInfra, ClassPreempted, ClassLost, ClassCompleted:
+	case classInfra, classPreempted, classLost, classCompleted:
 		// A COMPLETED task without a result after the grace period is lost.
 		d.Used.Infra++
 		d.Retry = d.Used.Infra < p.Infra
 		d.Reason = fmt.Sprintf("%s: retried with the same resources; infrastructure failure %d of %d", c, d.Used.Infra, p.Infra)
-	case ClassCancelled:
+	case classCancelled:
 		d.Retry = p.RetryCancelled
 		d.Reason = "cancelled"
 		if d.Retry {
@@ -210,7 +210,7 @@ func (p RetryPolicy) Decide(c Class, res Resources, used Budget) Decision {
 }
 
 // grow charges an escalation and applies f when budget remains.
-func (p RetryPolicy) grow(d *Decision, what string, f func() (bool, string)) (bool, string) {
+func (p retryPolicy) grow(d *decision, what string, f func() (bool, string)) (bool, string) {
 	if d.Used.Escalations >= p.Escalations {
 		return false, fmt.Sprintf("%s: %s already raised %d times (the limit)", d.Class, what, d.Used.Escalations)
 	}

@@ -7,27 +7,27 @@ import (
 
 func TestClassify_States(t *testing.T) {
 	// Slurm base states and flags (Slurm job_state_codes), mapped as in the
-	// lessons memo §3 table.
+	// SOURCES.md §3.
 	tests := map[string]Class{
-		"PENDING": ClassWaiting, "CONFIGURING": ClassWaiting,
-		"RUNNING": ClassActive, "COMPLETING": ClassActive, "SUSPENDED": ClassActive,
-		"REQUEUED": ClassRequeued, "REQUEUE_HOLD": ClassHeld, "SPECIAL_EXIT": ClassHeld,
-		"COMPLETED": ClassCompleted, "FAILED": ClassFailed, "TIMEOUT": ClassTimeout,
-		"OUT_OF_MEMORY": ClassOutOfMemory, "NODE_FAIL": ClassInfra, "BOOT_FAIL": ClassInfra,
-		"LAUNCH_FAILED": ClassInfra, "PREEMPTED": ClassPreempted, "CANCELLED": ClassCancelled,
-		"DEADLINE": ClassDeadline, "": ClassUnknown, "WEIRD": ClassUnknown,
+		"PENDING": classWaiting, "CONFIGURING": classWaiting,
+		"RUNNING": classActive, "COMPLETING": classActive, "SUSPENDED": classActive,
+		"REQUEUED": classRequeued, "REQUEUE_HOLD": classHeld, "SPECIAL_EXIT": classHeld,
+		"COMPLETED": classCompleted, "FAILED": classFailed, "TIMEOUT": classTimeout,
+		"OUT_OF_MEMORY": classOutOfMemory, "NODE_FAIL": classInfra, "BOOT_FAIL": classInfra,
+		"LAUNCH_FAILED": classInfra, "PREEMPTED": classPreempted, "CANCELLED": classCancelled,
+		"DEADLINE": classDeadline, "": classUnknown, "WEIRD": classUnknown,
 	}
 	for s, want := range tests {
 		if got := Classify(s); got != want {
 			t.Errorf("Classify(%q) = %s, want %s", s, got, want)
 		}
 	}
-	for _, c := range []Class{ClassWaiting, ClassActive, ClassRequeued, ClassHeld, ClassUnknown} {
+	for _, c := range []Class{classWaiting, classActive, classRequeued, classHeld, classUnknown} {
 		if c.Terminal() {
 			t.Errorf("%s.Terminal() = true", c)
 		}
 	}
-	for _, c := range []Class{ClassCompleted, ClassFailed, ClassTimeout, ClassCancelled, ClassLost} {
+	for _, c := range []Class{classCompleted, classFailed, classTimeout, classCancelled, classLost} {
 		if !c.Terminal() {
 			t.Errorf("%s.Terminal() = false", c)
 		}
@@ -35,7 +35,7 @@ func TestClassify_States(t *testing.T) {
 }
 
 func TestRetryPolicy_Decide(t *testing.T) {
-	p := DefaultRetryPolicy()
+	p := defaultRetryPolicy()
 	p.MaxTime = 3 * time.Hour
 	p.MaxMemMB = 4000
 	base := Resources{Time: time.Hour, MemMB: 2000, Partition: "debug"}
@@ -43,29 +43,29 @@ func TestRetryPolicy_Decide(t *testing.T) {
 		name      string
 		class     Class
 		res       Resources
-		used      Budget
+		used      budget
 		retry     bool
 		time      time.Duration
 		mem       int
-		wantUsed  Budget
+		wantUsed  budget
 		retryCanc bool
 	}{
-		{"timeout doubles time", ClassTimeout, base, Budget{}, true, 2 * time.Hour, 2000, Budget{Escalations: 1}, false},
-		{"timeout capped", ClassTimeout, Resources{Time: 2 * time.Hour, MemMB: 2000}, Budget{Escalations: 1}, true, 3 * time.Hour, 2000, Budget{Escalations: 2}, false},
-		{"timeout at cap", ClassTimeout, Resources{Time: 3 * time.Hour}, Budget{}, false, 3 * time.Hour, 0, Budget{}, false},
-		{"timeout escalations used up", ClassTimeout, base, Budget{Escalations: 2}, false, time.Hour, 2000, Budget{Escalations: 2}, false},
-		{"timeout without a limit", ClassTimeout, Resources{}, Budget{}, false, 0, 0, Budget{}, false},
-		{"oom grows memory", ClassOutOfMemory, base, Budget{}, true, time.Hour, 3000, Budget{Escalations: 1}, false},
-		{"oom capped", ClassOutOfMemory, Resources{MemMB: 3000}, Budget{}, true, 0, 4000, Budget{Escalations: 1}, false},
-		{"node fail unchanged, no attempt", ClassInfra, base, Budget{Attempts: 2}, true, time.Hour, 2000, Budget{Attempts: 2, Infra: 1}, false},
-		{"preempted unchanged", ClassPreempted, base, Budget{}, true, time.Hour, 2000, Budget{Infra: 1}, false},
-		{"lost unchanged", ClassLost, base, Budget{}, true, time.Hour, 2000, Budget{Infra: 1}, false},
-		{"infra budget used up", ClassInfra, base, Budget{Infra: 4}, false, time.Hour, 2000, Budget{Infra: 5}, false},
-		{"failed uses an attempt", ClassFailed, base, Budget{}, true, time.Hour, 2000, Budget{Attempts: 1}, false},
-		{"failed last attempt", ClassFailed, base, Budget{Attempts: 2}, false, time.Hour, 2000, Budget{Attempts: 3}, false},
-		{"cancelled not retried", ClassCancelled, base, Budget{}, false, time.Hour, 2000, Budget{}, false},
-		{"cancelled retried when asked", ClassCancelled, base, Budget{}, true, time.Hour, 2000, Budget{}, true},
-		{"running: wait", ClassActive, base, Budget{}, false, time.Hour, 2000, Budget{}, false},
+		{"timeout doubles time", classTimeout, base, budget{}, true, 2 * time.Hour, 2000, budget{Escalations: 1}, false},
+		{"timeout capped", classTimeout, Resources{Time: 2 * time.Hour, MemMB: 2000}, budget{Escalations: 1}, true, 3 * time.Hour, 2000, budget{Escalations: 2}, false},
+		{"timeout at cap", classTimeout, Resources{Time: 3 * time.Hour}, budget{}, false, 3 * time.Hour, 0, budget{}, false},
+		{"timeout escalations used up", classTimeout, base, budget{Escalations: 2}, false, time.Hour, 2000, budget{Escalations: 2}, false},
+		{"timeout without a limit", classTimeout, Resources{}, budget{}, false, 0, 0, budget{}, false},
+		{"oom grows memory", classOutOfMemory, base, budget{}, true, time.Hour, 3000, budget{Escalations: 1}, false},
+		{"oom capped", classOutOfMemory, Resources{MemMB: 3000}, budget{}, true, 0, 4000, budget{Escalations: 1}, false},
+		{"node fail unchanged, no attempt", classInfra, base, budget{Attempts: 2}, true, time.Hour, 2000, budget{Attempts: 2, Infra: 1}, false},
+		{"preempted unchanged", classPreempted, base, budget{}, true, time.Hour, 2000, budget{Infra: 1}, false},
+		{"lost unchanged", classLost, base, budget{}, true, time.Hour, 2000, budget{Infra: 1}, false},
+		{"infra budget used up", classInfra, base, budget{Infra: 4}, false, time.Hour, 2000, budget{Infra: 5}, false},
+		{"failed uses an attempt", classFailed, base, budget{}, true, time.Hour, 2000, budget{Attempts: 1}, false},
+		{"failed last attempt", classFailed, base, budget{Attempts: 2}, false, time.Hour, 2000, budget{Attempts: 3}, false},
+		{"cancelled not retried", classCancelled, base, budget{}, false, time.Hour, 2000, budget{}, false},
+		{"cancelled retried when asked", classCancelled, base, budget{}, true, time.Hour, 2000, budget{}, true},
+		{"running: wait", classActive, base, budget{}, false, time.Hour, 2000, budget{}, false},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

@@ -12,51 +12,51 @@ import (
 	"time"
 )
 
-// SubmitErrorKind says what a rejected submission means for the caller.
-type SubmitErrorKind int
+// submitErrorKind says what a rejected submission means for the caller.
+type submitErrorKind int
 
 const (
-	// SubmitUnknown: the scheduler refused for a reason not recognised.
-	SubmitUnknown SubmitErrorKind = iota
-	// SubmitRejected: the request itself is wrong (partition, memory, time,
+	// submitUnknown: the scheduler refused for a reason not recognised.
+	submitUnknown submitErrorKind = iota
+	// submitRejected: the request itself is wrong (partition, memory, time,
 	// array size, account); resubmitting unchanged cannot succeed.
-	SubmitRejected
-	// SubmitLimit: a submission limit is reached; wait and submit later. The
+	submitRejected
+	// submitLimit: a submission limit is reached; wait and submit later. The
 	// points are not failed.
-	SubmitLimit
-	// SubmitUnreachable: the scheduler could not be contacted. The job may
+	submitLimit
+	// submitUnreachable: the scheduler could not be contacted. The job may
 	// still have been created: look it up by its token before resubmitting.
-	SubmitUnreachable
+	submitUnreachable
 )
 
-func (k SubmitErrorKind) String() string {
+func (k submitErrorKind) String() string {
 	switch k {
-	case SubmitRejected:
+	case submitRejected:
 		return "rejected"
-	case SubmitLimit:
+	case submitLimit:
 		return "limit reached"
-	case SubmitUnreachable:
+	case submitUnreachable:
 		return "scheduler unreachable"
 	}
 	return "unknown"
 }
 
-// SubmitError is a submission the scheduler did not accept.
-type SubmitError struct {
+// submitError is a submission the scheduler did not accept.
+type submitError struct {
 	Profile  string
 	Script   string
 	ExitCode int
 	// Message is the scheduler's own message (stderr, trimmed).
 	Message string
-	Kind    SubmitErrorKind
+	Kind    submitErrorKind
 }
 
-func (e *SubmitError) Error() string {
+func (e *submitError) Error() string {
 	return fmt.Sprintf("slurm: submit %s (%s): %s, exit %d: %s", e.Script, e.Profile, e.Kind, e.ExitCode, e.Message)
 }
 
-// CommandError is a status, history or cancel command that failed.
-type CommandError struct {
+// commandError is a status, history or cancel command that failed.
+type commandError struct {
 	Argv     []string
 	ExitCode int
 	Message  string
@@ -65,17 +65,17 @@ type CommandError struct {
 	Unreachable bool
 }
 
-func (e *CommandError) Error() string {
+func (e *commandError) Error() string {
 	return fmt.Sprintf("slurm: %s: exit %d: %s", strings.Join(e.Argv, " "), e.ExitCode, e.Message)
 }
 
-// ErrNoAccounting is returned by [Client.History] when the site keeps no
+// errNoAccounting is returned by Client.listHistory when the site keeps no
 // accounting (Slurm: "accounting storage is disabled"), or the profile has
 // no history command.
-var ErrNoAccounting = errors.New("slurm: no accounting on this scheduler")
+var errNoAccounting = errors.New("slurm: no accounting on this scheduler")
 
 // Texts in Slurm's messages (observed with Slurm 22.05 on the local node,
-// localhost notes §4, and quoted in the lessons memo §2).
+// SOURCES.md §4 and §2).
 var (
 	rejectedTexts = []string{
 		"Invalid partition", "Requested node configuration is not available", "Invalid job array specification",
@@ -102,19 +102,19 @@ func containsAny(s string, subs []string) bool {
 	return false
 }
 
-// ClassifySubmitFailure turns a failed submission's exit code and stderr into
+// classifySubmitFailure turns a failed submission's exit code and stderr into
 // a kind. Exit code 255 without a known text is a command-line error
 // (sbatch's argument parser), hence rejected.
-func ClassifySubmitFailure(exitCode int, stderr string) SubmitErrorKind {
+func classifySubmitFailure(exitCode int, stderr string) submitErrorKind {
 	switch {
 	case containsAny(stderr, unreachableTexts):
-		return SubmitUnreachable
+		return submitUnreachable
 	case containsAny(stderr, limitTexts):
-		return SubmitLimit
+		return submitLimit
 	case containsAny(stderr, rejectedTexts), exitCode == 255:
-		return SubmitRejected
+		return submitRejected
 	}
-	return SubmitUnknown
+	return submitUnknown
 }
 
 // Client runs one profile's commands through a Runner.
@@ -130,7 +130,7 @@ func NewClient(p *Profile, r Runner) (*Client, error) {
 	if p == nil || r == nil {
 		return nil, errors.New("slurm: NewClient needs a profile and a runner")
 	}
-	if err := p.Validate(); err != nil {
+	if err := p.validate(); err != nil {
 		return nil, err
 	}
 	c := &Client{profile: p, runner: r}
@@ -145,18 +145,18 @@ func NewClient(p *Profile, r Runner) (*Client, error) {
 // Profile returns the client's profile; callers must not modify it.
 func (c *Client) Profile() *Profile { return c.profile }
 
-// Submit submits a rendered script through argv (`sbatch --parsable FILE`
-// for Slurm) and returns the job id. A refusal is a [*SubmitError]. Submit
-// never retries: after a SubmitUnreachable error the job may exist, and the
+// submit submits a rendered script through argv (`sbatch --parsable FILE`
+// for Slurm) and returns the job id. A refusal is a *submitError. It
+// never retries: after a submitUnreachable error the job may exist, and the
 // caller must look for its token first.
-func (c *Client) Submit(ctx context.Context, script string) (string, error) {
-	return c.SubmitEnv(ctx, script, nil)
+func (c *Client) submit(ctx context.Context, script string) (string, error) {
+	return c.submitEnv(ctx, script, nil)
 }
 
-// SubmitEnv is Submit with the submit command's environment env (nil: the
+// submitEnv is submit with the submit command's environment env (nil: the
 // runner's default); a job that takes its environment from the
-// submission (--export=ALL) gets env. See [JobEnv].
-func (c *Client) SubmitEnv(ctx context.Context, script string, env []string) (string, error) {
+// submission (--export=ALL) gets env. See jobEnv.
+func (c *Client) submitEnv(ctx context.Context, script string, env []string) (string, error) {
 	p := c.profile
 	argv, err := expandArgv(p.Submit, map[string]any{"Script": script}, nil)
 	if err != nil {
@@ -172,19 +172,19 @@ func (c *Client) SubmitEnv(ctx context.Context, script string, env []string) (st
 	}
 	msg := strings.TrimSpace(string(out.Stderr))
 	if out.ExitCode != 0 {
-		return "", &SubmitError{Profile: p.Name, Script: script, ExitCode: out.ExitCode, Message: msg,
-			Kind: ClassifySubmitFailure(out.ExitCode, msg)}
+		return "", &submitError{Profile: p.Name, Script: script, ExitCode: out.ExitCode, Message: msg,
+			Kind: classifySubmitFailure(out.ExitCode, msg)}
 	}
-	id, err := ParseJobID(c.jobID, out.Stdout)
+	id, err := parseJobID(c.jobID, out.Stdout)
 	if err != nil {
-		return "", &SubmitError{Profile: p.Name, Script: script, Message: err.Error() + "; stderr: " + msg}
+		return "", &submitError{Profile: p.Name, Script: script, Message: err.Error() + "; stderr: " + msg}
 	}
 	return id, nil
 }
 
-// ParseJobID finds the job id in submit output with the profile's pattern
+// parseJobID finds the job id in submit output with the profile's pattern
 // (group "id"), on the first line that matches.
-func ParseJobID(re *regexp.Regexp, stdout []byte) (string, error) {
+func parseJobID(re *regexp.Regexp, stdout []byte) (string, error) {
 	idx := re.SubexpIndex("id")
 	for _, line := range strings.Split(string(stdout), "\n") {
 		if m := re.FindStringSubmatch(strings.TrimSpace(line)); m != nil && m[idx] != "" {
@@ -201,8 +201,8 @@ func truncate(s string, n int) string {
 	return s[:n] + "…"
 }
 
-// NoTask is the Index of a job that is not an array task.
-const NoTask = -1
+// noTask is the Index of a job that is not an array task.
+const noTask = -1
 
 // TaskState is one array task (or plain job) as the scheduler reports it.
 type TaskState struct {
@@ -217,7 +217,7 @@ type TaskState struct {
 	State, Native string
 	Reason        string
 	// Comment is the job's comment where the status command shows it; for
-	// jobs wellscan submitted it is "ws:<token>" (see [TaskState.Token]).
+	// jobs wellscan submitted it is "ws:<token>" (see TaskState.token).
 	Comment string
 	// ExitCode is "code:signal" where the history command reports it.
 	ExitCode string
@@ -225,40 +225,40 @@ type TaskState struct {
 	FromHistory bool
 }
 
-// Token returns the submission token from the task's comment ("ws:<token>"),
+// token returns the submission token from the task's comment ("ws:<token>"),
 // so that after a crash between recording a submission and learning its job
 // id, the job can be found in one status listing and adopted.
-func (t TaskState) Token() (string, bool) {
+func (t TaskState) token() (string, bool) {
 	return strings.CutPrefix(t.Comment, "ws:")
 }
 
-// TaskRef identifies an array task: array job id and index. Match tasks by
-// these, never by id arithmetic (localhost notes pitfall 15).
-type TaskRef struct {
+// taskRef identifies an array task: array job id and index. Match tasks by
+// these, never by id arithmetic (SOURCES.md §11).
+type taskRef struct {
 	Array string
 	Index int
 }
 
-func (r TaskRef) String() string {
-	if r.Index == NoTask {
+func (r taskRef) String() string {
+	if r.Index == noTask {
 		return r.Array
 	}
 	return r.Array + "_" + strconv.Itoa(r.Index)
 }
 
-// Ref returns the task's identity.
-func (t TaskState) Ref() TaskRef { return TaskRef{Array: t.Array, Index: t.Index} }
+// ref returns the task's identity.
+func (t TaskState) ref() taskRef { return taskRef{Array: t.Array, Index: t.Index} }
 
-func (c *Client) commandError(argv []string, out Output) *CommandError {
+func (c *Client) commandError(argv []string, out Output) *commandError {
 	msg := strings.TrimSpace(string(out.Stderr))
-	return &CommandError{Argv: argv, ExitCode: out.ExitCode, Message: msg, Unreachable: containsAny(msg, unreachableTexts)}
+	return &commandError{Argv: argv, ExitCode: out.ExitCode, Message: msg, Unreachable: containsAny(msg, unreachableTexts)}
 }
 
-// Status runs the profile's one batched status command for all jobs named
+// listStatus runs the profile's one batched status command for all jobs named
 // jobName and parses every task it lists. "No such job" answers give an
 // empty list.
-func (c *Client) Status(ctx context.Context, jobName string) ([]TaskState, error) {
-	if err := ValidateValue("job name", jobName); err != nil {
+func (c *Client) listStatus(ctx context.Context, jobName string) ([]TaskState, error) {
+	if err := validateValue("job name", jobName); err != nil {
 		return nil, err
 	}
 	argv, err := expandArgv(c.profile.Status, map[string]any{"JobName": jobName}, nil)
@@ -278,16 +278,16 @@ func (c *Client) Status(ctx context.Context, jobName string) ([]TaskState, error
 	return c.parseLines(c.status, out.Stdout, jobName, false)
 }
 
-// ParseStatus parses status output with the client's profile (exported for
+// parseStatus parses status output with the client's profile (for
 // tests and for reading saved outputs).
-func (c *Client) ParseStatus(out []byte, jobName string) ([]TaskState, error) {
+func (c *Client) parseStatus(out []byte, jobName string) ([]TaskState, error) {
 	return c.parseLines(c.status, out, jobName, false)
 }
 
-// ParseHistory parses history output with the client's profile.
-func (c *Client) ParseHistory(out []byte, jobName string) ([]TaskState, error) {
+// parseHistory parses history output with the client's profile.
+func (c *Client) parseHistory(out []byte, jobName string) ([]TaskState, error) {
 	if c.history == nil {
-		return nil, ErrNoAccounting
+		return nil, errNoAccounting
 	}
 	return c.parseLines(c.history, out, jobName, true)
 }
@@ -332,7 +332,7 @@ func (c *Client) parseLines(re *regexp.Regexp, out []byte, jobName string, histo
 		var indexes []int
 		switch {
 		case idx == "" || slices.Contains(p.NoIndex, idx):
-			indexes = []int{NoTask}
+			indexes = []int{noTask}
 		default:
 			var err error
 			indexes, err = parseIndexes(idx, p.IndexRanges)
@@ -345,7 +345,7 @@ func (c *Client) parseLines(re *regexp.Regexp, out []byte, jobName string, histo
 			ti.Index = i
 			if ti.ID == "" || len(indexes) > 1 {
 				// Folded pending tasks have no id of their own yet.
-				ti.ID = ti.Ref().String()
+				ti.ID = ti.ref().String()
 			}
 			tasks = append(tasks, ti)
 		}
@@ -354,7 +354,7 @@ func (c *Client) parseLines(re *regexp.Regexp, out []byte, jobName string, histo
 }
 
 // maxExpand bounds range expansion of one folded index list. wellscan
-// submits arrays of at most 1000 tasks (lessons memo §11), so a listing that
+// submits arrays of at most 1000 tasks (SOURCES.md §2), so a listing that
 // expands beyond this is not ours, or is corrupt; refusing it also keeps a
 // hostile line from allocating without limit.
 const maxExpand = 1 << 16
@@ -401,14 +401,14 @@ func parseIndexes(s string, ranges bool) ([]int, error) {
 	return out, nil
 }
 
-// History runs the profile's bounded accounting query (Slurm: `sacct -X -P
-// -n --name=NAME -S SINCE -E now`) and parses it. It returns ErrNoAccounting
+// listHistory runs the profile's bounded accounting query (Slurm: `sacct -X -P
+// -n --name=NAME -S SINCE -E now`) and parses it. It returns errNoAccounting
 // when the profile has none or the site keeps none.
-func (c *Client) History(ctx context.Context, jobName string, since time.Time) ([]TaskState, error) {
+func (c *Client) listHistory(ctx context.Context, jobName string, since time.Time) ([]TaskState, error) {
 	if c.history == nil {
-		return nil, ErrNoAccounting
+		return nil, errNoAccounting
 	}
-	if err := ValidateValue("job name", jobName); err != nil {
+	if err := validateValue("job name", jobName); err != nil {
 		return nil, err
 	}
 	argv, err := expandArgv(c.profile.History, map[string]any{
@@ -424,7 +424,7 @@ func (c *Client) History(ctx context.Context, jobName string, since time.Time) (
 		return nil, err
 	}
 	if c.profile.HistoryDisabled != "" && strings.Contains(string(out.Stderr), c.profile.HistoryDisabled) {
-		return nil, fmt.Errorf("%w (%s)", ErrNoAccounting, strings.TrimSpace(string(out.Stderr)))
+		return nil, fmt.Errorf("%w (%s)", errNoAccounting, strings.TrimSpace(string(out.Stderr)))
 	}
 	if out.ExitCode != 0 {
 		return nil, c.commandError(argv, out)
@@ -436,7 +436,7 @@ func (c *Client) History(ctx context.Context, jobName string, since time.Time) (
 // (`scancel --me --name=NAME`), otherwise by the ids a status query lists, in
 // batches of CancelBatch. It does not wait; see [Client.ConfirmCancelled].
 func (c *Client) Cancel(ctx context.Context, jobName string) error {
-	if err := ValidateValue("job name", jobName); err != nil {
+	if err := validateValue("job name", jobName); err != nil {
 		return err
 	}
 	p := c.profile
@@ -454,7 +454,7 @@ func (c *Client) Cancel(ctx context.Context, jobName string) error {
 		}
 		return nil
 	}
-	tasks, err := c.Status(ctx, jobName)
+	tasks, err := c.listStatus(ctx, jobName)
 	if err != nil {
 		return err
 	}
@@ -464,18 +464,18 @@ func (c *Client) Cancel(ctx context.Context, jobName string) error {
 			ids = append(ids, t.Array)
 		}
 	}
-	return c.CancelIDs(ctx, ids)
+	return c.cancelIDs(ctx, ids)
 }
 
-// CancelIDs cancels the given job ids, at most CancelBatch per command
-// (100 by default, lessons memo §8).
-func (c *Client) CancelIDs(ctx context.Context, ids []string) error {
+// cancelIDs cancels the given job ids, at most CancelBatch per command
+// (100 by default, SOURCES.md §8).
+func (c *Client) cancelIDs(ctx context.Context, ids []string) error {
 	batch := c.profile.CancelBatch
 	if batch <= 0 {
 		batch = 100
 	}
 	for _, id := range ids {
-		if err := ValidateValue("job id", id); err != nil {
+		if err := validateValue("job id", id); err != nil {
 			return err
 		}
 	}
@@ -501,7 +501,7 @@ func (c *Client) CancelIDs(ctx context.Context, ids []string) error {
 // listing.
 func (c *Client) ConfirmCancelled(ctx context.Context, jobName string, every time.Duration) ([]TaskState, error) {
 	for {
-		tasks, err := c.Status(ctx, jobName)
+		tasks, err := c.listStatus(ctx, jobName)
 		if err != nil {
 			return nil, err
 		}

@@ -51,16 +51,16 @@ func TestClient_Submit_ParsesID(t *testing.T) {
 	}{
 		{Slurm(), "123\n", "123"},
 		{Slurm(), "4567;cluster-a\n", "4567"}, // --parsable with a cluster name (sbatch man)
-		{Torque(), "123[].server.example\n", "123"},
-		{Torque(), "124.server\n", "124"},
-		{LSF(), "Job <8812> is submitted to queue <normal>.\n", "8812"},
-		{SGE(), "551.1-10:1\n", "551"},
-		{SGE(), "552\n", "552"},
+		{torqueProfile(), "123[].server.example\n", "123"},
+		{torqueProfile(), "124.server\n", "124"},
+		{lsfProfile(), "Job <8812> is submitted to queue <normal>.\n", "8812"},
+		{sgeProfile(), "551.1-10:1\n", "551"},
+		{sgeProfile(), "552\n", "552"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.p.Name+"/"+strings.TrimSpace(tc.stdout), func(t *testing.T) {
 			r := &fakeRunner{respond: func(Cmd) (Output, error) { return Output{Stdout: []byte(tc.stdout)}, nil }}
-			id, err := mustClient(t, tc.p, r).Submit(t.Context(), "/scan/jobs/r1-1/submit.sh")
+			id, err := mustClient(t, tc.p, r).submit(t.Context(), "/scan/jobs/r1-1/submit.sh")
 			if err != nil || id != tc.want {
 				t.Errorf("Submit = %q, %v; want %q", id, err, tc.want)
 			}
@@ -71,7 +71,7 @@ func TestClient_Submit_ParsesID(t *testing.T) {
 func TestClient_Submit_ArgvNoShell(t *testing.T) {
 	r := &fakeRunner{respond: func(Cmd) (Output, error) { return Output{Stdout: []byte("1\n")}, nil }}
 	path := "/scan dir/it's/submit.sh"
-	if _, err := mustClient(t, Slurm(), r).Submit(t.Context(), path); err != nil {
+	if _, err := mustClient(t, Slurm(), r).submit(t.Context(), path); err != nil {
 		t.Fatal(err)
 	}
 	want := Cmd{Argv: []string{"sbatch", "--parsable", path}}
@@ -79,10 +79,10 @@ func TestClient_Submit_ArgvNoShell(t *testing.T) {
 		t.Errorf("calls = %q, want %q", r.calls, want)
 	}
 	r.calls = nil
-	if _, err := mustClient(t, LSF(), &fakeRunner{respond: func(c Cmd) (Output, error) {
+	if _, err := mustClient(t, lsfProfile(), &fakeRunner{respond: func(c Cmd) (Output, error) {
 		r.calls = append(r.calls, c)
 		return Output{Stdout: []byte("Job <1> is submitted to default queue <normal>.")}, nil
-	}}).Submit(t.Context(), path); err != nil {
+	}}).submit(t.Context(), path); err != nil {
 		t.Fatal(err)
 	}
 	if want := (Cmd{Argv: []string{"bsub"}, Stdin: path}); !reflect.DeepEqual(r.calls, []Cmd{want}) {
@@ -91,27 +91,27 @@ func TestClient_Submit_ArgvNoShell(t *testing.T) {
 }
 
 func TestClient_Submit_ClassifiesRejections(t *testing.T) {
-	// Messages and exit codes observed with Slurm 22.05 (localhost notes §4),
-	// and limit texts quoted in the lessons memo §2.
+	// Messages and exit codes observed with Slurm 22.05 (SOURCES.md §4),
+	// and the limit texts of SOURCES.md §2.
 	tests := []struct {
 		name   string
 		code   int
 		stderr string
-		want   SubmitErrorKind
+		want   submitErrorKind
 	}{
-		{"bad partition", 1, "sbatch: error: Batch job submission failed: Invalid partition name specified", SubmitRejected},
-		{"too much memory", 1, "sbatch: error: Batch job submission failed: Requested node configuration is not available", SubmitRejected},
-		{"array too big", 1, "sbatch: error: Batch job submission failed: Invalid job array specification", SubmitRejected},
-		{"bad time", 255, "sbatch: error: Invalid --time specification", SubmitRejected},
-		{"controller down", 1, "sbatch: error: Batch job submission failed: Unable to contact slurm controller (connect failure)", SubmitUnreachable},
-		{"submit limit", 1, "sbatch: error: AssocMaxSubmitJobLimit\nsbatch: error: Batch job submission failed: Job violates accounting/QOS policy (job submit limit, user's size and/or time limits)", SubmitLimit},
-		{"something else", 1, "sbatch: error: frobnication failed", SubmitUnknown},
+		{"bad partition", 1, "sbatch: error: Batch job submission failed: Invalid partition name specified", submitRejected},
+		{"too much memory", 1, "sbatch: error: Batch job submission failed: Requested node configuration is not available", submitRejected},
+		{"array too big", 1, "sbatch: error: Batch job submission failed: Invalid job array specification", submitRejected},
+		{"bad time", 255, "sbatch: error: Invalid --time specification", submitRejected},
+		{"controller down", 1, "sbatch: error: Batch job submission failed: Unable to contact slurm controller (connect failure)", submitUnreachable},
+		{"submit limit", 1, "sbatch: error: AssocMaxSubmitJobLimit\nsbatch: error: Batch job submission failed: Job violates accounting/QOS policy (job submit limit, user's size and/or time limits)", submitLimit},
+		{"something else", 1, "sbatch: error: frobnication failed", submitUnknown},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			r := &fakeRunner{respond: func(Cmd) (Output, error) { return Output{Stderr: []byte(tc.stderr + "\n"), ExitCode: tc.code}, nil }}
-			_, err := mustClient(t, Slurm(), r).Submit(t.Context(), "/j/submit.sh")
-			var se *SubmitError
+			_, err := mustClient(t, Slurm(), r).submit(t.Context(), "/j/submit.sh")
+			var se *submitError
 			if !errors.As(err, &se) {
 				t.Fatalf("Submit error = %v, want *SubmitError", err)
 			}
@@ -124,8 +124,8 @@ func TestClient_Submit_ClassifiesRejections(t *testing.T) {
 
 func TestClient_Submit_GarbageOutput(t *testing.T) {
 	r := &fakeRunner{respond: func(Cmd) (Output, error) { return Output{Stdout: []byte("Submitted batch job\n")}, nil }}
-	_, err := mustClient(t, Slurm(), r).Submit(t.Context(), "/j/submit.sh")
-	var se *SubmitError
+	_, err := mustClient(t, Slurm(), r).submit(t.Context(), "/j/submit.sh")
+	var se *submitError
 	if !errors.As(err, &se) || !strings.Contains(err.Error(), "no job id") {
 		t.Errorf("Submit error = %v, want a SubmitError about the missing id", err)
 	}
@@ -134,11 +134,11 @@ func TestClient_Submit_GarbageOutput(t *testing.T) {
 func TestClient_Status_Slurm(t *testing.T) {
 	// Lines in the shape printed by squeue -h -r -t all -o '%i|%A|%F|%K|%T|%r'
 	// on the local Slurm 22.05 (array 8: task 2 kept the array's own id, the
-	// others got new ids when they started; localhost notes pitfall 15).
+	// others got new ids when they started; SOURCES.md §11).
 	out := "8_0|9|8|0|COMPLETED|None|ws:1a2b3c4d-r1-1\n8_1|10|8|1|RUNNING|None|ws:1a2b3c4d-r1-1\n8_2|8|8|2|PENDING|JobArrayTaskLimit|ws:1a2b3c4d-r1-1\n4|4|4|N/A|CANCELLED|None|(null)\n"
 	r := &fakeRunner{respond: func(c Cmd) (Output, error) { return Output{Stdout: []byte(out)}, nil }}
 	c := mustClient(t, Slurm(), r)
-	got, err := c.Status(t.Context(), "ws-1a2b3c4d")
+	got, err := c.listStatus(t.Context(), "ws-1a2b3c4d")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -146,15 +146,15 @@ func TestClient_Status_Slurm(t *testing.T) {
 		{ID: "9", Array: "8", Index: 0, State: "COMPLETED", Native: "COMPLETED", Reason: "None", Comment: "ws:1a2b3c4d-r1-1"},
 		{ID: "10", Array: "8", Index: 1, State: "RUNNING", Native: "RUNNING", Reason: "None", Comment: "ws:1a2b3c4d-r1-1"},
 		{ID: "8", Array: "8", Index: 2, State: "PENDING", Native: "PENDING", Reason: "JobArrayTaskLimit", Comment: "ws:1a2b3c4d-r1-1"},
-		{ID: "4", Array: "4", Index: NoTask, State: "CANCELLED", Native: "CANCELLED", Reason: "None", Comment: "(null)"},
+		{ID: "4", Array: "4", Index: noTask, State: "CANCELLED", Native: "CANCELLED", Reason: "None", Comment: "(null)"},
 	}
 	if !reflect.DeepEqual(got, want) {
 		t.Errorf("Status =\n%+v\nwant\n%+v", got, want)
 	}
-	if tok, ok := got[0].Token(); !ok || tok != "1a2b3c4d-r1-1" {
+	if tok, ok := got[0].token(); !ok || tok != "1a2b3c4d-r1-1" {
 		t.Errorf("Token() = %q, %v; want 1a2b3c4d-r1-1", tok, ok)
 	}
-	if _, ok := got[3].Token(); ok {
+	if _, ok := got[3].token(); ok {
 		t.Error("Token() of a job without our comment = ok")
 	}
 	wantArgv := []string{"squeue", "--me", "-h", "-r", "-t", "all", "--name=ws-1a2b3c4d", "-o", "%i|%A|%F|%K|%T|%r|%k"}
@@ -167,31 +167,31 @@ func TestClient_Status_Errors(t *testing.T) {
 	c := mustClient(t, Slurm(), &fakeRunner{respond: func(Cmd) (Output, error) {
 		return Output{Stderr: []byte("squeue: error: Unable to contact slurm controller (connect failure)"), ExitCode: 1}, nil
 	}})
-	_, err := c.Status(t.Context(), "ws-1a2b3c4d")
-	var ce *CommandError
+	_, err := c.listStatus(t.Context(), "ws-1a2b3c4d")
+	var ce *commandError
 	if !errors.As(err, &ce) || !ce.Unreachable {
 		t.Errorf("Status error = %v, want an unreachable CommandError", err)
 	}
 	c = mustClient(t, Slurm(), &fakeRunner{respond: func(Cmd) (Output, error) {
 		return Output{Stderr: []byte("slurm_load_jobs error: Invalid job id specified"), ExitCode: 1}, nil
 	}})
-	if got, err := c.Status(t.Context(), "ws-1a2b3c4d"); err != nil || len(got) != 0 {
+	if got, err := c.listStatus(t.Context(), "ws-1a2b3c4d"); err != nil || len(got) != 0 {
 		t.Errorf("Status on a purged job = %v, %v; want empty, nil", got, err)
 	}
-	if _, err := c.ParseStatus([]byte("garbage line\n"), "ws-1a2b3c4d"); err == nil || !strings.Contains(err.Error(), "line 1") {
+	if _, err := c.parseStatus([]byte("garbage line\n"), "ws-1a2b3c4d"); err == nil || !strings.Contains(err.Error(), "line 1") {
 		t.Errorf("ParseStatus(garbage) error = %v, want one naming line 1", err)
 	}
-	if _, err := c.Status(t.Context(), "ws x"); err == nil {
+	if _, err := c.listStatus(t.Context(), "ws x"); err == nil {
 		t.Error("Status with a bad job name = nil error")
 	}
 }
 
 func TestClient_ParseStatus_FoldedPendingRange(t *testing.T) {
-	// Without -r squeue folds pending tasks: "8_[2-4%2]" (localhost notes pitfall 15).
+	// Without -r squeue folds pending tasks: "8_[2-4%2]" (SOURCES.md §11).
 	p := Slurm()
 	p.IndexRanges = true
 	c := mustClient(t, p, &fakeRunner{})
-	got, err := c.ParseStatus([]byte("8_[2-4%2]|8|8|[2-4%2]|PENDING|JobArrayTaskLimit\n"), "ws-1a2b3c4d")
+	got, err := c.parseStatus([]byte("8_[2-4%2]|8|8|[2-4%2]|PENDING|JobArrayTaskLimit\n"), "ws-1a2b3c4d")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -206,18 +206,18 @@ func TestClient_ParseStatus_FoldedPendingRange(t *testing.T) {
 
 func TestClient_ParseHistory_Slurm(t *testing.T) {
 	// sacct -X -P -n -o JobIDRaw,JobID,State,ExitCode lines; states and exit
-	// codes as observed with slurmdbd (localhost notes §4 table).
+	// codes as observed with slurmdbd (SOURCES.md §4 table).
 	out := "12|12_0|COMPLETED|0:0\n13|12_1|TIMEOUT|0:0\n14|14|CANCELLED by 0|0:0\n12|12_[2-9%2]|PENDING|0:0\n15|15|FAILED|3:0\n"
 	c := mustClient(t, Slurm(), &fakeRunner{})
-	got, err := c.ParseHistory([]byte(out), "ws-1a2b3c4d")
+	got, err := c.parseHistory([]byte(out), "ws-1a2b3c4d")
 	if err != nil {
 		t.Fatal(err)
 	}
 	want := []TaskState{
 		{ID: "12", Array: "12", Index: 0, State: "COMPLETED", Native: "COMPLETED", ExitCode: "0:0", FromHistory: true},
 		{ID: "13", Array: "12", Index: 1, State: "TIMEOUT", Native: "TIMEOUT", ExitCode: "0:0", FromHistory: true},
-		{ID: "14", Array: "14", Index: NoTask, State: "CANCELLED", Native: "CANCELLED", ExitCode: "0:0", FromHistory: true},
-		{ID: "15", Array: "15", Index: NoTask, State: "FAILED", Native: "FAILED", ExitCode: "3:0", FromHistory: true},
+		{ID: "14", Array: "14", Index: noTask, State: "CANCELLED", Native: "CANCELLED", ExitCode: "0:0", FromHistory: true},
+		{ID: "15", Array: "15", Index: noTask, State: "FAILED", Native: "FAILED", ExitCode: "3:0", FromHistory: true},
 	}
 	if !reflect.DeepEqual(got, want) {
 		t.Errorf("ParseHistory =\n%+v\nwant\n%+v", got, want)
@@ -226,13 +226,13 @@ func TestClient_ParseHistory_Slurm(t *testing.T) {
 
 func TestClient_History_AccountingDisabled(t *testing.T) {
 	c := mustClient(t, Slurm(), &fakeRunner{respond: func(Cmd) (Output, error) {
-		// sacct without slurmdbd (localhost notes §4): this text on stderr, exit 1.
+		// sacct without slurmdbd (SOURCES.md §4): this text on stderr, exit 1.
 		return Output{Stderr: []byte("Slurm accounting storage is disabled\n"), ExitCode: 1}, nil
 	}})
-	if _, err := c.History(t.Context(), "ws-1a2b3c4d", testTime); !errors.Is(err, ErrNoAccounting) {
+	if _, err := c.listHistory(t.Context(), "ws-1a2b3c4d", testTime); !errors.Is(err, errNoAccounting) {
 		t.Errorf("History error = %v, want ErrNoAccounting", err)
 	}
-	if _, err := mustClient(t, SGE(), &fakeRunner{}).History(t.Context(), "ws-1a2b3c4d", testTime); !errors.Is(err, ErrNoAccounting) {
+	if _, err := mustClient(t, sgeProfile(), &fakeRunner{}).listHistory(t.Context(), "ws-1a2b3c4d", testTime); !errors.Is(err, errNoAccounting) {
 		t.Errorf("SGE History error = %v, want ErrNoAccounting (no history command)", err)
 	}
 }
@@ -245,15 +245,15 @@ func TestClient_Status_OtherProfiles(t *testing.T) {
 		out  string
 		want []string // "ref state"
 	}{
-		{Torque(), `Job ID                    Name             User            Time Use S Queue
+		{torqueProfile(), `Job ID                    Name             User            Time Use S Queue
 ------------------------- ---------------- --------------- -------- - -----
 123[0].server             ws-1a2b3c4d-0    alice           00:00:05 C batch
 123[1].server             ws-1a2b3c4d-1    alice           00:00:01 R batch
 123[2].server             ws-1a2b3c4d-2    alice                  0 Q batch
 124.server                other-job        alice                  0 R batch
 `, []string{"123_0 COMPLETED", "123_1 RUNNING", "123_2 PENDING"}},
-		{LSF(), "8812|1|DONE\n8812|2|EXIT\n8812|3|RUN\n8812|4|PEND\n", []string{"8812_1 COMPLETED", "8812_2 FAILED", "8812_3 RUNNING", "8812_4 PENDING"}},
-		{SGE(), `job-ID  prior   name       user         state submit/start at     queue                          slots ja-task-ID
+		{lsfProfile(), "8812|1|DONE\n8812|2|EXIT\n8812|3|RUN\n8812|4|PEND\n", []string{"8812_1 COMPLETED", "8812_2 FAILED", "8812_3 RUNNING", "8812_4 PENDING"}},
+		{sgeProfile(), `job-ID  prior   name       user         state submit/start at     queue                          slots ja-task-ID
 -----------------------------------------------------------------------------------------------------------------
     551 0.55500 ws-1a2b3c4 alice        r     05/01/2026 10:00:00 all.q@node1                        1 1
     551 0.55500 ws-1a2b3c4 alice        r     05/01/2026 10:00:00 all.q@node2                        1 2
@@ -264,13 +264,13 @@ func TestClient_Status_OtherProfiles(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.p.Name, func(t *testing.T) {
 			c := mustClient(t, tc.p, &fakeRunner{})
-			got, err := c.ParseStatus([]byte(tc.out), "ws-1a2b3c4d")
+			got, err := c.parseStatus([]byte(tc.out), "ws-1a2b3c4d")
 			if err != nil {
 				t.Fatal(err)
 			}
 			var refs []string
 			for _, g := range got {
-				refs = append(refs, g.Ref().String()+" "+g.State)
+				refs = append(refs, g.ref().String()+" "+g.State)
 			}
 			if !reflect.DeepEqual(refs, tc.want) {
 				t.Errorf("ParseStatus = %q, want %q", refs, tc.want)
@@ -280,10 +280,10 @@ func TestClient_Status_OtherProfiles(t *testing.T) {
 }
 
 func TestClient_Status_LSFNotFoundIsEmpty(t *testing.T) {
-	c := mustClient(t, LSF(), &fakeRunner{respond: func(Cmd) (Output, error) {
+	c := mustClient(t, lsfProfile(), &fakeRunner{respond: func(Cmd) (Output, error) {
 		return Output{Stderr: []byte("Job <ws-1a2b3c4d> is not found\n"), ExitCode: 255}, nil
 	}})
-	if got, err := c.Status(t.Context(), "ws-1a2b3c4d"); err != nil || len(got) != 0 {
+	if got, err := c.listStatus(t.Context(), "ws-1a2b3c4d"); err != nil || len(got) != 0 {
 		t.Errorf("Status = %v, %v; want empty, nil", got, err)
 	}
 }
@@ -305,7 +305,7 @@ func TestClient_CancelIDs_Batches(t *testing.T) {
 	for i := range ids {
 		ids[i] = fmt.Sprint(1000 + i)
 	}
-	if err := mustClient(t, Slurm(), r).CancelIDs(t.Context(), ids); err != nil {
+	if err := mustClient(t, Slurm(), r).cancelIDs(t.Context(), ids); err != nil {
 		t.Fatal(err)
 	}
 	var sizes []int
@@ -332,7 +332,7 @@ func TestClient_Cancel_ByIDWhenNoNameCancel(t *testing.T) {
 		}
 		return Output{}, nil
 	}}
-	if err := mustClient(t, Torque(), r).Cancel(t.Context(), "ws-1a2b3c4d"); err != nil {
+	if err := mustClient(t, torqueProfile(), r).Cancel(t.Context(), "ws-1a2b3c4d"); err != nil {
 		t.Fatal(err)
 	}
 	if got := r.programs(); !reflect.DeepEqual(got, []string{"qstat", "qdel"}) {

@@ -40,7 +40,7 @@ type Runner interface {
 
 // ExecRunner runs commands with os/exec, without a shell.
 type ExecRunner struct {
-	// Timeout bounds each command; 0 means 60 s (lessons memo §1).
+	// Timeout bounds each command; 0 means 60 s (SOURCES.md §1).
 	Timeout time.Duration
 	// Env is the child environment; nil means the current environment. When
 	// the current environment belongs to a Slurm job (SLURM_JOB_ID is set,
@@ -49,8 +49,8 @@ type ExecRunner struct {
 	Env []string
 }
 
-// DefaultCommandTimeout bounds one scheduler command (lessons memo §1).
-const DefaultCommandTimeout = 60 * time.Second
+// defaultCommandTimeout bounds one scheduler command (SOURCES.md §1).
+const defaultCommandTimeout = 60 * time.Second
 
 // Run implements [Runner].
 func (r ExecRunner) Run(ctx context.Context, c Cmd) (Output, error) {
@@ -59,7 +59,7 @@ func (r ExecRunner) Run(ctx context.Context, c Cmd) (Output, error) {
 	}
 	timeout := r.Timeout
 	if timeout == 0 {
-		timeout = DefaultCommandTimeout
+		timeout = defaultCommandTimeout
 	}
 	ctx, cancel := context.WithTimeout(ctx, timeout)
 	defer cancel()

@@ -10,41 +10,42 @@
 // systems (PBS/Torque-like, LSF-like, SGE-like) are described as data in a
 // [Profile]: command templates (argv lists), directive prefix, array and
 // throttle syntax, a job-id pattern, a status-line pattern and a state map.
-// [Slurm], [Torque], [LSF] and [SGE] return the presets. Only the Slurm preset is
-// exercised against a real scheduler (the tests behind the build tag `slurm`);
+// [Slurm] returns the Slurm preset; the others are chosen by name with
+// `scheduler` in [queue.slurm]. Only the Slurm preset is exercised against a
+// real scheduler (the tests behind the build tag `slurm`);
 // the others are checked only on sample outputs written for the tests.
 //
 // The pieces, in the order a round uses them:
-//   - [Render] writes the job-array script from a [ScriptSpec]; [WriteManifest]
+//   - [Render] writes the job-array script from a [ScriptSpec]; writeManifest
 //     writes the per-task list of point keys (tasks.tsv) that the worker reads;
 //     no point data ever goes into the script.
-//   - [Client.Submit] runs `sbatch --parsable FILE` (no shell, no --wrap) and
-//     returns the job id or a [*SubmitError].
-//   - [Poller.Poll] runs one status command for the whole scan (filtered by the
+//   - Client.submit runs `sbatch --parsable FILE` (no shell, no --wrap) and
+//     returns the job id or a *submitError.
+//   - poller.Poll runs one status command for the whole scan (filtered by the
 //     scan-unique job name) and, only for tasks that left the queue and only
 //     when accounting exists, one bounded history command.
-//   - [Classify] and [RetryPolicy.Decide] turn a final state into a class and
+//   - [Classify] and retryPolicy.Decide turn a final state into a class and
 //     an action (retry with more time, more memory, unchanged, or not at all).
 //   - [Client.Cancel] cancels by name (or by ids in batches) and
 //     [Client.ConfirmCancelled] confirms with status queries.
-//   - [ReadSlurmLimits] reads MaxArraySize and MinJobAge once per run (array
-//     chunk size; [PollPolicy.WithoutAccounting] caps polling at MinJobAge/2).
+//   - readSlurmLimits reads MaxArraySize and MinJobAge once per run (array
+//     chunk size; pollPolicy.WithoutAccounting caps polling at MinJobAge/2).
 //   - The submission token travels in the job comment and comes back in the
-//     status listing ([TaskState.Token]), so a submit interrupted by a crash
+//     status listing (TaskState.token), so a submit interrupted by a crash
 //     can be adopted instead of repeated.
-//   - [WriteResultAtomic] and [ReadResult] are the compute-node/orchestrator
+//   - writeResultAtomic and readResult are the compute-node/orchestrator
 //     halves of the result-file protocol: a result file decides success,
 //     whatever the scheduler says.
 //
-// On top of these, [Queue] is the round loop's [runner.Queue] for
+// On top of these, [Queue] is the round loop's [runner.Batch] for
 // `[queue] kind = "slurm"`: it packs the points it receives into job
-// arrays ([Config.PointsPerTask] per task), writes jobs/<token>/ (script,
+// arrays (config.PointsPerTask per task), writes jobs/<token>/ (script,
 // manifest, job.json) before sbatch runs, polls with one batched status
 // command per cycle, hands back every point whose result file appears,
 // and turns tasks that ended without a result into completions by class.
 // [NodeTask] is the compute-node side that the job scripts run (through
 // the `wellscan node-task` subcommand): it computes a task's points with
-// [runner.ComputePoint] and never opens the store. [DecodeConfig] reads
+// [runner.ComputePoint] and never opens the store. decodeConfig reads
 // [queue.slurm].
 //
 // # Units
@@ -55,7 +56,7 @@
 // # Invariants
 //
 //   - Every value that reaches a directive line is validated first
-//     ([ValidateValue]); every word of the script body goes through shell
+//     (validateValue); every word of the script body goes through shell
 //     single-quoting; newlines are rejected everywhere.
 //   - Scheduler commands are run only through a [Runner], as argv lists.
 //   - A poll cycle issues a constant number of scheduler commands (one status
@@ -65,7 +66,7 @@
 // # Concurrency
 //
 // [Client] and [Profile] values are safe for concurrent use once built. A
-// [Poller] keeps state between cycles and must be used by one goroutine.
-// [Queue.Run] runs in one goroutine (no goroutines of its own); call it
+// poller keeps state between cycles and must be used by one goroutine.
+// [Queue.Submit] runs in one goroutine (no goroutines of its own); call it
 // once at a time per Queue. [Queue.Stats] may be called at any time.
 package slurm

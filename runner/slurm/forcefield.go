@@ -28,7 +28,7 @@ func forceFieldKeys(spec *planner.Spec, scanDir, fp string) func(string) (planne
 					continue
 				}
 				res, ok := runner.ReadResult(scanDir, p.Key, fp)
-				if !ok || res.Status != "done" {
+				if !ok || res.Status != runner.ResultDone {
 					continue
 				}
 				samples = append(samples, planner.Sample{Key: p.Key, Energy: res.Energy})

@@ -12,18 +12,18 @@ func FuzzParseManifest(f *testing.F) {
 	f.Add([]byte("# wellscan tasks v1\n1\ta\n"))
 	f.Add([]byte("# wellscan tasks v1\n0\n"))
 	f.Fuzz(func(t *testing.T, data []byte) {
-		m, err := ParseManifest("fuzz", data)
+		m, err := parseManifest("fuzz", data)
 		if err != nil {
 			return
 		}
 		if len(m.Tasks) == 0 {
 			return
 		}
-		text, err := m.Marshal()
+		text, err := m.marshal()
 		if err != nil {
 			t.Fatalf("parsed manifest does not marshal: %v", err)
 		}
-		m2, err := ParseManifest("fuzz", text)
+		m2, err := parseManifest("fuzz", text)
 		if err != nil || !reflect.DeepEqual(m, m2) {
 			t.Fatalf("round trip: %+v, %v; want %+v", m2, err, m)
 		}
@@ -38,7 +38,7 @@ func FuzzParseStatus(f *testing.F) {
 	f.Add([]byte("123[0].server  ws-1a2b3c4d-0  alice  0 R batch\n8812|1|DONE\n"))
 	f.Add([]byte("    551 0.00000 ws-1a2b3c4 alice        qw    05/01/2026 09:59:58                                    1 3-5:1\n"))
 	var clients []*Client
-	for _, p := range Presets() {
+	for _, p := range presets() {
 		c, err := NewClient(p, &fakeRunner{})
 		if err != nil {
 			f.Fatal(err)
@@ -47,7 +47,7 @@ func FuzzParseStatus(f *testing.F) {
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
 		for _, c := range clients {
-			for _, parse := range []func([]byte, string) ([]TaskState, error){c.ParseStatus, c.ParseHistory} {
+			for _, parse := range []func([]byte, string) ([]TaskState, error){c.parseStatus, c.parseHistory} {
 				tasks, err := parse(data, "ws-1a2b3c4d")
 				if err != nil {
 					continue

@@ -66,19 +66,19 @@ func Inspect(ctx context.Context, c *Client, scanDir string, fingerprint string,
 	name := JobNameFor(scanDir)
 	v := View{Scheduler: c.Profile().Name, JobName: name, Checked: time.Now(), Commands: 1,
 		Tasks: map[string]int{}, Verdicts: map[string]int{}}
-	tasks, err := c.Status(ctx, name)
+	tasks, err := c.listStatus(ctx, name)
 	if err != nil {
 		v.Error = err.Error()
 	}
-	seen := map[TaskRef]bool{}
+	seen := map[taskRef]bool{}
 	for _, t := range tasks {
-		if t.Index == NoTask || seen[t.Ref()] {
+		if t.Index == noTask || seen[t.ref()] {
 			continue
 		}
-		seen[t.Ref()] = true
+		seen[t.ref()] = true
 		v.Tasks[Classify(t.State).String()]++
 	}
-	latest := LatestTasks(scanDir, tasks, false)
+	latest := latestTasks(scanDir, tasks, false)
 	keys = append([]string(nil), keys...)
 	sort.Strings(keys)
 	for _, k := range keys {
@@ -88,7 +88,7 @@ func Inspect(ctx context.Context, c *Client, scanDir string, fingerprint string,
 		}
 		res, hasRes := runner.ReadResult(scanDir, k, fingerprint)
 		switch {
-		case hasRes && res.Status == "done":
+		case hasRes && res.Status == runner.ResultDone:
 			pv.Verdict = VerdictFinished
 		case pv.Task == "" && hasRes:
 			pv.Verdict = VerdictFailedOnNode
@@ -96,11 +96,11 @@ func Inspect(ctx context.Context, c *Client, scanDir string, fingerprint string,
 			pv.Verdict = VerdictUnlisted
 		default:
 			switch cl := latest[k].Class(); {
-			case cl == ClassWaiting:
+			case cl == classWaiting:
 				pv.Verdict = VerdictQueued
-			case cl == ClassActive || cl == ClassRequeued:
+			case cl == classActive || cl == classRequeued:
 				pv.Verdict = VerdictRunning
-			case cl == ClassHeld:
+			case cl == classHeld:
 				pv.Verdict = VerdictHeld
 			case hasRes:
 				pv.Verdict = VerdictFailedOnNode

@@ -7,15 +7,15 @@ import (
 	"strings"
 )
 
-// PointTask is the latest listed array task that was given a point.
-type PointTask struct {
-	Ref   TaskRef
+// pointTask is the latest listed array task that was given a point.
+type pointTask struct {
+	Ref   taskRef
 	State TaskState
 	Token string
 }
 
 // Class returns the class of the task's state.
-func (p PointTask) Class() Class { return Classify(p.State.State) }
+func (p pointTask) Class() Class { return Classify(p.State.State) }
 
 // jobTokens maps the job ids recorded under scanDir/jobs/*/jobid to their
 // submission tokens, for profiles whose status command shows no comment.
@@ -26,10 +26,10 @@ func jobTokens(scanDir string) map[string]string {
 		return out
 	}
 	for _, e := range ents {
-		if !e.IsDir() || ValidateValue("token", e.Name()) != nil {
+		if !e.IsDir() || validateValue("token", e.Name()) != nil {
 			continue
 		}
-		b, err := os.ReadFile(filepath.Join(scanDir, JobsDir, e.Name(), JobIDFile))
+		b, err := os.ReadFile(filepath.Join(scanDir, JobsDir, e.Name(), jobIDFile))
 		if err != nil {
 			continue
 		}
@@ -51,44 +51,44 @@ func later(a, b string) bool {
 	return a > b
 }
 
-// LatestTasks reads one status listing of a scan: for every point key named
+// latestTasks reads one status listing of a scan: for every point key named
 // in the manifest of a listed submission, the latest task that computes it
 // (the most recent submission; within one, a live task over a finished
 // one). The token comes from the job's comment or, for schedulers that do
 // not show one, from the jobs/<token>/jobid files. States the profile does
 // not know are skipped. When record is set, each listed job's id is written
 // to its jobs/<token>/jobid (a crash between submit and recording the id).
-func LatestTasks(scanDir string, tasks []TaskState, record bool) map[string]PointTask {
+func latestTasks(scanDir string, tasks []TaskState, record bool) map[string]pointTask {
 	var byID map[string]string
 	manifests := map[string]*Manifest{}
-	latest := map[string]PointTask{}
+	latest := map[string]pointTask{}
 	for _, t := range tasks {
-		if Classify(t.State) == ClassUnknown {
+		if Classify(t.State) == classUnknown {
 			continue
 		}
-		tok, ok := t.Token()
+		tok, ok := t.token()
 		if !ok {
 			if byID == nil {
 				byID = jobTokens(scanDir)
 			}
 			tok, ok = byID[t.Array]
 		}
-		if !ok || ValidateValue("token", tok) != nil {
+		if !ok || validateValue("token", tok) != nil {
 			continue
 		}
 		m, seen := manifests[tok]
 		if !seen {
-			m, _ = ReadManifest(filepath.Join(scanDir, JobsDir, tok))
+			m, _ = readManifest(filepath.Join(scanDir, JobsDir, tok))
 			manifests[tok] = m
 			if m != nil && record {
-				_ = os.WriteFile(filepath.Join(scanDir, JobsDir, tok, JobIDFile), []byte(t.Array+"\n"), 0o600)
+				_ = writeJobFile(filepath.Join(scanDir, JobsDir, tok), jobIDFile, []byte(t.Array+"\n"))
 			}
 		}
 		if m == nil {
 			continue
 		}
 		idx := []int{t.Index}
-		if t.Index == NoTask {
+		if t.Index == noTask {
 			idx = nil
 			for i := range m.Tasks {
 				idx = append(idx, m.First+i)
@@ -99,7 +99,7 @@ func LatestTasks(scanDir string, tasks []TaskState, record bool) map[string]Poin
 			if err != nil {
 				continue
 			}
-			pt := PointTask{Ref: TaskRef{Array: t.Array, Index: i}, State: t, Token: tok}
+			pt := pointTask{Ref: taskRef{Array: t.Array, Index: i}, State: t, Token: tok}
 			pt.State.Index = i
 			for _, k := range keys {
 				cur, ok := latest[k]

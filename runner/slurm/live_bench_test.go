@@ -16,7 +16,7 @@ func BenchmarkLive_Sbatch(b *testing.B) {
 	_, script := e.prepareN(Resources{Time: time.Minute, MemMB: 50, Extra: []string{"--hold"}}, 1)
 	b.ReportAllocs()
 	for b.Loop() {
-		if _, err := e.client.Submit(b.Context(), script); err != nil {
+		if _, err := e.client.submit(b.Context(), script); err != nil {
 			b.Fatal(err)
 		}
 	}
@@ -29,12 +29,12 @@ func BenchmarkLive_Squeue(b *testing.B) {
 		b.Run(fmt.Sprintf("tasks=%d", n), func(b *testing.B) {
 			e := newLiveEnv(b)
 			_, script := e.prepareN(Resources{Time: time.Minute, MemMB: 50, Extra: []string{"--hold"}}, n)
-			if _, err := e.client.Submit(b.Context(), script); err != nil {
+			if _, err := e.client.submit(b.Context(), script); err != nil {
 				b.Fatal(err)
 			}
 			b.ReportAllocs()
 			for b.Loop() {
-				tasks, err := e.client.Status(b.Context(), e.jobName)
+				tasks, err := e.client.listStatus(b.Context(), e.jobName)
 				if err != nil {
 					b.Fatal(err)
 				}
@@ -58,14 +58,14 @@ func BenchmarkLive_Throughput(b *testing.B) {
 				e := newLiveEnv(b)
 				_, script := e.prepareN(Resources{Time: time.Minute, MemMB: 50, Export: export}, n)
 				start := time.Now()
-				id, err := e.client.Submit(b.Context(), script)
+				id, err := e.client.submit(b.Context(), script)
 				if err != nil {
 					b.Fatal(err)
 				}
 				e.poller.Track(id, 0, n, start)
 				ctx, cancel := context.WithTimeout(b.Context(), 5*time.Minute)
-				_, err = e.poller.Watch(ctx, livePolicy(), nil, func(s Snapshot) bool {
-					return s.Counts()[ClassCompleted] == n
+				_, err = e.poller.Watch(ctx, livePolicy(), nil, func(s pollSnapshot) bool {
+					return s.Counts()[classCompleted] == n
 				})
 				cancel()
 				if err != nil {

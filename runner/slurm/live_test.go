@@ -7,7 +7,7 @@
 // The test binary doubles as the compute-node worker: the job scripts exec
 // it with the argument "node-run", and TestMain then behaves as a tiny
 // worker that reads its manifest line and writes one result file per point
-// with WriteResultAtomic.
+// with writeResultAtomic.
 package slurm
 
 import (
@@ -44,7 +44,7 @@ func fakeWorker(args []string) int {
 	if err := fs.Parse(args); err != nil {
 		return 2
 	}
-	m, err := ReadManifest(*jobDir)
+	m, err := readManifest(*jobDir)
 	if err != nil {
 		fmt.Fprintln(os.Stderr, err)
 		return 2
@@ -73,7 +73,7 @@ func fakeWorker(args []string) int {
 		data, _ := json.Marshal(map[string]any{
 			"v": 1, "key": k, "task": *task, "job": os.Getenv("SLURM_ARRAY_JOB_ID"),
 		})
-		if err := WriteResultAtomic(dir, "result.json", data); err != nil {
+		if err := writeResultAtomic(dir, "result.json", data); err != nil {
 			fmt.Fprintln(os.Stderr, err)
 			return 1
 		}
@@ -88,7 +88,7 @@ type liveEnv struct {
 	jobName string
 	counter *CountingRunner
 	client  *Client
-	poller  *Poller
+	poller  *poller
 	seq     int
 	// maxCommands is the most scheduler commands one poll cycle may run:
 	// 1 (squeue) when finished jobs stay in squeue for the whole test
@@ -104,7 +104,7 @@ func newLiveEnv(t testing.TB) *liveEnv {
 	if out, err := exec.Command("scontrol", "ping").CombinedOutput(); err != nil || !strings.Contains(string(out), "is UP") {
 		t.Fatalf("slurmctld is not up (%v: %s): start it with bash testdata/slurm/localslurm.sh start", err, out)
 	}
-	lim, err := ReadSlurmLimits(t.Context(), ExecRunner{})
+	lim, err := readSlurmLimits(t.Context(), ExecRunner{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -115,7 +115,7 @@ func newLiveEnv(t testing.TB) *liveEnv {
 	e.jobName = JobNameFor(t.Name() + time.Now().String())
 	e.counter = &CountingRunner{Next: ExecRunner{}}
 	e.client = mustClient(t, Slurm(), e.counter)
-	p, err := NewPoller(e.client, e.jobName, nil)
+	p, err := newPoller(e.client, e.jobName, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -165,7 +165,7 @@ func (e *liveEnv) submit(res Resources, keys ...[]string) (string, ScriptSpec) {
 	e.t.Helper()
 	spec, script := e.prepare(res, keys...)
 	submitted := time.Now()
-	id, err := e.client.Submit(e.t.Context(), script)
+	id, err := e.client.submit(e.t.Context(), script)
 	if err != nil {
 		e.t.Fatal(err)
 	}
@@ -174,18 +174,18 @@ func (e *liveEnv) submit(res Resources, keys ...[]string) (string, ScriptSpec) {
 }
 
 // livePolicy polls fast: the local node finishes trivial tasks in ~1-3 s.
-func livePolicy() PollPolicy {
-	return PollPolicy{FirstDelay: 300 * time.Millisecond, Interval: 300 * time.Millisecond, Backoff: 1.5,
+func livePolicy() pollPolicy {
+	return pollPolicy{FirstDelay: 300 * time.Millisecond, Interval: 300 * time.Millisecond, Backoff: 1.5,
 		Max: 2 * time.Second, Floor: 100 * time.Millisecond}
 }
 
 // waitFinal watches until every tracked task is in a final state, checking
 // the number of scheduler commands of each cycle.
-func (e *liveEnv) waitFinal(timeout time.Duration) Snapshot {
+func (e *liveEnv) waitFinal(timeout time.Duration) pollSnapshot {
 	e.t.Helper()
 	ctx, cancel := context.WithTimeout(e.t.Context(), timeout)
 	defer cancel()
-	snap, err := e.poller.Watch(ctx, livePolicy(), nil, func(s Snapshot) bool {
+	snap, err := e.poller.Watch(ctx, livePolicy(), nil, func(s pollSnapshot) bool {
 		if s.Commands > e.maxCommands {
 			e.t.Errorf("poll cycle ran %d scheduler commands, want at most %d", s.Commands, e.maxCommands)
 		}
@@ -211,17 +211,17 @@ func TestLive_Array_ThreeTasksComplete(t *testing.T) {
 		t.Fatalf("tasks = %+v, want 3", snap.Tasks)
 	}
 	for i := 0; i < 3; i++ {
-		task := snap.Tasks[TaskRef{id, i}]
+		task := snap.Tasks[taskRef{id, i}]
 		if task.State != "COMPLETED" {
 			t.Errorf("task %d: state %q, want COMPLETED", i, task.State)
 		}
 		// The token travels in --comment, so an interrupted submit can be adopted.
-		if tok, ok := task.Token(); !ok || tok != spec.Token {
+		if tok, ok := task.token(); !ok || tok != spec.Token {
 			t.Errorf("task %d: token %q (%v), want %q", i, tok, ok, spec.Token)
 		}
 	}
 	for i, k := range []string{"r=1.10000", "r=1.12000", "r=1.14000", "r=1.16000"} {
-		data, err := ReadResult(filepath.Join(e.scan, "points", k, "result.json"))
+		data, err := readResult(filepath.Join(e.scan, "points", k, "result.json"))
 		if err != nil {
 			t.Errorf("point %s: %v", k, err)
 			continue
@@ -249,9 +249,9 @@ func TestLive_Submit_RejectedPartition(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = e.client.Submit(t.Context(), script)
-	var se *SubmitError
-	if !errors.As(err, &se) || se.Kind != SubmitRejected || !strings.Contains(se.Message, "Invalid partition") {
+	_, err = e.client.submit(t.Context(), script)
+	var se *submitError
+	if !errors.As(err, &se) || se.Kind != submitRejected || !strings.Contains(se.Message, "Invalid partition") {
 		t.Errorf("Submit error = %v, want a rejected SubmitError naming the partition", err)
 	}
 }
@@ -268,7 +268,7 @@ func (e *liveEnv) waitClass(id string, n int, classes ...Class) {
 		ok := 0
 		for i := 0; i < n; i++ {
 			for _, c := range classes {
-				if snap.Tasks[TaskRef{id, i}].Class() == c {
+				if snap.Tasks[taskRef{id, i}].Class() == c {
 					ok++
 				}
 			}
@@ -284,19 +284,19 @@ func (e *liveEnv) waitClass(id string, n int, classes ...Class) {
 func TestLive_ExternalScancel_Cancelled(t *testing.T) {
 	e := newLiveEnv(t)
 	id, spec := e.submit(Resources{Time: 5 * time.Minute, MemMB: 100}, []string{"sleep=300"}, []string{"sleep=300"})
-	e.waitClass(id, 2, ClassActive)
+	e.waitClass(id, 2, classActive)
 	// Someone else cancels the array, from outside wellscan.
 	if out, err := exec.Command("scancel", id).CombinedOutput(); err != nil {
 		t.Fatalf("scancel %s: %v: %s", id, err, out)
 	}
 	snap := e.waitFinal(30 * time.Second)
-	pol := DefaultRetryPolicy()
+	pol := defaultRetryPolicy()
 	for i := 0; i < 2; i++ {
-		task := snap.Tasks[TaskRef{id, i}]
+		task := snap.Tasks[taskRef{id, i}]
 		if task.State != "CANCELLED" {
 			t.Errorf("task %d: state %q, want CANCELLED", i, task.State)
 		}
-		if d := pol.Decide(task.Class(), spec.Resources, Budget{}); d.Retry {
+		if d := pol.Decide(task.Class(), spec.Resources, budget{}); d.Retry {
 			t.Errorf("task %d: cancelled task would be retried: %s", i, d.Reason)
 		}
 	}
@@ -308,7 +308,7 @@ func TestLive_CancelByName_Confirms(t *testing.T) {
 	// behind the throttle or still starting.
 	id1, _ := e.submit(Resources{Time: 5 * time.Minute, MemMB: 100}, []string{"sleep=300"}, []string{"sleep=300"})
 	id2, _ := e.submit(Resources{Time: 5 * time.Minute, MemMB: 100, Partition: "debug"}, []string{"sleep=300"})
-	e.waitClass(id1, 2, ClassActive, ClassWaiting)
+	e.waitClass(id1, 2, classActive, classWaiting)
 	before := e.counter.Counts()["scancel"]
 	if err := e.client.Cancel(t.Context(), e.jobName); err != nil {
 		t.Fatal(err)
@@ -324,7 +324,7 @@ func TestLive_CancelByName_Confirms(t *testing.T) {
 	}
 	for _, task := range tasks {
 		if task.State != "CANCELLED" {
-			t.Errorf("record %s: %s, want CANCELLED", task.Ref(), task.State)
+			t.Errorf("record %s: %s, want CANCELLED", task.ref(), task.State)
 		}
 	}
 	// Tasks cancelled while pending may be listed as one record for the
@@ -333,7 +333,7 @@ func TestLive_CancelByName_Confirms(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, ref := range []TaskRef{{id1, 0}, {id1, 1}, {id2, 0}} {
+	for _, ref := range []taskRef{{id1, 0}, {id1, 1}, {id2, 0}} {
 		if got := snap.Tasks[ref]; got.State != "CANCELLED" {
 			t.Errorf("task %s: %q, want CANCELLED", ref, got.State)
 		}
@@ -362,12 +362,12 @@ func TestLive_Poll_CommandsPerCycleConstant(t *testing.T) {
 	cycles := 0
 	ctx, cancel := context.WithTimeout(t.Context(), 120*time.Second)
 	defer cancel()
-	snap, err := e.poller.Watch(ctx, livePolicy(), nil, func(s Snapshot) bool {
+	snap, err := e.poller.Watch(ctx, livePolicy(), nil, func(s pollSnapshot) bool {
 		cycles++
 		if s.Commands > e.maxCommands {
 			t.Errorf("cycle %d with %d tasks: %d commands, want at most %d", cycles, len(s.Tasks), s.Commands, e.maxCommands)
 		}
-		return s.Counts()[ClassCompleted] == total
+		return s.Counts()[classCompleted] == total
 	})
 	if err != nil {
 		t.Fatal(err)
@@ -385,17 +385,17 @@ func TestLive_FailedTask_ExitCode(t *testing.T) {
 	e := newLiveEnv(t)
 	id, spec := e.submit(Resources{Time: 2 * time.Minute, MemMB: 100}, []string{"exit=3"})
 	snap := e.waitFinal(60 * time.Second)
-	task := snap.Tasks[TaskRef{id, 0}]
+	task := snap.Tasks[taskRef{id, 0}]
 	if task.State != "FAILED" {
-		t.Fatalf("state %q, want FAILED (exit 3; localhost notes §4)", task.State)
+		t.Fatalf("state %q, want FAILED (exit 3; SOURCES.md §4)", task.State)
 	}
-	if d := DefaultRetryPolicy().Decide(task.Class(), spec.Resources, Budget{}); !d.Retry || d.Used.Attempts != 1 {
+	if d := defaultRetryPolicy().Decide(task.Class(), spec.Resources, budget{}); !d.Retry || d.Used.Attempts != 1 {
 		t.Errorf("Decide(FAILED) = %+v, want a retry charged to attempts", d)
 	}
 }
 
 // Costs 60-90 s: Slurm checks time limits every 30 s and has minute
-// resolution (localhost notes pitfall 13).
+// resolution (SOURCES.md §11).
 func TestLive_Timeout_RetriedWithMoreTime(t *testing.T) {
 	if os.Getenv("WELLSCAN_SLURM_SLOW") != "1" {
 		t.Skip("set WELLSCAN_SLURM_SLOW=1 to run the ~90 s TIMEOUT test")
@@ -403,11 +403,11 @@ func TestLive_Timeout_RetriedWithMoreTime(t *testing.T) {
 	e := newLiveEnv(t)
 	id, spec := e.submit(Resources{Time: time.Minute, MemMB: 100}, []string{"sleep=300"})
 	snap := e.waitFinal(150 * time.Second)
-	task := snap.Tasks[TaskRef{id, 0}]
+	task := snap.Tasks[taskRef{id, 0}]
 	if task.State != "TIMEOUT" {
 		t.Fatalf("state %q, want TIMEOUT", task.State)
 	}
-	d := DefaultRetryPolicy().Decide(task.Class(), spec.Resources, Budget{})
+	d := defaultRetryPolicy().Decide(task.Class(), spec.Resources, budget{})
 	if !d.Retry || d.Resources.Time != 2*time.Minute {
 		t.Errorf("Decide(TIMEOUT) = %+v, want a retry with 2 min", d)
 	}
@@ -421,30 +421,30 @@ func TestLive_History_Sacct(t *testing.T) {
 	start := time.Now()
 	id, _ := e.submit(Resources{Time: 2 * time.Minute, MemMB: 100}, []string{"h=0"}, []string{"exit=3"})
 	e.waitFinal(60 * time.Second)
-	_, err := e.client.History(t.Context(), e.jobName, start.Add(-time.Minute))
-	if errors.Is(err, ErrNoAccounting) {
+	_, err := e.client.listHistory(t.Context(), e.jobName, start.Add(-time.Minute))
+	if errors.Is(err, errNoAccounting) {
 		t.Skipf("accounting is off (%v); start the local Slurm with SLURM_LOCAL_ACCOUNTING=1 to test sacct", err)
 	}
 	if err != nil {
 		t.Fatal(err)
 	}
-	// sacct shows array tasks 2-5 s after squeue (localhost notes §5).
-	want := map[TaskRef]string{{id, 0}: "COMPLETED", {id, 1}: "FAILED"}
+	// sacct shows array tasks 2-5 s after squeue (SOURCES.md §5).
+	want := map[taskRef]string{{id, 0}: "COMPLETED", {id, 1}: "FAILED"}
 	deadline := time.Now().Add(30 * time.Second)
 	for {
-		hist, err := e.client.History(t.Context(), e.jobName, start.Add(-time.Minute))
+		hist, err := e.client.listHistory(t.Context(), e.jobName, start.Add(-time.Minute))
 		if err != nil {
 			t.Fatal(err)
 		}
-		got := map[TaskRef]string{}
-		exit := map[TaskRef]string{}
+		got := map[taskRef]string{}
+		exit := map[taskRef]string{}
 		for _, h := range hist {
-			got[h.Ref()] = h.State
-			exit[h.Ref()] = h.ExitCode
+			got[h.ref()] = h.State
+			exit[h.ref()] = h.ExitCode
 		}
 		if fmt.Sprint(got) == fmt.Sprint(want) {
-			if exit[TaskRef{id, 1}] != "3:0" {
-				t.Errorf("exit code of the failed task = %q, want 3:0", exit[TaskRef{id, 1}])
+			if exit[taskRef{id, 1}] != "3:0" {
+				t.Errorf("exit code of the failed task = %q, want 3:0", exit[taskRef{id, 1}])
 			}
 			return
 		}
@@ -458,17 +458,17 @@ func TestLive_History_Sacct(t *testing.T) {
 // Tasks leave squeue after MinJobAge; the poller then asks sacct once per
 // cycle for their final states. Needs a local Slurm started with
 // SLURM_LOCAL_ACCOUNTING=1 SLURM_LOCAL_MIN_JOB_AGE=5 (jobs vanish ~7 s after
-// they end, localhost notes §4); skipped otherwise.
+// they end, SOURCES.md §4); skipped otherwise.
 func TestLive_Poll_SacctAfterJobsLeaveQueue(t *testing.T) {
 	e := newLiveEnv(t)
-	lim, err := ReadSlurmLimits(t.Context(), ExecRunner{})
+	lim, err := readSlurmLimits(t.Context(), ExecRunner{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if lim.MinJobAge > 30*time.Second {
 		t.Skipf("MinJobAge is %s; start the local Slurm with SLURM_LOCAL_MIN_JOB_AGE=5 SLURM_LOCAL_ACCOUNTING=1 to test this", lim.MinJobAge)
 	}
-	if _, err := e.client.History(t.Context(), e.jobName, time.Now()); errors.Is(err, ErrNoAccounting) {
+	if _, err := e.client.listHistory(t.Context(), e.jobName, time.Now()); errors.Is(err, errNoAccounting) {
 		t.Skip("accounting is off; start the local Slurm with SLURM_LOCAL_ACCOUNTING=1 SLURM_LOCAL_MIN_JOB_AGE=5")
 	}
 	id, _ := e.submit(Resources{Time: 2 * time.Minute, MemMB: 100}, []string{"a=0"}, []string{"exit=3"})
@@ -480,7 +480,7 @@ func TestLive_Poll_SacctAfterJobsLeaveQueue(t *testing.T) {
 	// would not ask sacct at all.
 	pol := livePolicy()
 	pol.FirstDelay, pol.Max = 25*time.Second, 25*time.Second
-	snap, err := e.poller.Watch(ctx, pol, nil, func(s Snapshot) bool {
+	snap, err := e.poller.Watch(ctx, pol, nil, func(s pollSnapshot) bool {
 		if s.Commands > 2 {
 			t.Errorf("cycle ran %d commands, want at most 2", s.Commands)
 		}
@@ -494,13 +494,13 @@ func TestLive_Poll_SacctAfterJobsLeaveQueue(t *testing.T) {
 	if err != nil {
 		t.Fatalf("tasks never came from sacct: %v (last %+v)", err, snap.Tasks)
 	}
-	if got := snap.Tasks[TaskRef{id, 0}]; got.State != "COMPLETED" {
+	if got := snap.Tasks[taskRef{id, 0}]; got.State != "COMPLETED" {
 		t.Errorf("task 0 from sacct: %q, want COMPLETED", got.State)
 	}
-	if got := snap.Tasks[TaskRef{id, 1}]; got.State != "FAILED" || got.ExitCode != "3:0" {
+	if got := snap.Tasks[taskRef{id, 1}]; got.State != "FAILED" || got.ExitCode != "3:0" {
 		t.Errorf("task 1 from sacct: %q %q, want FAILED 3:0", got.State, got.ExitCode)
 	}
-	if snap.Accounting != AccountingOn {
+	if snap.Accounting != accountingOn {
 		t.Errorf("accounting = %s, want on", snap.Accounting)
 	}
 }

@@ -8,11 +8,11 @@ import (
 	"wellscan/runner"
 )
 
-// LookPolicy is the schedule of result-file looks: reading the result
+// lookPolicy is the schedule of result-file looks: reading the result
 // files of the points in flight, which asks the scheduler nothing (a stat
 // or a small read per point on the shared filesystem). A point is
 // recorded as soon as a look finds its file; scheduler polls
-// ([PollPolicy]) are only needed to notice tasks that ended without one,
+// (pollPolicy) are only needed to notice tasks that ended without one,
 // so they can stay polite while looks follow the work.
 //
 // The first look comes First after a submission. Then, with point times
@@ -21,21 +21,21 @@ import (
 // of its age to be seen). Never more often than Min, nor than 20 times
 // the last look's own duration (a large scan on a slow shared filesystem
 // spends at most 5 % of the time looking), and never less often than Max.
-type LookPolicy struct {
+type lookPolicy struct {
 	First, Min, Max time.Duration
 }
 
-// DefaultLookPolicy: first look 500 ms after a submission, then between
+// defaultLookPolicy: first look 500 ms after a submission, then between
 // 250 ms and 30 s apart (ours: 30 s keeps a long task's results from
 // waiting long for the orchestrator).
-func DefaultLookPolicy() LookPolicy {
-	return LookPolicy{First: 500 * time.Millisecond, Min: 250 * time.Millisecond, Max: 30 * time.Second}
+func defaultLookPolicy() lookPolicy {
+	return lookPolicy{First: 500 * time.Millisecond, Min: 250 * time.Millisecond, Max: 30 * time.Second}
 }
 
 // Next returns the wait before the next look: first is true right after a
 // submission, age is the time since it, point the expected compute time of
 // one point (0: not measured yet), cost how long the last look took.
-func (p LookPolicy) Next(first bool, age, point, cost time.Duration) time.Duration {
+func (p lookPolicy) Next(first bool, age, point, cost time.Duration) time.Duration {
 	base := age / 8
 	if point > 0 {
 		base = point / 2
@@ -68,10 +68,10 @@ func (r *run) harvest() bool {
 	for _, k := range sortedKeys(r.pending) {
 		p := r.pending[k]
 		res, ok := runner.ReadResult(r.scanDir, k, r.fp)
-		if !ok || (res.Status != "done" && res.Attempt != p.task.Attempt) {
+		if !ok || (res.Status != runner.ResultDone && res.Attempt != p.task.Attempt) {
 			continue
 		}
-		if res.Status == "done" && res.Finished.After(res.Started) {
+		if res.Status == runner.ResultDone && res.Finished.After(res.Started) {
 			r.measured = append(r.measured, res.Finished.Sub(res.Started))
 		}
 		delete(r.pending, k)
@@ -82,17 +82,17 @@ func (r *run) harvest() bool {
 }
 
 // minimalEnvKeep lists the variables a submission passes on to the job
-// with the default job environment (see [JobEnv]).
+// with the default job environment (see jobEnv).
 var minimalEnvKeep = []string{"PATH", "HOME", "USER", "LOGNAME", "SHELL", "LANG", "TZ", "TMPDIR", "SLURM_CONF"}
 
-// JobEnv returns the environment the submit command runs with when the
+// jobEnv returns the environment the submit command runs with when the
 // job takes its environment from the submission (--export=ALL) instead of
 // from a login shell on the node: only PATH, HOME, USER, LOGNAME, SHELL,
 // LANG, LC_*, TZ, TMPDIR, SLURM_CONF and SBATCH_* of env. Everything else
 // the submitting shell has (library paths, thread counts, a loaded
 // environment) stays out of the job, as with --export=NONE, but the
 // node starts the task without running the user's login shell.
-func JobEnv(env []string) []string {
+func jobEnv(env []string) []string {
 	var out []string
 	for _, e := range env {
 		name, _, ok := strings.Cut(e, "=")

@@ -13,7 +13,7 @@ import (
 )
 
 func TestLookPolicy_Next(t *testing.T) {
-	p := DefaultLookPolicy() // first 500 ms, 250 ms – 30 s
+	p := defaultLookPolicy() // first 500 ms, 250 ms – 30 s
 	ms := time.Millisecond
 	for _, tc := range []struct {
 		name             string
@@ -39,7 +39,7 @@ func TestLookPolicy_Next(t *testing.T) {
 }
 
 func TestPollPolicy_NextFor(t *testing.T) {
-	p := DefaultPollPolicy() // first 30 s, 60 s, ×1.5, ≤ 300 s, floor 15 s
+	p := defaultPollPolicy() // first 30 s, 60 s, ×1.5, ≤ 300 s, floor 15 s
 	for _, tc := range []struct {
 		prev    time.Duration
 		changed bool
@@ -59,7 +59,7 @@ func TestPollPolicy_NextFor(t *testing.T) {
 }
 
 func TestJobEnv_KeepsOnlyTheListedVariables(t *testing.T) {
-	got := JobEnv([]string{"PATH=/usr/bin", "HOME=/home/u", "LD_LIBRARY_PATH=/opt/lib", "OMP_NUM_THREADS=8",
+	got := jobEnv([]string{"PATH=/usr/bin", "HOME=/home/u", "LD_LIBRARY_PATH=/opt/lib", "OMP_NUM_THREADS=8",
 		"LC_ALL=C", "SBATCH_ACCOUNT=chem", "SLURM_CONF=/etc/slurm/slurm.conf", "SLURM_JOB_ID=5", "broken"})
 	want := []string{"PATH=/usr/bin", "HOME=/home/u", "LC_ALL=C", "SBATCH_ACCOUNT=chem", "SLURM_CONF=/etc/slurm/slurm.conf"}
 	if !slices.Equal(got, want) {
@@ -84,7 +84,7 @@ func TestConfig_JobEnvironment(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			c, err := DecodeConfig(spec)
+			c, err := decodeConfig(spec)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -141,7 +141,7 @@ func TestQueue_Run_ResultsFoundByLooking(t *testing.T) {
 	fake := &instantSlurm{fakeSlurm: fakeSlurm{t: t, fate: func(int, int) string { return "COMPLETED" }}}
 	start := time.Now()
 	fr := runFakeIn(t, fakeScanDir(t), fake, false, func(q *Queue) {
-		q.Policy = PollPolicy{FirstDelay: time.Hour, Interval: time.Hour, Backoff: 1.5, Max: time.Hour, Floor: time.Second}
+		q.policy = pollPolicy{FirstDelay: time.Hour, Interval: time.Hour, Backoff: 1.5, Max: time.Hour, Floor: time.Second}
 	})
 	if fr.err != nil {
 		t.Fatal(fr.err)

@@ -10,9 +10,9 @@ import (
 	"strings"
 )
 
-// ManifestName is the file in a job directory that lists, for each array
+// manifestName is the file in a job directory that lists, for each array
 // task, the point keys it runs.
-const ManifestName = "tasks.tsv"
+const manifestName = "tasks.tsv"
 
 // manifestHeader is the first line of every manifest; the version lets a
 // later wellscan refuse a format it does not know.
@@ -45,9 +45,9 @@ func checkKey(k string) error {
 	return nil
 }
 
-// Marshal returns the manifest text: a header line, then one line per task,
+// marshal returns the manifest text: a header line, then one line per task,
 // "INDEX<TAB>KEY<TAB>KEY…".
-func (m *Manifest) Marshal() ([]byte, error) {
+func (m *Manifest) marshal() ([]byte, error) {
 	var b bytes.Buffer
 	b.WriteString(manifestHeader + "\n")
 	for i, keys := range m.Tasks {
@@ -67,27 +67,29 @@ func (m *Manifest) Marshal() ([]byte, error) {
 	return b.Bytes(), nil
 }
 
-// WriteManifest writes dir/tasks.tsv atomically.
-func WriteManifest(dir string, m *Manifest) error {
-	data, err := m.Marshal()
+// writeManifest writes tasks.tsv into the job directory jobDir
+// (<scan>/jobs/<token>) atomically and never through a symbolic link
+// (see writeJobFile).
+func writeManifest(jobDir string, m *Manifest) error {
+	data, err := m.marshal()
 	if err != nil {
 		return err
 	}
-	return WriteResultAtomic(dir, ManifestName, data)
+	return writeJobFile(jobDir, manifestName, data)
 }
 
-// ReadManifest reads dir/tasks.tsv. Errors name the file and line.
-func ReadManifest(dir string) (*Manifest, error) {
-	path := filepath.Join(dir, ManifestName)
+// readManifest reads dir/tasks.tsv. Errors name the file and line.
+func readManifest(dir string) (*Manifest, error) {
+	path := filepath.Join(dir, manifestName)
 	data, err := os.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("slurm: read manifest: %w", err)
 	}
-	return ParseManifest(path, data)
+	return parseManifest(path, data)
 }
 
-// ParseManifest parses manifest text; name is used in errors.
-func ParseManifest(name string, data []byte) (*Manifest, error) {
+// parseManifest parses manifest text; name is used in errors.
+func parseManifest(name string, data []byte) (*Manifest, error) {
 	sc := bufio.NewScanner(bytes.NewReader(data))
 	sc.Buffer(make([]byte, 0, 64<<10), 16<<20)
 	m := &Manifest{}
@@ -133,9 +135,12 @@ func ParseManifest(name string, data []byte) (*Manifest, error) {
 	return m, nil
 }
 
-// PrepareJob creates spec.JobDir, writes the manifest and the rendered
-// script (submit.sh) into it, and returns the script path. The manifest
-// must have one entry per array task and start at the profile's first index.
+// PrepareJob creates spec.JobDir (<scan>/jobs/<token>), writes the
+// manifest and the rendered script (submit.sh) into it, and returns the
+// script path. The manifest must have one entry per array task and start
+// at the profile's first index. Every write goes through the scan
+// directory and refuses a symbolic link by name (see mkdirJob,
+// writeJobFile).
 func PrepareJob(p *Profile, spec ScriptSpec, m *Manifest) (string, error) {
 	if len(m.Tasks) != spec.Tasks || m.First != p.FirstIndex {
 		return "", fmt.Errorf("slurm: job %s: manifest has tasks %d..%d, script wants %d tasks from %d",
@@ -145,13 +150,13 @@ func PrepareJob(p *Profile, spec ScriptSpec, m *Manifest) (string, error) {
 	if err != nil {
 		return "", err
 	}
-	if err := os.MkdirAll(spec.JobDir, 0o700); err != nil {
-		return "", fmt.Errorf("slurm: create job directory: %w", err)
-	}
-	if err := WriteManifest(spec.JobDir, m); err != nil {
+	if err := mkdirJob(spec.JobDir); err != nil {
 		return "", err
 	}
-	if err := WriteResultAtomic(spec.JobDir, "submit.sh", script); err != nil {
+	if err := writeManifest(spec.JobDir, m); err != nil {
+		return "", err
+	}
+	if err := writeJobFile(spec.JobDir, "submit.sh", script); err != nil {
 		return "", err
 	}
 	return filepath.Join(spec.JobDir, "submit.sh"), nil

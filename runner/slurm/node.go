@@ -25,7 +25,7 @@ type NodeTask struct {
 	NewBackend func(*planner.Spec) (runner.Backend, error)
 	// OnPoint, if set, is told about each point: "computed" (with the
 	// result's status), "skipped" (a done result was already there).
-	OnPoint func(key, what, status string)
+	OnPoint func(key, what string, status runner.ResultStatus)
 }
 
 // Run computes the task's points. It never opens the store. A point whose
@@ -41,7 +41,7 @@ func (n NodeTask) Run(ctx context.Context) error {
 	if err != nil {
 		return fmt.Errorf("slurm: job directory: %w", err)
 	}
-	m, err := ReadManifest(jobDir)
+	m, err := readManifest(jobDir)
 	if err != nil {
 		return err
 	}
@@ -49,7 +49,7 @@ func (n NodeTask) Run(ctx context.Context) error {
 	if err != nil {
 		return err
 	}
-	var meta JobMeta
+	var meta jobMeta
 	b, err := os.ReadFile(filepath.Join(jobDir, JobMetaFile))
 	if err != nil {
 		return fmt.Errorf("slurm: read %s: %w", JobMetaFile, err)
@@ -93,7 +93,7 @@ func (n NodeTask) Run(ctx context.Context) error {
 		if err := ctx.Err(); err != nil {
 			return fmt.Errorf("slurm: task %d stopped before %s: %w", n.Task, k, err)
 		}
-		if res, ok := runner.ReadResult(scanDir, k, fp); ok && res.Status == "done" {
+		if res, ok := runner.ReadResult(scanDir, k, fp); ok && res.Status == runner.ResultDone {
 			if n.OnPoint != nil {
 				n.OnPoint(k, "skipped", res.Status)
 			}
@@ -107,9 +107,7 @@ func (n NodeTask) Run(ctx context.Context) error {
 		}
 		if err != nil {
 			now := time.Now()
-			host, _ := os.Hostname()
-			res := runner.Result{Key: k, Fingerprint: fp, Attempt: attempt, Status: "failed", Class: "geometry",
-				Error: err.Error(), Permanent: true, Backend: backend.Name(), Host: host, PID: os.Getpid(), Started: now, Finished: now}
+			res := runner.FailedResult(runner.Task{Key: k, Attempt: attempt}, fp, backend.Name(), runner.ClassGeometry, true, err.Error(), now, now)
 			if werr := runner.WriteResult(scanDir, res); werr != nil {
 				return werr
 			}
@@ -124,13 +122,13 @@ func (n NodeTask) Run(ctx context.Context) error {
 		if c.Interrupted {
 			return fmt.Errorf("slurm: task %d interrupted during %s: %w", n.Task, k, ctx.Err())
 		}
-		if c.Result.Class == "io" {
+		if c.Result.Class == runner.ClassIO {
 			return fmt.Errorf("slurm: point %s: %s", k, c.Result.Error)
 		}
 		if n.OnPoint != nil {
 			n.OnPoint(k, "computed", c.Result.Status)
 		}
-		if c.Result.Status == "done" && c.Result.Orbitals != "" && spec.Engine.Guess != "fresh" {
+		if c.Result.Status == runner.ResultDone && c.Result.Orbitals != "" && spec.Engine.Guess != "fresh" {
 			nb = append(nb, neighbour{key: k, values: pt.Values, path: filepath.Join(t.Dir, c.Result.Orbitals)})
 		}
 	}
@@ -159,7 +157,7 @@ func loadNeighbours(parseKey func(string) (planner.Point, error), scanDir, fp st
 			continue
 		}
 		res, ok := runner.ReadResult(scanDir, e.Name(), fp)
-		if !ok || res.Status != "done" || res.Orbitals == "" {
+		if !ok || res.Status != runner.ResultDone || res.Orbitals == "" {
 			continue
 		}
 		pt, err := parseKey(e.Name())

@@ -48,7 +48,9 @@ func TestNodeTask_Run_ComputesThenSkips(t *testing.T) {
 	scan, jobDir, spec := nodeJob(t, keys...)
 	var seen []string
 	nt := NodeTask{JobDir: jobDir, Task: 0, NewBackend: modelBackend,
-		OnPoint: func(key, what, status string) { seen = append(seen, what+" "+key+" "+status) }}
+		OnPoint: func(key, what string, status runner.ResultStatus) {
+			seen = append(seen, what+" "+key+" "+string(status))
+		}}
 	if err := nt.Run(t.Context()); err != nil {
 		t.Fatal(err)
 	}

@@ -8,11 +8,11 @@ import (
 	"time"
 )
 
-// PollPolicy sets how often the scheduler is asked. Defaults from the
-// lessons memo §1 and §11: first poll 30 s after a submit, then every 60 s,
+// pollPolicy sets how often the scheduler is asked. Defaults from the
+// SOURCES.md §1: first poll 30 s after a submit, then every 60 s,
 // ×1.5 while nothing changes, up to 300 s, reset on any change, never below
 // 15 s.
-type PollPolicy struct {
+type pollPolicy struct {
 	FirstDelay time.Duration
 	Interval   time.Duration
 	Backoff    float64
@@ -21,14 +21,14 @@ type PollPolicy struct {
 	Floor time.Duration
 }
 
-// DefaultPollPolicy returns the defaults above.
-func DefaultPollPolicy() PollPolicy {
-	return PollPolicy{FirstDelay: 30 * time.Second, Interval: 60 * time.Second, Backoff: 1.5,
+// defaultPollPolicy returns the defaults above.
+func defaultPollPolicy() pollPolicy {
+	return pollPolicy{FirstDelay: 30 * time.Second, Interval: 60 * time.Second, Backoff: 1.5,
 		Max: 300 * time.Second, Floor: 15 * time.Second}
 }
 
 // Validate refuses intervals below the floor and other inconsistent values.
-func (p PollPolicy) Validate() error {
+func (p pollPolicy) Validate() error {
 	switch {
 	case p.Floor <= 0:
 		return fmt.Errorf("slurm: poll floor %s must be positive", p.Floor)
@@ -45,7 +45,7 @@ func (p PollPolicy) Validate() error {
 // WithoutAccounting caps the intervals at minJobAge/2, so a finished task is
 // still seen in the status listing before the controller forgets it (Slurm's
 // MinJobAge, 300 s by default). The floor still applies.
-func (p PollPolicy) WithoutAccounting(minJobAge time.Duration) PollPolicy {
+func (p pollPolicy) WithoutAccounting(minJobAge time.Duration) pollPolicy {
 	limit := max(minJobAge/2, p.Floor)
 	p.Max = min(p.Max, limit)
 	p.Interval = min(p.Interval, p.Max)
@@ -55,7 +55,7 @@ func (p PollPolicy) WithoutAccounting(minJobAge time.Duration) PollPolicy {
 
 // Next returns the wait before the next poll, given the previous wait (0
 // for the first poll after a submit) and whether the last poll saw a change.
-func (p PollPolicy) Next(prev time.Duration, changed bool) time.Duration {
+func (p pollPolicy) Next(prev time.Duration, changed bool) time.Duration {
 	var d time.Duration
 	switch {
 	case prev == 0:
@@ -73,9 +73,9 @@ func (p PollPolicy) Next(prev time.Duration, changed bool) time.Duration {
 // measured yet): the first poll after a submission and the interval while
 // tasks change come no later than that expected time, since a task ending
 // without its results is what a poll is for (results are found by
-// looking at their files, see [LookPolicy]); never below the floor, and
+// looking at their files, see lookPolicy); never below the floor, and
 // the back-off while nothing changes is Next's.
-func (p PollPolicy) NextFor(prev time.Duration, changed bool, task time.Duration) time.Duration {
+func (p pollPolicy) NextFor(prev time.Duration, changed bool, task time.Duration) time.Duration {
 	d := p.Next(prev, changed)
 	if task > 0 && (prev == 0 || changed) {
 		d = max(min(d, task), p.Floor)
@@ -83,25 +83,25 @@ func (p PollPolicy) NextFor(prev time.Duration, changed bool, task time.Duration
 	return d
 }
 
-// Accounting says whether the history command can be used.
-type Accounting int
+// accounting says whether the history command can be used.
+type accounting int
 
 const (
-	// AccountingUnknown: not asked yet.
-	AccountingUnknown Accounting = iota
-	// AccountingOn: the history command answered.
-	AccountingOn
-	// AccountingOff: the site keeps none (or the profile has no history
+	// The zero value ("unknown"): not asked yet.
+	_ accounting = iota
+	// accountingOn: the history command answered.
+	accountingOn
+	// accountingOff: the site keeps none (or the profile has no history
 	// command); only status and result files are used for the rest of the run.
-	AccountingOff
+	accountingOff
 )
 
-func (a Accounting) String() string {
+func (a accounting) String() string {
 	return [...]string{"unknown", "on", "off"}[a]
 }
 
-// TaskStatus is a task's state after a poll cycle.
-type TaskStatus struct {
+// taskStatus is a task's state after a poll cycle.
+type taskStatus struct {
 	TaskState
 	// Seen: the task appeared in this cycle's status or history output.
 	Seen bool
@@ -113,30 +113,30 @@ type TaskStatus struct {
 }
 
 // Class returns the class of the last known state.
-func (t TaskStatus) Class() Class { return Classify(t.State) }
+func (t taskStatus) Class() Class { return Classify(t.State) }
 
 // Lost reports whether the task left the scheduler without a final state at
 // least grace ago. The caller must check the result file before acting.
-func (t TaskStatus) Lost(now time.Time, grace time.Duration) bool {
+func (t taskStatus) Lost(now time.Time, grace time.Duration) bool {
 	return !t.MissingSince.IsZero() && now.Sub(t.MissingSince) >= grace
 }
 
-// Snapshot is the outcome of one poll cycle.
-type Snapshot struct {
+// pollSnapshot is the outcome of one poll cycle.
+type pollSnapshot struct {
 	Time  time.Time
-	Tasks map[TaskRef]TaskStatus
+	Tasks map[taskRef]taskStatus
 	// Commands is the number of scheduler commands this cycle ran (1 or 2).
 	Commands int
 	// Changed is true when any task's state differs from the previous cycle.
 	Changed    bool
-	Accounting Accounting
+	Accounting accounting
 	// HistoryErr is a failed history query (not "no accounting"); the cycle
 	// still counts, with status data only.
 	HistoryErr error
 }
 
 // Counts returns the number of tasks per class.
-func (s Snapshot) Counts() map[Class]int {
+func (s pollSnapshot) Counts() map[Class]int {
 	m := map[Class]int{}
 	for _, t := range s.Tasks {
 		m[t.Class()]++
@@ -144,49 +144,49 @@ func (s Snapshot) Counts() map[Class]int {
 	return m
 }
 
-// Poller tracks one scan's tasks across poll cycles.
-type Poller struct {
+// poller tracks one scan's tasks across poll cycles.
+type poller struct {
 	client  *Client
 	jobName string
 	now     func() time.Time
 
-	accounting Accounting
-	tasks      map[TaskRef]TaskStatus
+	accounting accounting
+	tasks      map[taskRef]taskStatus
 }
 
-// NewPoller returns a poller for all jobs named jobName. now is the clock
+// newPoller returns a poller for all jobs named jobName. now is the clock
 // (nil: time.Now).
-func NewPoller(c *Client, jobName string, now func() time.Time) (*Poller, error) {
-	if err := ValidateValue("job name", jobName); err != nil {
+func newPoller(c *Client, jobName string, now func() time.Time) (*poller, error) {
+	if err := validateValue("job name", jobName); err != nil {
 		return nil, err
 	}
 	if now == nil {
 		now = time.Now
 	}
-	p := &Poller{client: c, jobName: jobName, now: now, tasks: map[TaskRef]TaskStatus{}}
+	p := &poller{client: c, jobName: jobName, now: now, tasks: map[taskRef]taskStatus{}}
 	if c.history == nil {
-		p.accounting = AccountingOff
+		p.accounting = accountingOff
 	}
 	return p, nil
 }
 
-// Accounting reports what the poller knows about the history command.
-func (p *Poller) Accounting() Accounting { return p.accounting }
+// accounting reports what the poller knows about the history command.
+func (p *poller) Accounting() accounting { return p.accounting }
 
 // Track registers a submitted array (tasks first..first+n-1 of job id
 // array), so that tasks that never show up in the status output are noticed.
 // Call it right after a successful submit.
-func (p *Poller) Track(array string, first, n int, submitted time.Time) {
+func (p *poller) Track(array string, first, n int, submitted time.Time) {
 	for i := first; i < first+n; i++ {
-		ref := TaskRef{Array: array, Index: i}
+		ref := taskRef{Array: array, Index: i}
 		if _, ok := p.tasks[ref]; !ok {
-			p.tasks[ref] = TaskStatus{TaskState: TaskState{ID: ref.String(), Array: array, Index: i}, Submitted: submitted}
+			p.tasks[ref] = taskStatus{TaskState: TaskState{ID: ref.String(), Array: array, Index: i}, Submitted: submitted}
 		}
 	}
 }
 
 // Forget drops tasks the caller no longer needs (ingested results).
-func (p *Poller) Forget(refs ...TaskRef) {
+func (p *poller) Forget(refs ...taskRef) {
 	for _, r := range refs {
 		delete(p.tasks, r)
 	}
@@ -197,33 +197,33 @@ func (p *Poller) Forget(refs ...TaskRef) {
 // accounting is not known to be off, one history command bounded by the
 // earliest submit time. The number of commands does not depend on the
 // number of jobs or tasks.
-func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
+func (p *poller) Poll(ctx context.Context) (pollSnapshot, error) {
 	now := p.now()
-	snap := Snapshot{Time: now}
-	listed, err := p.client.Status(ctx, p.jobName)
+	snap := pollSnapshot{Time: now}
+	listed, err := p.client.listStatus(ctx, p.jobName)
 	snap.Commands++
 	if err != nil {
 		snap.Accounting = p.accounting
 		return snap, err
 	}
-	seen := map[TaskRef]bool{}
-	update := func(ref TaskRef, t TaskState) {
+	seen := map[taskRef]bool{}
+	update := func(ref taskRef, t TaskState) {
 		seen[ref] = true
 		old := p.tasks[ref]
 		if old.State != t.State || old.Reason != t.Reason {
 			snap.Changed = true
 		}
-		p.tasks[ref] = TaskStatus{TaskState: t, Seen: true, Submitted: old.Submitted}
+		p.tasks[ref] = taskStatus{TaskState: t, Seen: true, Submitted: old.Submitted}
 	}
 	arrays := map[string]bool{}
 	for ref := range p.tasks {
-		if ref.Index != NoTask {
+		if ref.Index != noTask {
 			arrays[ref.Array] = true
 		}
 	}
 	var wholeArrays []TaskState
 	for _, t := range listed {
-		if t.Index == NoTask && arrays[t.Array] {
+		if t.Index == noTask && arrays[t.Array] {
 			// One record for the whole array: Slurm shows an array whose
 			// tasks never started (for example cancelled while pending) as
 			// a single job with no task index. It stands for every tracked
@@ -231,11 +231,11 @@ func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
 			wholeArrays = append(wholeArrays, t)
 			continue
 		}
-		update(t.Ref(), t)
+		update(t.ref(), t)
 	}
 	for _, w := range wholeArrays {
 		for ref := range p.tasks {
-			if ref.Array == w.Array && ref.Index != NoTask && !seen[ref] {
+			if ref.Array == w.Array && ref.Index != noTask && !seen[ref] {
 				t := w
 				t.Index = ref.Index
 				t.ID = ref.String()
@@ -244,7 +244,7 @@ func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
 		}
 	}
 	// Tasks that left the listing and whose final state is not known.
-	var gone []TaskRef
+	var gone []taskRef
 	var since time.Time
 	for ref, t := range p.tasks {
 		if seen[ref] {
@@ -260,23 +260,23 @@ func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
 			since = t.Submitted
 		}
 	}
-	if len(gone) > 0 && p.accounting != AccountingOff {
+	if len(gone) > 0 && p.accounting != accountingOff {
 		if since.IsZero() {
 			since = now.Add(-48 * time.Hour)
 		}
 		// One minute of margin for clock differences between hosts.
-		hist, err := p.client.History(ctx, p.jobName, since.Add(-time.Minute))
+		hist, err := p.client.listHistory(ctx, p.jobName, since.Add(-time.Minute))
 		snap.Commands++
 		switch {
-		case errors.Is(err, ErrNoAccounting):
-			p.accounting = AccountingOff
+		case errors.Is(err, errNoAccounting):
+			p.accounting = accountingOff
 		case err != nil:
 			snap.HistoryErr = err
 		default:
-			p.accounting = AccountingOn
-			byRef := map[TaskRef]TaskState{}
+			p.accounting = accountingOn
+			byRef := map[taskRef]TaskState{}
 			for _, h := range hist {
-				byRef[h.Ref()] = h
+				byRef[h.ref()] = h
 			}
 			for _, ref := range gone {
 				if h, ok := byRef[ref]; ok {
@@ -284,7 +284,7 @@ func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
 					if old.State != h.State {
 						snap.Changed = true
 					}
-					p.tasks[ref] = TaskStatus{TaskState: h, Seen: true, Submitted: old.Submitted}
+					p.tasks[ref] = taskStatus{TaskState: h, Seen: true, Submitted: old.Submitted}
 				}
 			}
 		}
@@ -300,7 +300,7 @@ func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
 			p.tasks[ref] = t
 		}
 	}
-	snap.Tasks = make(map[TaskRef]TaskStatus, len(p.tasks))
+	snap.Tasks = make(map[taskRef]taskStatus, len(p.tasks))
 	for ref, t := range p.tasks {
 		snap.Tasks[ref] = t
 	}
@@ -308,24 +308,24 @@ func (p *Poller) Poll(ctx context.Context) (Snapshot, error) {
 	return snap, nil
 }
 
-// MaxPollFailures is how many status failures in a row [Poller.Watch]
-// tolerates before it gives up (lessons memo §1: "scheduler unreachable"
+// maxPollFailures is how many status failures in a row poller.Watch
+// tolerates before it gives up (SOURCES.md §1: "scheduler unreachable"
 // after 5 failed cycles).
-const MaxPollFailures = 5
+const maxPollFailures = 5
 
 // Watch polls on the policy's schedule until done returns true for a
-// snapshot, ctx ends, or the status command fails MaxPollFailures times in
+// snapshot, ctx ends, or the status command fails maxPollFailures times in
 // a row. sleep waits (nil: a timer honouring ctx); tests inject a fake.
-func (p *Poller) Watch(ctx context.Context, policy PollPolicy, sleep func(context.Context, time.Duration) error,
-	done func(Snapshot) bool) (Snapshot, error) {
+func (p *poller) Watch(ctx context.Context, policy pollPolicy, sleep func(context.Context, time.Duration) error,
+	done func(pollSnapshot) bool) (pollSnapshot, error) {
 	if err := policy.Validate(); err != nil {
-		return Snapshot{}, err
+		return pollSnapshot{}, err
 	}
 	if sleep == nil {
 		sleep = sleepCtx
 	}
 	var wait time.Duration
-	var last Snapshot
+	var last pollSnapshot
 	failures := 0
 	changed := false
 	for {
@@ -339,7 +339,7 @@ func (p *Poller) Watch(ctx context.Context, policy PollPolicy, sleep func(contex
 				return last, ctx.Err()
 			}
 			failures++
-			if failures >= MaxPollFailures {
+			if failures >= maxPollFailures {
 				return last, fmt.Errorf("slurm: scheduler unreachable after %d polls: %w", failures, err)
 			}
 			changed = false

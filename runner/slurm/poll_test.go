@@ -11,9 +11,9 @@ import (
 var testTime = time.Date(2026, 5, 1, 10, 0, 0, 0, time.UTC)
 
 func TestPollPolicy_Next_DefaultSchedule(t *testing.T) {
-	// Lessons memo §1/§11: 30 s first, 60 s, ×1.5 while unchanged, cap 300 s,
+	// SOURCES.md §1: 30 s first, 60 s, ×1.5 while unchanged, cap 300 s,
 	// reset to 60 s on a change.
-	p := DefaultPollPolicy()
+	p := defaultPollPolicy()
 	if err := p.Validate(); err != nil {
 		t.Fatal(err)
 	}
@@ -42,17 +42,17 @@ func TestPollPolicy_Next_DefaultSchedule(t *testing.T) {
 func TestPollPolicy_Validate_Rejects(t *testing.T) {
 	tests := []struct {
 		name   string
-		modify func(*PollPolicy)
+		modify func(*pollPolicy)
 	}{
-		{"interval below floor", func(p *PollPolicy) { p.Interval = 5 * time.Second }},
-		{"first below floor", func(p *PollPolicy) { p.FirstDelay = time.Second }},
-		{"max below interval", func(p *PollPolicy) { p.Max = 30 * time.Second }},
-		{"backoff below one", func(p *PollPolicy) { p.Backoff = 0.5 }},
-		{"zero floor", func(p *PollPolicy) { p.Floor = 0 }},
+		{"interval below floor", func(p *pollPolicy) { p.Interval = 5 * time.Second }},
+		{"first below floor", func(p *pollPolicy) { p.FirstDelay = time.Second }},
+		{"max below interval", func(p *pollPolicy) { p.Max = 30 * time.Second }},
+		{"backoff below one", func(p *pollPolicy) { p.Backoff = 0.5 }},
+		{"zero floor", func(p *pollPolicy) { p.Floor = 0 }},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			p := DefaultPollPolicy()
+			p := defaultPollPolicy()
 			tc.modify(&p)
 			if err := p.Validate(); err == nil {
 				t.Error("Validate = nil, want an error")
@@ -62,11 +62,11 @@ func TestPollPolicy_Validate_Rejects(t *testing.T) {
 }
 
 func TestPollPolicy_WithoutAccounting_CapsAtHalfMinJobAge(t *testing.T) {
-	p := DefaultPollPolicy().WithoutAccounting(300 * time.Second)
+	p := defaultPollPolicy().WithoutAccounting(300 * time.Second)
 	if p.Max != 150*time.Second || p.Validate() != nil {
 		t.Errorf("Max = %s (valid: %v), want 150 s for MinJobAge 300 s", p.Max, p.Validate())
 	}
-	p = DefaultPollPolicy().WithoutAccounting(10 * time.Second)
+	p = defaultPollPolicy().WithoutAccounting(10 * time.Second)
 	if p.Max != p.Floor || p.Interval != p.Floor || p.Validate() != nil {
 		t.Errorf("tiny MinJobAge: %+v, want everything at the floor", p)
 	}
@@ -75,8 +75,8 @@ func TestPollPolicy_WithoutAccounting_CapsAtHalfMinJobAge(t *testing.T) {
 // scheduler is a fake Slurm: it prints squeue lines for its tasks and
 // answers sacct from a history table.
 type scheduler struct {
-	squeue     map[TaskRef]string // ref → state, listed by squeue
-	history    map[TaskRef]string // ref → state, known to sacct
+	squeue     map[taskRef]string // ref → state, listed by squeue
+	history    map[taskRef]string // ref → state, known to sacct
 	accounting bool
 }
 
@@ -100,10 +100,10 @@ func (s *scheduler) respond(c Cmd) (Output, error) {
 	return Output{Stdout: []byte(b.String())}, nil
 }
 
-func newTestPoller(t *testing.T, s *scheduler, now *time.Time) (*Poller, *CountingRunner) {
+func newTestPoller(t *testing.T, s *scheduler, now *time.Time) (*poller, *CountingRunner) {
 	t.Helper()
 	cr := &CountingRunner{Next: &fakeRunner{respond: s.respond}}
-	p, err := NewPoller(mustClient(t, Slurm(), cr), "ws-1a2b3c4d", func() time.Time { return *now })
+	p, err := newPoller(mustClient(t, Slurm(), cr), "ws-1a2b3c4d", func() time.Time { return *now })
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -113,14 +113,14 @@ func newTestPoller(t *testing.T, s *scheduler, now *time.Time) (*Poller, *Counti
 func TestPoller_Poll_CommandsPerCycleConstant(t *testing.T) {
 	for _, n := range []int{1, 10, 1000} {
 		t.Run(fmt.Sprintf("tasks=%d", n), func(t *testing.T) {
-			s := &scheduler{squeue: map[TaskRef]string{}, history: map[TaskRef]string{}, accounting: true}
+			s := &scheduler{squeue: map[taskRef]string{}, history: map[taskRef]string{}, accounting: true}
 			now := testTime
 			p, cr := newTestPoller(t, s, &now)
 			for j := 0; j < 3; j++ { // three arrays of the scan
 				array := fmt.Sprint(100 + j)
 				p.Track(array, 0, n, testTime)
 				for i := 0; i < n; i++ {
-					s.squeue[TaskRef{array, i}] = "RUNNING"
+					s.squeue[taskRef{array, i}] = "RUNNING"
 				}
 			}
 			snap, err := p.Poll(t.Context())
@@ -134,7 +134,7 @@ func TestPoller_Poll_CommandsPerCycleConstant(t *testing.T) {
 			for ref := range s.squeue {
 				s.history[ref] = "COMPLETED"
 			}
-			s.squeue = map[TaskRef]string{}
+			s.squeue = map[taskRef]string{}
 			snap, err = p.Poll(t.Context())
 			if err != nil {
 				t.Fatal(err)
@@ -142,7 +142,7 @@ func TestPoller_Poll_CommandsPerCycleConstant(t *testing.T) {
 			if c := cr.Counts(); snap.Commands != 2 || c["squeue"] != 2 || c["sacct"] != 1 {
 				t.Errorf("after all left: %d commands (%v), want one squeue plus one sacct", snap.Commands, c)
 			}
-			if got := snap.Counts()[ClassCompleted]; got != 3*n {
+			if got := snap.Counts()[classCompleted]; got != 3*n {
 				t.Errorf("completed = %d, want %d", got, 3*n)
 			}
 			// Final states known: no more sacct.
@@ -155,25 +155,25 @@ func TestPoller_Poll_CommandsPerCycleConstant(t *testing.T) {
 }
 
 func TestPoller_Poll_AccountingDisabledStopsAsking(t *testing.T) {
-	s := &scheduler{squeue: map[TaskRef]string{{"7", 0}: "RUNNING", {"7", 1}: "RUNNING"}}
+	s := &scheduler{squeue: map[taskRef]string{{"7", 0}: "RUNNING", {"7", 1}: "RUNNING"}}
 	now := testTime
 	p, cr := newTestPoller(t, s, &now)
 	p.Track("7", 0, 2, testTime)
 	if _, err := p.Poll(t.Context()); err != nil {
 		t.Fatal(err)
 	}
-	delete(s.squeue, TaskRef{"7", 1}) // vanished with no final state
+	delete(s.squeue, taskRef{"7", 1}) // vanished with no final state
 	now = now.Add(time.Minute)
 	snap, err := p.Poll(t.Context())
 	if err != nil {
 		t.Fatal(err)
 	}
-	if snap.Accounting != AccountingOff || snap.Commands != 2 {
+	if snap.Accounting != accountingOff || snap.Commands != 2 {
 		t.Errorf("first vanish: accounting %s, %d commands; want off after one sacct", snap.Accounting, snap.Commands)
 	}
 	lostAt := now
-	gone := snap.Tasks[TaskRef{"7", 1}]
-	if gone.Seen || !gone.MissingSince.Equal(lostAt) || gone.Class() != ClassActive {
+	gone := snap.Tasks[taskRef{"7", 1}]
+	if gone.Seen || !gone.MissingSince.Equal(lostAt) || gone.Class() != classActive {
 		t.Errorf("vanished task = %+v, want unseen, missing since %s, last known RUNNING", gone, lostAt)
 	}
 	now = now.Add(4 * time.Minute)
@@ -181,7 +181,7 @@ func TestPoller_Poll_AccountingDisabledStopsAsking(t *testing.T) {
 	if snap.Commands != 1 || cr.Counts()["sacct"] != 1 {
 		t.Errorf("accounting off: %d commands this cycle, %d sacct in total; want 1 and 1", snap.Commands, cr.Counts()["sacct"])
 	}
-	gone = snap.Tasks[TaskRef{"7", 1}]
+	gone = snap.Tasks[taskRef{"7", 1}]
 	if gone.Lost(now, 5*time.Minute) {
 		t.Error("Lost after 4 min with a 5 min grace = true")
 	}
@@ -191,23 +191,23 @@ func TestPoller_Poll_AccountingDisabledStopsAsking(t *testing.T) {
 }
 
 func TestPoller_Poll_FinishedThenPurgedKeepsFinalState(t *testing.T) {
-	s := &scheduler{squeue: map[TaskRef]string{{"7", 0}: "TIMEOUT"}, accounting: true}
+	s := &scheduler{squeue: map[taskRef]string{{"7", 0}: "TIMEOUT"}, accounting: true}
 	now := testTime
 	p, cr := newTestPoller(t, s, &now)
 	p.Track("7", 0, 1, testTime)
 	if _, err := p.Poll(t.Context()); err != nil {
 		t.Fatal(err)
 	}
-	s.squeue = map[TaskRef]string{} // purged after MinJobAge
+	s.squeue = map[taskRef]string{} // purged after MinJobAge
 	snap, _ := p.Poll(t.Context())
-	got := snap.Tasks[TaskRef{"7", 0}]
+	got := snap.Tasks[taskRef{"7", 0}]
 	if got.State != "TIMEOUT" || !got.MissingSince.IsZero() || cr.Counts()["sacct"] != 0 {
 		t.Errorf("purged task = %+v with %d sacct; want TIMEOUT kept, not missing, no sacct", got, cr.Counts()["sacct"])
 	}
 }
 
 func TestPoller_Watch_BacksOffAndStops(t *testing.T) {
-	s := &scheduler{squeue: map[TaskRef]string{{"7", 0}: "RUNNING"}}
+	s := &scheduler{squeue: map[taskRef]string{{"7", 0}: "RUNNING"}}
 	now := testTime
 	p, _ := newTestPoller(t, s, &now)
 	var waits []time.Duration
@@ -217,12 +217,12 @@ func TestPoller_Watch_BacksOffAndStops(t *testing.T) {
 		now = now.Add(d)
 		return nil
 	}
-	snap, err := p.Watch(t.Context(), DefaultPollPolicy(), sleep, func(s2 Snapshot) bool {
+	snap, err := p.Watch(t.Context(), defaultPollPolicy(), sleep, func(s2 pollSnapshot) bool {
 		polls++
 		if polls == 4 {
-			s.squeue[TaskRef{"7", 0}] = "COMPLETED"
+			s.squeue[taskRef{"7", 0}] = "COMPLETED"
 		}
-		return s2.Counts()[ClassCompleted] == 1
+		return s2.Counts()[classCompleted] == 1
 	})
 	if err != nil {
 		t.Fatal(err)
@@ -230,7 +230,7 @@ func TestPoller_Watch_BacksOffAndStops(t *testing.T) {
 	// Poll 1 sees a new task (change → 60 s), then no change (90, 135), then
 	// the completion is seen at poll 5.
 	want := []time.Duration{30 * time.Second, 60 * time.Second, 90 * time.Second, 135 * time.Second, 202500 * time.Millisecond}
-	if fmt.Sprint(waits) != fmt.Sprint(want) || snap.Counts()[ClassCompleted] != 1 {
+	if fmt.Sprint(waits) != fmt.Sprint(want) || snap.Counts()[classCompleted] != 1 {
 		t.Errorf("waits = %v, want %v; final %v", waits, want, snap.Counts())
 	}
 }
@@ -239,14 +239,14 @@ func TestPoller_Watch_GivesUpWhenUnreachable(t *testing.T) {
 	r := &fakeRunner{respond: func(Cmd) (Output, error) {
 		return Output{Stderr: []byte("squeue: error: Unable to contact slurm controller (connect failure)"), ExitCode: 1}, nil
 	}}
-	p, err := NewPoller(mustClient(t, Slurm(), r), "ws-1a2b3c4d", nil)
+	p, err := newPoller(mustClient(t, Slurm(), r), "ws-1a2b3c4d", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = p.Watch(t.Context(), DefaultPollPolicy(), func(context.Context, time.Duration) error { return nil },
-		func(Snapshot) bool { return false })
-	if err == nil || !strings.Contains(err.Error(), "unreachable") || len(r.calls) != MaxPollFailures {
-		t.Errorf("Watch error = %v after %d calls, want unreachable after %d", err, len(r.calls), MaxPollFailures)
+	_, err = p.Watch(t.Context(), defaultPollPolicy(), func(context.Context, time.Duration) error { return nil },
+		func(pollSnapshot) bool { return false })
+	if err == nil || !strings.Contains(err.Error(), "unreachable") || len(r.calls) != maxPollFailures {
+		t.Errorf("Watch error = %v after %d calls, want unreachable after %d", err, len(r.calls), maxPollFailures)
 	}
 }
 
@@ -257,7 +257,7 @@ func TestPoller_Poll_WholeArrayRecordCoversTasks(t *testing.T) {
 	r := &fakeRunner{respond: func(Cmd) (Output, error) {
 		return Output{Stdout: []byte("16|16|16|N/A|CANCELLED|None\n15_0|18|15|0|RUNNING|None\n")}, nil
 	}}
-	p, err := NewPoller(mustClient(t, Slurm(), r), "ws-1a2b3c4d", nil)
+	p, err := newPoller(mustClient(t, Slurm(), r), "ws-1a2b3c4d", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -267,16 +267,16 @@ func TestPoller_Poll_WholeArrayRecordCoversTasks(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, ref := range []TaskRef{{"16", 0}, {"16", 1}} {
+	for _, ref := range []taskRef{{"16", 0}, {"16", 1}} {
 		if got := snap.Tasks[ref]; got.State != "CANCELLED" || !got.Seen {
 			t.Errorf("%s = %+v, want CANCELLED and seen", ref, got)
 		}
 	}
-	if _, ok := snap.Tasks[TaskRef{"16", NoTask}]; ok {
+	if _, ok := snap.Tasks[taskRef{"16", noTask}]; ok {
 		t.Error("the whole-array record was kept as a task of its own")
 	}
 	// A plain job record does not stand for another array's tasks.
-	if got := snap.Tasks[TaskRef{"15", 1}]; got.Seen || got.MissingSince.IsZero() {
+	if got := snap.Tasks[taskRef{"15", 1}]; got.Seen || got.MissingSince.IsZero() {
 		t.Errorf("15_1 = %+v, want unseen and missing", got)
 	}
 }
@@ -284,12 +284,12 @@ func TestPoller_Poll_WholeArrayRecordCoversTasks(t *testing.T) {
 func TestParseSlurmLimits(t *testing.T) {
 	// Lines as printed by `scontrol show config` on the local Slurm 22.05.
 	text := "Configuration data as of 2026-12-01T23:40:00\nMaxArraySize            = 1001\nMaxJobCount             = 10000\nMinJobAge               = 300 sec\n"
-	got, err := ParseSlurmLimits([]byte(text))
+	got, err := parseSlurmLimits([]byte(text))
 	if err != nil || got.MaxArraySize != 1001 || got.MinJobAge != 300*time.Second {
 		t.Errorf("ParseSlurmLimits = %+v, %v; want 1001 and 300 s", got, err)
 	}
 	for _, bad := range []string{"MaxArraySize = 1001\n", "MaxArraySize = x\nMinJobAge = 5 sec\n", "MaxArraySize = 10\nMinJobAge = 5 min\n"} {
-		if _, err := ParseSlurmLimits([]byte(bad)); err == nil {
+		if _, err := parseSlurmLimits([]byte(bad)); err == nil {
 			t.Errorf("ParseSlurmLimits(%q) = nil error", bad)
 		}
 	}

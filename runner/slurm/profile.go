@@ -11,7 +11,7 @@ import (
 // A Profile describes one batch system as data: how to write the directive
 // lines of a job-array script, and which argv lists submit, query and cancel
 // jobs, with the patterns that read their output. [Slurm] is the preset
-// tested against a real scheduler; [Torque], [LSF] and [SGE] are written from
+// tested against a real scheduler; torqueProfile, lsfProfile and sgeProfile are written from
 // the schedulers' documented syntax and checked only on sample outputs.
 //
 // A Profile is plain data; after it is built it must not be modified while a
@@ -108,9 +108,9 @@ type Directive struct {
 // settings the user sets in Resources; a profile must render these if set.
 var userSettings = []string{"partition", "time", "cpus", "mem", "account", "qos"}
 
-// Validate checks that the profile's templates parse and its patterns have
+// validate checks that the profile's templates parse and its patterns have
 // the groups the parsers need.
-func (p *Profile) Validate() error {
+func (p *Profile) validate() error {
 	if p.Name == "" {
 		return fmt.Errorf("slurm: profile has no name")
 	}
@@ -226,7 +226,7 @@ func Slurm() *Profile {
 		JobID:      `^(?P<id>[0-9]+)(?:;\S+)?$`,
 		Status:     []string{"squeue", "--me", "-h", "-r", "-t", "all", "--name={{.JobName}}", "-o", "%i|%A|%F|%K|%T|%r|%k"},
 		StatusLine: `^(?P<display>[^|]*)\|(?P<id>[^|]*)\|(?P<array>[^|]*)\|(?P<index>[^|]*)\|(?P<state>[^|]*)\|(?P<reason>[^|]*)(?:\|(?P<comment>.*))?$`,
-		// After MinJobAge a job id is unknown to the controller (localhost notes §4).
+		// After MinJobAge a job id is unknown to the controller (SOURCES.md §4).
 		StatusNotFound: []string{"Invalid job id specified"},
 		NoIndex:        []string{"N/A"},
 		States:         slurmStates(),
@@ -257,12 +257,12 @@ func slurmStates() map[string]string {
 	return m
 }
 
-// Torque returns a PBS/Torque-like preset (`#PBS`, `qsub FILE`, `-t 0-N%T`
+// torqueProfile returns a PBS/Torque-like preset (`#PBS`, `qsub FILE`, `-t 0-N%T`
 // arrays, `qstat -t` table filtered by name, `qdel` by id). Not tested against
 // a real scheduler: only its rendering and parsing of invented sample outputs
 // are tested. PBS Pro differs (`-J 0-N` arrays without a throttle, `qstat -x`
 // for finished jobs); copy and edit the profile for it.
-func Torque() *Profile {
+func torqueProfile() *Profile {
 	return &Profile{
 		Name:            "torque",
 		Shebang:         "#!/bin/bash",
@@ -302,12 +302,12 @@ func Torque() *Profile {
 	}
 }
 
-// LSF returns an LSF-like preset (`#BSUB`, `bsub < FILE`, `-J "name[1-N]%T"`
+// lsfProfile returns an LSF-like preset (`#BSUB`, `bsub < FILE`, `-J "name[1-N]%T"`
 // arrays, `bjobs -o` with a delimiter, `bkill -J`). Not tested against a real
 // scheduler: only its rendering and parsing of invented sample outputs are
 // tested. Memory is given with an explicit unit because LSF's default unit is
 // site configuration (LSF_UNIT_FOR_LIMITS).
-func LSF() *Profile {
+func lsfProfile() *Profile {
 	return &Profile{
 		Name:            "lsf",
 		Shebang:         "#!/bin/bash",
@@ -333,7 +333,7 @@ func LSF() *Profile {
 		JobID:         `Job <(?P<id>[0-9]+)> is submitted`,
 		Status:        []string{"bjobs", "-a", "-noheader", "-J", "{{.JobName}}", "-o", "jobid jobindex stat delimiter='|'"},
 		StatusLine:    `^(?P<array>[0-9]+)\|(?P<index>[0-9]+)\|(?P<state>[A-Z]+)$`,
-		// "Job <name> is not found" goes to stderr (lessons memo §10).
+		// "Job <name> is not found" goes to stderr (SOURCES.md §10).
 		StatusNotFound: []string{"is not found", "No matching job found"},
 		NoIndex:        []string{"0"},
 		States: map[string]string{
@@ -347,13 +347,13 @@ func LSF() *Profile {
 	}
 }
 
-// SGE returns an SGE-like preset (`#$`, `qsub -terse FILE`, `-t 1-N` with
+// sgeProfile returns an SGE-like preset (`#$`, `qsub -terse FILE`, `-t 1-N` with
 // `-tc T`, the `qstat` table filtered by name, `qdel NAME`). Not tested
 // against a real scheduler: only its rendering and parsing of invented sample
 // outputs are tested. The parallel environment name ("smp") and whether
 // h_vmem is per slot are site configuration; edit a copy of the profile.
 // Finished jobs leave qstat at once, so only result files tell the outcome.
-func SGE() *Profile {
+func sgeProfile() *Profile {
 	return &Profile{
 		Name:            "sge",
 		Shebang:         "#!/bin/bash",
@@ -399,9 +399,9 @@ func SGE() *Profile {
 	}
 }
 
-// Presets returns the built-in profiles by name.
-func Presets() map[string]*Profile {
-	return map[string]*Profile{"slurm": Slurm(), "torque": Torque(), "lsf": LSF(), "sge": SGE()}
+// presets returns the built-in profiles by name.
+func presets() map[string]*Profile {
+	return map[string]*Profile{"slurm": Slurm(), "torque": torqueProfile(), "lsf": lsfProfile(), "sge": sgeProfile()}
 }
 
 // nameBelongs reports whether a name shown by a status command belongs to the

@@ -7,15 +7,15 @@ import (
 	"strings"
 )
 
-// ProfileConfig is the optional [queue.batch.profile] table: fields of the
+// profileConfig is the optional [queue.batch.profile] table: fields of the
 // preset named by scheduler to replace, so that a site's batch system (or
 // a wrapper around one) can be targeted without code. Every key is
 // optional; a key that is given replaces the preset's value whole.
-type ProfileConfig struct {
+type profileConfig struct {
 	Name                string            `toml:"name"`
 	Shebang             string            `toml:"shebang"`
 	DirectivePrefix     string            `toml:"directive_prefix"`
-	Directives          []DirectiveConfig `toml:"directive"`
+	Directives          []directiveConfig `toml:"directive"`
 	OwnedOptions        []string          `toml:"owned_options"`
 	TaskIndexVar        string            `toml:"task_index_variable"`
 	FirstIndex          *int              `toml:"first_index"`
@@ -41,9 +41,9 @@ type ProfileConfig struct {
 	HistoryDisabled     string            `toml:"history_disabled"`
 }
 
-// DirectiveConfig is one [[queue.batch.profile.directive]]: a directive
+// directiveConfig is one [[queue.batch.profile.directive]]: a directive
 // line template and the setting it needs ("" for always).
-type DirectiveConfig struct {
+type directiveConfig struct {
 	When string `toml:"when"`
 	Text string `toml:"text"`
 }
@@ -53,7 +53,7 @@ var directiveSettings = []string{"", "partition", "time", "cpus", "mem", "accoun
 
 // Apply returns a copy of base with the given fields replaced, validated.
 // Errors name the key under table (for example "queue.batch.profile").
-func (c *ProfileConfig) Apply(base *Profile, table string) (*Profile, error) {
+func (c *profileConfig) Apply(base *Profile, table string) (*Profile, error) {
 	p := *base
 	bad := func(key, format string, args ...any) error {
 		return fmt.Errorf("%s.%s: %s", table, key, fmt.Sprintf(format, args...))
@@ -133,7 +133,7 @@ func (c *ProfileConfig) Apply(base *Profile, table string) (*Profile, error) {
 		sort.Strings(words)
 		for _, w := range words {
 			v := strings.ToUpper(c.States[w])
-			if Classify(v) == ClassUnknown {
+			if Classify(v) == classUnknown {
 				return nil, bad("states."+w, "%q is not a state wellscan knows; map each word to one of PENDING, RUNNING, COMPLETING, COMPLETED, FAILED, CANCELLED, TIMEOUT, OUT_OF_MEMORY, NODE_FAIL, PREEMPTED, SUSPENDED, REQUEUED", c.States[w])
 			}
 			p.States[w] = v
@@ -155,7 +155,7 @@ func (c *ProfileConfig) Apply(base *Profile, table string) (*Profile, error) {
 			return nil, bad(key, "the first word must be a program name, got %q", argv[0])
 		}
 	}
-	if err := p.Validate(); err != nil {
+	if err := p.validate(); err != nil {
 		return nil, fmt.Errorf("%s: %w", table, err)
 	}
 	return &p, nil

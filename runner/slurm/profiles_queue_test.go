@@ -193,14 +193,14 @@ func TestQueue_OtherSchedulers_DetachAdoptFinish(t *testing.T) {
 	}
 }
 
-func decodeBatch(t *testing.T, table string) (Config, error) {
+func decodeBatch(t *testing.T, table string) (config, error) {
 	t.Helper()
 	text := strings.SplitN(fakeSpec, "[queue]", 2)[0] + "[queue]\nkind = \"batch\"\n" + table
 	spec, err := planner.Decode([]byte(text), "scan.toml")
 	if err != nil {
 		t.Fatal(err)
 	}
-	return DecodeConfig(spec)
+	return decodeConfig(spec)
 }
 
 func TestDecodeConfig_Batch_Errors(t *testing.T) {
@@ -229,7 +229,7 @@ func TestDecodeConfig_Batch_Errors(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := DecodeConfig(spec); err == nil || !strings.Contains(err.Error(), `kind = "batch"`) {
+	if _, err := decodeConfig(spec); err == nil || !strings.Contains(err.Error(), `kind = "batch"`) {
 		t.Errorf("scheduler = lsf under [queue.slurm]: %v, want a pointer to kind = \"batch\"", err)
 	}
 }
@@ -260,7 +260,7 @@ text = "-q {{.Partition}}@site"
 	if p.Name != "torque-site" || p.Submit[0] != "site-qsub" || p.TaskIndexVar != "PBS_ARRAYID" || p.States["X"] != "FAILED" {
 		t.Fatalf("profile %+v", p)
 	}
-	if Torque().Submit[0] != "qsub" {
+	if torqueProfile().Submit[0] != "qsub" {
 		t.Fatal("the preset was modified")
 	}
 	script, err := Render(p, ScriptSpec{JobName: "ws-00000000", Token: "t1", Tasks: 3, Throttle: 2, JobDir: "/scan/jobs/t1",

@@ -25,15 +25,15 @@ const NodeSubcommand = "node-task"
 // submission token, the scan directory and each point's attempt number.
 const JobMetaFile = "job.json"
 
-// JobIDFile holds the job id once sbatch has answered.
-const JobIDFile = "jobid"
+// jobIDFile holds the job id once sbatch has answered.
+const jobIDFile = "jobid"
 
 // JobsDir is the directory of a scan that holds one directory per
 // submission, named by its token.
 const JobsDir = "jobs"
 
-// JobMeta is the content of jobs/<token>/job.json.
-type JobMeta struct {
+// jobMeta is the content of jobs/<token>/job.json.
+type jobMeta struct {
 	Token   string `json:"token"`
 	ScanDir string `json:"scan_dir"`
 	// Fingerprint is the spec fingerprint at submission; a node refuses to
@@ -59,12 +59,12 @@ type QueueStats struct {
 	InfraRetries int // points sent back without using an attempt
 }
 
-// Queue runs a scan's points as Slurm job arrays. It implements
-// [runner.Queue]. It never opens the scan's store: the result files decide.
+// Queue runs a scan's points as Slurm job arrays: a [runner.Batch]. It
+// never opens the scan's store: the result files decide.
 //
 // Each batch of tasks the round loop hands over (tasks arriving within
 // Gather of each other) becomes one array (split at MaxArraySize) whose
-// tasks each compute [PackSize] points in turn (Config.PointsPerTask when
+// tasks each compute packSize points in turn (config.PointsPerTask when
 // set, else sized from the point times measured so far). The queue polls
 // with one batched status command per cycle, hands every point whose
 // result file appears back as a Completion, and turns tasks that ended
@@ -73,7 +73,7 @@ type QueueStats struct {
 //   - NODE_FAIL, BOOT_FAIL, PREEMPTED, lost (vanished, or COMPLETED without
 //     a result, after the grace period): the point goes back to planned
 //     without using an attempt (a Completion with Interrupted set), at most
-//     RetryPolicy.Infra times per point and run; after that a failure of
+//     retryPolicy.Infra times per point and run; after that a failure of
 //     class "lost" that uses an attempt.
 //   - TIMEOUT / OUT_OF_MEMORY: with escalation budget left, back to planned
 //     without using an attempt, and the point's later tasks ask for more
@@ -81,48 +81,51 @@ type QueueStats struct {
 //   - FAILED, DEADLINE: a failure of class "task-failed" (uses an attempt).
 //   - CANCELLED: a permanent failure of class "cancelled" (not retried).
 //
-// On cancellation it stops polling, leaves the jobs running and returns
-// every point in flight as interrupted. A later Run adopts the live tasks
+// On cancellation it stops polling, leaves the jobs running, returns the
+// points already submitted as left running ([runner.Completion.LeftRunning])
+// and those not yet submitted as interrupted; with
+// [runner.BatchOptions.Detach] it submits what it gathered and returns
+// every point as left running as soon as the round loop has handed over
+// its tasks. When the status command starts failing, and
+// when it answers again, it tells [runner.BatchOptions.Notice]; the points
+// are judged by their result files meanwhile. A later Run adopts the live tasks
 // of earlier submissions (found by their token in one status listing)
 // instead of submitting their points again.
 type Queue struct {
-	Spec   *planner.Spec
-	Config Config
+	// Client runs the scheduler's commands; a test may give it a
+	// recording Runner.
 	Client *Client
 	// Binary is the wellscan executable for the job scripts (absolute).
 	Binary string
-	// Policy is the poll schedule; Grace the lost grace period.
-	Policy PollPolicy
-	Grace  time.Duration
-	Retry  RetryPolicy
-	// Gather is how long the queue waits for more tasks before it submits
-	// a batch; 0 means DefaultGather.
-	Gather time.Duration
-	// Now is the clock; nil means time.Now.
-	Now func() time.Time
-	// OnNotice, if set, is told (from the queue's goroutine) when the
-	// status command starts failing and when it answers again; the points
-	// are judged by their result files meanwhile.
-	OnNotice func(msg string)
-	// Detach: once the round loop has handed over its tasks (closed in),
-	// submit what is gathered and return at once, every point in flight
-	// as LeftRunning, instead of polling until the tasks end.
-	Detach bool
+
+	spec   *planner.Spec
+	config config
+	// policy is the poll schedule; grace the lost grace period.
+	policy pollPolicy
+	grace  time.Duration
+	retry  retryPolicy
+	// gather is how long the queue waits for more tasks before it submits
+	// a batch; 0 means defaultGather.
+	gather time.Duration
+	// now is the clock; nil means time.Now.
+	now func() time.Time
 
 	mu      sync.Mutex
 	stats   QueueStats
 	jobName string
 }
 
-// DefaultGather is the default Queue.Gather: the round loop hands over a
+var _ runner.Batch = (*Queue)(nil)
+
+// defaultGather is the default Queue.gather: the round loop hands over a
 // round's points within microseconds of each other, so 100 ms gathers a
 // whole round into one submission while adding little to its latency.
-const DefaultGather = 100 * time.Millisecond
+const defaultGather = 100 * time.Millisecond
 
 // NewQueue builds the queue of spec: [queue.slurm] decoded, the Slurm
 // profile, scheduler commands run with os/exec.
 func NewQueue(spec *planner.Spec) (*Queue, error) {
-	cfg, err := DecodeConfig(spec)
+	cfg, err := decodeConfig(spec)
 	if err != nil {
 		return nil, err
 	}
@@ -141,8 +144,8 @@ func NewQueue(spec *planner.Spec) (*Queue, error) {
 	if err != nil {
 		return nil, err
 	}
-	retry := DefaultRetryPolicy()
-	return &Queue{Spec: spec, Config: cfg, Client: client, Binary: bin, Policy: cfg.Policy(), Grace: cfg.Grace(), Retry: retry}, nil
+	retry := defaultRetryPolicy()
+	return &Queue{spec: spec, config: cfg, Client: client, Binary: bin, policy: cfg.Policy(), grace: cfg.Grace(), retry: retry}, nil
 }
 
 // Name implements runner.Queue: the scheduler profile's name ("slurm").
@@ -153,9 +156,6 @@ func (q *Queue) Name() string {
 	return "slurm"
 }
 
-// SetDetach sets Detach (see there) before Run starts.
-func (q *Queue) SetDetach(on bool) { q.Detach = on }
-
 // Slots implements runner.Queue: the array throttle times the packing
 // (the configured one, or the default before anything is measured).
 func (q *Queue) Slots() int {
@@ -163,17 +163,17 @@ func (q *Queue) Slots() int {
 }
 
 func (q *Queue) throttle() int {
-	if q.Config.Throttle > 0 {
-		return q.Config.Throttle
+	if q.config.Throttle > 0 {
+		return q.config.Throttle
 	}
-	return DefaultThrottle
+	return defaultThrottle
 }
 
 func (q *Queue) pointsPerTask() int {
-	if q.Config.PointsPerTask > 0 {
-		return q.Config.PointsPerTask
+	if q.config.PointsPerTask > 0 {
+		return q.config.PointsPerTask
 	}
-	return DefaultPointsPerTask
+	return defaultPointsPerTask
 }
 
 // Stats returns a copy of the counters.
@@ -192,62 +192,63 @@ func (q *Queue) count(f func(*QueueStats)) {
 // inflight is one point handed to Slurm.
 type inflight struct {
 	task runner.Task
-	ref  TaskRef
+	ref  taskRef
 }
 
 // keyState is what one Run remembers per point across its tries.
 type keyState struct {
-	budget Budget
+	budget budget
 	res    Resources // escalated resources; zero: the config's
 }
 
-// run is the state of one Queue.Run.
+// run is the state of one Queue.Submit.
 type run struct {
 	q       *Queue
+	opts    runner.BatchOptions
 	ctx     context.Context
 	out     chan<- runner.Completion
 	now     func() time.Time
 	scanDir string
 	fp      string
 	jobName string
-	poller  *Poller
+	poller  *poller
 	maxArr  int
 
 	listed    bool
 	failing   int                // poll cycles in a row whose status command failed
-	adoptable map[string]TaskRef // key → live task of an earlier submission
+	adoptable map[string]taskRef // key → live task of an earlier submission
 	// endedEarlier: key → the final state of its latest task, which ended
 	// while no run watched it (a detached scan, a killed orchestrator).
-	endedEarlier map[string]PointTask
-	byRef        map[TaskRef][]string
+	endedEarlier map[string]pointTask
+	byRef        map[taskRef][]string
 	pending      map[string]*inflight
-	ended        map[TaskRef]time.Time // when a task was first seen final (or lost)
+	ended        map[taskRef]time.Time // when a task was first seen final (or lost)
 	keys         map[string]*keyState
 	batch        []runner.Task
 	seq          int
-	policy       PollPolicy
+	policy       pollPolicy
 	measured     []time.Duration // compute time of points finished in this run
 }
 
-// Run implements runner.Queue.
-func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task, out chan<- runner.Completion) error {
-	if q.Spec == nil || q.Client == nil || q.Binary == "" {
+// Submit implements runner.Batch.
+func (q *Queue) Submit(ctx context.Context, in <-chan runner.Task, out chan<- runner.Completion, opts runner.BatchOptions) error {
+	if q.spec == nil || q.Client == nil || q.Binary == "" {
 		return errors.New("slurm: Queue needs Spec, Client and Binary (use NewQueue)")
 	}
-	if err := q.Policy.Validate(); err != nil {
+	if err := q.policy.Validate(); err != nil {
 		return err
 	}
-	now := q.Now
+	now := q.now
 	if now == nil {
 		now = time.Now
 	}
-	gather := q.Gather
+	gather := q.gather
 	if gather == 0 {
-		gather = DefaultGather
+		gather = defaultGather
 	}
-	r := &run{q: q, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.Spec),
-		adoptable: map[string]TaskRef{}, endedEarlier: map[string]PointTask{}, byRef: map[TaskRef][]string{}, pending: map[string]*inflight{},
-		ended: map[TaskRef]time.Time{}, keys: map[string]*keyState{}, maxArr: 1000, policy: q.Policy}
+	r := &run{q: q, opts: opts, ctx: ctx, out: out, now: now, fp: runner.SpecFingerprint(q.spec),
+		adoptable: map[string]taskRef{}, endedEarlier: map[string]pointTask{}, byRef: map[taskRef][]string{}, pending: map[string]*inflight{},
+		ended: map[taskRef]time.Time{}, keys: map[string]*keyState{}, maxArr: 1000, policy: q.policy}
 
 	var gatherT, pollT *time.Timer
 	var gatherC, pollC <-chan time.Time
@@ -268,7 +269,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 	var lookC <-chan time.Time
 	var lookCost time.Duration
 	var lookSince time.Time // the last submission, or the first point handed over
-	look := q.Config.Look()
+	look := q.config.Look()
 	armLook := func(first bool) {
 		if lookT != nil {
 			return
@@ -299,7 +300,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 		case t, ok := <-in:
 			if !ok {
 				in = nil
-				if q.Detach {
+				if opts.Detach {
 					if gatherT != nil {
 						gatherT.Stop()
 						gatherT, gatherC = nil, nil
@@ -315,7 +316,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 			if err := r.arrive(t); err != nil {
 				// Nothing was submitted for t: it fails (and is retried
 				// while attempts last); the run goes on.
-				out <- runner.Completion{Task: t, Result: r.failure(t, "submit", false, err.Error())}
+				out <- runner.Completion{Task: t, Result: r.failure(t, runner.ClassSubmit, false, err.Error())}
 			}
 			if len(r.pending) > 0 {
 				armPoll(true)
@@ -392,7 +393,7 @@ func (q *Queue) Run(ctx context.Context, _ runner.Worker, in <-chan runner.Task,
 func (r *run) leave() {
 	for _, k := range sortedKeys(r.pending) {
 		t := r.pending[k].task
-		if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && res.Status == "done" {
+		if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && res.Status == runner.ResultDone {
 			r.out <- runner.Completion{Task: t, Result: res} // finished meanwhile
 			continue
 		}
@@ -420,7 +421,7 @@ func (r *run) arrive(t runner.Task) error {
 			return fmt.Errorf("slurm: scan directory of %s: %w", t.Dir, err)
 		}
 		name := JobNameFor(dir)
-		p, err := NewPoller(r.q.Client, name, r.now)
+		p, err := newPoller(r.q.Client, name, r.now)
 		if err != nil {
 			return err
 		}
@@ -430,12 +431,12 @@ func (r *run) arrive(t runner.Task) error {
 		r.q.mu.Unlock()
 		if r.q.Client.Profile().Name != "slurm" {
 			// No limits query for other schedulers: keep the defaults.
-		} else if lim, err := ReadSlurmLimits(r.ctx, r.q.Client.runner); err == nil {
+		} else if lim, err := readSlurmLimits(r.ctx, r.q.Client.runner); err == nil {
 			r.maxArr = min(1000, max(1, lim.MaxArraySize-1))
 			r.policy = r.policy.WithoutAccounting(lim.MinJobAge)
 		}
 	}
-	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == "done" {
+	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == runner.ResultDone {
 		r.out <- runner.Completion{Task: t, Result: res, Reused: true}
 		return nil
 	}
@@ -454,7 +455,7 @@ func (r *run) arrive(t runner.Task) error {
 	}
 	// A task of an earlier run may have finished the point since the first
 	// look (for example while the listing ran).
-	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == "done" {
+	if res, ok := runner.ReadResult(r.scanDir, t.Key, r.fp); ok && res.Status == runner.ResultDone {
 		r.out <- runner.Completion{Task: t, Result: res, Reused: true}
 		return nil
 	}
@@ -463,7 +464,7 @@ func (r *run) arrive(t runner.Task) error {
 		// if this run had seen it end. A retry goes into this batch (with
 		// more time or memory where the class asks for it).
 		delete(r.endedEarlier, t.Key)
-		st := TaskStatus{TaskState: pt.State, Seen: true}
+		st := taskStatus{TaskState: pt.State, Seen: true}
 		if c := r.decide(t, pt.Class(), st, pt.Ref); !c.Interrupted {
 			r.out <- c
 			return nil
@@ -474,18 +475,18 @@ func (r *run) arrive(t runner.Task) error {
 }
 
 // listLive runs one status listing and records, for every point whose
-// latest task (see [LatestTasks]) is still live, that task, to adopt it;
+// latest task (see latestTasks) is still live, that task, to adopt it;
 // for points whose latest task ended while no run watched it, its final
 // state, to decide on when the point arrives. A failed listing adopts
 // nothing (points are then submitted again; the node side skips points
 // already done, so at worst work is repeated).
 func (r *run) listLive() {
-	tasks, err := r.q.Client.Status(r.ctx, r.jobName)
+	tasks, err := r.q.Client.listStatus(r.ctx, r.jobName)
 	if err != nil {
 		return
 	}
-	tracked := map[TaskRef]bool{}
-	for k, pt := range LatestTasks(r.scanDir, tasks, true) {
+	tracked := map[taskRef]bool{}
+	for k, pt := range latestTasks(r.scanDir, tasks, true) {
 		if pt.Class().Terminal() {
 			r.endedEarlier[k] = pt
 			continue
@@ -501,7 +502,7 @@ func (r *run) listLive() {
 // resources returns the resources for a set of points: the config's, with
 // time and memory raised to the largest escalation among them.
 func (r *run) resources(ts []runner.Task) Resources {
-	res := r.q.Config.Resources()
+	res := r.q.config.Resources()
 	for _, t := range ts {
 		if ks := r.keys[t.Key]; ks != nil {
 			res.Time = max(res.Time, ks.res.Time)
@@ -527,7 +528,7 @@ func (r *run) expectedTask() time.Duration {
 	if p == 0 {
 		return 0
 	}
-	return time.Duration(PackSize(r.q.Config.PointsPerTask, r.measured, 0)) * p
+	return time.Duration(packSize(r.q.config.PointsPerTask, r.measured, 0)) * p
 }
 
 // submitBatch packs the batch into arrays and submits them.
@@ -542,7 +543,7 @@ func (r *run) submitBatch() {
 		}
 		return batch[a].Key < batch[b].Key
 	})
-	k := PackSize(r.q.Config.PointsPerTask, r.measured, r.resources(batch).Time)
+	k := packSize(r.q.config.PointsPerTask, r.measured, r.resources(batch).Time)
 	per := k * r.maxArr
 	for start := 0; start < len(batch); start += per {
 		r.submitArray(batch[start:min(start+per, len(batch))], k)
@@ -558,7 +559,7 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 	jobDir := filepath.Join(r.scanDir, JobsDir, token)
 	prof := r.q.Client.Profile()
 	m := &Manifest{First: prof.FirstIndex}
-	meta := JobMeta{Token: token, ScanDir: r.scanDir, Fingerprint: r.fp, Attempts: map[string]int{}}
+	meta := jobMeta{Token: token, ScanDir: r.scanDir, Fingerprint: r.fp, Attempts: map[string]int{}}
 	for i := 0; i < len(ts); i += k {
 		var keys []string
 		for _, t := range ts[i:min(i+k, len(ts))] {
@@ -573,27 +574,27 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 	res := r.resources(ts)
 	spec := ScriptSpec{JobName: r.jobName, Token: token, Tasks: len(m.Tasks), Throttle: r.q.throttle(),
 		JobDir: jobDir, Worker: []string{r.q.Binary, NodeSubcommand}, Resources: res}
-	fail := func(class string, permanent bool, err error) {
+	fail := func(class runner.FailureClass, permanent bool, err error) {
 		for _, t := range ts {
 			r.out <- runner.Completion{Task: t, Result: r.failure(t, class, permanent, err.Error())}
 		}
 	}
 	script, err := PrepareJob(prof, spec, m)
 	if err != nil {
-		fail("submit", true, err)
+		fail(runner.ClassSubmit, true, err)
 		return
 	}
 	mb, _ := json.MarshalIndent(meta, "", "  ")
-	if err := WriteResultAtomic(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
+	if err := writeJobFile(jobDir, JobMetaFile, append(mb, '\n')); err != nil {
 		fail("io", false, err)
 		return
 	}
 	submitted := r.now()
-	id, err := r.q.Client.SubmitEnv(r.ctx, script, r.q.Config.SubmitEnv(os.Environ()))
+	id, err := r.q.Client.submitEnv(r.ctx, script, r.q.config.SubmitEnv(os.Environ()))
 	if err != nil {
-		var se *SubmitError
-		if errors.As(err, &se) && se.Kind == SubmitRejected {
-			fail("submit-rejected", true, err)
+		var se *submitError
+		if errors.As(err, &se) && se.Kind == submitRejected {
+			fail(runner.ClassSubmitRejected, true, err)
 			return
 		}
 		if r.ctx.Err() != nil {
@@ -608,29 +609,29 @@ func (r *run) submitArray(ts []runner.Task, k int) {
 		// token once before giving up on this submission.
 		id = r.findToken(token)
 		if id == "" {
-			fail("submit", false, err)
+			fail(runner.ClassSubmit, false, err)
 			return
 		}
 	}
-	_ = os.WriteFile(filepath.Join(jobDir, JobIDFile), []byte(id+"\n"), 0o600)
+	_ = writeJobFile(jobDir, jobIDFile, []byte(id+"\n"))
 	r.poller.Track(id, m.First, len(m.Tasks), submitted)
 	for i, keys := range m.Tasks {
-		ref := TaskRef{Array: id, Index: m.First + i}
+		ref := taskRef{Array: id, Index: m.First + i}
 		r.byRef[ref] = keys
 	}
 	for j, t := range ts {
-		r.pending[t.Key] = &inflight{task: t, ref: TaskRef{Array: id, Index: m.First + j/k}}
+		r.pending[t.Key] = &inflight{task: t, ref: taskRef{Array: id, Index: m.First + j/k}}
 	}
 	r.q.count(func(s *QueueStats) { s.Submissions++; s.Points += len(ts) })
 }
 
 func (r *run) findToken(token string) string {
-	tasks, err := r.q.Client.Status(r.ctx, r.jobName)
+	tasks, err := r.q.Client.listStatus(r.ctx, r.jobName)
 	if err != nil {
 		return ""
 	}
 	for _, t := range tasks {
-		if tok, ok := t.Token(); ok && tok == token {
+		if tok, ok := t.token(); ok && tok == token {
 			return t.Array
 		}
 	}
@@ -638,11 +639,9 @@ func (r *run) findToken(token string) string {
 }
 
 // failure is a failed Result for t made by the queue (not by the node).
-func (r *run) failure(t runner.Task, class string, permanent bool, msg string) runner.Result {
+func (r *run) failure(t runner.Task, class runner.FailureClass, permanent bool, msg string) runner.Result {
 	now := r.now()
-	host, _ := os.Hostname()
-	return runner.Result{Key: t.Key, Fingerprint: r.fp, Attempt: t.Attempt, Status: "failed", Class: class,
-		Error: msg, Permanent: permanent, Backend: "slurm", Host: host, PID: os.Getpid(), Started: now, Finished: now}
+	return runner.FailedResult(t, r.fp, "slurm", class, permanent, msg, now, now)
 }
 
 // cycle runs one poll: one status command, then the result files of every
@@ -653,12 +652,12 @@ func (r *run) cycle() bool {
 	switch {
 	case err != nil && r.ctx.Err() == nil:
 		r.failing++
-		if r.failing == 1 && r.q.OnNotice != nil {
-			r.q.OnNotice(fmt.Sprintf("%s does not answer (%v); points are judged by their result files until it does, polling less often", DisplayName(r.q.Name()), err))
+		if r.failing == 1 && r.opts.Notice != nil {
+			r.opts.Notice(fmt.Sprintf("%s does not answer (%v); points are judged by their result files until it does, polling less often", DisplayName(r.q.Name()), err))
 		}
 	case err == nil && r.failing > 0:
-		if r.q.OnNotice != nil {
-			r.q.OnNotice(fmt.Sprintf("%s answers again after %d failed poll(s)", DisplayName(r.q.Name()), r.failing))
+		if r.opts.Notice != nil {
+			r.opts.Notice(fmt.Sprintf("%s answers again after %d failed poll(s)", DisplayName(r.q.Name()), r.failing))
 		}
 		r.failing = 0
 	}
@@ -669,7 +668,7 @@ func (r *run) cycle() bool {
 	})
 	changed := snap.Changed
 	now := r.now()
-	refs := make([]TaskRef, 0, len(r.byRef))
+	refs := make([]taskRef, 0, len(r.byRef))
 	for ref := range r.byRef {
 		refs = append(refs, ref)
 	}
@@ -686,8 +685,8 @@ func (r *run) cycle() bool {
 			if p == nil || p.ref != ref {
 				continue // not (or no longer) ours in this task
 			}
-			if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && (res.Status == "done" || res.Attempt == p.task.Attempt) {
-				if res.Status == "done" && res.Finished.After(res.Started) {
+			if res, ok := runner.ReadResult(r.scanDir, k, r.fp); ok && (res.Status == runner.ResultDone || res.Attempt == p.task.Attempt) {
+				if res.Status == runner.ResultDone && res.Finished.After(res.Started) {
 					r.measured = append(r.measured, res.Finished.Sub(res.Started))
 				}
 				delete(r.pending, k)
@@ -714,8 +713,8 @@ func (r *run) cycle() bool {
 		class := st.Class()
 		switch {
 		case class.Terminal():
-		case st.Lost(now, r.q.Grace):
-			class = ClassLost
+		case st.Lost(now, r.q.grace):
+			class = classLost
 		default:
 			delete(r.ended, ref)
 			continue
@@ -725,7 +724,7 @@ func (r *run) cycle() bool {
 			r.ended[ref] = now
 			continue
 		}
-		if class != ClassLost && now.Sub(since) < r.q.Grace {
+		if class != classLost && now.Sub(since) < r.q.grace {
 			continue // results may not be visible yet on a shared filesystem
 		}
 		for _, k := range left {
@@ -742,30 +741,30 @@ func (r *run) cycle() bool {
 }
 
 // decide turns a task that ended without a result for t into a Completion.
-func (r *run) decide(t runner.Task, class Class, st TaskStatus, ref TaskRef) runner.Completion {
+func (r *run) decide(t runner.Task, class Class, st taskStatus, ref taskRef) runner.Completion {
 	ks := r.key(t.Key)
 	res := r.resources([]runner.Task{t})
-	d := r.q.Retry.Decide(class, res, ks.budget)
+	d := r.q.retry.Decide(class, res, ks.budget)
 	logs := filepath.Join(r.scanDir, JobsDir, "*", fmt.Sprintf("slurm-%s_%d.err", ref.Array, ref.Index))
 	msg := fmt.Sprintf("array task %s ended %s without a result for this point (%s; log %s)", ref, nonEmpty(st.Native, class.String()), d.Reason, logs)
 	switch class {
-	case ClassInfra, ClassPreempted, ClassLost, ClassCompleted:
+	case classInfra, classPreempted, classLost, classCompleted:
 		if d.Retry {
 			ks.budget = d.Used
 			r.q.count(func(s *QueueStats) { s.InfraRetries++ })
 			return runner.Completion{Task: t, Interrupted: true}
 		}
-		return runner.Completion{Task: t, Result: r.failure(t, "lost", false, msg)}
-	case ClassTimeout, ClassOutOfMemory:
+		return runner.Completion{Task: t, Result: r.failure(t, runner.ClassLost, false, msg)}
+	case classTimeout, classOutOfMemory:
 		if d.Retry {
 			ks.budget, ks.res = d.Used, d.Resources
 			return runner.Completion{Task: t, Interrupted: true}
 		}
-		return runner.Completion{Task: t, Result: r.failure(t, map[Class]string{ClassTimeout: "timeout", ClassOutOfMemory: "out-of-memory"}[class], true, msg)}
-	case ClassCancelled:
-		return runner.Completion{Task: t, Result: r.failure(t, "cancelled", true, msg)}
+		return runner.Completion{Task: t, Result: r.failure(t, map[Class]runner.FailureClass{classTimeout: runner.ClassTimeout, classOutOfMemory: runner.ClassOutOfMemory}[class], true, msg)}
+	case classCancelled:
+		return runner.Completion{Task: t, Result: r.failure(t, runner.ClassCancelled, true, msg)}
 	}
-	return runner.Completion{Task: t, Result: r.failure(t, "task-failed", false, msg)}
+	return runner.Completion{Task: t, Result: r.failure(t, runner.ClassTaskFailed, false, msg)}
 }
 
 func nonEmpty(a, b string) string {
@@ -775,8 +774,8 @@ func nonEmpty(a, b string) string {
 	return b
 }
 
-// DetachNote says what an interrupted attached run leaves behind: the
-// jobs keep running, and how to cancel them. "" before Run has started.
+// DetachNote implements runner.Batch: what an interrupted attached run
+// leaves behind (the jobs keep running) and how to cancel them.
 func (q *Queue) DetachNote() string {
 	q.mu.Lock()
 	name := q.jobName
@@ -788,7 +787,7 @@ func (q *Queue) DetachNote() string {
 	return fmt.Sprintf("detached from %s: the scan's jobs (name %s) keep running and a later run picks up their results; see them with 'wellscan status DIR', cancel them with 'wellscan cancel DIR'", sched, name)
 }
 
-// Packing from measured point times (lessons memo §2; the numbers are
+// Packing from measured point times (SOURCES.md §2; the numbers are
 // ours): a task should run about packTarget, at most packMax points, and
 // k·p90 must stay under packHeadroom of the walltime.
 const (
@@ -798,16 +797,16 @@ const (
 	packSamples  = 3
 )
 
-// PackSize returns the points per array task: configured (> 0) wins;
+// packSize returns the points per array task: configured (> 0) wins;
 // with at least three measured point durations, ceil(30 min / p50)
 // clamped to [1, 64] and lowered until k·p90 ≤ 0.8·limit (limit 0: no
-// walltime known); otherwise DefaultPointsPerTask.
-func PackSize(configured int, measured []time.Duration, limit time.Duration) int {
+// walltime known); otherwise defaultPointsPerTask.
+func packSize(configured int, measured []time.Duration, limit time.Duration) int {
 	if configured > 0 {
 		return configured
 	}
 	if len(measured) < packSamples {
-		return DefaultPointsPerTask
+		return defaultPointsPerTask
 	}
 	d := append([]time.Duration(nil), measured...)
 	sort.Slice(d, func(a, b int) bool { return d[a] < d[b] })
@@ -826,7 +825,7 @@ func PackSize(configured int, measured []time.Duration, limit time.Duration) int
 // ClientFor returns a client for the scheduler spec's [queue] names,
 // running commands with os/exec.
 func ClientFor(spec *planner.Spec) (*Client, error) {
-	cfg, err := DecodeConfig(spec)
+	cfg, err := decodeConfig(spec)
 	if err != nil {
 		return nil, err
 	}

@@ -84,7 +84,7 @@ func (f *fakeSlurm) Run(ctx context.Context, c Cmd) (Output, error) {
 		}
 		return Output{Stdout: []byte(fmt.Sprintf("%d\n", id))}, nil
 	case "sacct":
-		// As Slurm answers without accounting (localhost notes §4).
+		// As Slurm answers without accounting (SOURCES.md §4).
 		return Output{ExitCode: 1, Stderr: []byte("sacct: error: Slurm accounting storage is disabled\n")}, nil
 	case "squeue":
 		f.polls++
@@ -163,6 +163,8 @@ type fakeRun struct {
 	recs  map[string]runner.PointRecord
 	stats QueueStats
 	fake  *fakeSlurm
+	// notices are the messages of the runner's notice events.
+	notices []string
 }
 
 func runFake(t *testing.T, fate func(sub, index int) string) fakeRun {
@@ -194,8 +196,7 @@ func runFakeIn(t *testing.T, dir string, fake Runner, detach bool, opts ...func(
 	}
 	q.Client = mustClient(t, q.Client.Profile(), fake)
 	q.Binary = "/nonexistent/wellscan" // the fake runs the node side in process
-	q.Gather = 20 * time.Millisecond
-	q.Detach = detach
+	q.gather = 20 * time.Millisecond
 	for _, o := range opts {
 		o(q)
 	}
@@ -210,8 +211,13 @@ func runFakeIn(t *testing.T, dir string, fake Runner, detach bool, opts ...func(
 	defer st.Close()
 	ctx, cancel := context.WithTimeout(t.Context(), 30*time.Second)
 	defer cancel()
-	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: q, Detach: detach}
 	fr := fakeRun{}
+	r := &runner.Runner{Spec: spec, Dir: dir, Store: st, Backend: backend, Queue: q, Detach: detach,
+		OnEvent: func(e runner.Event) {
+			if e.Kind == runner.EventNotice {
+				fr.notices = append(fr.notices, e.Message)
+			}
+		}}
 	fr.fake, _ = fake.(*fakeSlurm)
 	fr.sum, fr.err = r.Run(ctx)
 	recs, err := st.Points()
@@ -257,7 +263,7 @@ func TestQueue_Run_FaultClasses(t *testing.T) {
 		first        string
 		wantState    runner.State
 		wantAttempts int
-		wantClass    string
+		wantClass    runner.FailureClass
 		wantSubs     int
 	}{
 		// Infrastructure: retried unchanged, no attempt used.
@@ -325,7 +331,7 @@ func TestDecodeConfig_Errors(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			_, err = DecodeConfig(spec)
+			_, err = decodeConfig(spec)
 			if err == nil || !strings.Contains(err.Error(), tc.wantKey) {
 				t.Errorf("DecodeConfig(%s) = %v, want an error naming %s", tc.body, err, tc.wantKey)
 			}
@@ -338,12 +344,12 @@ func TestDecodeConfig_Defaults(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	c, err := DecodeConfig(spec)
+	c, err := decodeConfig(spec)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got := c.Policy(); got != DefaultPollPolicy() {
-		t.Errorf("policy %+v, want the memo defaults %+v", got, DefaultPollPolicy())
+	if got := c.Policy(); got != defaultPollPolicy() {
+		t.Errorf("policy %+v, want the memo defaults %+v", got, defaultPollPolicy())
 	}
 	if c.Grace() != 3*time.Minute {
 		t.Errorf("grace %s, want 3 poll intervals (3m)", c.Grace())
@@ -365,7 +371,7 @@ func newFakeQueue(t *testing.T, spec *planner.Spec, fake *fakeSlurm) *Queue {
 	}
 	q.Client = mustClient(t, Slurm(), fake)
 	q.Binary = "/nonexistent/wellscan"
-	q.Gather = 20 * time.Millisecond
+	q.gather = 20 * time.Millisecond
 	return q
 }
 
@@ -459,7 +465,7 @@ func TestPackSize_Cases(t *testing.T) {
 		want       int
 	}{
 		{"configured wins", 5, ms(1, 1, 1), time.Hour, 5},
-		{"nothing measured", 0, ms(1, 1), time.Hour, DefaultPointsPerTask},
+		{"nothing measured", 0, ms(1, 1), time.Hour, defaultPointsPerTask},
 		{"30 min of 4-min points", 0, ms(4, 4, 4), 0, 8},                   // ceil(30/4)
 		{"long points: one per task", 0, ms(50, 60, 70), 0, 1},             // ceil(30/60) = 1
 		{"fast points: capped", 0, ms(0, 0, 0), 0, packMax},                // 1 ms floor → cap
@@ -467,7 +473,7 @@ func TestPackSize_Cases(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			if got := PackSize(tc.configured, tc.measured, tc.limit); got != tc.want {
+			if got := packSize(tc.configured, tc.measured, tc.limit); got != tc.want {
 				t.Errorf("PackSize = %d, want %d", got, tc.want)
 			}
 		})
@@ -489,7 +495,7 @@ func TestDecodeConfig_READMEExample(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	c, err := DecodeConfig(spec)
+	c, err := decodeConfig(spec)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -628,13 +634,12 @@ func TestQueue_Detach_EndedWhileDetached(t *testing.T) {
 }
 
 // A controller that stops answering for a while: the run says so once,
-// says when it answers again, and finishes with every point done once.
+// says when it answers again (both as notice events of the runner), and
+// finishes with every point done once.
 func TestQueue_Run_SchedulerUnreachableNoticed(t *testing.T) {
 	fake := &fakeSlurm{t: t, fate: func(int, int) string { return "COMPLETED" }, down: 3}
-	var notices []string
-	fr := runFakeIn(t, fakeScanDir(t), fake, false, func(q *Queue) {
-		q.OnNotice = func(m string) { notices = append(notices, m) }
-	})
+	fr := runFakeIn(t, fakeScanDir(t), fake, false)
+	notices := fr.notices
 	if fr.err != nil {
 		t.Fatal(fr.err)
 	}

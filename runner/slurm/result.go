@@ -10,17 +10,19 @@ import (
 	"strings"
 )
 
-// ErrNotVisible reports that a result file is missing, empty, half-written or
+// errNotVisible reports that a result file is missing, empty, half-written or
 // not valid JSON yet. On a shared filesystem that is normal for a while after
 // a task ends; it is not a failure class of its own. Callers re-read it on a
 // later cycle and give up only after a grace period.
-var ErrNotVisible = errors.New("slurm: result not visible yet")
+var errNotVisible = errors.New("slurm: result not visible yet")
 
-// WriteResultAtomic writes data to dir/name so that a reader sees either no
+// writeResultAtomic writes data to dir/name so that a reader sees either no
 // file or the whole file: a temporary file in the same directory, fsync,
 // close, rename over name, then fsync of the directory so the rename itself
-// is durable. name must be a plain file name.
-func WriteResultAtomic(dir, name string, data []byte) (err error) {
+// is durable. name must be a plain file name. It follows symbolic links:
+// files inside a scan directory are written with writeJobFile or
+// [runner.WriteScanFile] instead, which refuse them.
+func writeResultAtomic(dir, name string, data []byte) (err error) {
 	if name == "" || name != filepath.Base(name) || name == "." || name == ".." {
 		return fmt.Errorf("slurm: result name %q must be a plain file name", name)
 	}
@@ -53,7 +55,7 @@ func WriteResultAtomic(dir, name string, data []byte) (err error) {
 	final := filepath.Join(dir, name)
 	if err = os.Rename(tmp, final); err != nil {
 		// On NFS a retransmitted rename can report ENOENT although it
-		// happened (lessons memo §5): trust the final file if it is there
+		// happened (SOURCES.md §5): trust the final file if it is there
 		// and the temporary one is gone.
 		if _, statErr := os.Stat(final); statErr != nil || fileExists(tmp) {
 			return fmt.Errorf("slurm: rename %s: %w", tmp, err)
@@ -76,24 +78,24 @@ func fileExists(p string) bool {
 	return err == nil
 }
 
-// ReadResult reads and parses a JSON result file. A missing, empty,
+// readResult reads and parses a JSON result file. A missing, empty,
 // truncated or otherwise invalid file gives an error wrapping
-// [ErrNotVisible]: the writer may not be done, or the shared filesystem may
+// errNotVisible: the writer may not be done, or the shared filesystem may
 // not show the file yet. Other errors (permission denied, a directory in its
 // place) are returned as they are. The bytes returned are valid JSON.
-func ReadResult(path string) ([]byte, error) {
+func readResult(path string) ([]byte, error) {
 	data, err := os.ReadFile(path)
 	if err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
-			return nil, fmt.Errorf("%w: %s: no file", ErrNotVisible, path)
+			return nil, fmt.Errorf("%w: %s: no file", errNotVisible, path)
 		}
 		return nil, fmt.Errorf("slurm: read result %s: %w", path, err)
 	}
 	if len(strings.TrimSpace(string(data))) == 0 {
-		return nil, fmt.Errorf("%w: %s: empty", ErrNotVisible, path)
+		return nil, fmt.Errorf("%w: %s: empty", errNotVisible, path)
 	}
 	if !json.Valid(data) {
-		return nil, fmt.Errorf("%w: %s: not complete JSON (%d bytes)", ErrNotVisible, path, len(data))
+		return nil, fmt.Errorf("%w: %s: not complete JSON (%d bytes)", errNotVisible, path, len(data))
 	}
 	return data, nil
 }

@@ -12,15 +12,15 @@ import (
 func TestWriteResultAtomic_WritesWholeFileAndNoTemp(t *testing.T) {
 	dir := t.TempDir()
 	data := []byte(`{"v":1,"key":"r=1.12800","energy_hartree":-112.7}`)
-	if err := WriteResultAtomic(dir, "result.json", data); err != nil {
+	if err := writeResultAtomic(dir, "result.json", data); err != nil {
 		t.Fatal(err)
 	}
 	// Overwrite: a second attempt replaces the file whole.
 	data2 := []byte(`{"v":1,"key":"r=1.12800","energy_hartree":-112.8}`)
-	if err := WriteResultAtomic(dir, "result.json", data2); err != nil {
+	if err := writeResultAtomic(dir, "result.json", data2); err != nil {
 		t.Fatal(err)
 	}
-	got, err := ReadResult(filepath.Join(dir, "result.json"))
+	got, err := readResult(filepath.Join(dir, "result.json"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -42,14 +42,14 @@ func TestWriteResultAtomic_WritesWholeFileAndNoTemp(t *testing.T) {
 
 func TestWriteResultAtomic_BadName(t *testing.T) {
 	for _, name := range []string{"", "a/b", "..", "."} {
-		if err := WriteResultAtomic(t.TempDir(), name, []byte("{}")); err == nil {
-			t.Errorf("WriteResultAtomic(name %q) = nil, want an error", name)
+		if err := writeResultAtomic(t.TempDir(), name, []byte("{}")); err == nil {
+			t.Errorf("writeResultAtomic(name %q) = nil, want an error", name)
 		}
 	}
 }
 
 func TestWriteResultAtomic_MissingDir(t *testing.T) {
-	err := WriteResultAtomic(filepath.Join(t.TempDir(), "nope"), "result.json", []byte("{}"))
+	err := writeResultAtomic(filepath.Join(t.TempDir(), "nope"), "result.json", []byte("{}"))
 	if err == nil || !strings.Contains(err.Error(), "nope") {
 		t.Errorf("error = %v, want one naming the missing directory", err)
 	}
@@ -76,8 +76,8 @@ func TestReadResult_NotVisibleYet(t *testing.T) {
 					t.Fatal(err)
 				}
 			}
-			_, err := ReadResult(path)
-			if !errors.Is(err, ErrNotVisible) {
+			_, err := readResult(path)
+			if !errors.Is(err, errNotVisible) {
 				t.Errorf("ReadResult error = %v, want ErrNotVisible", err)
 			}
 		})
@@ -85,8 +85,8 @@ func TestReadResult_NotVisibleYet(t *testing.T) {
 }
 
 func TestReadResult_DirectoryIsRealError(t *testing.T) {
-	_, err := ReadResult(t.TempDir())
-	if err == nil || errors.Is(err, ErrNotVisible) {
+	_, err := readResult(t.TempDir())
+	if err == nil || errors.Is(err, errNotVisible) {
 		t.Errorf("ReadResult(directory) error = %v, want a real error, not ErrNotVisible", err)
 	}
 }
@@ -94,12 +94,12 @@ func TestReadResult_DirectoryIsRealError(t *testing.T) {
 func ptr(s string) *string { return &s }
 
 func TestManifest_RoundTrip(t *testing.T) {
-	dir := t.TempDir()
+	dir := filepath.Join(t.TempDir(), JobsDir, "tok-1")
 	m := &Manifest{First: 1, Tasks: [][]string{{"r=1.12800", "r=1.13000"}, {"r1=0.95000,theta=104.500"}}}
-	if err := WriteManifest(dir, m); err != nil {
+	if err := writeManifest(dir, m); err != nil {
 		t.Fatal(err)
 	}
-	got, err := ReadManifest(dir)
+	got, err := readManifest(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -128,7 +128,7 @@ func TestParseManifest_Errors(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := ParseManifest("jobs/x/tasks.tsv", []byte(tc.text))
+			_, err := parseManifest("jobs/x/tasks.tsv", []byte(tc.text))
 			if err == nil || !strings.Contains(err.Error(), tc.want) {
 				t.Errorf("ParseManifest error = %v, want one containing %q", err, tc.want)
 			}
@@ -139,11 +139,11 @@ func TestParseManifest_Errors(t *testing.T) {
 func TestManifest_Marshal_RejectsBadKeys(t *testing.T) {
 	for _, k := range []string{"", "a\tb", "a\nb", "#x"} {
 		m := &Manifest{Tasks: [][]string{{k}}}
-		if _, err := m.Marshal(); err == nil {
+		if _, err := m.marshal(); err == nil {
 			t.Errorf("Marshal(key %q) = nil error, want one", k)
 		}
 	}
-	if _, err := (&Manifest{Tasks: [][]string{{}}}).Marshal(); err == nil {
+	if _, err := (&Manifest{Tasks: [][]string{{}}}).marshal(); err == nil {
 		t.Error("Marshal(task without keys) = nil error, want one")
 	}
 }
@@ -159,7 +159,7 @@ func TestPrepareJob_WritesScriptAndManifest(t *testing.T) {
 	if path != filepath.Join(dir, "submit.sh") {
 		t.Errorf("script path = %s", path)
 	}
-	if _, err := ReadManifest(dir); err != nil {
+	if _, err := readManifest(dir); err != nil {
 		t.Error(err)
 	}
 	spec.Tasks = 4

@@ -12,7 +12,7 @@ import (
 // Resources is what each array task asks the scheduler for. The zero value
 // asks for nothing beyond the site defaults, with no requeue.
 type Resources struct {
-	// Partition (Slurm), queue (others). Validated with [ValidateValue].
+	// Partition (Slurm), queue (others). Validated with validateValue.
 	Partition string
 	// Time is the walltime per array task; 0 means the partition default.
 	// Rendered in whole minutes, rounded up (Slurm has minute resolution).
@@ -21,7 +21,7 @@ type Resources struct {
 	CPUsPerTask int
 	// MemMB is the memory per node in MiB; 0 means the default.
 	MemMB int
-	// Account and QOS are validated with [ValidateValue].
+	// Account and QOS are validated with validateValue.
 	Account, QOS string
 	// Export is the value of --export; "" means "NONE", so the login shell's
 	// environment does not leak into the job.
@@ -33,7 +33,7 @@ type Resources struct {
 	// replaces it by exec) this long before the time limit; 0 means none.
 	SignalBefore time.Duration
 	// Extra directives in the scheduler's own syntax ("--gres=gpu:1"),
-	// checked by [Profile.CheckExtra]; they may not set options wellscan owns.
+	// checked by Profile.checkExtra; they may not set options wellscan owns.
 	Extra []string
 	// Setup lines run before the worker, verbatim, as shell — for example
 	// "module purge" and "module load gcc/12". They are the user's own shell
@@ -49,7 +49,7 @@ type ScriptSpec struct {
 	// into --comment as "ws:<token>" so an interrupted submit can be adopted.
 	Token string
 	// Tasks is the number of array tasks (manifest lines); Throttle caps how
-	// many run at once (0 means 100, the lessons memo default).
+	// many run at once (0 means 100, ours, SOURCES.md §2).
 	Tasks, Throttle int
 	// JobDir is the directory of this submission (jobs/<id>/); the script,
 	// the manifest and the scheduler's output files live there.
@@ -62,9 +62,9 @@ type ScriptSpec struct {
 	Resources Resources
 }
 
-// DefaultThrottle is the %N throttle used when a ScriptSpec gives none
-// (lessons memo §11, "ours").
-const DefaultThrottle = 100
+// defaultThrottle is the %N throttle used when a ScriptSpec gives none
+// (ours, SOURCES.md §2).
+const defaultThrottle = 100
 
 // scriptData feeds the directive templates; every field is already
 // validated or numeric when it is built.
@@ -90,11 +90,11 @@ func ceilMinutes(d time.Duration) int {
 }
 
 func (s *ScriptSpec) data(p *Profile) (*scriptData, error) {
-	if err := ValidateValue("job name", s.JobName); err != nil {
+	if err := validateValue("job name", s.JobName); err != nil {
 		return nil, err
 	}
 	if s.Token != "" {
-		if err := ValidateValue("submission token", s.Token); err != nil {
+		if err := validateValue("submission token", s.Token); err != nil {
 			return nil, err
 		}
 	}
@@ -103,7 +103,7 @@ func (s *ScriptSpec) data(p *Profile) (*scriptData, error) {
 	}
 	throttle := s.Throttle
 	if throttle == 0 {
-		throttle = DefaultThrottle
+		throttle = defaultThrottle
 	}
 	if throttle < 0 {
 		return nil, fmt.Errorf("slurm: job %s: throttle %d is negative", s.JobName, throttle)
@@ -137,7 +137,7 @@ func (s *ScriptSpec) data(p *Profile) (*scriptData, error) {
 		if v == "" {
 			continue
 		}
-		if err := ValidateValue(what, v); err != nil {
+		if err := validateValue(what, v); err != nil {
 			return nil, err
 		}
 		d.set[what] = true
@@ -145,7 +145,7 @@ func (s *ScriptSpec) data(p *Profile) (*scriptData, error) {
 	if d.Export == "" {
 		d.Export = "NONE"
 	}
-	if err := ValidateValue("export", d.Export); err != nil {
+	if err := validateValue("export", d.Export); err != nil {
 		return nil, err
 	}
 	d.set["export"] = true
@@ -213,7 +213,7 @@ func Render(p *Profile, spec ScriptSpec) ([]byte, error) {
 		}
 	}
 	for _, x := range spec.Resources.Extra {
-		if err := p.CheckExtra(x); err != nil {
+		if err := p.checkExtra(x); err != nil {
 			return nil, err
 		}
 		lines = append(lines, x)
@@ -240,11 +240,11 @@ func Render(p *Profile, spec ScriptSpec) ([]byte, error) {
 	return b.Bytes(), nil
 }
 
-// CheckExtra checks one user extra directive for this profile: the syntax of
+// checkExtra checks one user extra directive for this profile: the syntax of
 // validateExtraSyntax, and no option that wellscan owns (job name, array,
 // comment, output and error files, export): overriding them would lose the
 // scan's jobs, tasks or logs.
-func (p *Profile) CheckExtra(d string) error {
+func (p *Profile) checkExtra(d string) error {
 	name, err := validateExtraSyntax(d)
 	if err != nil {
 		return err

@@ -90,7 +90,7 @@ func TestRender_Time_Formatting(t *testing.T) {
 		dhms, hms  string
 		minutesLSF string
 	}{
-		{30 * time.Second, "0-00:01:00", "00:01:00", "1"}, // Slurm rounds up to whole minutes (localhost notes pitfall 13)
+		{30 * time.Second, "0-00:01:00", "00:01:00", "1"}, // Slurm rounds up to whole minutes (SOURCES.md §11)
 		{time.Minute, "0-00:01:00", "00:01:00", "1"},
 		{61 * time.Second, "0-00:02:00", "00:02:00", "2"},
 		{25*time.Hour + 30*time.Minute, "1-01:30:00", "25:30:00", "1530"},
@@ -102,9 +102,9 @@ func TestRender_Time_Formatting(t *testing.T) {
 			want string
 		}{
 			{Slurm(), "--time=" + tc.dhms + "\n"},
-			{Torque(), "-l walltime=" + tc.hms + "\n"},
-			{SGE(), "-l h_rt=" + tc.hms + "\n"},
-			{LSF(), "-W " + tc.minutesLSF + "\n"},
+			{torqueProfile(), "-l walltime=" + tc.hms + "\n"},
+			{sgeProfile(), "-l h_rt=" + tc.hms + "\n"},
+			{lsfProfile(), "-W " + tc.minutesLSF + "\n"},
 		} {
 			got, err := Render(c.p, spec)
 			if err != nil {
@@ -208,7 +208,7 @@ func TestRender_Validation_Rejects(t *testing.T) {
 
 func TestValidateValue_Accepts(t *testing.T) {
 	for _, v := range []string{"debug", "gpu-a100", "chem_lab.2", "user@site", "a:b+c,d=e%f"} {
-		if err := ValidateValue("partition", v); err != nil {
+		if err := validateValue("partition", v); err != nil {
 			t.Errorf("ValidateValue(%q) = %v, want nil", v, err)
 		}
 	}
@@ -236,7 +236,7 @@ func TestJobNameFor_StableAndValid(t *testing.T) {
 	if a == JobNameFor("scan-B") {
 		t.Errorf("JobNameFor gives the same name for different scans: %s", a)
 	}
-	if len(a) != len("ws-")+8 || ValidateValue("job name", a) != nil {
+	if len(a) != len("ws-")+8 || validateValue("job name", a) != nil {
 		t.Errorf("JobNameFor = %q, want ws-<8 hex>", a)
 	}
 }
@@ -249,19 +249,19 @@ func TestRender_Profiles_Directives(t *testing.T) {
 		p    *Profile
 		want []string
 	}{
-		{Torque(), []string{"#PBS -N ws-1a2b3c4d\n", "#PBS -t 0-2%2\n", "#PBS -q debug\n", "#PBS -l walltime=00:02:00\n",
+		{torqueProfile(), []string{"#PBS -N ws-1a2b3c4d\n", "#PBS -t 0-2%2\n", "#PBS -q debug\n", "#PBS -l walltime=00:02:00\n",
 			"#PBS -l nodes=1:ppn=2\n", "#PBS -l mem=512mb\n", "#PBS -A chem-lab\n", "#PBS -r n\n",
 			"#PBS -o /scans/co/jobs/r1-1\n", `--task "$PBS_ARRAYID"`}},
-		{LSF(), []string{`#BSUB -J "ws-1a2b3c4d[1-3]%2"` + "\n", "#BSUB -q debug\n", "#BSUB -W 2\n", "#BSUB -n 2\n",
+		{lsfProfile(), []string{`#BSUB -J "ws-1a2b3c4d[1-3]%2"` + "\n", "#BSUB -q debug\n", "#BSUB -W 2\n", "#BSUB -n 2\n",
 			"#BSUB -M 512MB\n", "#BSUB -P chem-lab\n", "#BSUB -rn\n", "#BSUB -o /scans/co/jobs/r1-1/task-%J_%I.out\n",
 			`--task "$LSB_JOBINDEX"`}},
-		{SGE(), []string{"#$ -S /bin/bash\n", "#$ -N ws-1a2b3c4d\n", "#$ -t 1-3\n", "#$ -tc 2\n", "#$ -q debug\n",
+		{sgeProfile(), []string{"#$ -S /bin/bash\n", "#$ -N ws-1a2b3c4d\n", "#$ -t 1-3\n", "#$ -tc 2\n", "#$ -q debug\n",
 			"#$ -l h_rt=00:02:00\n", "#$ -pe smp 2\n", "#$ -l h_vmem=512M\n", "#$ -P chem-lab\n", "#$ -r n\n",
 			`--task "$SGE_TASK_ID"`}},
 	}
 	for _, tc := range tests {
 		t.Run(tc.p.Name, func(t *testing.T) {
-			if err := tc.p.Validate(); err != nil {
+			if err := tc.p.validate(); err != nil {
 				t.Fatal(err)
 			}
 			got, err := Render(tc.p, spec)
@@ -283,7 +283,7 @@ func TestRender_Profiles_Directives(t *testing.T) {
 func TestRender_Profile_UnsupportedSettingIsError(t *testing.T) {
 	spec := testSpec("/j")
 	spec.Resources.Extra = nil
-	_, err := Render(LSF(), spec) // QOS is set; the LSF preset has no QoS directive
+	_, err := Render(lsfProfile(), spec) // QOS is set; the LSF preset has no QoS directive
 	if err == nil || !strings.Contains(err.Error(), "qos") {
 		t.Errorf("Render(LSF, qos set) error = %v, want one naming qos", err)
 	}
@@ -305,13 +305,13 @@ func TestProfile_Validate_Rejects(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			p := Slurm()
 			tc.modify(p)
-			if err := p.Validate(); err == nil {
+			if err := p.validate(); err == nil {
 				t.Error("Validate = nil, want an error")
 			}
 		})
 	}
-	for name, p := range Presets() {
-		if err := p.Validate(); err != nil {
+	for name, p := range presets() {
+		if err := p.validate(); err != nil {
 			t.Errorf("preset %s: %v", name, err)
 		}
 	}

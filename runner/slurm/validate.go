@@ -10,7 +10,7 @@ import (
 
 // valueRE is what a scheduler value (partition, account, QoS, job name,
 // comment token) may contain: no spaces, quotes, shell metacharacters or
-// newlines. Common practice, following the lessons memo §7.
+// newlines. Common practice (SOURCES.md §7).
 var valueRE = regexp.MustCompile(`^[A-Za-z0-9._:+,=@%-]+$`)
 
 // optionNameRE is the shape of a long scheduler option name in an extra
@@ -21,9 +21,9 @@ var optionNameRE = regexp.MustCompile(`^--?[A-Za-z][A-Za-z0-9-]*$`)
 // brackets of a node list ("node[01-04]").
 var optionValueRE = regexp.MustCompile(`^[A-Za-z0-9._:+,=@%/\[\]-]+$`)
 
-// ValidateValue checks one scheduler value against ^[A-Za-z0-9._:+,=@%-]+$.
+// validateValue checks one scheduler value against ^[A-Za-z0-9._:+,=@%-]+$.
 // what names the value in the error ("partition", "account").
-func ValidateValue(what, v string) error {
+func validateValue(what, v string) error {
 	if !valueRE.MatchString(v) {
 		return fmt.Errorf("slurm: %s %q: only letters, digits and ._:+,=@%%- are allowed (no spaces, quotes or newlines)", what, v)
 	}
@@ -33,7 +33,7 @@ func ValidateValue(what, v string) error {
 // validateExtraSyntax checks one extra directive: "--option",
 // "--option=value" or "-o value" (one space), with a value made of letters,
 // digits and ._:+,=@%/[]- only. Which options are owned by wellscan depends
-// on the profile ([Profile.CheckExtra]).
+// on the profile (Profile.checkExtra).
 func validateExtraSyntax(d string) (name string, err error) {
 	if strings.ContainsAny(d, "\n\r\x00") {
 		return "", fmt.Errorf("slurm: extra directive %q contains a newline or NUL", d)

@@ -28,6 +28,15 @@ import (
 // to raw Cartesian components, so the derivative quartets never need the
 // spherical transformation.
 //
+// Cost: shell quartets are screened by the Schwarz bound times the
+// largest two-particle density they meet, primitive quartets inside them
+// by their prefactor times the largest exponent weight times Σ|Γ|
+// (derivWork.primCut); the recurrence is raised on a side only when that
+// side has a position to differentiate (the skipped group is chosen to
+// drop a whole side where it can); (ss|ss) and (ps|ss) quartets, about
+// half of all primitive quartets in a valence basis, take closed forms
+// (ssssGrad, psssGrad).
+//
 // References:
 //   - S. Obara, A. Saika, J. Chem. Phys. 84, 3963 (1986),
 //     doi:10.1063/1.450106 (derivatives by shifted angular momenta).
@@ -52,6 +61,10 @@ import (
 func TwoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, workers int, da, db *mat.SymDense, nAtoms int, threshold float64) ([][3]float64, error) {
 	return twoElectronGradient(ctx, shells, norm, workers, da, db, nAtoms, threshold, false)
 }
+
+// primFraction is the primitive-quartet threshold of the two-electron
+// gradient relative to the shell-quartet threshold.
+const primFraction = 1e-2
 
 // twoElectronGradient is TwoElectronGradient with the choice of the
 // shifted-class code: the one-pass recurrence, or separate quartets
@@ -85,6 +98,12 @@ func twoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 	}
 	dg := newDerivBasis(eb, shells)
 	dg.separate = separate
+	// A primitive quartet is dropped at a hundredth of the shell-quartet
+	// threshold: the many dropped ones (a quarter of those in benzene/
+	// 6-31G*, mostly tight core primitives on different atoms) then add
+	// up to well below the threshold's own scale (measured in
+	// TestTwoElectronGradient_PrimitiveScreening).
+	dg.primThreshold = threshold * primFraction
 	Da, Db := denseCopy(da, n), denseCopy(db, n)
 	Dt := make([]float64, n*n)
 	for i := range Dt {
@@ -174,15 +193,18 @@ type derivBasis struct {
 	// separate computes shifted classes as separate quartets instead of
 	// the one-pass recurrence (tests only).
 	separate bool
-	atom     []int       // atom of each shell
-	raw      []shellPair // pair P over raw Cartesian components
-	p1       []shellPair // first shell l+1, coefficients ×2α
-	m1       []shellPair // first shell l−1 (unused when l = 0)
-	p2       []shellPair // second shell l+1, coefficients ×2β
-	m2       []shellPair // second shell l−1 (unused when l = 0)
-	up       [][][3]int  // up[l][c][x]: index of component c + 1_x in shell l+1
-	down     [][][3]int  // down[l][c][x]: index of c − 1_x in shell l−1 (−1 if none)
-	power    [][][3]int  // power[l][c][x]: exponent of x in component c
+	// primThreshold (hartree/bohr) screens primitive quartets inside a
+	// shell quartet (see derivWork.primCut); 0 turns it off.
+	primThreshold float64
+	atom          []int       // atom of each shell
+	raw           []shellPair // pair P over raw Cartesian components
+	p1            []shellPair // first shell l+1, coefficients ×2α
+	m1            []shellPair // first shell l−1 (unused when l = 0)
+	p2            []shellPair // second shell l+1, coefficients ×2β
+	m2            []shellPair // second shell l−1 (unused when l = 0)
+	up            [][][3]int  // up[l][c][x]: index of component c + 1_x in shell l+1
+	down          [][][3]int  // down[l][c][x]: index of c − 1_x in shell l−1 (−1 if none)
+	power         [][][3]int  // power[l][c][x]: exponent of x in component c
 }
 
 func newDerivBasis(eb *eriBasis, shells []Shell) *derivBasis {
@@ -291,6 +313,11 @@ type derivWork struct {
 	win        []float64
 	cls        [4][2][]float64
 	tcls       [4][2][]float64 // transposed classes
+	// primCut screens primitive quartets: one whose prefactor times
+	// the largest exponent weight is below primCut is skipped (set per
+	// shell quartet from the threshold and its two-particle density; 0
+	// keeps every primitive quartet).
+	primCut float64
 }
 
 func newDerivWork(maxl int) *derivWork {
@@ -364,6 +391,21 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 		src = dst
 	}
 	gc := src
+	// Primitive screening: a primitive quartet with prefactor U_P U_Q /
+	// √(p+q) (its (ss|ss) value at T = 0, which bounds the Boys factors)
+	// and exponent weights up to w changes this quartet's contribution by
+	// about U_P U_Q/√(p+q) · w · Σ|Γ|; those below primThreshold are
+	// dropped (density-weighted, like the shell-quartet screen).
+	dw.primCut = 0
+	if dg.primThreshold > 0 {
+		var gsum float64
+		for _, v := range gc {
+			gsum += math.Abs(v)
+		}
+		if gsum > 0 {
+			dw.primCut = dg.primThreshold / gsum
+		}
+	}
 	na, nb, nc, nd := dims[0], dims[1], dims[2], dims[3]
 	ls := [4]int{bp.l1, bp.l2, kp.l1, kp.l2}
 	at := [4]int{dg.atom[bp.s1], dg.atom[bp.s2], dg.atom[kp.s1], dg.atom[kp.s2]}
@@ -387,9 +429,44 @@ func (dw *derivWork) quartetGrad(dg *derivBasis, P, Q int, f float64, n int, Dt,
 			skip = k
 		}
 	}
+	// A group holding both shells of a pair is the better one to skip:
+	// the one-pass recurrence then never raises that side at all.
+	braG, ketG := group[0] == group[1], group[2] == group[3]
+	switch {
+	case braG && ketG:
+		skip = group[0]
+		if groupCost[group[2]] > groupCost[group[0]] {
+			skip = group[2]
+		}
+	case braG:
+		skip = group[0]
+	case ketG:
+		skip = group[2]
+	}
 	var need [4]bool
 	for k := range 4 {
 		need[k] = group[k] != skip
+	}
+	if !dg.separate && (ls == [4]int{} || ls == [4]int{1, 0, 0, 0} || ls == [4]int{0, 0, 1, 0}) {
+		switch ls {
+		case [4]int{}:
+			g = dw.ssssGrad(bp, kp, gc[0], need)
+		case [4]int{1, 0, 0, 0}:
+			g = dw.psssGrad(bp, kp, gc[:3], need)
+		default: // (ss|ps): the same with the electrons exchanged
+			h := dw.psssGrad(kp, bp, gc[:3], [4]bool{need[2], need[3], need[0], need[1]})
+			g = [4][3]float64{h[2], h[3], h[0], h[1]}
+		}
+		var total [3]float64
+		for k := range 4 {
+			for x := range 3 {
+				total[x] += g[k][x]
+			}
+		}
+		for x := range 3 {
+			g[skip][x] = -total[x]
+		}
+		return g
 	}
 	var cl derivClasses
 	if dg.separate {

@@ -59,7 +59,18 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 	w := dw.w
 	la, lb, lc, ld := bp.l1, bp.l2, kp.l1, kp.l2
 	Lab, Lcd := la+lb, lc+ld
-	LabX, LcdX := Lab+1, Lcd+1
+	// The recurrence goes one level beyond the pair on each side only
+	// when a raised class of that side is needed: translational
+	// invariance often drops both positions of one side (a quartet over
+	// two atoms, (AA|BB)).
+	braW, ketW := need[0] || need[1], need[2] || need[3]
+	LabX, LcdX := Lab, Lcd
+	if braW {
+		LabX++
+	}
+	if ketW {
+		LcdX++
+	}
 	L := LabX + LcdX
 	nE, nF := ncum(LabX), ncum(LcdX)
 	// Windows of the contractions: the plain one feeds the lowered
@@ -69,7 +80,6 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 	eLo, fLo := ncum(la-2), ncum(lc-2)
 	eKet0, eKet1, fKet0 := ncum(la-1), ncum(Lab), ncum(lc-1)
 	fPlain1 := ncum(Lcd)
-	ketW := need[2] || need[3]
 	size := nE * nF
 	for k := range dw.cw {
 		c := dw.cw[k][:size]
@@ -80,14 +90,19 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 	S0, SC, SD := dw.s0[:size], dw.sc[:size], dw.sd[:size]
 	V := w.v
 	stM := nF * nE
+	cut := dw.primCut
 	for _, pa := range bp.prims {
 		p := pa.p
-		for i := range S0 {
-			S0[i], SC[i], SD[i] = 0, 0, 0
-		}
+		// The first ket primitive kept assigns S0, SC, SD; the others add.
+		first := true
+		wa := 2 * max(pa.a, p-pa.a, 0.5)
 		for _, pc := range kp.prims {
 			q := pc.p
 			pq := p + q
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			if cut > 0 && math.Abs(pref)*max(wa, 2*pc.a, 2*(q-pc.a)) < cut {
+				continue // negligible primitive quartet (see derivWork.primCut)
+			}
 			rho := p * q / pq
 			var PQ, WP, WQ [3]float64
 			for d := range 3 {
@@ -97,7 +112,6 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 				WQ[d] = Wd - pc.P[d]
 			}
 			T := rho * (PQ[0]*PQ[0] + PQ[1]*PQ[1] + PQ[2]*PQ[2])
-			pref := pa.U * pc.U / math.Sqrt(pq)
 			boys(T, L, w.fb)
 			for m := 0; m <= L; m++ {
 				V[m*stM] = pref * w.fb[m]
@@ -137,10 +151,7 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 				// At the top ket level only the ket-raised classes read,
 				// and they need l_e ≤ Lab.
 				eTop := nE
-				if fc.l == LcdX {
-					if !ketW {
-						continue
-					}
+				if ketW && fc.l == LcdX {
 					eTop = eKet1
 				}
 				for m := 0; m <= mmax; m++ {
@@ -170,6 +181,10 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 			for f := fLo; f < fPlain1; f++ {
 				src := V[f*nE+eLo : f*nE+nE]
 				s0 := S0[f*nE+eLo : f*nE+nE]
+				if first {
+					copy(s0, src)
+					continue
+				}
 				for k, v := range src {
 					s0[k] += v
 				}
@@ -180,16 +195,33 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 					src := V[f*nE+eKet0 : f*nE+eKet1]
 					o := f*nE + eKet0
 					sc, sd := SC[o:o+len(src)], SD[o:o+len(src)]
+					if first {
+						for k, v := range src {
+							sc[k] = g2 * v
+							sd[k] = d2 * v
+						}
+						continue
+					}
 					for k, v := range src {
 						sc[k] += g2 * v
 						sd[k] += d2 * v
 					}
 				}
 			}
+			first = false
+		}
+		if first {
+			continue // every ket primitive screened out
 		}
 		a2, b2 := 2*pa.a, 2*(pa.p-pa.a)
 		C0, CA, CB, CC, CD := dw.cw[0], dw.cw[1], dw.cw[2], dw.cw[3], dw.cw[4]
 		for f := fLo; f < fPlain1; f++ {
+			if !braW {
+				for e := eLo; e < nE; e++ {
+					C0[f*nE+e] += S0[f*nE+e]
+				}
+				continue
+			}
 			for e := eLo; e < nE; e++ {
 				o := f*nE + e
 				v := S0[o]
@@ -249,4 +281,163 @@ func (dw *derivWork) quartetShiftedOrdered(bp, kp *shellPair, need [4]bool) deri
 		}
 	}
 	return out
+}
+
+// ssssGrad is quartetGrad's shortcut for a quartet of four s shells,
+// whose only shifted classes are the raised ones with a p function on one
+// centre: per primitive quartet, with V_m = U_P U_Q/√(p+q) F_m(T),
+//
+//	(p_i s|ss) = PA_i V_0 + WP_i V_1,  (s p_i|ss) = PB_i V_0 + WP_i V_1,
+//	(ss|p_i s) = QC_i V_0 + WQ_i V_1,  (ss|s p_i) = QD_i V_0 + WQ_i V_1
+//
+// (the vertical recurrence of Obara & Saika, one step), weighted by twice
+// the exponent of the raised primitive and multiplied by the quartet's
+// two-particle density gam. Positions with need false are left zero.
+func (dw *derivWork) ssssGrad(bp, kp *shellPair, gam float64, need [4]bool) (g [4][3]float64) {
+	fb := dw.w.fb
+	cut := dw.primCut
+	for _, pa := range bp.prims {
+		p := pa.p
+		a2, b2 := 2*pa.a, 2*(p-pa.a)
+		wa := max(a2, b2)
+		var PB [3]float64
+		for d := range 3 {
+			PB[d] = pa.PA[d] + bp.AB[d]
+		}
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			c2, d2 := 2*pc.a, 2*(q-pc.a)
+			if cut > 0 && math.Abs(pref)*max(wa, c2, d2) < cut {
+				continue // negligible primitive quartet (see derivWork.primCut)
+			}
+			rho := p * q / pq
+			var PQ, WP, WQ [3]float64
+			for d := range 3 {
+				PQ[d] = pa.P[d] - pc.P[d]
+				Wd := (p*pa.P[d] + q*pc.P[d]) / pq
+				WP[d] = Wd - pa.P[d]
+				WQ[d] = Wd - pc.P[d]
+			}
+			boys(rho*(PQ[0]*PQ[0]+PQ[1]*PQ[1]+PQ[2]*PQ[2]), 1, fb)
+			v0, v1 := pref*fb[0], pref*fb[1]
+			for d := range 3 {
+				if need[0] {
+					g[0][d] += a2 * (pa.PA[d]*v0 + WP[d]*v1)
+				}
+				if need[1] {
+					g[1][d] += b2 * (PB[d]*v0 + WP[d]*v1)
+				}
+				if need[2] {
+					g[2][d] += c2 * (pc.PA[d]*v0 + WQ[d]*v1)
+				}
+				if need[3] {
+					g[3][d] += d2 * ((pc.PA[d]+kp.AB[d])*v0 + WQ[d]*v1)
+				}
+			}
+		}
+	}
+	for k := range 4 {
+		for d := range 3 {
+			g[k][d] *= gam
+		}
+	}
+	return g
+}
+
+// psssGrad is quartetGrad's shortcut for a quartet (p s|s s): one p shell
+// first in the bra pair, three s shells. gam holds the two-particle
+// density of the three p components (raw Cartesian x, y, z). With the
+// vertical recurrence of Obara & Saika on V_m = U_P U_Q/√(p+q) F_m(T),
+//
+//	(p_i s|ss)^(m) = PA_i V_m + WP_i V_{m+1}
+//	(d_ij s|ss)    = PA_j (p_i s|ss)^(0) + WP_j (p_i s|ss)^(1) + δ_ij/(2p) (V_0 − ρ/p V_1)
+//	(p_i s|p_j s)  = QC_j (p_i s|ss)^(0) + WQ_j (p_i s|ss)^(1) + δ_ij/(2(p+q)) V_1
+//
+// and the horizontal steps (p_i p_j| = (d_ij s| + AB_j (p_i s|, (p s|s p_j) =
+// (p s|p_j s) + CD_j (p s|ss), the gradient on the four centres is
+//
+//	g_A,x = Σ_i Γ_i [2α (d_ix s|ss)] − Γ_x (ss|ss)
+//	g_B,x = Σ_i Γ_i [2β (p_i p_x|ss)]
+//	g_C,x = Σ_i Γ_i [2γ (p_i s|p_x s)]
+//	g_D,x = Σ_i Γ_i [2δ (p_i s|s p_x)]
+//
+// each bracket contracted over the primitive quartets with the weight
+// shown. Positions with need false are left zero.
+func (dw *derivWork) psssGrad(bp, kp *shellPair, gam []float64, need [4]bool) (g [4][3]float64) {
+	fb := dw.w.fb
+	cut := dw.primCut
+	var dA, dB, xC, xD [3][3]float64 // weighted (d_ij s|ss) and (p_i s|p_j s)
+	var pB, pD [3]float64            // weighted (p_i s|ss)
+	var s0 float64                   // plain (ss|ss)
+	for _, pa := range bp.prims {
+		p := pa.p
+		a2, b2 := 2*pa.a, 2*(p-pa.a)
+		wa := max(a2, b2, 1)
+		for _, pc := range kp.prims {
+			q := pc.p
+			pq := p + q
+			pref := pa.U * pc.U / math.Sqrt(pq)
+			c2, d2 := 2*pc.a, 2*(q-pc.a)
+			if cut > 0 && math.Abs(pref)*max(wa, c2, d2) < cut {
+				continue // negligible primitive quartet (see derivWork.primCut)
+			}
+			rho := p * q / pq
+			var PQ, WP, WQ [3]float64
+			for d := range 3 {
+				PQ[d] = pa.P[d] - pc.P[d]
+				Wd := (p*pa.P[d] + q*pc.P[d]) / pq
+				WP[d] = Wd - pa.P[d]
+				WQ[d] = Wd - pc.P[d]
+			}
+			boys(rho*(PQ[0]*PQ[0]+PQ[1]*PQ[1]+PQ[2]*PQ[2]), 2, fb)
+			v0, v1, v2 := pref*fb[0], pref*fb[1], pref*fb[2]
+			s0 += v0
+			var p0, p1 [3]float64
+			for i := range 3 {
+				p0[i] = pa.PA[i]*v0 + WP[i]*v1
+				p1[i] = pa.PA[i]*v1 + WP[i]*v2
+			}
+			dd := pa.inv2p * (v0 - rho/p*v1)
+			dx := 0.5 / pq * v1
+			for i := range 3 {
+				pB[i] += b2 * p0[i]
+				pD[i] += d2 * p0[i]
+				for j := range 3 {
+					d := pa.PA[j]*p0[i] + WP[j]*p1[i]
+					x := pc.PA[j]*p0[i] + WQ[j]*p1[i]
+					if i == j {
+						d += dd
+						x += dx
+					}
+					dA[i][j] += a2 * d
+					dB[i][j] += b2 * d
+					xC[i][j] += c2 * x
+					xD[i][j] += d2 * x
+				}
+			}
+		}
+	}
+	for x := range 3 {
+		for i := range 3 {
+			gi := gam[i]
+			if need[0] {
+				g[0][x] += gi * dA[i][x]
+			}
+			if need[1] {
+				g[1][x] += gi * (dB[i][x] + bp.AB[x]*pB[i])
+			}
+			if need[2] {
+				g[2][x] += gi * xC[i][x]
+			}
+			if need[3] {
+				g[3][x] += gi * (xD[i][x] + kp.AB[x]*pD[i])
+			}
+		}
+		if need[0] {
+			g[0][x] -= gam[x] * s0
+		}
+	}
+	return g
 }

@@ -177,7 +177,7 @@ type workedCase struct {
 // loadWorked loads one worked-example case from testdata.
 func loadWorked(t testing.TB, name string, norm CartNorm) workedCase {
 	t.Helper()
-	dir := filepath.Join("testdata", "worked-water", name)
+	dir := filepath.Join("..", "testdata", "worked-water", name)
 	atoms := readGeom(t, filepath.Join(dir, "geom.dat"))
 	basis := readBasis(t, filepath.Join(dir, "basis.json"))
 	shells, err := buildShells(atoms, basis, false)

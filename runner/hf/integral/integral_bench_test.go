@@ -19,7 +19,7 @@ func benchSystems(b *testing.B) []struct {
 	shells []Shell
 } {
 	b.Helper()
-	water := readGeom(b, "testdata/worked-water/STO-3G/geom.dat")
+	water := readGeom(b, "../testdata/worked-water/STO-3G/geom.dat")
 	return []struct {
 		name   string
 		shells []Shell

@@ -16,7 +16,7 @@ import (
 // testdata/worked-water/STO-3G/geom.dat).
 func waterAtoms(t testing.TB) []atom {
 	t.Helper()
-	return readGeom(t, filepath.Join("testdata", "worked-water", "STO-3G", "geom.dat"))
+	return readGeom(t, filepath.Join("..", "testdata", "worked-water", "STO-3G", "geom.dat"))
 }
 
 // benzeneAtoms is our own benzene geometry from standard bond lengths
