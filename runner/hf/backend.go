@@ -375,14 +375,16 @@ func (b *Backend) coldCheck(mol planner.Molecule, opts *Options) {
 	}
 }
 
-// inCoreShare is the share of the unique two-electron integrals a
-// calculation kept in core: 1 in core, 0 direct.
+// inCoreShare is the memory a calculation kept its two-electron integrals
+// in, as a share of what all unique integrals take (8 bytes each): 1 in
+// core, 0 direct. Semi-direct builds keep the blocks that cost most to
+// recompute, so their share of the recomputation saved is larger.
 func inCoreShare(res *Result) float64 {
 	switch res.IntegralMode {
 	case ModeInCore:
 		return 1
 	case ModeSemiDirect:
-		return float64(res.IntegralBytes) / float64(integral.InCoreBytes(res.BasisFunctions))
+		return min(1, float64(res.IntegralBytes)/float64(integral.InCoreBytes(res.BasisFunctions)))
 	}
 	return 0
 }

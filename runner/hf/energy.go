@@ -255,13 +255,15 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		if err != nil {
 			return nil, err
 		}
+		plan.bytes = eri.Bytes()
 		jk = eri
 	case ModeSemiDirect:
-		sd, err := newSemiDirect(ctx, shells, opts.Norm, workers, thr, plan.split)
+		d, err := integral.NewDirectStored(ctx, shells, opts.Norm, workers, thr, budget)
 		if err != nil {
 			return nil, err
 		}
-		jk = sd
+		plan.bytes = d.StoredBytes()
+		jk = d
 	default:
 		d, err := integral.NewDirect(shells, opts.Norm, workers, thr)
 		if err != nil {
@@ -318,13 +320,6 @@ func Energy(ctx context.Context, mol planner.Molecule, opts Options) (*Result, e
 		return res, scfErr
 	}
 	src, ok := jk.(PairBlockSource)
-	if sd, isSemi := jk.(*semiDirect); isSemi {
-		full, err := sd.pairSource()
-		if err != nil {
-			return nil, err
-		}
-		src, ok = full, true
-	}
 	if !ok {
 		return nil, fmt.Errorf("hf: %s: integral builder %T gives no block access", method, jk)
 	}

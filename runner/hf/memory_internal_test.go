@@ -31,26 +31,30 @@ func TestMemAvailable_Parse(t *testing.T) {
 }
 
 func TestPlanIntegrals_Modes(t *testing.T) {
-	// Ten s shells of one function each: InCoreBytes(n) = n⁴ bytes
-	// (n(n+1)/2 pairs, packed pairs of pairs, 8 bytes each; ≈ n⁴ for large n).
+	// Ten s shells of one function each (ten groups): 55 pairs, 1540
+	// blocks of one integral, 8 bytes each plus 12 bytes of index, plus
+	// 8 bytes per pair and one: StoreBytes = 1540·20 + 56·8 = 31248
+	// (counted here by hand from the storage layout).
 	var shells []integral.Shell
 	for i := range 10 {
 		shells = append(shells, integral.Shell{L: 0, Center: [3]float64{float64(i), 0, 0}, Exps: []float64{1}, Coefs: []float64{1}})
 	}
-	all := integral.InCoreBytes(10)
+	all := integral.StoreBytes(shells)
+	if all != 31248 {
+		t.Fatalf("StoreBytes = %d, want 31248", all)
+	}
 	for _, tc := range []struct {
 		budget int64
 		mode   string
-		split  int
 	}{
-		{all, ModeInCore, 10},
-		{integral.InCoreBytes(9), ModeSemiDirect, 9},
-		{integral.InCoreBytes(5), ModeDirect, 0}, // 5 of 10 functions hold 1/16 of the integrals: not worth it
-		{-1, ModeDirect, 0},
+		{all, ModeInCore},
+		{all - 1, ModeSemiDirect},
+		{1000, ModeSemiDirect},
+		{-1, ModeDirect},
 	} {
 		p := planIntegrals(shells, tc.budget)
-		if p.mode != tc.mode || p.split != tc.split {
-			t.Errorf("budget %d B: %s with %d shells kept, want %s with %d", tc.budget, p.mode, p.split, tc.mode, tc.split)
+		if p.mode != tc.mode {
+			t.Errorf("budget %d B: %s, want %s", tc.budget, p.mode, tc.mode)
 		}
 	}
 }

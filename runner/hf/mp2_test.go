@@ -84,8 +84,10 @@ func TestEnergy_MP2BatchedAndWorkers(t *testing.T) {
 	n := int64(ref.BasisFunctions)
 	np := n * (n + 1) / 2
 	nv := int64(ref.MP2.VirtualAlpha)
-	// scratch of 2 workers (pair block 32·np + 2n² + o(n+v)) plus one occupied orbital's H and G.
-	small := 8*2*(32*np+2*n*n+5*(n+nv)) + 8*nv*(np+5*nv) + 64
+	// scratch of 2 workers (pair block 9·np: the largest block of ket
+	// pairs is that of two p shells, + 2n² + o(n+v)) plus one occupied
+	// orbital's H and G.
+	small := 8*2*(9*np+2*n*n+5*(n+nv)) + 8*nv*(np+5*nv) + 64
 	cases := []struct {
 		name        string
 		opts        hf.Options

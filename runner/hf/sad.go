@@ -255,7 +255,7 @@ func atomicDensity(ctx context.Context, set *basis.Set, conv basis.Convention, n
 	s := integral.Overlap(shells, norm)
 	h := mat.NewSymDense(s.SymmetricDim(), nil)
 	h.AddSym(integral.Kinetic(shells, norm), integral.Nuclear(shells, norm, []integral.PointCharge{{Z: float64(el.Z)}}))
-	eri, err := integral.ComputeERI(ctx, shells, norm, 1)
+	eri, err := integral.ComputePacked(ctx, shells, norm, 1)
 	if err != nil {
 		return nil, err
 	}
@@ -420,7 +420,7 @@ func fractionalOccupations(c *mat.Dense, s *mat.SymDense, lOf []int, eps []float
 			set := sets[l][k]
 			g := float64(len(set))
 			if e > 2*g+1e-12 {
-				return fmt.Errorf("the l = %d subshell %d holds %g electrons but its degenerate set has only %d orbitals", l, k+1, e, len(set))
+				return fmt.Errorf("the l = %d subshell %d holds %g electrons but its degenerate set has only %d orbitals DBG %v", l, k+1, e, len(set), eps)
 			}
 			na := min(e, g)
 			for _, q := range set {

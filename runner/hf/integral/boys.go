@@ -126,3 +126,20 @@ func boys(t float64, mmax int, f []float64) {
 		}
 	}
 }
+
+// boys0 is F_0(t), the m = 0 case of boys without the scratch slice.
+func boys0(t float64) float64 {
+	if t < boysTMax {
+		k := int(t/boysStep + 0.5)
+		dt := float64(k)*boysStep - t
+		row := boysTable[k*boysNOrder : k*boysNOrder+boysTaylor]
+		v := row[6] * boysInvFact[6]
+		v = v*dt + row[5]*boysInvFact[5]
+		v = v*dt + row[4]*boysInvFact[4]
+		v = v*dt + row[3]*boysInvFact[3]
+		v = v*dt + row[2]*boysInvFact[2]
+		v = v*dt + row[1]
+		return v*dt + row[0]
+	}
+	return 0.5 * math.Sqrt(math.Pi/t)
+}

@@ -68,6 +68,9 @@ func TestBoys_HighPrecisionSeries(t *testing.T) {
 		for m := range want {
 			want[m] = boysBig(m, T)
 		}
+		if rel := math.Abs(boys0(T)-want[0]) / want[0]; rel > tol {
+			t.Errorf("boys0(%v) = %.17g, want %.17g (rel %.2g)", T, boys0(T), want[0], rel)
+		}
 		for _, mmax := range []int{0, 4, 8, 16, boysMaxM} {
 			boys(T, mmax, f)
 			for m := 0; m <= mmax; m++ {

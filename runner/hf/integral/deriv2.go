@@ -88,7 +88,7 @@ func twoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 		}
 	}
 	workers = resolveWorkers(workers)
-	eb, err := newERIBasis(ctx, shells, norm, workers)
+	eb, err := newERIBasis(ctx, shells, norm, workers, groupNone)
 	if err != nil {
 		return nil, err
 	}
@@ -278,7 +278,7 @@ func newDerivBasis(eb *eriBasis, shells []Shell) *derivBasis {
 // recomputed from the shifted coefficients. The screened primitive set is
 // the one of sp, so the derivative stays consistent with the integrals.
 func rawPair(sp *shellPair, s1, s2 *prepShell) shellPair {
-	out := shellPair{s1: sp.s1, s2: sp.s2, l1: s1.l, l2: s2.l, AB: sp.AB, same: sp.same,
+	out := shellPair{s1: sp.s1, s2: sp.s2, l1: s1.l, l2: s2.l, AB: sp.AB, same: sp.same, nc1: 1, nc2: 1,
 		n1: s1.nfunc, n2: s2.nfunc, sh1: s1, sh2: s2, schwarz: sp.schwarz}
 	pref := math.Sqrt2 * math.Pow(math.Pi, 1.25)
 	ab2 := sp.AB[0]*sp.AB[0] + sp.AB[1]*sp.AB[1] + sp.AB[2]*sp.AB[2]
@@ -290,7 +290,7 @@ func rawPair(sp *shellPair, s1, s2 *prepShell) shellPair {
 			if k < primScreen {
 				continue
 			}
-			pp := primPair{p: p, inv2p: 0.5 / p, a: alpha, U: pref * s1.coefs[i] * s2.coefs[j] * k / p}
+			pp := primPair{p: p, inv2p: 0.5 / p, a: alpha, U: pref * s1.coefs[i] * s2.coefs[j] * k / p, bound: math.Inf(1)}
 			for d := range 3 {
 				pp.P[d] = (alpha*s1.center[d] + beta*s2.center[d]) / p
 				pp.PA[d] = pp.P[d] - s1.center[d]

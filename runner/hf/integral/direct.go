@@ -17,7 +17,10 @@ type Direct struct {
 	eb        *eriBasis
 	workers   int
 	threshold float64
-	from      int // first bra shell: quartets whose shells all lie below it are left out
+	// store holds blocks computed once (nil: none); with storedOnly
+	// every block that passes screening is in it (in core).
+	store      *blockStore
+	storedOnly bool
 }
 
 // NewDirect prepares shell-pair data and Schwarz factors for
@@ -26,31 +29,45 @@ type Direct struct {
 // times the largest density element it meets is below threshold
 // (hartree; 1e-12 is a sound default; 0 keeps every quartet).
 func NewDirect(shells []Shell, norm CartNorm, workers int, threshold float64) (*Direct, error) {
+	return newDirect(context.Background(), shells, norm, workers, threshold)
+}
+
+func newDirect(ctx context.Context, shells []Shell, norm CartNorm, workers int, threshold float64) (*Direct, error) {
 	if threshold < 0 || math.IsNaN(threshold) {
 		return nil, fmt.Errorf("integral: screening threshold %v, want ≥ 0", threshold)
 	}
 	workers = resolveWorkers(workers)
-	eb, err := newERIBasis(context.Background(), shells, norm, workers)
+	eb, err := newERIBasis(ctx, shells, norm, workers, groupAll)
 	if err != nil {
 		return nil, err
 	}
 	return &Direct{eb: eb, workers: workers, threshold: threshold}, nil
 }
 
-// NewDirectFrom is NewDirect for the shell quartets that involve at least
-// one shell with index ≥ from: the quartets among shells[:from] are left
-// out, for a caller that holds their integrals in core (ComputeERI of
-// shells[:from]) and adds their J and K itself. from = 0 is NewDirect.
-func NewDirectFrom(shells []Shell, norm CartNorm, workers int, threshold float64, from int) (*Direct, error) {
-	if from < 0 || from > len(shells) {
-		return nil, fmt.Errorf("integral: first direct shell %d, want 0…%d", from, len(shells))
-	}
-	d, err := NewDirect(shells, norm, workers, threshold)
+// NewDirectStored is NewDirect for a semi-direct build: it computes once
+// and keeps in memory, within budget bytes, the shell-quartet blocks that
+// cost most to recompute per byte (many primitives, few functions: core
+// and general contractions first), and recomputes the others at every
+// build. A budget that holds every block gives an in-core build with the
+// direct builder's density screening.
+func NewDirectStored(ctx context.Context, shells []Shell, norm CartNorm, workers int, threshold float64, budget int64) (*Direct, error) {
+	d, err := newDirect(ctx, shells, norm, workers, threshold)
 	if err != nil {
 		return nil, err
 	}
-	d.from = from
+	if d.store, err = buildStore(ctx, d.eb, d.workers, budget); err != nil {
+		return nil, err
+	}
 	return d, nil
+}
+
+// StoredBytes is the memory of the blocks a semi-direct builder keeps (0
+// for a direct one).
+func (d *Direct) StoredBytes() int64 {
+	if d.store == nil {
+		return 0
+	}
+	return d.store.bytes()
 }
 
 // IncrementalJK reports that the cost of JK falls with the density it is
@@ -80,23 +97,10 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 	for x := range nd {
 		D[x] = denseCopy(dens[x], n)
 	}
-	// Largest |D| over each shell block (over all densities).
-	ns := len(eb.ps)
-	dmax := make([]float64, ns*ns)
-	for a := range ns {
-		for b := range ns {
-			sa, sb := &eb.ps[a], &eb.ps[b]
-			var m float64
-			for x := range nd {
-				for i := sa.off; i < sa.off+sa.nfunc; i++ {
-					for jj := sb.off; jj < sb.off+sb.nfunc; jj++ {
-						m = max(m, math.Abs(D[x][i*n+jj]))
-					}
-				}
-			}
-			dmax[a*ns+b] = m
-		}
-	}
+	// Largest |D| over each shell-group block (over all densities).
+	ns := len(eb.gs)
+	dmax := groupMax(eb.gs, n, D)
+	st := d.store
 	type acc struct{ a, b [][]float64 }
 	var mu sync.Mutex
 	var accs []acc
@@ -106,7 +110,7 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 	var wg sync.WaitGroup
 	for range min(d.workers, np) {
 		wg.Go(func() {
-			w := newERIWork(eb.maxl)
+			w := eb.newWork()
 			ac := acc{a: make([][]float64, nd), b: make([][]float64, nd)}
 			for x := range nd {
 				ac.a[x] = make([]float64, n*n)
@@ -119,8 +123,9 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 				}
 				P := eb.order[len(eb.order)-1-t]
 				bp := &eb.pairs[P]
-				if max(bp.s1, bp.s2) < d.from {
-					continue // all four shells below from: held in core by the caller
+				var e, end int64 // stored blocks of P, walked along with Q
+				if st != nil {
+					e, end = st.start[P], st.start[P+1]
 				}
 				for Q := 0; Q <= P; Q++ {
 					kp := &eb.pairs[Q]
@@ -133,7 +138,18 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 					if s*dm < d.threshold {
 						continue
 					}
-					blk := w.quartet(bp, kp)
+					var blk []float64
+					for e < end && int(st.q[e]) < Q {
+						e++
+					}
+					if e < end && int(st.q[e]) == Q {
+						blk = st.data[st.off[e] : st.off[e]+int64(bp.n1*bp.n2*kp.n1*kp.n2)]
+					} else if d.storedOnly {
+						continue // not stored: below the in-core screening
+					} else {
+						w.cut = primCut(d.threshold, dm, bp, kp)
+						blk = w.quartet(bp, kp)
+					}
 					f := 1.0
 					if bp.same {
 						f *= 0.5
@@ -177,6 +193,29 @@ func (d *Direct) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDe
 		}
 	}
 	return nil
+}
+
+// groupMax is the largest |D[x]_ij| over the functions i of group a and j
+// of group b, over all densities, as [a·len(gs)+b].
+func groupMax(gs []shellGroup, n int, D [][]float64) []float64 {
+	ns := len(gs)
+	out := make([]float64, ns*ns)
+	for a := range ns {
+		ia, na := gs[a].off, gs[a].nf
+		for b := 0; b <= a; b++ {
+			ib, nb := gs[b].off, gs[b].nf
+			var m float64
+			for _, d := range D {
+				for i := ia; i < ia+na; i++ {
+					for _, v := range d[i*n+ib : i*n+ib+nb] {
+						m = max(m, math.Abs(v))
+					}
+				}
+			}
+			out[a*ns+b], out[b*ns+a] = m, m
+		}
+	}
+	return out
 }
 
 // jkBlock adds one shell quartet's contributions. Every element of the

@@ -81,21 +81,42 @@ type primPair struct {
 	p, inv2p float64
 	a        float64 // exponent of the pair's first shell (the second is p − a)
 	P, PA    [3]float64
-	U        float64 // √2 π^{5/4} c_a c_b exp(−μ|AB|²) / p
+	// U is √2 π^{5/4} c_a c_b exp(−μ|AB|²) / p; for a pair of shell
+	// groups with member combinations (shellPair.cw) the coefficients
+	// are left out of U and applied as the weights cw[c0:c1].
+	U      float64
+	c0, c1 int32
+	// bound bounds the pair's contribution: one primitive quartet adds at
+	// most bound(bra)·bound(ket) to any integral of the block
+	// (setPrimBounds; +Inf when not computed).
+	bound float64
 }
 
 // shellPair holds what the two-electron code needs for one pair of shells.
 // The first shell has the higher angular momentum (HRR builds on it);
 // fi/fj list the function indices of its output rows/columns.
 type shellPair struct {
-	s1, s2   int // shell indices in pair order
+	s1, s2   int // shell (or shell group) indices in pair order
 	l1, l2   int
-	AB       [3]float64 // centre1 − centre2
-	prims    []primPair
-	same     bool // s1 == s2
-	n1, n2   int  // output functions
-	fi, fj   []int
-	schwarz  float64 // √max|(ab|ab)|
+	nc1, nc2 int         // members of the two shell groups (1 for single shells)
+	g1, g2   *shellGroup // the groups, when either has several members
+	// rng[2k], rng[2k+1] bound the Cartesian window of member combination
+	// k (components of l_a … l_a+l_b, counted from the group's lowest
+	// member's l) that its integrals need; nil with one combination.
+	rng []int32
+	// lmin1, lmin2 are the lowest angular momenta of the groups' members
+	// (l1, l2 for single shells).
+	lmin1, lmin2 int
+	cw           []comboW   // member-combination weights of the primitive pairs (nil: folded into U)
+	AB           [3]float64 // centre1 − centre2
+	prims        []primPair
+	same         bool // s1 == s2
+	n1, n2       int  // output functions (all members of a group)
+	fi, fj       []int
+	schwarz      float64 // √max|(ab|ab)|
+	// tail[j] is the sum of prims[j:].bound (prims sorted by bound,
+	// largest first); nil when the bounds are not computed.
+	tail     []float64
 	sh1, sh2 *prepShell
 }
 
@@ -109,7 +130,7 @@ func newShellPair(ps []prepShell, a, b int) shellPair {
 		a, b = b, a
 	}
 	sa, sb := &ps[a], &ps[b]
-	sp := shellPair{s1: a, s2: b, l1: sa.l, l2: sb.l, same: a == b, n1: sa.nfunc, n2: sb.nfunc, sh1: sa, sh2: sb}
+	sp := shellPair{s1: a, s2: b, l1: sa.l, l2: sb.l, same: a == b, nc1: 1, nc2: 1, n1: sa.nfunc, n2: sb.nfunc, sh1: sa, sh2: sb, lmin1: sa.l, lmin2: sb.l}
 	for d := range 3 {
 		sp.AB[d] = sa.center[d] - sb.center[d]
 	}
@@ -122,7 +143,7 @@ func newShellPair(ps []prepShell, a, b int) shellPair {
 			if k < primScreen {
 				continue
 			}
-			pp := primPair{p: p, inv2p: 0.5 / p, a: alpha, U: pref * sa.coefs[i] * sb.coefs[j] * k / p}
+			pp := primPair{p: p, inv2p: 0.5 / p, a: alpha, U: pref * sa.coefs[i] * sb.coefs[j] * k / p, bound: math.Inf(1)}
 			for d := range 3 {
 				pp.P[d] = (alpha*sa.center[d] + beta*sb.center[d]) / p
 				pp.PA[d] = pp.P[d] - sa.center[d]
@@ -145,23 +166,36 @@ func newShellPair(ps []prepShell, a, b int) shellPair {
 // is allocated per quartet.
 type eriWork struct {
 	v      []float64 // VRR [m][f][e]
-	c      []float64 // contracted [f][e]
+	c      []float64 // contracted [combination][f][e]
+	t      []float64 // per bra primitive pair: [ket combination][f][e]
 	h1, h2 []float64 // HRR ping-pong
-	out    []float64 // final block
+	out    []float64 // final block (fast paths)
+	gout   []float64 // final block of a group quartet
 	fb     []float64 // Boys values
 	base   []float64
+	// cut is the primitive screening allowance of the next quartet: the
+	// primitive quartets skipped change no integral of the block by more
+	// than cut in total (see primsFor). 0 keeps every primitive quartet.
+	cut float64
 }
 
-func newERIWork(maxl int) *eriWork {
+func newERIWork(maxl int) *eriWork { return newERIWorkGroups(maxl, 1, 1) }
+
+// newERIWorkGroups is newERIWork for shell groups of up to maxm members
+// (maxm² member combinations per pair) and blocks of up to maxBlock
+// elements.
+func newERIWorkGroups(maxl, maxm, maxBlock int) *eriWork {
 	nE := ncum(2 * maxl)
 	nc := ncart(maxl)
-	h := max(nE*nc*nE, nE*nc*nc*nc, nc*nc*nc*nc)
+	h := max(nE*nc*nE, nE*nc*nc*nc, nc*nc*nc*nc, maxBlock)
 	return &eriWork{
 		v:    make([]float64, (4*maxl+1)*nE*nE),
-		c:    make([]float64, nE*nE),
+		c:    make([]float64, maxm*maxm*maxm*maxm*nE*nE),
+		t:    make([]float64, maxm*maxm*nE*nE),
 		h1:   make([]float64, h),
 		h2:   make([]float64, h),
 		out:  make([]float64, nc*nc*nc*nc),
+		gout: make([]float64, max(maxBlock, 1)),
 		fb:   make([]float64, 4*maxl+1),
 		base: make([]float64, 4*maxl+1),
 	}
@@ -202,7 +236,8 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 	// The fast paths assume the higher angular momentum first in each
 	// pair, as newShellPair orders them; the shifted pairs of the gradient
 	// code may have it second and take the general path.
-	switch ordered := bp.l1 >= bp.l2 && kp.l1 >= kp.l2; {
+	grouped := bp.nc1*bp.nc2 > 1 || kp.nc1*kp.nc2 > 1
+	switch ordered := bp.l1 >= bp.l2 && kp.l1 >= kp.l2 && !grouped; {
 	case ordered && L == 0:
 		return w.quartetSSSS(bp, kp)
 	case ordered && L == 1:
@@ -211,35 +246,53 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 		return w.quartetPSPS(bp, kp)
 	}
 	nE, nF := ncum(Lab), ncum(Lcd)
+	if grouped {
+		// Members of lower angular momentum need [e0|f0] from their own
+		// l on: the recurrences run from the lowest member's.
+		la, lc = bp.lmin1, kp.lmin1
+	}
 	e0, f0 := ncum(la-1), ncum(lc-1)
 	nEr, nFr := nE-e0, nF-f0
-	C := w.c[:nEr*nFr]
-	for i := range C {
-		C[i] = 0
+	nEF := nEr * nFr
+	nbc, nkc := bp.nc1*bp.nc2, kp.nc1*kp.nc2
+	C := w.c[:nbc*nkc*nEF]
+	clear(C)
+	acc := C[:nEF] // ungrouped: primitive quartets go straight into C
+	if grouped {
+		acc = w.t[:nkc*nEF]
 	}
 	V := w.v
 	stM := nF * nE // stride of m
+	bud := w.budget(bp)
 	for _, pa := range bp.prims {
+		kps := kp.primsFor(pa.bound, bud)
+		if len(kps) == 0 {
+			break // sorted: no later bra primitive pair reaches the budget either
+		}
 		p := pa.p
-		for _, pc := range kp.prims {
+		if grouped {
+			clear(acc)
+		}
+		for _, pc := range kps {
 			q := pc.p
-			pq := p + q
-			rho := p * q / pq
+			inv := 1 / (p + q)
+			rho := p * q * inv
+			// W − P = −q/(p+q) PQ, W − Q = p/(p+q) PQ
+			wp, wq := -q*inv, p*inv
 			var PQ, WP, WQ [3]float64
 			for d := range 3 {
 				PQ[d] = pa.P[d] - pc.P[d]
-				Wd := (p*pa.P[d] + q*pc.P[d]) / pq
-				WP[d] = Wd - pa.P[d]
-				WQ[d] = Wd - pc.P[d]
+				WP[d] = wp * PQ[d]
+				WQ[d] = wq * PQ[d]
 			}
 			T := rho * (PQ[0]*PQ[0] + PQ[1]*PQ[1] + PQ[2]*PQ[2])
-			pref := pa.U * pc.U / math.Sqrt(pq)
+			pref := pa.U * pc.U * math.Sqrt(inv)
 			boys(T, L, w.fb)
 			for m := 0; m <= L; m++ {
 				V[m*stM] = pref * w.fb[m]
 			}
 			// Electron 1: [e0|00]^(m), m ≤ L − l_e.
-			i2p, rp := pa.inv2p, rho/p
+			i2p, rp := pa.inv2p, q*inv
 			for e := 1; e < nE; e++ {
 				fc := &flatTab[e]
 				i := fc.dir
@@ -262,7 +315,7 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 				}
 			}
 			// Electron 2: [e0|f0]^(m), m ≤ Lcd − l_f.
-			i2q, rq, i2pq := pc.inv2p, rho/q, 0.5/pq
+			i2q, rq, i2pq := pc.inv2p, p*inv, 0.5*inv
 			for f := 1; f < nF; f++ {
 				fc := &flatTab[f]
 				i := fc.dir
@@ -298,31 +351,156 @@ func (w *eriWork) quartet(bp, kp *shellPair) []float64 {
 					}
 				}
 			}
-			// Contract [e0|f0]^(0).
-			for f := f0; f < nF; f++ {
-				src := V[f*nE+e0 : f*nE+nE]
-				dst := C[(f-f0)*nEr : (f-f0+1)*nEr]
-				for k, v := range src {
-					dst[k] += v
+			// Contract [e0|f0]^(0) over the ket primitives (into every
+			// ket member combination the pair contributes to).
+			if len(kp.cw) == 0 {
+				for f := f0; f < nF; f++ {
+					src := V[f*nE+e0 : f*nE+nE]
+					dst := acc[(f-f0)*nEr : (f-f0+1)*nEr]
+					for k, v := range src {
+						dst[k] += v
+					}
+				}
+				continue
+			}
+			for _, cw := range kp.cw[pc.c0:pc.c1] {
+				// Only the f window of this ket member combination.
+				tk := acc[int(cw.k)*nEF : int(cw.k+1)*nEF]
+				for f := f0 + int(kp.rng[2*cw.k]); f < f0+int(kp.rng[2*cw.k+1]); f++ {
+					src := V[f*nE+e0 : f*nE+nE]
+					dst := tk[(f-f0)*nEr : (f-f0+1)*nEr]
+					for k, v := range src {
+						dst[k] += cw.w * v
+					}
+				}
+			}
+		}
+		if !grouped {
+			continue
+		}
+		// Contract over the bra primitives.
+		if len(bp.cw) == 0 {
+			for k, v := range acc {
+				C[k] += v
+			}
+			continue
+		}
+		for _, cw := range bp.cw[pa.c0:pa.c1] {
+			// Only the e window of this bra member combination, and
+			// the f window of every ket one.
+			dst := C[int(cw.k)*nkc*nEF : int(cw.k+1)*nkc*nEF]
+			elo, ehi := int(bp.rng[2*cw.k]), int(bp.rng[2*cw.k+1])
+			for kc := range nkc {
+				flo, fhi := 0, nFr
+				if len(kp.rng) > 0 {
+					flo, fhi = int(kp.rng[2*kc]), int(kp.rng[2*kc+1])
+				}
+				for fr := flo; fr < fhi; fr++ {
+					o := kc*nEF + fr*nEr
+					d, a := dst[o+elo:o+ehi], acc[o+elo:o+ehi]
+					for k, v := range a {
+						d[k] += cw.w * v
+					}
 				}
 			}
 		}
 	}
-	return w.finish(w.hrr(C, la, lb, lc, ld, bp.AB, kp.AB), bp, kp)
+	if !grouped {
+		return w.finish(w.hrr(C, la, lb, lc, ld, bp.AB, kp.AB), bp, kp)
+	}
+	return w.finishGroups(C, bp, kp)
+}
+
+// finishGroups applies the horizontal recurrence and the finishing step
+// to every member combination of a group quartet, contracted in C as
+// [bra combination][ket combination][f][e] over l_e from the bra group's
+// lowest member and l_f from the ket group's, and assembles the block
+// [bra functions][ket functions] with the functions of a group numbered
+// member by member.
+func (w *eriWork) finishGroups(C []float64, bp, kp *shellPair) []float64 {
+	Lab, Lcd := bp.l1+bp.l2, kp.l1+kp.l2
+	nE, nF := ncum(Lab), ncum(Lcd)
+	e0, f0 := ncum(bp.lmin1-1), ncum(kp.lmin1-1)
+	nEr := nE - e0
+	nEF := nEr * (nF - f0)
+	nkc := kp.nc1 * kp.nc2
+	N2, N3, N4 := bp.n2, kp.n1, kp.n2
+	out := w.gout[:bp.n1*N2*N3*N4]
+	member := func(g *shellGroup, sh *prepShell, m int) (*prepShell, int) {
+		if g == nil {
+			return sh, 0
+		}
+		return g.mem[m], g.moff[m]
+	}
+	for bc := range bp.nc1 * bp.nc2 {
+		A, oa := member(bp.g1, bp.sh1, bc/bp.nc2)
+		B, ob := member(bp.g2, bp.sh2, bc%bp.nc2)
+		for kc := range nkc {
+			Cs, oc := member(kp.g1, kp.sh1, kc/kp.nc2)
+			D, od := member(kp.g2, kp.sh2, kc%kp.nc2)
+			la, lb, lc, ld := A.l, B.l, Cs.l, D.l
+			src := C[(bc*nkc+kc)*nEF : (bc*nkc+kc+1)*nEF]
+			// The member's window of [e0|f0], in the layout hrr reads.
+			me0, mf0 := ncum(la-1), ncum(lc-1)
+			mnE, mnF := ncum(la+lb), ncum(lc+ld)
+			mnEr := mnE - me0
+			sub := w.t[:mnEr*(mnF-mf0)]
+			for f := mf0; f < mnF; f++ {
+				copy(sub[(f-mf0)*mnEr:(f-mf0+1)*mnEr], src[(f-f0)*nEr+me0-e0:(f-f0)*nEr+mnE-e0])
+			}
+			// hrr must not read from h1/h2; sub is w.t.
+			blk := w.finishShells(w.hrr(sub, la, lb, lc, ld, bp.AB, kp.AB), [4]*prepShell{A, B, Cs, D})
+			f1, f2, f3, f4 := A.nfunc, B.nfunc, Cs.nfunc, D.nfunc
+			for a := range f1 {
+				for b := range f2 {
+					row := out[((oa+a)*N2+ob+b)*N3*N4:]
+					sb := blk[(a*f2+b)*f3*f4:]
+					for c := range f3 {
+						copy(row[(oc+c)*N4+od:(oc+c)*N4+od+f4], sb[c*f4:(c+1)*f4])
+					}
+				}
+			}
+		}
+	}
+	return out
+}
+
+// budget is the share of w.cut of one bra primitive pair of bp.
+func (w *eriWork) budget(bp *shellPair) float64 {
+	if w.cut == 0 || len(bp.prims) == 0 {
+		return 0
+	}
+	return w.cut / float64(len(bp.prims))
+}
+
+// primsFor returns the leading primitive pairs of the ket pair sp that a
+// bra primitive pair of bound b must be combined with: the tail left out
+// has b·Σ bound < bud, so the bra primitive's skipped contributions to any
+// integral add up to less than bud (Schwarz inequality, setPrimBounds).
+// Without bounds (sp.tail nil) or budget it returns them all.
+func (sp *shellPair) primsFor(b, bud float64) []primPair {
+	j := len(sp.prims)
+	if bud == 0 || sp.tail == nil {
+		return sp.prims
+	}
+	for j > 0 && b*sp.tail[j-1] < bud {
+		j--
+	}
+	return sp.prims[:j]
 }
 
 // quartetSSSS is the fast path for four s shells.
 func (w *eriWork) quartetSSSS(bp, kp *shellPair) []float64 {
 	var sum float64
+	bud := w.budget(bp)
 	for _, pa := range bp.prims {
 		p := pa.p
-		for _, pc := range kp.prims {
+		for _, pc := range kp.primsFor(pa.bound, bud) {
 			q := pc.p
 			pq := p + q
 			rho := p * q / pq
 			dx, dy, dz := pa.P[0]-pc.P[0], pa.P[1]-pc.P[1], pa.P[2]-pc.P[2]
-			boys(rho*(dx*dx+dy*dy+dz*dz), 0, w.fb)
-			sum += pa.U * pc.U / math.Sqrt(pq) * w.fb[0]
+			sum += pa.U * pc.U / math.Sqrt(pq) * boys0(rho*(dx*dx+dy*dy+dz*dz))
 		}
 	}
 	w.out[0] = sum
@@ -335,25 +513,26 @@ func (w *eriWork) quartetSSSS(bp, kp *shellPair) []float64 {
 func (w *eriWork) quartetL1(bp, kp *shellPair) []float64 {
 	var s0, s1, s2 float64
 	braP := bp.l1 == 1
+	bud := w.budget(bp)
 	for _, pa := range bp.prims {
 		p := pa.p
-		for _, pc := range kp.prims {
+		for _, pc := range kp.primsFor(pa.bound, bud) {
 			q := pc.p
-			pq := p + q
-			rho := p * q / pq
+			inv := 1 / (p + q)
+			rho := p * q * inv
 			dx, dy, dz := pa.P[0]-pc.P[0], pa.P[1]-pc.P[1], pa.P[2]-pc.P[2]
 			boys(rho*(dx*dx+dy*dy+dz*dz), 1, w.fb)
-			pref := pa.U * pc.U / math.Sqrt(pq)
+			pref := pa.U * pc.U * math.Sqrt(inv)
 			t0, t1 := pref*w.fb[0], pref*w.fb[1]
 			if braP {
 				// W − P = −q/(p+q) (P − Q)
-				g := -q / pq * t1
+				g := -q * inv * t1
 				s0 += pa.PA[0]*t0 + g*dx
 				s1 += pa.PA[1]*t0 + g*dy
 				s2 += pa.PA[2]*t0 + g*dz
 			} else {
 				// W − Q = p/(p+q) (P − Q)
-				g := p / pq * t1
+				g := p * inv * t1
 				s0 += pc.PA[0]*t0 + g*dx
 				s1 += pc.PA[1]*t0 + g*dy
 				s2 += pc.PA[2]*t0 + g*dz
@@ -370,25 +549,26 @@ func (w *eriWork) quartetL1(bp, kp *shellPair) []float64 {
 // (Obara & Saika 1986).
 func (w *eriWork) quartetPSPS(bp, kp *shellPair) []float64 {
 	var acc [9]float64
+	bud := w.budget(bp)
 	for _, pa := range bp.prims {
 		p := pa.p
-		for _, pc := range kp.prims {
+		for _, pc := range kp.primsFor(pa.bound, bud) {
 			q := pc.p
-			pq := p + q
-			rho := p * q / pq
+			inv := 1 / (p + q)
+			rho := p * q * inv
 			PQ := [3]float64{pa.P[0] - pc.P[0], pa.P[1] - pc.P[1], pa.P[2] - pc.P[2]}
 			boys(rho*(PQ[0]*PQ[0]+PQ[1]*PQ[1]+PQ[2]*PQ[2]), 2, w.fb)
-			pref := pa.U * pc.U / math.Sqrt(pq)
+			pref := pa.U * pc.U * math.Sqrt(inv)
 			t0, t1, t2 := pref*w.fb[0], pref*w.fb[1], pref*w.fb[2]
 			// W − P = −q/(p+q) PQ, W − Q = p/(p+q) PQ
-			wp, wq := -q/pq, p/pq
+			wp, wq := -q*inv, p*inv
 			var s0, s1 [3]float64
 			for i := range 3 {
 				wpi := wp * PQ[i]
 				s0[i] = pa.PA[i]*t0 + wpi*t1
 				s1[i] = pa.PA[i]*t1 + wpi*t2
 			}
-			cross := 0.5 / pq * t1
+			cross := 0.5 * inv * t1
 			for i := range 3 {
 				for k := range 3 {
 					v := pc.PA[k]*s0[i] + wq*PQ[k]*s1[i]
@@ -407,7 +587,11 @@ func (w *eriWork) quartetPSPS(bp, kp *shellPair) []float64 {
 // finish applies component scales and spherical transforms to the
 // Cartesian block cart, which lives in w.h1 or w.h2.
 func (w *eriWork) finish(cart []float64, bp, kp *shellPair) []float64 {
-	s := [4]*prepShell{bp.sh1, bp.sh2, kp.sh1, kp.sh2}
+	return w.finishShells(cart, [4]*prepShell{bp.sh1, bp.sh2, kp.sh1, kp.sh2})
+}
+
+// finishShells is finish for the shells s of the four positions.
+func (w *eriWork) finishShells(cart []float64, s [4]*prepShell) []float64 {
 	if !s[0].transform && !s[1].transform && !s[2].transform && !s[3].transform {
 		return cart
 	}

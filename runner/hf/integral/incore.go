@@ -18,13 +18,22 @@ import (
 const incoreScreen = 1e-15
 
 // eriBasis is the shell-pair data shared by the in-core and direct codes.
+// Pairs are pairs of shell groups (general contractions, group.go); with
+// grouping off every group is one shell and group indices are shell
+// indices.
 type eriBasis struct {
-	ps    []prepShell
-	pairs []shellPair // index a(a+1)/2 + b for shells a ≥ b
-	order []int       // bra pairs, most expensive task first
-	nbf   int
-	maxl  int
+	ps       []prepShell
+	gs       []shellGroup
+	pairs    []shellPair // index a(a+1)/2 + b for groups a ≥ b
+	order    []int       // bra pairs, most expensive task first
+	nbf      int
+	maxl     int
+	maxm     int // most members of a group
+	maxBlock int // largest quartet block
 }
+
+// newWork returns scratch for the quartets of this basis.
+func (eb *eriBasis) newWork() *eriWork { return newERIWorkGroups(eb.maxl, eb.maxm, eb.maxBlock) }
 
 func resolveWorkers(workers int) int {
 	if workers <= 0 {
@@ -33,23 +42,32 @@ func resolveWorkers(workers int) int {
 	return workers
 }
 
-func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int) (*eriBasis, error) {
+// newERIBasis prepares the shell pairs: of shell groups as mode says
+// (buildGroups; shells sharing primitives computed once per primitive set,
+// with primitive pair bounds for primitive screening), of single shells
+// (no bounds) with groupNone.
+func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int, mode int) (*eriBasis, error) {
+	grouped := mode != groupNone
 	ps, err := prepare(shells, norm)
 	if err != nil {
 		return nil, err
 	}
-	eb := &eriBasis{ps: ps, nbf: NumFunctions(shells)}
-	for _, s := range ps {
-		eb.maxl = max(eb.maxl, s.l)
+	eb := &eriBasis{ps: ps, gs: buildGroups(shells, ps, mode), nbf: NumFunctions(shells)}
+	maxf := 0
+	for _, g := range eb.gs {
+		eb.maxl = max(eb.maxl, g.rep.l)
+		eb.maxm = max(eb.maxm, g.m)
+		maxf = max(maxf, g.ncart)
 	}
-	ns := len(ps)
-	eb.pairs = make([]shellPair, ns*(ns+1)/2)
-	for a := range ns {
+	eb.maxBlock = maxf * maxf * maxf * maxf
+	ng := len(eb.gs)
+	eb.pairs = make([]shellPair, ng*(ng+1)/2)
+	for a := range ng {
 		for b := 0; b <= a; b++ {
-			eb.pairs[a*(a+1)/2+b] = newShellPair(ps, a, b)
+			eb.pairs[a*(a+1)/2+b] = newGroupPair(eb.gs, a, b)
 		}
 	}
-	// Schwarz factors √max|(ab|ab)|, in parallel.
+	// Schwarz factors √max|(ab|ab)| and primitive pair bounds, in parallel.
 	err = parallelFor(ctx, resolveWorkers(workers), len(eb.pairs), func(w *eriWork, p int) {
 		sp := &eb.pairs[p]
 		blk := w.quartet(sp, sp)
@@ -61,7 +79,10 @@ func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int
 			}
 		}
 		sp.schwarz = math.Sqrt(m)
-	}, eb.maxl)
+		if grouped {
+			setPrimBounds(w, sp)
+		}
+	}, eb.newWork)
 	if err != nil {
 		return nil, fmt.Errorf("integral: Schwarz factors: %w", err)
 	}
@@ -95,13 +116,13 @@ func (eb *eriBasis) buildOrder() {
 // with its own scratch, handing out indices dynamically (largest first,
 // which for shell pairs is roughly the most expensive first). It stops
 // early and returns ctx.Err() if the context ends.
-func parallelFor(ctx context.Context, workers, n int, body func(w *eriWork, i int), maxl int) error {
+func parallelFor(ctx context.Context, workers, n int, body func(w *eriWork, i int), newWork func() *eriWork) error {
 	var next atomic.Int64
 	next.Store(int64(n))
 	var wg sync.WaitGroup
 	for range min(workers, max(n, 1)) {
 		wg.Go(func() {
-			w := newERIWork(maxl)
+			w := newWork()
 			for ctx.Err() == nil {
 				i := int(next.Add(-1))
 				if i < 0 {
@@ -123,82 +144,53 @@ func pidx(i, j int) int {
 	return i*(i+1)/2 + j
 }
 
-// ERI holds all permutationally unique two-electron integrals (μν|λσ)
-// (chemists' notation) of a basis, packed with 8-fold symmetry:
-// index ij(ij+1)/2 + kl with ij = i(i+1)/2 + j for i ≥ j, kl likewise,
-// ij ≥ kl. An ERI is immutable after ComputeERI and safe for concurrent
-// use.
+// ERI holds the two-electron integrals (μν|λσ) (chemists' notation) of a
+// basis in memory, by shell-quartet block: every block of two pairs of
+// shell groups (general contractions, see SameContraction) whose Schwarz
+// bound reaches 1e-15 hartree, bra pair ≥ ket pair, the others left out
+// (they are zero to that accuracy). An ERI is immutable after ComputeERI
+// and safe for concurrent use.
 type ERI struct {
-	n       int
-	data    []float64
-	workers int
-	pi, pj  []int32   // function indices of packed pair ij
-	wkl     []float64 // ½ for a diagonal pair (k = l), else 1
+	d      *Direct
+	fg, fl []int32 // shell group of each function, and its index in the group
 }
 
-// InCoreBytes is the memory ComputeERI needs for nbf functions (the packed
-// integral array; the rest is negligible).
+// InCoreBytes is 8 bytes times the number of permutationally unique
+// two-electron integrals of nbf functions (n(n+1)/2 pairs, pairs of
+// pairs): the reference size for shares of integrals. ComputeERI stores
+// by block and needs StoreBytes(shells).
 func InCoreBytes(nbf int) int64 {
 	np := int64(nbf) * int64(nbf+1) / 2
 	return 8 * np * (np + 1) / 2
 }
 
 // NumFunctions is the number of basis functions.
-func (e *ERI) NumFunctions() int { return e.n }
+func (e *ERI) NumFunctions() int { return e.d.eb.nbf }
 
-// ComputeERI computes all unique two-electron integrals in core, in
-// parallel with workers goroutines (workers ≤ 0 means runtime.NumCPU()).
-// Shell quartets whose Schwarz bound is below 1e-15 are stored as zero.
-// It allocates InCoreBytes(NumFunctions(shells)) bytes; callers choose
-// between ComputeERI and NewDirect by that figure. It returns an error for
-// malformed shells or when ctx ends.
+// Bytes is the memory the stored integrals take (at most
+// StoreBytes of the shells).
+func (e *ERI) Bytes() int64 { return e.d.store.bytes() }
+
+// ComputeERI computes the two-electron integrals in core, in parallel with
+// workers goroutines (workers ≤ 0 means runtime.NumCPU()). Shell quartets
+// whose Schwarz bound is below 1e-15 are not stored and read as zero. It
+// allocates at most StoreBytes(shells) bytes; callers choose between
+// ComputeERI, NewDirectStored and NewDirect by that figure. It returns an
+// error for malformed shells or when ctx ends.
 func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int) (*ERI, error) {
-	workers = resolveWorkers(workers)
-	eb, err := newERIBasis(ctx, shells, norm, workers)
+	d, err := newDirect(ctx, shells, norm, workers, incoreScreen)
 	if err != nil {
 		return nil, err
 	}
-	n := eb.nbf
-	np := n * (n + 1) / 2
-	e := &ERI{n: n, workers: workers, data: make([]float64, InCoreBytes(n)/8)}
-	e.pi = make([]int32, np)
-	e.pj = make([]int32, np)
-	e.wkl = make([]float64, np)
-	for i := range n {
-		for j := 0; j <= i; j++ {
-			e.pi[pidx(i, j)], e.pj[pidx(i, j)] = int32(i), int32(j)
-			e.wkl[pidx(i, j)] = 1
-			if i == j {
-				e.wkl[pidx(i, j)] = 0.5
-			}
-		}
+	if d.store, err = buildStore(ctx, d.eb, d.workers, math.MaxInt64); err != nil {
+		return nil, err
 	}
-	data := e.data
-	err = parallelFor(ctx, workers, len(eb.pairs), func(w *eriWork, t int) {
-		P := eb.order[len(eb.order)-1-t]
-		bp := &eb.pairs[P]
-		for Q := 0; Q <= P; Q++ {
-			kp := &eb.pairs[Q]
-			if bp.schwarz*kp.schwarz < incoreScreen {
-				continue
-			}
-			blk := w.quartet(bp, kp)
-			n2, n3, n4 := bp.n2, kp.n1, kp.n2
-			for i, I := range bp.fi {
-				for j, J := range bp.fj {
-					ij := pidx(I, J)
-					row := blk[(i*n2+j)*n3*n4:]
-					for k, K := range kp.fi {
-						for l, L := range kp.fj {
-							data[pidx(ij, pidx(K, L))] = row[k*n4+l]
-						}
-					}
-				}
-			}
+	d.storedOnly = true
+	e := &ERI{d: d, fg: make([]int32, d.eb.nbf), fl: make([]int32, d.eb.nbf)}
+	for g, sg := range d.eb.gs {
+		for i := range sg.nf {
+			e.fg[sg.off+i], e.fl[sg.off+i] = int32(g), int32(i)
 		}
-	}, eb.maxl)
-	if err != nil {
-		return nil, fmt.Errorf("integral: two-electron integrals: %w", err)
 	}
 	return e, nil
 }
@@ -206,10 +198,32 @@ func ComputeERI(ctx context.Context, shells []Shell, norm CartNorm, workers int)
 // At returns (ij|kl) in chemists' notation. It panics if an index is out
 // of range.
 func (e *ERI) At(i, j, k, l int) float64 {
-	if i < 0 || j < 0 || k < 0 || l < 0 || i >= e.n || j >= e.n || k >= e.n || l >= e.n {
+	n := e.d.eb.nbf
+	if i < 0 || j < 0 || k < 0 || l < 0 || i >= n || j >= n || k >= n || l >= n {
 		panic("integral: ERI index out of range")
 	}
-	return e.data[pidx(pidx(i, j), pidx(k, l))]
+	eb := e.d.eb
+	// pair returns the pair index of functions (a, b) and their positions
+	// in the pair's row and column order.
+	pair := func(a, b int) (int, int, int) {
+		ga, gb := int(e.fg[a]), int(e.fg[b])
+		P := pidx(ga, gb)
+		if eb.pairs[P].s1 != ga {
+			a, b = b, a
+		}
+		return P, int(e.fl[a]), int(e.fl[b])
+	}
+	P, r1, r2 := pair(i, j)
+	Q, r3, r4 := pair(k, l)
+	if P < Q {
+		P, Q, r1, r2, r3, r4 = Q, P, r3, r4, r1, r2
+	}
+	blk := e.d.store.find(P, Q, eb)
+	if blk == nil {
+		return 0
+	}
+	bp, kp := &eb.pairs[P], &eb.pairs[Q]
+	return blk[((r1*bp.n2+r2)*kp.n1+r3)*kp.n2+r4]
 }
 
 // checkJK validates the density and output matrices.
@@ -244,128 +258,19 @@ func denseCopy(m *mat.SymDense, n int) []float64 {
 
 // JK builds J[d]_μν = Σ_λσ (μν|λσ) D[d]_λσ and K[d]_μν = Σ_λσ (μλ|νσ)
 // D[d]_λσ for each symmetric density, overwriting j[d] and k[d] (which
-// the caller allocates, n×n). Work is split over rows of the packed array
-// on the workers given to ComputeERI, each with its own accumulators,
-// summed at the end. It is safe to call concurrently with different
+// the caller allocates, n×n), from the stored blocks, on the workers given
+// to ComputeERI (blocks whose bound times the density they meet is below
+// 1e-15 are skipped). It is safe to call concurrently with different
 // outputs.
 func (e *ERI) JK(ctx context.Context, dens []*mat.SymDense, j, k []*mat.SymDense) error {
-	n := e.n
-	if err := checkJK(n, dens, j, k); err != nil {
-		return err
-	}
-	nd := len(dens)
-	if nd == 0 || n == 0 {
-		return nil
-	}
-	np := n * (n + 1) / 2
-	D := make([][]float64, nd)
-	Dp := make([][]float64, nd) // packed, off-diagonal doubled
-	for d := range nd {
-		D[d] = denseCopy(dens[d], n)
-		Dp[d] = make([]float64, np)
-		for ij := range np {
-			i, jj := int(e.pi[ij]), int(e.pj[ij])
-			v := D[d][i*n+jj]
-			if i != jj {
-				v *= 2
-			}
-			Dp[d][ij] = v
-		}
-	}
-	const chunk = 8
-	nchunks := (np + chunk - 1) / chunk
-	type acc struct{ jp, b [][]float64 }
-	var mu sync.Mutex
-	var accs []acc
-	var next atomic.Int64
-	next.Store(int64(nchunks))
-	var wg sync.WaitGroup
-	for range min(e.workers, nchunks) {
-		wg.Go(func() {
-			a := acc{jp: make([][]float64, nd), b: make([][]float64, nd)}
-			for d := range nd {
-				a.jp[d] = make([]float64, np)
-				a.b[d] = make([]float64, n*n)
-			}
-			for ctx.Err() == nil {
-				c := int(next.Add(-1))
-				if c < 0 {
-					break
-				}
-				for IJ := c * chunk; IJ < min((c+1)*chunk, np); IJ++ {
-					e.jkRow(IJ, D, Dp, a.jp, a.b)
-				}
-			}
-			mu.Lock()
-			accs = append(accs, a)
-			mu.Unlock()
-		})
-	}
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
-		return fmt.Errorf("integral: J/K build: %w", err)
-	}
-	for d := range nd {
-		jp := make([]float64, np)
-		b := make([]float64, n*n)
-		for _, a := range accs {
-			for x, v := range a.jp[d] {
-				jp[x] += v
-			}
-			for x, v := range a.b[d] {
-				b[x] += v
-			}
-		}
-		for i := range n {
-			for jj := 0; jj <= i; jj++ {
-				j[d].SetSym(i, jj, jp[pidx(i, jj)])
-				k[d].SetSym(i, jj, 0.5*(b[i*n+jj]+b[jj*n+i]))
-			}
-		}
-	}
-	return nil
+	return e.d.JK(ctx, dens, j, k)
 }
 
-// jkRow adds the contributions of all (IJ|KL), KL ≤ IJ. With
-// g = v·(½ if IJ = KL) and f = g·w_IJ·w_KL (w = ½ for a diagonal pair),
-// each unique integral stands for its 8 images with weight f:
-// J_ij += g·Dp_kl, J_kl += g·Dp_ij (Dp doubles off-diagonal elements), and
-// B[i][k] += 2f D_jl, B[j][k] += 2f D_il, B[i][l] += 2f D_jk,
-// B[j][l] += 2f D_ik with K = (B + Bᵀ)/2 (common practice).
-func (e *ERI) jkRow(IJ int, D, Dp, jp, B [][]float64) {
-	n := e.n
-	i, j := int(e.pi[IJ]), int(e.pj[IJ])
-	row := e.data[IJ*(IJ+1)/2 : IJ*(IJ+1)/2+IJ+1]
-	wij2 := 2.0
-	if i == j {
-		wij2 = 1
-	}
-	pi, pj, wkl := e.pi[:IJ+1], e.pj[:IJ+1], e.wkl[:IJ+1]
-	for d := range D {
-		dd, dp, jpd, bd := D[d], Dp[d][:IJ+1], jp[d][:IJ+1], B[d]
-		dpij := dp[IJ]
-		di, dj := dd[i*n:(i+1)*n], dd[j*n:(j+1)*n]
-		bi, bj := bd[i*n:(i+1)*n], bd[j*n:(j+1)*n]
-		var jsum float64
-		// KL < IJ; the diagonal KL = IJ (g = v/2) is done after the loop.
-		for KL, v := range row[:IJ] {
-			k, l := int(pi[KL]), int(pj[KL])
-			jsum += v * dp[KL]
-			jpd[KL] += v * dpij
-			f2 := v * wij2 * wkl[KL]
-			bi[k] += f2 * dj[l]
-			bj[k] += f2 * di[l]
-			bi[l] += f2 * dj[k]
-			bj[l] += f2 * di[k]
-		}
-		g := 0.5 * row[IJ]
-		jsum += g * dpij
-		jpd[IJ] += g * dpij
-		f2 := g * wij2 * wkl[IJ]
-		bi[i] += f2 * dj[j]
-		bj[i] += f2 * di[j]
-		bi[j] += f2 * dj[i]
-		bj[j] += f2 * di[i]
-		jpd[IJ] += jsum
-	}
+// primCut is the primitive screening allowance (eriWork.cut) of a shell
+// quartet screened at threshold thr with density weight dm: the primitive
+// quartets skipped change any integral of the block by less than thr/dm
+// in total, so their contribution to J and K stays below thr, the size of
+// the quartet-level screening error.
+func primCut(thr, dm float64, _, _ *shellPair) float64 {
+	return thr / dm
 }

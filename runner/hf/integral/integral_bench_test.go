@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math/rand/v2"
+	"syscall"
 	"testing"
 	"time"
 
@@ -33,14 +34,31 @@ func BenchmarkComputeERI(b *testing.B) {
 		for _, workers := range []int{1, 2} {
 			b.Run(fmt.Sprintf("%s/workers=%d", sys.name, workers), func(b *testing.B) {
 				b.ReportAllocs()
+				cpu := cpuTime()
 				for b.Loop() {
 					if _, err := ComputeERI(context.Background(), sys.shells, NormPerComponent, workers); err != nil {
 						b.Fatal(err)
 					}
 				}
+				reportCPU(b, cpu)
 			})
 		}
 	}
+}
+
+// cpuTime is the user + system CPU time of the process so far. On a
+// shared machine CPU time per operation is steadier than wall time.
+func cpuTime() time.Duration {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
+}
+
+// reportCPU reports the CPU milliseconds per operation since start.
+func reportCPU(b *testing.B, start time.Duration) {
+	b.ReportMetric(float64(cpuTime()-start)/1e6/float64(b.N), "cpu-ms/op")
 }
 
 func benchDensity(n int) []*mat.SymDense {
@@ -61,11 +79,13 @@ func BenchmarkJK(b *testing.B) {
 			}
 			b.Run(fmt.Sprintf("%s/incore/workers=%d", sys.name, workers), func(b *testing.B) {
 				b.ReportAllocs()
+				cpu := cpuTime()
 				for b.Loop() {
 					if err := eri.JK(context.Background(), dens, j, k); err != nil {
 						b.Fatal(err)
 					}
 				}
+				reportCPU(b, cpu)
 			})
 			dir, err := NewDirect(sys.shells, NormPerComponent, workers, 1e-12)
 			if err != nil {
@@ -73,11 +93,13 @@ func BenchmarkJK(b *testing.B) {
 			}
 			b.Run(fmt.Sprintf("%s/direct/workers=%d", sys.name, workers), func(b *testing.B) {
 				b.ReportAllocs()
+				cpu := cpuTime()
 				for b.Loop() {
 					if err := dir.JK(context.Background(), dens, j, k); err != nil {
 						b.Fatal(err)
 					}
 				}
+				reportCPU(b, cpu)
 			})
 		}
 	}

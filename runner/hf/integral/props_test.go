@@ -342,7 +342,8 @@ func randomDensity(rng *rand.Rand, n int) *mat.SymDense {
 
 func TestJK_InCoreDirectBruteForce(t *testing.T) {
 	// J and K from the definitions with ERI.At (brute force), from the
-	// packed in-core loop and from the direct code must agree: the same
+	// in-core blocks, the packed in-core loop and the direct code must
+	// agree: the same
 	// sums in different orders. Tolerance 1e-12 absolute (brief) for
 	// densities with elements up to 0.5.
 	const seed = 7
@@ -373,6 +374,14 @@ func TestJK_InCoreDirectBruteForce(t *testing.T) {
 			if err := eri.JK(ctx, dens, jI, kI); err != nil {
 				t.Fatal(err)
 			}
+			packed, err := ComputePacked(ctx, tc.shells, tc.norm, 2)
+			if err != nil {
+				t.Fatal(err)
+			}
+			jP, kP := newPair()
+			if err := packed.JK(ctx, dens, jP, kP); err != nil {
+				t.Fatal(err)
+			}
 			for _, workers := range []int{1, 2} {
 				for _, thr := range []float64{0, 1e-14} {
 					dir, err := NewDirect(tc.shells, tc.norm, workers, thr)
@@ -400,6 +409,8 @@ func TestJK_InCoreDirectBruteForce(t *testing.T) {
 								}{
 									{"J in-core", jI[d].At(i, j), jb},
 									{"K in-core", kI[d].At(i, j), kb},
+									{"J packed", jP[d].At(i, j), jb},
+									{"K packed", kP[d].At(i, j), kb},
 									{"J direct", jD[d].At(i, j), jb},
 									{"K direct", kD[d].At(i, j), kb},
 								} {

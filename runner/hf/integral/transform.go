@@ -12,62 +12,25 @@ import (
 // every bra value (IJ|KL), IJ = 0 … n(n+1)/2 − 1. Blocks partition the ket
 // pairs: every KL appears in exactly one block.
 //
-// For the in-core [ERI] the blocks are runs of consecutive KL values read
-// from the packed array. For [Direct] a block is one ket shell pair and its
-// integrals are recomputed, shell quartet by shell quartet, on every call
-// (Schwarz-screened at 1e-15 hartree, the in-core threshold).
+// A block is one ket pair of shell groups. [Direct] recomputes its
+// integrals, shell quartet by shell quartet, on every call (Schwarz-screened
+// at 1e-15 hartree, the in-core threshold), except the blocks it stores;
+// the in-core [ERI] reads them all from memory.
 
 // PairIndex is the packed index of the unordered function pair (i, j).
 func PairIndex(i, j int) int { return pidx(i, j) }
 
-// eriBlockLen is the number of consecutive ket pairs per in-core block:
-// small enough that a block of a 500-function basis stays near 32 MB per
-// worker, large enough to amortise the walk over the bra pairs.
-const eriBlockLen = 32
-
-// NumPairBlocks is the number of ket-pair blocks of [ERI.PairBlock].
-func (e *ERI) NumPairBlocks() int {
-	np := e.n * (e.n + 1) / 2
-	return (np + eriBlockLen - 1) / eriBlockLen
-}
+// NumPairBlocks is the number of ket-pair blocks of [ERI.PairBlock]: one
+// per pair of shell groups.
+func (e *ERI) NumPairBlocks() int { return e.d.NumPairBlocks() }
 
 // MaxPairBlock is the largest number of ket pairs in one block.
-func (e *ERI) MaxPairBlock() int { return eriBlockLen }
+func (e *ERI) MaxPairBlock() int { return e.d.MaxPairBlock() }
 
-// PairBlock writes block b: it appends the block's ket pairs KL to kls and
-// returns the result, and sets dst[x·np + IJ] = (IJ|KL_x) for the x-th of
-// them (np = n(n+1)/2; dst needs MaxPairBlock()·np elements). It is safe
-// for concurrent use with different dst. An out-of-range b is an error.
+// PairBlock writes block b like [Direct.PairBlock], from the stored
+// integrals.
 func (e *ERI) PairBlock(ctx context.Context, b int, dst []float64, kls []int) ([]int, error) {
-	np := e.n * (e.n + 1) / 2
-	if b < 0 || b >= e.NumPairBlocks() {
-		return kls, fmt.Errorf("integral: pair block %d out of range [0, %d)", b, e.NumPairBlocks())
-	}
-	k0, k1 := b*eriBlockLen, min((b+1)*eriBlockLen, np)
-	nk := k1 - k0
-	if len(dst) < nk*np {
-		return kls, fmt.Errorf("integral: pair block needs %d elements, got %d", nk*np, len(dst))
-	}
-	if err := ctx.Err(); err != nil {
-		return kls, err
-	}
-	for KL := k0; KL < k1; KL++ {
-		kls = append(kls, KL)
-	}
-	data := e.data
-	// IJ < KL: (KL|IJ) is row KL, column IJ (contiguous in IJ).
-	for x := range nk {
-		KL := k0 + x
-		copy(dst[x*np:x*np+KL], data[KL*(KL+1)/2:KL*(KL+1)/2+KL])
-	}
-	// IJ ≥ KL: row IJ holds the run KL = k0 … min(k1, IJ+1) − 1.
-	for IJ := k0; IJ < np; IJ++ {
-		row := data[IJ*(IJ+1)/2:]
-		for KL := k0; KL < min(k1, IJ+1); KL++ {
-			dst[(KL-k0)*np+IJ] = row[KL]
-		}
-	}
-	return kls, nil
+	return e.d.PairBlock(ctx, b, dst, kls)
 }
 
 // NumPairBlocks is the number of ket-pair blocks of [Direct.PairBlock]:
@@ -120,7 +83,7 @@ func (d *Direct) PairBlock(ctx context.Context, b int, dst []float64, kls []int)
 		return kls, fmt.Errorf("integral: pair block needs %d elements, got %d", nk*np, len(dst))
 	}
 	clear(dst[:nk*np])
-	w := newERIWork(eb.maxl)
+	w := eb.newWork()
 	for P := range eb.pairs {
 		if P%64 == 0 {
 			if err := ctx.Err(); err != nil {
@@ -132,8 +95,12 @@ func (d *Direct) PairBlock(ctx context.Context, b int, dst []float64, kls []int)
 			continue
 		}
 		n1, n2, n3, n4 := bp.n1, bp.n2, kp.n1, kp.n2
+		w.cut = primCut(incoreScreen, 1, bp, kp)
 		if P >= b {
-			blk := w.quartet(bp, kp)
+			blk := d.block(w, P, b)
+			if blk == nil {
+				continue
+			}
 			for i, I := range bp.fi {
 				for j, J := range bp.fj {
 					IJ := pidx(I, J)
@@ -145,7 +112,10 @@ func (d *Direct) PairBlock(ctx context.Context, b int, dst []float64, kls []int)
 			}
 			continue
 		}
-		blk := w.quartet(kp, bp) // (ket|bra), read transposed
+		blk := d.block(w, b, P) // (ket|bra), read transposed
+		if blk == nil {
+			continue
+		}
 		for kl := range n3 * n4 {
 			row := blk[kl*n1*n2:]
 			out := dst[slot[kl]*np:]
@@ -157,4 +127,20 @@ func (d *Direct) PairBlock(ctx context.Context, b int, dst []float64, kls []int)
 		}
 	}
 	return kls, nil
+}
+
+// block returns the block (P|Q), P ≥ Q: stored, or computed (nil when
+// the builder is in core and the block is not stored: screened).
+func (d *Direct) block(w *eriWork, P, Q int) []float64 {
+	if d.store != nil {
+		if blk := d.store.find(P, Q, d.eb); blk != nil {
+			return blk
+		}
+		if d.storedOnly {
+			return nil
+		}
+	}
+	bp, kp := &d.eb.pairs[P], &d.eb.pairs[Q]
+	w.cut = primCut(incoreScreen, 1, bp, kp)
+	return w.quartet(bp, kp)
 }
