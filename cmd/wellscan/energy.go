@@ -189,7 +189,7 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	if o.memoryMB < 0 {
 		return usageError{fmt.Errorf("--memory: %d MiB, expected a positive budget (or leave it out)", o.memoryMB)}
 	}
-	mol, _, err := o.readMolecule(a.stdin, path, unit)
+	mol, err := o.readMolecule(a.stdin, path, unit)
 	if err != nil {
 		return err
 	}

@@ -50,16 +50,15 @@ func (o *moleculeFlags) checkUnitsConvention() (planner.LengthUnit, basis.Conven
 // readMolecule reads the one geometry in path ("-": standard input; at
 // most 64 MiB; a standard XYZ frame or bare "element x y z" lines, as in a
 // spec) and builds the molecule with the flags' charge and multiplicity.
-// The name it returns is the one errors use.
-func (o *moleculeFlags) readMolecule(stdin io.Reader, path string, unit planner.LengthUnit) (planner.Molecule, string, error) {
+func (o *moleculeFlags) readMolecule(stdin io.Reader, path string, unit planner.LengthUnit) (planner.Molecule, error) {
 	r := stdin
 	if path != "-" {
 		if err := planner.CheckRegular(path); err != nil {
-			return planner.Molecule{}, path, err
+			return planner.Molecule{}, err
 		}
 		f, err := os.Open(path)
 		if err != nil {
-			return planner.Molecule{}, path, err
+			return planner.Molecule{}, err
 		}
 		defer f.Close()
 		r = f
@@ -68,14 +67,14 @@ func (o *moleculeFlags) readMolecule(stdin io.Reader, path string, unit planner.
 	}
 	text, err := io.ReadAll(io.LimitReader(r, 64<<20))
 	if err != nil {
-		return planner.Molecule{}, path, fmt.Errorf("%s: %w", path, err)
+		return planner.Molecule{}, fmt.Errorf("%s: %w", path, err)
 	}
 	frame, err := parsers.ReadGeometryBlock(string(text), path, 1)
 	if err != nil {
-		return planner.Molecule{}, path, err
+		return planner.Molecule{}, err
 	}
 	mol, err := planner.MoleculeFromFrame(frame, unit, o.charge, o.multiplicity, path)
-	return mol, path, err
+	return mol, err
 }
 
 // basisSet is the set --basis-file reads or --basis names.

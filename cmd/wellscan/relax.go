@@ -152,7 +152,7 @@ func runRelax(cmd *cobra.Command, a *app, o *relaxOptions, path string) error {
 	if o.maxSteps < 1 {
 		return usageError{fmt.Errorf("--max-steps %d: want at least 1", o.maxSteps)}
 	}
-	mol, path, err := o.readMolecule(a.stdin, path, unit)
+	mol, err := o.readMolecule(a.stdin, path, unit)
 	if err != nil {
 		return err
 	}
