@@ -27,6 +27,15 @@ func (k Kind) String() string {
 	return "distance"
 }
 
+// massUnit is the unit of the effective mass of a coordinate of this kind:
+// for an angle it is a moment of inertia.
+func (k Kind) massUnit() string {
+	if k == Angle {
+		return "amu·bohr²"
+	}
+	return "amu"
+}
+
 // MassSet is one isotopologue: either the two atomic masses of a diatomic
 // (amu), or, for a one-dimensional scan of a polyatomic, the effective mass
 // of the scanned coordinate (amu for a length, amu·bohr² for an angle; the
@@ -174,7 +183,8 @@ type Minimum struct {
 // the data stop. Levels moving more than 1 cm⁻¹ are not listed.
 type Constants struct {
 	Name            string    `json:"name"`
-	Mass            float64   `json:"mass_amu"`
+	Mass            float64   `json:"mass_amu"`  // amu for a distance; for an angle amu·bohr² (see MassUnit)
+	MassUnit        string    `json:"mass_unit"` // "amu" or, for an angle, "amu·bohr²"
 	OneD            bool      `json:"one_dimensional_along_scan"`
 	OmegaE          float64   `json:"omega_e_cm1"`
 	OmegaEStderr    float64   `json:"omega_e_stderr_cm1"`
@@ -949,7 +959,7 @@ func analyseWell(ctx context.Context, x, e, w []float64, conv []bool, wl well, m
 	for k, mi := range masses {
 		o := qIso + perIso*k
 		c := Constants{
-			Name: mi.set.Name, Mass: mi.mu, OneD: !mi.diatomic,
+			Name: mi.set.Name, Mass: mi.mu, MassUnit: opt.Kind.massUnit(), OneD: !mi.diatomic,
 			OmegaE: q[o], OmegaEStderr: se[o], OmegaESpread: spread[o],
 			OmegaExe: q[o+1], OmegaExeStderr: se[o+1], OmegaExeSpread: spread[o+1],
 			ZPE:         q[o+4],

@@ -386,6 +386,9 @@ func TestCurve_PolyatomicBend_OneDimensional(t *testing.T) {
 	if !mn.OneD || mn.Be != 0 {
 		t.Errorf("bend block: one_dimensional_along_scan = %v, b_e = %g; want true and no rotational constant", mn.OneD, mn.Be)
 	}
+	if mn.MassUnit != "amu·bohr²" { // an angle's effective mass is a moment of inertia
+		t.Errorf("bend block: mass_unit %q, want amu·bohr²", mn.MassUnit)
+	}
 	near(t, "θ_e (°)", mn.ThetaEDegree, 104.5, 1e-7, 0)
 	// The quartic is exact for the polynomial fit: round-off only.
 	near(t, "ω (cm⁻¹)", mn.OmegaE, math.Sqrt(f2*g/AmuInElectronMass)*HartreeInCm1, 0, 1e-7)

@@ -390,7 +390,7 @@ func printFitTable(w io.Writer, res *fit.Result) {
 				name += " (1-D along the scan)"
 			}
 			gone := func(key string) bool { _, ok := c.Withheld[key]; return ok }
-			fmt.Fprintf(w, "  %s, μ = %.6f amu (cm⁻¹):\n", name, c.Mass)
+			fmt.Fprintf(w, "  %s, μ = %.6f %s (cm⁻¹):\n", name, c.Mass, c.MassUnit)
 			fmt.Fprintf(w, "    ω_e = %s   ω_e x_e = %s\n", pm(c.OmegaE, c.OmegaEUnc, 3, false), pm(c.OmegaExe, c.OmegaExeUnc, 4, gone("omega_e_x_e_cm1")))
 			if !c.OneD {
 				fmt.Fprintf(w, "    B_e = %s   α_e = %s\n", pm(c.Be, c.BeUnc, 6, false), pm(c.AlphaE, c.AlphaEUnc, 6, gone("alpha_e_cm1")))
