@@ -10,9 +10,10 @@ import (
 // CODATA 2018 recommended values (E. Tiesinga, P. J. Mohr, D. B. Newell,
 // B. N. Taylor, "CODATA recommended values of the fundamental physical
 // constants: 2018", Rev. Mod. Phys. 93, 025010 (2021),
-// doi:10.1103/RevModPhys.93.025010). The planner package holds the same
-// values for the rest of the program; parsers imports no other wellscan
-// package, so they are repeated here, with the same source.
+// doi:10.1103/RevModPhys.93.025010). The program's one source is
+// fit/constants.go; parsers imports no other wellscan package, so it keeps
+// this copy of the few it needs, which cmd/wellscan's
+// TestConstants_OneSource holds equal to fit's, bit for bit.
 const (
 	// HartreeInEV is the hartree energy in electronvolt.
 	HartreeInEV = 27.211386245988

@@ -18,31 +18,7 @@ import (
 )
 
 // morseSpec is a small model scan (invented constants, atomic units).
-const morseSpec = `
-title = "runner test"
-[molecule]
-geometry = """
-C 0 0 0
-O 0 0 1.13
-"""
-[[scan]]
-name = "r"
-bond = [1, 2]
-from = 1.00
-to = 1.30
-step = 0.05
-[refine]
-target_step = 0.002
-[engine]
-kind = "model"
-[engine.model]
-offset = -112.7
-[[engine.model.term]]
-shape = "morse"
-depth = 0.41
-width = 1.22
-center = 2.135
-`
+var morseSpec = coMorse{Title: "runner test", From: "1.00", To: "1.30", Step: "0.05", Refine: "target_step = 0.002"}.String()
 
 // scanDir writes spec text into a new scan directory.
 func scanDir(t testing.TB, text string) (string, *planner.Spec) {

@@ -14,30 +14,7 @@ import (
 )
 
 // modelSpec is a quick model scan (invented Morse constants, atomic units).
-const modelSpec = `title = "cmd test"
-[molecule]
-geometry = """
-C 0 0 0
-O 0 0 1.13
-"""
-[[scan]]
-name = "r"
-bond = [1, 2]
-from = 1.00
-to = 1.30
-step = 0.05
-[engine]
-kind = "model"
-[engine.model]
-offset = -112.7
-[[engine.model.term]]
-shape = "morse"
-depth = 0.41
-width = 1.22
-center = 2.135
-[queue]
-workers = 2
-`
+var modelSpec = coMorse{Title: "cmd test", From: "1.00", To: "1.30", Step: "0.05", Queue: "[queue]\nworkers = 2"}.String()
 
 func wellscan(t *testing.T, args ...string) (int, string, string) {
 	t.Helper()

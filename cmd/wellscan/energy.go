@@ -6,53 +6,37 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"strings"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
-	"wellscan/parsers"
 	"wellscan/planner"
 	"wellscan/runner/hf"
 	"wellscan/runner/hf/basis"
 )
 
 type energyOptions struct {
-	basis        string
-	basisFile    string
-	convention   string
-	method       string
-	charge       int
-	multiplicity int
-	units        string
-	json         bool
-	workers      int
-	maxIter      int
-	frozenCore   int
-	allElectron  bool
-	guess        string
-	alsoUnits    []string
-	basisLimit   []string
-	coreCorr     string
-	memoryMB     int
+	moleculeFlags
+	method      string
+	maxIter     int
+	frozenCore  int
+	allElectron bool
+	guess       string
+	alsoUnits   []string
+	basisLimit  []string
+	coreCorr    string
+	memoryMB    int
 }
 
 func (o *energyOptions) AddFlags(fs *pflag.FlagSet) {
-	fs.StringVar(&o.basis, "basis", "6-31G*", "basis set from the built-in library (see 'wellscan basis list'); case-insensitive")
-	fs.StringVar(&o.basisFile, "basis-file", "", "read the basis set from this file (wellscan basis format) instead of the library")
-	fs.StringVar(&o.convention, "convention", "as-set", "d and f shells: as-set (as the basis set defines them), cartesian (every x^a y^b z^c product, 6 d and 10 f functions per shell) or spherical (2l+1 real solid harmonics, 5 d and 7 f)")
+	o.moleculeFlags.AddFlags(fs)
 	fs.StringVar(&o.method, "method", "", "rhf, uhf, mp2, ccsd or ccsd(t) (default: rhf for singlets, uhf otherwise; mp2 runs on rhf for singlets, uhf otherwise; ccsd and ccsd(t) need a closed shell and run on rhf)")
 	fs.IntVar(&o.frozenCore, "frozen-core", -1, "mp2, ccsd, ccsd(t): number of lowest occupied orbitals per spin left uncorrelated (default: the atoms' noble-gas cores, e.g. 1 for O)")
 	fs.BoolVar(&o.allElectron, "all-electron", false, "mp2, ccsd, ccsd(t): correlate all electrons (same as --frozen-core 0)")
 	fs.StringSliceVar(&o.basisLimit, "basis-limit", nil, "instead of --basis: two correlation-consistent sets, smaller first (e.g. cc-pVTZ,cc-pVQZ), extrapolated to the basis-set limit (HF: Karton–Martin; correlation: X⁻³); needs mp2, ccsd or ccsd(t)")
 	fs.StringVar(&o.coreCorr, "core-correction", "", "with --basis-limit: add all-electron minus frozen-core energy in this core–valence set (e.g. cc-pCVTZ)")
-	fs.IntVar(&o.charge, "charge", 0, "total charge of the molecule")
-	fs.IntVar(&o.multiplicity, "multiplicity", 0, "spin multiplicity 2S+1 (default: Hund's rules for a lone atom, the lowest consistent with the electron count for a molecule)")
-	fs.StringVar(&o.units, "units", "angstrom", "units of the XYZ coordinates: angstrom or bohr")
-	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the text")
 	fs.StringSliceVar(&o.alsoUnits, "also-units", nil, "also show the energy in these units (eV, kJ/mol, kcal/mol, cm-1) and, with au, the dipole in e·bohr")
-	fs.IntVar(&o.workers, "workers", 0, "goroutines for integrals and Fock builds (default: all CPUs)")
 	fs.IntVar(&o.maxIter, "max-iterations", 0, "SCF iteration cap (default 128)")
 	fs.IntVar(&o.memoryMB, "memory", 0, "two-electron integral budget in MiB: integrals that fit are kept in memory, the rest recomputed at each iteration (default: half the available memory, at most 16 GiB)")
 	fs.StringVar(&o.guess, "guess", "auto", "starting guess: auto (rhf: atoms; uhf: try core, gwh, atoms, atoms-spin and for singlets core-twist, keep the lowest), core, gwh, atoms, atoms-spin or core-twist")
@@ -158,9 +142,9 @@ type energyReport struct {
 }
 
 func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error {
-	unit, ok := planner.ParseLengthUnit(o.units)
-	if !ok {
-		return usageError{fmt.Errorf("--units: unknown unit %q (expected angstrom or bohr)", o.units)}
+	unit, conv, err := o.checkUnitsConvention()
+	if err != nil {
+		return err
 	}
 	method, err := hf.ParseMethod(o.method)
 	if err != nil {
@@ -190,10 +174,6 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	if len(o.basisLimit) == 2 && (cmd.Flags().Changed("basis") || o.basisFile != "") {
 		return usageError{errors.New("--basis-limit replaces --basis and --basis-file; give one of them")}
 	}
-	conv, err := basis.ParseConvention(o.convention)
-	if err != nil {
-		return usageError{fmt.Errorf("--convention: %w", err)}
-	}
 	units, err := parseAlsoUnits(o.alsoUnits)
 	if err != nil {
 		return usageError{err}
@@ -209,30 +189,7 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 	if o.memoryMB < 0 {
 		return usageError{fmt.Errorf("--memory: %d MiB, expected a positive budget (or leave it out)", o.memoryMB)}
 	}
-	var r io.Reader = a.stdin
-	if path != "-" {
-		if err := planner.CheckRegular(path); err != nil {
-			return err
-		}
-		f, err := os.Open(path)
-		if err != nil {
-			return err
-		}
-		defer f.Close()
-		r = f
-	} else {
-		path = "<stdin>"
-	}
-	text, err := io.ReadAll(io.LimitReader(r, 64<<20))
-	if err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	// A standard XYZ frame or bare "element x y z" lines, as in a spec.
-	frame, err := parsers.ReadGeometryBlock(string(text), path, 1)
-	if err != nil {
-		return err
-	}
-	mol, err := planner.MoleculeFromFrame(frame, unit, o.charge, o.multiplicity, path)
+	mol, err := o.readMolecule(a.stdin, path, unit)
 	if err != nil {
 		return err
 	}
@@ -248,12 +205,7 @@ func runEnergy(cmd *cobra.Command, a *app, o *energyOptions, path string) error 
 		}
 		return printLimit(a.stdout, o.json, lr, mol)
 	}
-	var set *basis.Set
-	if o.basisFile != "" {
-		set, err = basis.LoadFile(o.basisFile)
-	} else {
-		set, err = basis.Lookup(o.basis)
-	}
+	set, err := o.basisSet()
 	if err != nil {
 		return err
 	}

@@ -102,6 +102,19 @@ func alive(pid int) bool {
 	return true
 }
 
+// survives reports whether pid is still alive 5 s from now. SIGKILL is
+// asynchronous: a process the run has just killed may need a moment of
+// scheduling to end, more so on a loaded machine, while one the run missed
+// (these tests' sleeps last 60 s) is still there after 5 s.
+func survives(pid int) bool {
+	for deadline := time.Now().Add(5 * time.Second); time.Now().Before(deadline); time.Sleep(20 * time.Millisecond) {
+		if !alive(pid) {
+			return false
+		}
+	}
+	return alive(pid)
+}
+
 // pidsIn reads every file named name under the scan's point directories.
 func pidsIn(t *testing.T, dir, name string) map[string]int {
 	t.Helper()
@@ -214,7 +227,7 @@ if [ "$WELLSCAN_KEY" = "r=0.90000" ]; then sleep 1.5; else sleep 60; fi`
 			}
 			for what, pids := range map[string]map[string]int{"program": pidsIn(t, dir, "pid"), "setsid grandchild": pidsIn(t, dir, "grandchild")} {
 				for k, pid := range pids {
-					if alive(pid) {
+					if survives(pid) {
 						t.Errorf("%s of %s (PID %d) still runs after %v", what, k, pid, sig)
 						_ = syscall.Kill(pid, syscall.SIGKILL)
 					}
@@ -248,7 +261,7 @@ func TestRun_SetsidGrandchild_CleanedAfterSuccess(t *testing.T) {
 		t.Fatalf("%d grandchild PID files, want 11", len(gc))
 	}
 	for k, pid := range gc {
-		if alive(pid) {
+		if survives(pid) {
 			t.Errorf("grandchild of %s (PID %d) outlived the run", k, pid)
 			_ = syscall.Kill(pid, syscall.SIGKILL)
 		}

@@ -18,30 +18,21 @@ import (
 	"wellscan/planner/geomopt"
 	"wellscan/runner"
 	"wellscan/runner/hf"
-	"wellscan/runner/hf/basis"
 )
 
 type relaxOptions struct {
-	basis, basisFile, convention, method string
-	charge, multiplicity                 int
-	units                                string
-	json                                 bool
-	workers, maxSteps                    int
-	out, trajectory                      string
-	hold                                 []string
-	tighter                              float64
+	moleculeFlags
+	method     string
+	maxSteps   int
+	out        string
+	trajectory string
+	hold       []string
+	tighter    float64
 }
 
 func (o *relaxOptions) AddFlags(fs *pflag.FlagSet) {
-	fs.StringVar(&o.basis, "basis", "6-31G*", "basis set from the built-in library (see 'wellscan basis list'); case-insensitive")
-	fs.StringVar(&o.basisFile, "basis-file", "", "read the basis set from this file (wellscan basis format) instead of the library")
-	fs.StringVar(&o.convention, "convention", "as-set", "d/f functions: as-set, cartesian (6D/10F) or spherical (5D/7F)")
+	o.moleculeFlags.AddFlags(fs)
 	fs.StringVar(&o.method, "method", "", "rhf, uhf (analytic gradients) or mp2 (gradients by central differences); default rhf for singlets, uhf otherwise")
-	fs.IntVar(&o.charge, "charge", 0, "total charge of the molecule")
-	fs.IntVar(&o.multiplicity, "multiplicity", 0, "spin multiplicity 2S+1 (default: the lowest consistent with the electron count)")
-	fs.StringVar(&o.units, "units", "angstrom", "units of the XYZ coordinates: angstrom or bohr")
-	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of the text report")
-	fs.IntVar(&o.workers, "workers", 0, "goroutines for integrals, Fock builds and gradients (default: all CPUs)")
 	fs.IntVar(&o.maxSteps, "max-steps", 100, "largest number of gradients")
 	fs.StringVar(&o.out, "out", "", "also write the optimised geometry to this XYZ file (Å)")
 	fs.StringVar(&o.trajectory, "trajectory", "", "write every step's geometry to this multi-frame XYZ file (Å)")
@@ -147,17 +138,13 @@ func runRelax(cmd *cobra.Command, a *app, o *relaxOptions, path string) error {
 	if st, err := os.Stat(path); err == nil && st.IsDir() {
 		return runRelaxDir(cmd, a, o, path)
 	}
-	unit, ok := planner.ParseLengthUnit(o.units)
-	if !ok {
-		return usageError{fmt.Errorf("--units: unknown unit %q (expected angstrom or bohr)", o.units)}
+	unit, conv, err := o.checkUnitsConvention()
+	if err != nil {
+		return err
 	}
 	method, err := hf.ParseMethod(o.method)
 	if err != nil {
 		return usageError{fmt.Errorf("--method: %w", err)}
-	}
-	conv, err := basis.ParseConvention(o.convention)
-	if err != nil {
-		return usageError{fmt.Errorf("--convention: %w", err)}
 	}
 	if !(o.tighter > 0) || math.IsInf(o.tighter, 0) {
 		return usageError{fmt.Errorf("--tighter %v: want a positive factor", o.tighter)}
@@ -165,31 +152,11 @@ func runRelax(cmd *cobra.Command, a *app, o *relaxOptions, path string) error {
 	if o.maxSteps < 1 {
 		return usageError{fmt.Errorf("--max-steps %d: want at least 1", o.maxSteps)}
 	}
-	var r io.Reader = a.stdin
-	if path != "-" {
-		f, err := os.Open(path)
-		if err != nil {
-			return err
-		}
-		defer f.Close()
-		r = f
-	} else {
-		path = "<stdin>"
-	}
-	frames, err := parsers.ReadXYZ(io.LimitReader(r, 64<<20), path)
+	mol, err := o.readMolecule(a.stdin, path, unit)
 	if err != nil {
 		return err
 	}
-	mol, err := planner.MoleculeFromFrame(frames[0], unit, o.charge, o.multiplicity, path)
-	if err != nil {
-		return err
-	}
-	var set *basis.Set
-	if o.basisFile != "" {
-		set, err = basis.LoadFile(o.basisFile)
-	} else {
-		set, err = basis.Lookup(o.basis)
-	}
+	set, err := o.basisSet()
 	if err != nil {
 		return err
 	}
@@ -343,7 +310,7 @@ func printRelax(w io.Writer, rep relaxReport) {
 	fmt.Fprintf(w, "\nforces (Eh/bohr)\n")
 	for i, s := range rep.Symbols {
 		f := rep.ForcesAU[i]
-		fmt.Fprintf(w, "%3d %-3s %13.2e %13.2e %13.2e\n", i+1, s, f[0], f[1], f[2])
+		fmt.Fprintf(w, "%3d %-3s %13.2e %13.2e %13.2e\n", i+1, s, f[0]+0, f[1]+0, f[2]+0) // +0: no "-0.00e+00"
 	}
 	fmt.Fprintf(w, "max / rms internal force  %.2e / %.2e (Eh/bohr, Eh/rad)\n", rep.MaxForce, rep.RMSForce)
 	fmt.Fprintf(w, "\ninternal coordinates\n")

@@ -29,37 +29,8 @@ var update = flag.Bool("update", false, "rewrite the golden files in testdata/")
 // reportSpec is the model Morse scan of the report goldens (invented
 // constants, atomic units; like testdata/examples/morse-model) with one
 // point that always fails, so that the failure shows in every output.
-const reportSpec = `title = "model diatomic for the report goldens"
-[molecule]
-units = "angstrom"
-geometry = """
-C 0.0 0.0 0.0
-O 0.0 0.0 1.13
-"""
-[[scan]]
-name = "r"
-bond = [1, 2]
-from = 0.95
-to = 1.45
-step = 0.05
-[refine]
-target_step = 0.002
-tolerance = 1e-4
-[engine]
-kind = "model"
-[engine.model]
-offset = -112.7
-fail = ["r=1.35000"]
-[[engine.model.term]]
-coordinate = "r"
-shape = "morse"
-depth = 0.41
-width = 1.22
-center = 2.135
-[queue]
-workers = 2
-attempts = 2
-`
+var reportSpec = coMorse{Title: "model diatomic for the report goldens", From: "0.95", To: "1.45", Step: "0.05",
+	Refine: "target_step = 0.002\ntolerance = 1e-4", Fail: []string{"r=1.35000"}, Queue: "[queue]\nworkers = 2\nattempts = 2"}.String()
 
 // runReportScan runs the golden scan and its report once per test.
 func runReportScan(t *testing.T) (dir string) {

@@ -15,33 +15,7 @@ import (
 
 // slowSpec is a model scan whose points take 150 ms each, so that a kill
 // lands mid-round (invented Morse constants, atomic units).
-const slowSpec = `title = "kill and resume"
-[molecule]
-geometry = """
-C 0 0 0
-O 0 0 1.13
-"""
-[[scan]]
-name = "r"
-bond = [1, 2]
-from = 0.90
-to = 1.50
-step = 0.05
-[refine]
-target_step = 0.002
-[engine]
-kind = "model"
-[engine.model]
-offset = -112.7
-delay = "150ms"
-[[engine.model.term]]
-shape = "morse"
-depth = 0.41
-width = 1.22
-center = 2.135
-[queue]
-workers = 2
-`
+var slowSpec = coMorse{Title: "kill and resume", From: "0.90", To: "1.50", Step: "0.05", Refine: "target_step = 0.002", Delay: "150ms", Queue: "[queue]\nworkers = 2"}.String()
 
 // buildWellscan compiles this command into a temporary directory.
 func buildWellscan(t *testing.T) string {

@@ -17,32 +17,7 @@ import (
 // trivialSlurmSpec is a 50-point scan on the model engine (microseconds a
 // point), queued on Slurm with nothing but the kind set: what a user gets
 // from the defaults.
-const trivialSlurmSpec = `title = "50 trivial points on Slurm"
-[molecule]
-geometry = """
-C 0 0 0
-O 0 0 1.13
-"""
-[[scan]]
-name = "r"
-bond = [1, 2]
-from = 1.00
-to = 1.49
-count = 50
-[refine]
-adaptive = false
-[engine]
-kind = "model"
-[engine.model]
-offset = -112.7
-[[engine.model.term]]
-shape = "morse"
-depth = 0.41
-width = 1.22
-center = 2.135
-[queue]
-kind = "slurm"
-`
+var trivialSlurmSpec = coMorse{Title: "50 trivial points on Slurm", From: "1.00", To: "1.49", Count: 50, Refine: "adaptive = false", Queue: "[queue]\nkind = \"slurm\""}.String()
 
 // BenchmarkSlurm_Trivial50 runs 50 trivial points on the local Slurm with
 // wellscan's defaults, and, as the baseline, the naive way: one

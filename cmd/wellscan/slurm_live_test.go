@@ -272,31 +272,8 @@ func TestSlurm_KillOrchestrator_RerunComputesEachPointOnce(t *testing.T) {
 // slowSlurmSpec is a 6-point model scan (invented Morse constants, atomic
 // units) whose points take 1.5 s each, 3 per array task, so that a test
 // can act on the scheduler or the node while a task runs.
-const slowSlurmSpec = `title = "slow model scan on the local Slurm"
-[molecule]
-geometry = """
-C 0 0 0
-O 0 0 1.13
-"""
-[[scan]]
-name = "r"
-bond = [1, 2]
-from = 1.00
-to = 1.25
-step = 0.05
-[refine]
-adaptive = false
-[engine]
-kind = "model"
-[engine.model]
-offset = -112.7
-delay = "1500ms"
-[[engine.model.term]]
-shape = "morse"
-depth = 0.41
-width = 1.22
-center = 2.135
-[queue]
+var slowSlurmSpec = coMorse{Title: "slow model scan on the local Slurm", From: "1.00", To: "1.25", Step: "0.05", Refine: "adaptive = false", Delay: "1500ms",
+	Queue: `[queue]
 kind = "slurm"
 [queue.slurm]
 points_per_task = 3
@@ -305,8 +282,7 @@ time = "5m"
 memory_mb = 200
 poll_interval = "300ms"
 fast_poll = true
-lost_after = "5s"
-`
+lost_after = "5s"`}.String()
 
 func waitResults(t *testing.T, dir string, n int) {
 	t.Helper()

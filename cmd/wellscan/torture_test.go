@@ -31,33 +31,7 @@ import (
 
 // tortureModelSpec: a model scan whose points take 70 ms each on one
 // worker, about 2 s uninterrupted (invented Morse constants, atomic units).
-const tortureModelSpec = `title = "torture model"
-[molecule]
-geometry = """
-C 0 0 0
-O 0 0 1.13
-"""
-[[scan]]
-name = "r"
-bond = [1, 2]
-from = 0.80
-to = 1.60
-step = 0.04
-[refine]
-target_step = 0.002
-[engine]
-kind = "model"
-[engine.model]
-offset = -112.7
-delay = "70ms"
-[[engine.model.term]]
-shape = "morse"
-depth = 0.41
-width = 1.22
-center = 2.135
-[queue]
-workers = 1
-`
+var tortureModelSpec = coMorse{Title: "torture model", From: "0.80", To: "1.60", Step: "0.04", Refine: "target_step = 0.002", Delay: "70ms", Queue: "[queue]\nworkers = 1"}.String()
 
 // tortureRHFSpec: a real RHF/6-31G* scan of CO, 22 grid points plus
 // refinement, 0.5–1.5 s uninterrupted on one worker.

@@ -9,7 +9,6 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/gonum"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Closed-shell coupled-cluster theory with single and double excitations
@@ -998,48 +997,15 @@ func (d *ccDIIS) push(x, e []float64) {
 // extrapolate overwrites out with the DIIS combination (out unchanged
 // with fewer than two vectors or an ill-conditioned system).
 func (d *ccDIIS) extrapolate(out []float64) {
+	coef := make([]float64, len(d.xs))
 	for start := 0; len(d.xs)-start >= 2; start++ {
-		k := len(d.xs) - start
-		a := mat.NewDense(k+1, k+1, nil)
-		var scale float64
-		for i := range k {
-			for j := 0; j <= i; j++ {
-				var b float64
-				ei, ej := d.es[start+i], d.es[start+j]
-				for p, x := range ei {
-					b += x * ej[p]
-				}
-				a.Set(i, j, b)
-				a.Set(j, i, b)
-			}
-			scale = max(scale, a.At(i, i))
-		}
-		if scale == 0 {
-			return
-		}
-		for i := range k {
-			for j := range k {
-				a.Set(i, j, a.At(i, j)/scale)
-			}
-			a.Set(i, k, 1)
-			a.Set(k, i, 1)
-		}
-		var lu mat.LU
-		lu.Factorize(a)
-		// Nearly parallel error vectors: drop the oldest (common practice).
-		if c := lu.Cond(); c > 1e14 || c != c {
-			continue
-		}
-		rhs := mat.NewVecDense(k+1, nil)
-		rhs.SetVec(k, 1)
-		var x mat.VecDense
-		if err := lu.SolveVecTo(&x, false, rhs); err != nil {
+		if !pulayWeights(d.es[start:], coef) {
 			continue
 		}
 		clear(out)
-		for i := range k {
-			c := x.AtVec(i)
-			for p, val := range d.xs[start+i] {
+		for i, x := range d.xs[start:] {
+			c := coef[i]
+			for p, val := range x {
 				out[p] += c * val
 			}
 		}

@@ -107,14 +107,32 @@ func (d *diis) extrapolate(out []*mat.Dense) int {
 // solve finds the coefficients for slots[start:]; false if ill-conditioned.
 func (d *diis) solve(start int) bool {
 	vs := d.slots[start:]
-	k := len(vs)
+	errs := make([][]float64, len(vs))
+	for i, v := range vs {
+		errs[i] = v.err
+	}
+	return pulayWeights(errs, d.coef)
+}
+
+// pulayWeights solves Pulay's DIIS equations for the error vectors errs
+// (oldest first): the weights c with Σ c_i = 1 that minimise
+// |Σ c_i e_i|², written to coef[:len(errs)], from the B matrix scaled by
+// its largest diagonal element. It returns false, leaving coef undefined,
+// when the system is too ill-conditioned to solve (condition number above
+// 1e14: nearly parallel error vectors, which the callers answer by
+// dropping the oldest, common practice). When every error vanishes any
+// affine combination is exact and the newest gets weight 1. The SCF's
+// Fock extrapolation and the coupled-cluster amplitude extrapolation
+// both use it.
+func pulayWeights(errs [][]float64, coef []float64) bool {
+	k := len(errs)
 	a := mat.NewDense(k+1, k+1, nil)
 	var scale float64
 	for i := range k {
 		for j := 0; j <= i; j++ {
 			var b float64
-			for p, v := range vs[i].err {
-				b += v * vs[j].err[p]
+			for p, v := range errs[i] {
+				b += v * errs[j][p]
 			}
 			a.Set(i, j, b)
 			a.Set(j, i, b)
@@ -122,11 +140,8 @@ func (d *diis) solve(start int) bool {
 		scale = max(scale, a.At(i, i))
 	}
 	if scale == 0 {
-		// All errors vanish: any affine combination is exact; take the newest.
-		for i := range k {
-			d.coef[i] = 0
-		}
-		d.coef[k-1] = 1
+		clear(coef[:k])
+		coef[k-1] = 1
 		return true
 	}
 	for i := range k {
@@ -138,8 +153,6 @@ func (d *diis) solve(start int) bool {
 	}
 	var lu mat.LU
 	lu.Factorize(a)
-	// A condition number near 1/ε means nearly parallel error vectors;
-	// dropping the oldest is common practice.
 	if c := lu.Cond(); c > 1e14 || c != c {
 		return false
 	}
@@ -150,7 +163,7 @@ func (d *diis) solve(start int) bool {
 		return false
 	}
 	for i := range k {
-		d.coef[i] = x.AtVec(i)
+		coef[i] = x.AtVec(i)
 	}
 	return true
 }
