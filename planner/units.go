@@ -1,6 +1,7 @@
 package planner
 
 import (
+	"math"
 	"strings"
 
 	"wellscan/fit"
@@ -36,6 +37,12 @@ const (
 	// BohrElectronInDebye converts a dipole moment from e·a0 to debye.
 	BohrElectronInDebye = fit.BohrElectronInDebye
 )
+
+// DipoleDebye is the magnitude in debye of a dipole moment given in e·bohr
+// (atomic units): the one conversion every screen and export uses.
+func DipoleDebye(d [3]float64) float64 {
+	return math.Sqrt(d[0]*d[0]+d[1]*d[1]+d[2]*d[2]) * BohrElectronInDebye
+}
 
 // LengthUnit names the unit a length is given in at an edge of the program.
 type LengthUnit string

@@ -244,7 +244,7 @@ func newEnergyReport(res *hf.Result, mol planner.Molecule) energyReport {
 		Method: string(res.Method), Basis: res.Basis, Convention: res.Convention,
 		Charge: mol.Charge, Multiplicity: mol.Multiplicity,
 		MullikenCharges: res.Mulliken, DipoleAU: res.Dipole,
-		DipoleDebye: math.Sqrt(res.Dipole[0]*res.Dipole[0]+res.Dipole[1]*res.Dipole[1]+res.Dipole[2]*res.Dipole[2]) * planner.BohrElectronInDebye,
+		DipoleDebye: planner.DipoleDebye(res.Dipole),
 		Guess:       res.SCFResult.Guess.String(), GuessNotes: res.GuessNotes,
 		IntegralMode: res.IntegralMode, IntegralMemoryMiB: float64(res.IntegralBytes) / (1 << 20),
 		MemoryBudgetMiB: float64(res.MemoryBudget) / (1 << 20),

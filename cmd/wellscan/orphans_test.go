@@ -102,17 +102,35 @@ func alive(pid int) bool {
 	return true
 }
 
-// survives reports whether pid is still alive 5 s from now. SIGKILL is
-// asynchronous: a process the run has just killed may need a moment of
-// scheduling to end, more so on a loaded machine, while one the run missed
-// (these tests' sleeps last 60 s) is still there after 5 s.
-func survives(pid int) bool {
+// survives reports whether pid is still alive 5 s from now and is still
+// the process the point started: its working directory is the point
+// directory pointDir. SIGKILL is asynchronous: a process the run has just
+// killed may need a moment of scheduling to end, more so on a loaded
+// machine, while one the run missed (these tests' sleeps last 60 s) is
+// still there after 5 s. The directory check keeps a busy machine's PID
+// reuse (a CI run starts thousands of processes) from counting another
+// process as a survivor.
+func survives(pid int, pointDir string) bool {
 	for deadline := time.Now().Add(5 * time.Second); time.Now().Before(deadline); time.Sleep(20 * time.Millisecond) {
-		if !alive(pid) {
+		if !alive(pid) || !inDir(pid, pointDir) {
 			return false
 		}
 	}
-	return alive(pid)
+	return alive(pid) && inDir(pid, pointDir)
+}
+
+// inDir reports whether pid's working directory is dir (or cannot be read,
+// which counts as yes: no false all-clear).
+func inDir(pid int, dir string) bool {
+	cwd, err := os.Readlink("/proc/" + strconv.Itoa(pid) + "/cwd")
+	if err != nil {
+		return true
+	}
+	want, err := filepath.EvalSymlinks(dir)
+	if err != nil {
+		return true
+	}
+	return strings.TrimSuffix(cwd, " (deleted)") == want
 }
 
 // pidsIn reads every file named name under the scan's point directories.
@@ -227,7 +245,7 @@ if [ "$WELLSCAN_KEY" = "r=0.90000" ]; then sleep 1.5; else sleep 60; fi`
 			}
 			for what, pids := range map[string]map[string]int{"program": pidsIn(t, dir, "pid"), "setsid grandchild": pidsIn(t, dir, "grandchild")} {
 				for k, pid := range pids {
-					if survives(pid) {
+					if survives(pid, runner.PointDir(dir, k)) {
 						t.Errorf("%s of %s (PID %d) still runs after %v", what, k, pid, sig)
 						_ = syscall.Kill(pid, syscall.SIGKILL)
 					}
@@ -261,7 +279,7 @@ func TestRun_SetsidGrandchild_CleanedAfterSuccess(t *testing.T) {
 		t.Fatalf("%d grandchild PID files, want 11", len(gc))
 	}
 	for k, pid := range gc {
-		if survives(pid) {
+		if survives(pid, runner.PointDir(dir, k)) {
 			t.Errorf("grandchild of %s (PID %d) outlived the run", k, pid)
 			_ = syscall.Kill(pid, syscall.SIGKILL)
 		}

@@ -228,7 +228,7 @@ func addDiagnostics(p *report.Point, r runner.PointRecord, engine string) {
 	y, oky := r.Extra["dipole_y_e_bohr"]
 	z, okz := r.Extra["dipole_z_e_bohr"]
 	if okx && oky && okz {
-		d := math.Sqrt(x*x+y*y+z*z) * planner.BohrElectronInDebye
+		d := planner.DipoleDebye([3]float64{x, y, z})
 		p.DipoleDebye = &d
 	}
 	if c, ok := r.Extra["mp2_correlation_hartree"]; ok {
