@@ -30,6 +30,17 @@ type eriBasis struct {
 	maxl     int
 	maxm     int // most members of a group
 	maxBlock int // largest quartet block
+	maxf     int // most functions of a shell group
+	// info is the part of pairs a J/K build reads per block, compact so
+	// that the walk over all blocks stays in cache.
+	info []pairInfo
+}
+
+// pairInfo is what a J/K build reads of a shell pair for every block.
+type pairInfo struct {
+	s1, s2, n1, n2 int32
+	schwarz        float64
+	same           bool
 }
 
 // newWork returns scratch for the quartets of this basis.
@@ -60,6 +71,7 @@ func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int
 		maxf = max(maxf, g.ncart)
 	}
 	eb.maxBlock = maxf * maxf * maxf * maxf
+	eb.maxf = maxf
 	ng := len(eb.gs)
 	eb.pairs = make([]shellPair, ng*(ng+1)/2)
 	for a := range ng {
@@ -85,6 +97,11 @@ func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int
 	}, eb.newWork)
 	if err != nil {
 		return nil, fmt.Errorf("integral: Schwarz factors: %w", err)
+	}
+	eb.info = make([]pairInfo, len(eb.pairs))
+	for P := range eb.pairs {
+		sp := &eb.pairs[P]
+		eb.info[P] = pairInfo{s1: int32(sp.s1), s2: int32(sp.s2), n1: int32(sp.n1), n2: int32(sp.n2), schwarz: sp.schwarz, same: sp.same}
 	}
 	eb.buildOrder()
 	return eb, nil

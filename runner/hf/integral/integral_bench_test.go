@@ -3,6 +3,7 @@ package integral
 import (
 	"context"
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"syscall"
 	"testing"
@@ -12,8 +13,9 @@ import (
 )
 
 // Benchmark systems: water/cc-pVDZ (24 spherical functions, geometry of
-// the worked example) and benzene/6-31G* (102 Cartesian functions, our
-// own standard-bond-length geometry, see benzeneAtoms).
+// the worked example), benzene/6-31G* (102 Cartesian functions, our
+// own standard-bond-length geometry, see benzeneAtoms) and butane/6-31G*
+// (80 functions, many one-function hydrogen groups, see alkaneAtoms).
 func benchSystems(b *testing.B) []struct {
 	name   string
 	shells []Shell
@@ -26,7 +28,42 @@ func benchSystems(b *testing.B) []struct {
 	}{
 		{"water-cc-pVDZ", basisShells(b, "cc-pvdz-HCO.json", water, true)},
 		{"benzene-6-31Gs", basisShells(b, "6-31gs-HCO.json", benzeneAtoms(), false)},
+		{"butane-6-31Gs", basisShells(b, "6-31gs-HCO.json", alkaneAtoms(4), false)},
 	}
+}
+
+// alkaneAtoms is our own all-anti CnH2n+2 (not an experimental
+// structure; the same construction as the hf package's alkane series):
+// C–C 1.54 Å, C–H 1.09 Å, tetrahedral angles (common practice), the
+// carbon zigzag in the xy plane; in bohr.
+func alkaneAtoms(n int) []atom {
+	const bohrPerAngstrom = 1 / 0.529177210903
+	const half = 54.7356 * math.Pi / 180 // half the tetrahedral angle
+	cc, ch := 1.54*bohrPerAngstrom, 1.09*bohrPerAngstrom
+	dx, dy := cc*math.Sin(half), cc*math.Cos(half)
+	var out []atom
+	for i := range n {
+		up := 1.0
+		if i%2 == 0 {
+			up = -1
+		}
+		pos := [3]float64{float64(i) * dx, 0, 0}
+		if up > 0 {
+			pos[1] = dy
+		}
+		out = append(out, atom{6, pos})
+		for _, z := range []float64{-1, 1} {
+			out = append(out, atom{1, [3]float64{pos[0], pos[1] + up*ch*math.Cos(half), pos[2] + z*ch*math.Sin(half)}})
+		}
+		if i == 0 || i == n-1 {
+			sx := -1.0
+			if i == n-1 {
+				sx = 1
+			}
+			out = append(out, atom{1, [3]float64{pos[0] + sx*ch*math.Sin(half), pos[1] - up*ch*math.Cos(half), 0}})
+		}
+	}
+	return out
 }
 
 func BenchmarkComputeERI(b *testing.B) {
@@ -82,6 +119,20 @@ func BenchmarkJK(b *testing.B) {
 				cpu := cpuTime()
 				for b.Loop() {
 					if err := eri.JK(context.Background(), dens, j, k); err != nil {
+						b.Fatal(err)
+					}
+				}
+				reportCPU(b, cpu)
+			})
+			packed, err := ComputePacked(context.Background(), sys.shells, NormPerComponent, workers)
+			if err != nil {
+				b.Fatal(err)
+			}
+			b.Run(fmt.Sprintf("%s/packed/workers=%d", sys.name, workers), func(b *testing.B) {
+				b.ReportAllocs()
+				cpu := cpuTime()
+				for b.Loop() {
+					if err := packed.JK(context.Background(), dens, j, k); err != nil {
 						b.Fatal(err)
 					}
 				}
