@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"time"
+	"wellscan/runner/hf/integral"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/gonum"
@@ -93,7 +94,7 @@ func transformFull(ctx context.Context, src PairBlockSource, C []float64, m, wor
 		for mu := range n {
 			copy(cb[mu*b:(mu+1)*b], C[mu*m+p0:mu*m+p1])
 		}
-		err := parallel(ctx, workers, src.NumPairBlocks(), func() *halfScratch {
+		err := integral.ParallelFor(ctx, workers, src.NumPairBlocks(), func() *halfScratch {
 			return &halfScratch{dst: make([]float64, maxBlk*np), mat: make([]float64, n*n), x: make([]float64, b*n), y: make([]float64, b*m)}
 		}, func(s *halfScratch, blk int) error {
 			var err error
@@ -123,7 +124,7 @@ func transformFull(ctx context.Context, src PairBlockSource, C []float64, m, wor
 			}
 		}
 		type secScratch struct{ mat, x, z []float64 }
-		err = parallel(ctx, workers, len(pairs), func() *secScratch {
+		err = integral.ParallelFor(ctx, workers, len(pairs), func() *secScratch {
 			return &secScratch{mat: make([]float64, n*n), x: make([]float64, m*n), z: make([]float64, m*m)}
 		}, func(s *secScratch, k int) error {
 			p, q := pairs[k].p, pairs[k].q

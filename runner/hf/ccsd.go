@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"time"
+	"wellscan/runner/hf/integral"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/gonum"
@@ -181,7 +182,7 @@ func (g *ccInts) expandVVVV(ctx context.Context, workers int) error {
 	v := g.v
 	v2 := v * v
 	g.vvvv = make([]float64, v*(v+1)/2*v2)
-	err := parallel(ctx, workers, v, func() []float64 { return make([]float64, v*v2) }, func(V []float64, a int) error {
+	err := integral.ParallelFor(ctx, workers, v, func() []float64 { return make([]float64, v*v2) }, func(V []float64, a int) error {
 		g.vvvvRow(a, V)
 		copy(g.vvvv[a*(a+1)/2*v2:(a*(a+1)/2+a+1)*v2], V[:(a+1)*v2])
 		return nil
@@ -358,7 +359,7 @@ func RunCCSD(ctx context.Context, scf *SCFResult, src PairBlockSource, opts CCOp
 	if ndiis == 0 {
 		ndiis = 8
 	}
-	workers := resolveWorkers(opts.Workers)
+	workers := integral.ResolveWorkers(opts.Workers)
 	o, v := sp.no, sp.nv
 	m := o + v
 	res := &CCResult{ReferenceEnergy: scf.Energy, FrozenCore: opts.Frozen, Occupied: o, Virtual: v, WithTriples: opts.Triples}
@@ -755,7 +756,7 @@ func (s *ccsdSolver) update(ctx context.Context) (t1n, t2n []float64, err error)
 			}
 		}
 	} else {
-		err = parallel(ctx, s.workers, v, func() []float64 { return make([]float64, v*v2) }, func(V []float64, a int) error {
+		err = integral.ParallelFor(ctx, s.workers, v, func() []float64 { return make([]float64, v*v2) }, func(V []float64, a int) error {
 			g.vvvvRow(a, V)
 			gemm(false, true, o2, v, v2, 1, tau, v2, V, v2, 1, S[a*v:], v2)
 			return nil
@@ -802,7 +803,7 @@ func (s *ccsdSolver) update(ctx context.Context) (t1n, t2n []float64, err error)
 	{
 		// − Σ_m t_mb Z_ij^am, Z_ij^am = Σ_ef τ_ij^ef (mf|ae) = Σ_(fe) τ[j][i][(f e)] (mf|ae).
 		Z := make([]float64, o*o2*v) // [m][(j i)][a]
-		err = parallel(ctx, s.workers, o, func() struct{} { return struct{}{} }, func(_ struct{}, m int) error {
+		err = integral.ParallelFor(ctx, s.workers, o, func() struct{} { return struct{}{} }, func(_ struct{}, m int) error {
 			gemm(false, false, o2, v, v2, 1, tau, v2, g.ovvvT[m*v*v2:], v, 0, Z[m*o2*v:], v)
 			return nil
 		})

@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"wellscan/planner"
+	"wellscan/runner/hf/integral"
 )
 
 // Second-order Møller–Plesset perturbation theory (MP2) on a converged
@@ -273,7 +274,7 @@ func RunMP2(ctx context.Context, scf *SCFResult, src PairBlockSource, opts MP2Op
 		}
 	}
 	res.OccupiedAlpha, res.VirtualAlpha, res.OccupiedBeta, res.VirtualBeta = a.no, a.nv, b.no, b.nv
-	t := &transformer{src: src, n: o.NBasis, workers: resolveWorkers(opts.Workers), budget: budget}
+	t := &transformer{src: src, n: o.NBasis, workers: integral.ResolveWorkers(opts.Workers), budget: budget}
 	if o.Restricted {
 		ss, os, err := t.restricted(ctx, a, res)
 		if err != nil {

@@ -3,10 +3,8 @@ package hf
 import (
 	"context"
 	"fmt"
-	"runtime"
-	"sync"
-	"sync/atomic"
 	"time"
+	"wellscan/runner/hf/integral"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/gonum"
@@ -49,55 +47,6 @@ type transformer struct {
 	transformTime time.Duration
 }
 
-func resolveWorkers(w int) int {
-	if w <= 0 {
-		return runtime.NumCPU()
-	}
-	return w
-}
-
-// parallel runs body(s, i) for i in [0, n) on workers goroutines, each with
-// scratch from newScratch, handing indices out dynamically. It returns the
-// first error of a body or ctx.Err(), after all goroutines have stopped.
-func parallel[S any](ctx context.Context, workers, n int, newScratch func() S, body func(s S, i int) error) error {
-	var next atomic.Int64
-	var mu sync.Mutex
-	var first error
-	var failed atomic.Bool
-	var wg sync.WaitGroup
-	for range min(workers, n) {
-		wg.Go(func() {
-			s := newScratch()
-			for !failed.Load() {
-				if err := ctx.Err(); err != nil {
-					mu.Lock()
-					if first == nil {
-						first = err
-					}
-					mu.Unlock()
-					failed.Store(true)
-					return
-				}
-				i := int(next.Add(1)) - 1
-				if i >= n {
-					return
-				}
-				if err := body(s, i); err != nil {
-					mu.Lock()
-					if first == nil {
-						first = err
-					}
-					mu.Unlock()
-					failed.Store(true)
-					return
-				}
-			}
-		})
-	}
-	wg.Wait()
-	return first
-}
-
 // batchSize is the number of occupied orbitals (nv virtuals each) per
 // batch such that H and a G with gcols columns fit the budget next to the
 // per-worker scratch.
@@ -131,7 +80,7 @@ func (t *transformer) half(ctx context.Context, s spinOrbs, i0, i1 int, H []floa
 	}
 	maxBlk := t.src.MaxPairBlock()
 	var impl gonum.Implementation
-	return parallel(ctx, t.workers, t.src.NumPairBlocks(), func() *scratch {
+	return integral.ParallelFor(ctx, t.workers, t.src.NumPairBlocks(), func() *scratch {
 		return &scratch{dst: make([]float64, maxBlk*np), m: make([]float64, n*n), x: make([]float64, nb*n), y: make([]float64, nb*nv)}
 	}, func(w *scratch, blk int) error {
 		var err error
@@ -171,7 +120,7 @@ func (t *transformer) second(ctx context.Context, H []float64, nrows int, u spin
 	gc := u.no * u.nv
 	type scratch struct{ m, y []float64 }
 	var impl gonum.Implementation
-	return parallel(ctx, t.workers, nrows, func() *scratch {
+	return integral.ParallelFor(ctx, t.workers, nrows, func() *scratch {
 		return &scratch{m: make([]float64, n*n), y: make([]float64, u.no*n)}
 	}, func(w *scratch, ia int) error {
 		unpackSym(H[ia*np:(ia+1)*np], n, w.m)
@@ -187,7 +136,7 @@ func (t *transformer) second(ctx context.Context, H []float64, nrows int, u spin
 // latter only when s and u are the same spin). Results go to os[i], ss[i].
 func pairEnergies(ctx context.Context, workers int, G []float64, s, u spinOrbs, i0, i1 int, sameSpin bool, os, ss []float64) error {
 	nv, gc := s.nv, u.no*u.nv
-	return parallel(ctx, workers, i1-i0, func() struct{} { return struct{}{} }, func(_ struct{}, li int) error {
+	return integral.ParallelFor(ctx, workers, i1-i0, func() struct{} { return struct{}{} }, func(_ struct{}, li int) error {
 		ei := s.eo[i0+li]
 		var eos, ess float64
 		for j := range u.no {

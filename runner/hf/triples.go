@@ -3,6 +3,7 @@ package hf
 import (
 	"context"
 	"fmt"
+	"wellscan/runner/hf/integral"
 )
 
 // The perturbative triples correction (T) of CCSD(T) for a closed-shell
@@ -58,7 +59,7 @@ func triples(ctx context.Context, g *ccInts, t1, T []float64, workers int) (floa
 		y, w, vv []float64
 	}
 	parts := make([]float64, len(list))
-	err := parallel(ctx, workers, len(list), func() *scratch {
+	err := integral.ParallelFor(ctx, workers, len(list), func() *scratch {
 		return &scratch{y: make([]float64, v3), w: make([]float64, v3), vv: make([]float64, v3)}
 	}, func(s *scratch, x int) error {
 		tr := list[x]

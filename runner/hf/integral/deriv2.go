@@ -87,7 +87,7 @@ func twoElectronGradient(ctx context.Context, shells []Shell, norm CartNorm, wor
 			return nil, fmt.Errorf("integral: two-electron gradient: shell %d sits on atom %d, want 0..%d", i, s.Atom, nAtoms-1)
 		}
 	}
-	workers = resolveWorkers(workers)
+	workers = ResolveWorkers(workers)
 	eb, err := newERIBasis(ctx, shells, norm, workers, groupNone)
 	if err != nil {
 		return nil, err

@@ -36,7 +36,7 @@ func newDirect(ctx context.Context, shells []Shell, norm CartNorm, workers int, 
 	if threshold < 0 || math.IsNaN(threshold) {
 		return nil, fmt.Errorf("integral: screening threshold %v, want ≥ 0", threshold)
 	}
-	workers = resolveWorkers(workers)
+	workers = ResolveWorkers(workers)
 	eb, err := newERIBasis(ctx, shells, norm, workers, groupAll)
 	if err != nil {
 		return nil, err

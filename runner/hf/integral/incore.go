@@ -4,10 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"runtime"
 	"sort"
-	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -46,13 +43,6 @@ type pairInfo struct {
 // newWork returns scratch for the quartets of this basis.
 func (eb *eriBasis) newWork() *eriWork { return newERIWorkGroups(eb.maxl, eb.maxm, eb.maxBlock) }
 
-func resolveWorkers(workers int) int {
-	if workers <= 0 {
-		return runtime.NumCPU()
-	}
-	return workers
-}
-
 // newERIBasis prepares the shell pairs: of shell groups as mode says
 // (buildGroups; shells sharing primitives computed once per primitive set,
 // with primitive pair bounds for primitive screening), of single shells
@@ -80,7 +70,7 @@ func newERIBasis(ctx context.Context, shells []Shell, norm CartNorm, workers int
 		}
 	}
 	// Schwarz factors √max|(ab|ab)| and primitive pair bounds, in parallel.
-	err = parallelFor(ctx, resolveWorkers(workers), len(eb.pairs), func(w *eriWork, p int) {
+	err = parallelFor(ctx, ResolveWorkers(workers), len(eb.pairs), func(w *eriWork, p int) {
 		sp := &eb.pairs[p]
 		blk := w.quartet(sp, sp)
 		n1, n2 := sp.n1, sp.n2
@@ -129,28 +119,14 @@ func (eb *eriBasis) buildOrder() {
 	sort.SliceStable(eb.order, func(a, b int) bool { return cost[eb.order[a]] > cost[eb.order[b]] })
 }
 
-// parallelFor runs body(w, i) for i = n−1 … 0 on workers goroutines, each
-// with its own scratch, handing out indices dynamically (largest first,
-// which for shell pairs is roughly the most expensive first). It stops
-// early and returns ctx.Err() if the context ends.
+// parallelFor runs body(w, i) for i = n−1 … 0 through ParallelFor, each
+// goroutine with its own scratch (largest index first, which for shell
+// pairs is roughly the most expensive first).
 func parallelFor(ctx context.Context, workers, n int, body func(w *eriWork, i int), newWork func() *eriWork) error {
-	var next atomic.Int64
-	next.Store(int64(n))
-	var wg sync.WaitGroup
-	for range min(workers, max(n, 1)) {
-		wg.Go(func() {
-			w := newWork()
-			for ctx.Err() == nil {
-				i := int(next.Add(-1))
-				if i < 0 {
-					return
-				}
-				body(w, i)
-			}
-		})
-	}
-	wg.Wait()
-	return ctx.Err()
+	return ParallelFor(ctx, workers, n, newWork, func(w *eriWork, i int) error {
+		body(w, n-1-i)
+		return nil
+	})
 }
 
 // pidx is the packed index of the unordered pair (i, j).

@@ -40,7 +40,7 @@ func (e *PackedERI) NumFunctions() int { return e.n }
 // It allocates InCoreBytes(NumFunctions(shells)) bytes. It returns an
 // error for malformed shells or when ctx ends.
 func ComputePacked(ctx context.Context, shells []Shell, norm CartNorm, workers int) (*PackedERI, error) {
-	workers = resolveWorkers(workers)
+	workers = ResolveWorkers(workers)
 	eb, err := newERIBasis(ctx, shells, norm, workers, groupSameL)
 	if err != nil {
 		return nil, err
