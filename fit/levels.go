@@ -73,15 +73,9 @@ func Levels(potential func(r float64) float64, mu, rmin, rmax float64, n, J int)
 		return nil, fmt.Errorf("fit: levels: J = %d needs a grid at r > 0, but rmin = %g bohr", J, rmin)
 	}
 	m := mu * AmuInElectronMass
-	dx := (rmax - rmin) / float64(n-1)
-	r := make([]float64, n)
-	v := make([]float64, n)
-	for i := range n {
-		r[i] = rmin + float64(i)*dx
-		v[i] = potential(r[i])
-		if math.IsNaN(v[i]) || math.IsInf(v[i], 0) {
-			return nil, fmt.Errorf("fit: levels: potential is not finite at r = %g bohr", r[i])
-		}
+	r, v, dx, err := sampleGrid(potential, rmin, rmax, n)
+	if err != nil {
+		return nil, err
 	}
 	jj := float64(J * (J + 1))
 	e0, err := dvrValues(r, v, m, dx, jj, 0, n)
@@ -125,19 +119,29 @@ func Levels(potential func(r float64) float64, mu, rmin, rmax float64, n, J int)
 	return ls, nil
 }
 
-// levelValues returns only the eigenvalues (hartree) of the grid
-// Hamiltonian of [Levels] for J = 0: one diagonalisation.
-func levelValues(potential func(r float64) float64, mu, rmin, rmax float64, n int) ([]float64, error) {
-	m := mu * AmuInElectronMass
-	dx := (rmax - rmin) / float64(n-1)
-	r := make([]float64, n)
-	v := make([]float64, n)
+// sampleGrid is the potential on n equally spaced points from rmin to
+// rmax (bohr), refusing a non-finite value; dx is the spacing.
+func sampleGrid(potential func(r float64) float64, rmin, rmax float64, n int) (r, v []float64, dx float64, err error) {
+	dx = (rmax - rmin) / float64(n-1)
+	r = make([]float64, n)
+	v = make([]float64, n)
 	for i := range n {
 		r[i] = rmin + float64(i)*dx
 		v[i] = potential(r[i])
 		if math.IsNaN(v[i]) || math.IsInf(v[i], 0) {
-			return nil, fmt.Errorf("fit: levels: potential is not finite at r = %g bohr", r[i])
+			return nil, nil, 0, fmt.Errorf("fit: levels: potential is not finite at r = %g bohr", r[i])
 		}
+	}
+	return r, v, dx, nil
+}
+
+// levelValues returns only the eigenvalues (hartree) of the grid
+// Hamiltonian of [Levels] for J = 0: one diagonalisation.
+func levelValues(potential func(r float64) float64, mu, rmin, rmax float64, n int) ([]float64, error) {
+	m := mu * AmuInElectronMass
+	r, v, dx, err := sampleGrid(potential, rmin, rmax, n)
+	if err != nil {
+		return nil, err
 	}
 	return dvrValues(r, v, m, dx, 0, 0, n)
 }

@@ -100,16 +100,7 @@ func NewBackend(spec *planner.Spec) (*Backend, error) {
 		return nil, fmt.Errorf("%s: engine.basis: %w", spec.File(), err)
 	}
 	o := Options{Method: method, Basis: set}
-	if e.Cartesian != nil {
-		o.Convention = basis.ConventionSpherical
-		if *e.Cartesian {
-			o.Convention = basis.ConventionCartesian
-		}
-	}
-	o.SCF.MaxIterations = e.MaxIterations
-	if e.Convergence != nil {
-		o.SCF.EnergyTol = *e.Convergence
-	}
+	o.applyEngineSettings(e)
 	// Check the basis covers the molecule before any point runs.
 	if _, err := set.NumFunctions(mol, o.Convention); err != nil {
 		return nil, fmt.Errorf("%s: engine.basis: %w", spec.File(), err)
@@ -154,16 +145,7 @@ func newLimitBackend(spec *planner.Spec, method Method, mol planner.Molecule) (*
 		return nil, fmt.Errorf("%s: %s: %w", spec.File(), key, err)
 	}
 	o := Options{Method: method}
-	if e.Cartesian != nil {
-		o.Convention = basis.ConventionSpherical
-		if *e.Cartesian {
-			o.Convention = basis.ConventionCartesian
-		}
-	}
-	o.SCF.MaxIterations = e.MaxIterations
-	if e.Convergence != nil {
-		o.SCF.EnergyTol = *e.Convergence
-	}
+	o.applyEngineSettings(e)
 	return &Backend{opts: o, basisName: r.String(), limit: &r}, nil
 }
 
@@ -410,4 +392,19 @@ func writeOrbitalsFile(dir string, o *Orbitals) (string, error) {
 		return "", err
 	}
 	return filepath.Join(dir, OrbitalsFile), nil
+}
+
+// applyEngineSettings copies the spec's convention, iteration cap and
+// convergence threshold into o (one place for every backend kind).
+func (o *Options) applyEngineSettings(e planner.EngineSpec) {
+	if e.Cartesian != nil {
+		o.Convention = basis.ConventionSpherical
+		if *e.Cartesian {
+			o.Convention = basis.ConventionCartesian
+		}
+	}
+	o.SCF.MaxIterations = e.MaxIterations
+	if e.Convergence != nil {
+		o.SCF.EnergyTol = *e.Convergence
+	}
 }
