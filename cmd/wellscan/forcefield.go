@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"path/filepath"
-	"time"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
@@ -94,17 +93,20 @@ part once stage 2 is. Nothing is computed here.`,
 	return cmd
 }
 
-// forceFieldSamples reads the done displacements from the store.
-func forceFieldSamples(dir string) ([]report.FFSample, error) {
-	st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true, Timeout: 2 * time.Second})
+// forceFieldSamples reads the done displacements of the job in dir through
+// the one read path (runner.ReadPoints), so that points computed for
+// another spec are refused as for a scan. The dipoles (for the infrared
+// intensities) are kept in the store only: while a run holds it, the
+// analysis waits for the run to stop.
+func forceFieldSamples(dir string, spec *planner.Spec) ([]report.FFSample, error) {
+	ps, err := runner.ReadPoints(dir, spec)
 	if err != nil {
 		return nil, err
 	}
-	defer st.Close()
-	recs, err := st.Points()
-	if err != nil {
-		return nil, err
+	if ps.Snapshot != nil {
+		return nil, fmt.Errorf("%s: a run holds the store (%s); the force field is analysed from the stored points and their dipoles once it stops", dir, ps.Source)
 	}
+	recs := ps.Records
 	var out []report.FFSample
 	for _, r := range recs {
 		if r.State != runner.Done || r.Energy == nil {
@@ -124,7 +126,7 @@ func forceFieldSamples(dir string) ([]report.FFSample, error) {
 
 // writeForceField analyses the job in dir and writes the files into out.
 func writeForceField(dir string, dest report.Dest, spec *planner.Spec) (*report.FFReport, error) {
-	samples, err := forceFieldSamples(dir)
+	samples, err := forceFieldSamples(dir, spec)
 	if err != nil {
 		return nil, err
 	}

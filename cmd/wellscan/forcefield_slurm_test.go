@@ -73,7 +73,7 @@ func TestSlurm_Forcefield_KillRerun_EqualsLocal(t *testing.T) {
 		t.Fatal(err)
 	}
 	an := func(d string) *report.FFReport {
-		s, err := forceFieldSamples(d)
+		s, err := forceFieldSamples(d, spec)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -247,6 +247,20 @@ func TestForcefield_WaterRHF631GStar(t *testing.T) {
 			t.Errorf("D2O ω%d = %.3f, independent %.3f", i+1, rep.Isotopologues[1].Modes[i].WavenumberCm1, indD[i])
 		}
 	}
+	// The finished job's points belong to this spec: an edited molecule
+	// (O → S) is refused by the analysis, as by fit and report.
+	b, err := os.ReadFile(filepath.Join(dir, "scan.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	edited := strings.Replace(string(b), "\nO ", "\nS ", 1)
+	if edited == string(b) {
+		t.Fatal("test spec has no oxygen line to edit")
+	}
+	writeSpec(t, dir, edited)
+	if code, out, errs := wellscan(t, "forcefield", dir); code == 0 || !strings.Contains(errs, "changed") {
+		t.Errorf("forcefield on an edited spec: exit %d, want a refusal naming the change\n%s%s", code, out, errs)
+	}
 }
 
 func TestForcefield_CrashTorture(t *testing.T) {
@@ -298,7 +312,7 @@ func TestForcefield_CrashTorture(t *testing.T) {
 		t.Fatal(err)
 	}
 	analyse := func(d string) *report.FFReport {
-		s, err := forceFieldSamples(d)
+		s, err := forceFieldSamples(d, spec)
 		if err != nil {
 			t.Fatal(err)
 		}
