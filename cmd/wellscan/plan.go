@@ -214,21 +214,21 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 	// Cost: measured point times from an earlier run if there is one, else
 	// what is known up front.
 	per, basis := time.Duration(0), ""
-	if st, err := runner.Open(dir, runner.OpenOptions{ReadOnly: true, Timeout: 200 * time.Millisecond}); err == nil {
-		if recs, err := st.Points(); err == nil {
-			var secs []float64
-			for _, rec := range recs {
-				if rec.State == runner.Done && rec.Seconds > 0 {
-					secs = append(secs, rec.Seconds)
-				}
-			}
-			if len(secs) > 0 {
-				sort.Float64s(secs)
-				per = time.Duration(secs[len(secs)/2] * float64(time.Second))
-				basis = fmt.Sprintf("median of %d points already computed", len(secs))
+	// The one read path; an edited spec's fingerprint error does not
+	// matter for a time estimate, and a running scan's snapshot has no
+	// point times.
+	if ps, _ := runner.ReadPoints(dir, spec); len(ps.Records) > 0 {
+		var secs []float64
+		for _, rec := range ps.Records {
+			if rec.State == runner.Done && rec.Seconds > 0 {
+				secs = append(secs, rec.Seconds)
 			}
 		}
-		st.Close()
+		if len(secs) > 0 {
+			sort.Float64s(secs)
+			per = time.Duration(secs[len(secs)/2] * float64(time.Second))
+			basis = fmt.Sprintf("median of %d points already computed", len(secs))
+		}
 	}
 	if per == 0 && e.Kind == "model" {
 		per, basis = max(e.Model.Delay.Duration, time.Millisecond), "the model's delay"
