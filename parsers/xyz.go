@@ -164,7 +164,7 @@ func WriteXYZ(w io.Writer, frames []Frame) error {
 		fmt.Fprintf(bw, "%d\n%s\n", len(f.Labels), strings.NewReplacer("\n", " ", "\r", " ").Replace(f.Comment))
 		for i, l := range f.Labels {
 			c := f.Coords[i]
-			fmt.Fprintf(bw, "%-3s %16.10f %16.10f %16.10f\n", l, c[0], c[1], c[2])
+			fmt.Fprintf(bw, "%-3s %16.10f %16.10f %16.10f\n", l, noNegZero(c[0]), noNegZero(c[1]), noNegZero(c[2]))
 		}
 	}
 	return bw.Flush()
@@ -175,4 +175,13 @@ func clip(s string) string {
 		return s[:60] + "…"
 	}
 	return s
+}
+
+// noNegZero is x, or 0 when x rounds to zero at the 10 decimals WriteXYZ
+// prints, so that no coordinate reads "-0.0000000000".
+func noNegZero(x float64) float64 {
+	if math.Abs(x) < 5e-11 {
+		return 0
+	}
+	return x
 }

@@ -302,11 +302,8 @@ func printRelax(w io.Writer, rep relaxReport) {
 	if len(rep.Held) > 0 {
 		fmt.Fprintf(w, "held             %s\n", strings.Join(rep.Held, " "))
 	}
-	fmt.Fprintf(w, "\ngeometry (Å)\n%d\n%s\n", len(rep.Symbols), "optimised by wellscan relax")
-	for i, s := range rep.Symbols {
-		p := rep.GeometryAng[i]
-		fmt.Fprintf(w, "%-3s %16.10f %16.10f %16.10f\n", s, p[0], p[1], p[2])
-	}
+	fmt.Fprintf(w, "\ngeometry (Å)\n")
+	_ = parsers.WriteXYZ(w, []parsers.Frame{{Comment: "optimised by wellscan relax", Labels: rep.Symbols, Coords: rep.GeometryAng}})
 	fmt.Fprintf(w, "\nforces (Eh/bohr)\n")
 	for i, s := range rep.Symbols {
 		f := rep.ForcesAU[i]

@@ -188,6 +188,9 @@ var ErrNotConverged = errors.New("geomopt: optimisation not converged")
 //   - R. Fletcher, Practical Methods of Optimization, 2nd ed. (Wiley
 //     1987), ch. 3 (BFGS update) and ch. 5 (trust regions).
 func Optimize(ctx context.Context, mol planner.Molecule, f Objective, opts Options) (*Result, error) {
+	if len(mol.Atoms) < 2 {
+		return nil, fmt.Errorf("geomopt: %d atom: a lone atom has no geometry to optimise (its energy: wellscan energy)", len(mol.Atoms))
+	}
 	crit := opts.Criteria.withDefaults()
 	maxSteps := opts.MaxSteps
 	if maxSteps <= 0 {

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"wellscan/planner"
@@ -177,6 +178,17 @@ func TestOptimize_NotConvergedIsLoud(t *testing.T) {
 	}
 	if res == nil || res.Converged || res.Reason == "" {
 		t.Fatalf("2-step limit: result %+v, want an unconverged result with a reason", res)
+	}
+}
+
+// TestOptimize_LoneAtomRefused: one atom has no internal coordinates; the
+// optimiser says so instead of failing inside the linear algebra.
+func TestOptimize_LoneAtomRefused(t *testing.T) {
+	model := harmonicModel{kr: 1.1, r0: 1.81, kt: 0.35, t0: 104.5 * math.Pi / 180}
+	calls := 0
+	_, err := Optimize(context.Background(), mol(t, []string{"H"}, [][3]float64{{0, 0, 0}}), model.objective(&calls), Options{})
+	if err == nil || !strings.Contains(err.Error(), "lone atom") || calls != 0 {
+		t.Errorf("one atom: error %v after %d gradients, want a lone-atom refusal before any", err, calls)
 	}
 }
 
