@@ -374,3 +374,53 @@ func TestForcefield_ExampleSpecPlans(t *testing.T) {
 		t.Errorf("plan: exit %d, %s\n%s", code, errs, out)
 	}
 }
+
+// TestForcefield_LinearMolecule_VPT2Withheld: a quartic force field of
+// linear CO2 (RHF/STO-3G, 41 points) keeps its harmonic analysis and
+// withholds VPT2, which needs the degenerate-mode formulas, with a
+// warning instead of failing the whole analysis.
+func TestForcefield_LinearMolecule_VPT2Withheld(t *testing.T) {
+	dir := t.TempDir()
+	writeSpec(t, dir, `title = "linear CO2 force field"
+[molecule]
+geometry = """
+O 0 0 -1.188
+C 0 0 0
+O 0 0 1.188
+"""
+[engine]
+kind = "builtin"
+method = "rhf"
+basis = "sto-3g"
+[forcefield]
+`)
+	if code, out, errs := wellscan(t, "run", "-q", dir); code != 0 {
+		t.Fatalf("run: exit %d\n%s%s", code, out, errs)
+	}
+	code, out, errs := wellscan(t, "forcefield", "--json", dir)
+	if code != 0 {
+		t.Fatalf("forcefield: exit %d\n%s%s", code, out, errs)
+	}
+	var rep report.FFReport
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	iso := rep.Isotopologues[0]
+	if iso.Anharmonic || !strings.Contains(iso.AnharmonicWithheld, "degenerate") {
+		t.Errorf("anharmonic %v, withheld %q: want VPT2 withheld for the degenerate bend", iso.Anharmonic, iso.AnharmonicWithheld)
+	}
+	if len(iso.Modes) != 4 {
+		t.Fatalf("%d modes, want 3N−5 = 4 for a linear triatomic (common practice)", len(iso.Modes))
+	}
+	// The two bends are degenerate and the symmetric stretch is infrared
+	// inactive (symmetry, common practice); the antisymmetric stretch is
+	// the strongest band.
+	w := func(i int) float64 { return iso.Modes[i].WavenumberCm1 }
+	in := func(i int) float64 { return *iso.Modes[i].IntensityKmPerMol }
+	if math.Abs(w(0)-w(1)) > 0.01 {
+		t.Errorf("bends %.3f and %.3f cm⁻¹, want degenerate", w(0), w(1))
+	}
+	if in(2) > 1e-3 || in(3) < in(0) {
+		t.Errorf("intensities %.4f %.4f %.4f %.4f km/mol: want the symmetric stretch inactive and the antisymmetric one strongest", in(0), in(1), in(2), in(3))
+	}
+}

@@ -13,6 +13,10 @@ import (
 var (
 	// ErrInput marks arguments of the wrong size or out of range.
 	ErrInput = errors.New("forcefield: bad input")
+	// ErrDegenerate reports degenerate modes, for which VPT2 is not
+	// implemented (symmetric tops, linear molecules); the harmonic
+	// analysis of the same force field stands.
+	ErrDegenerate = errors.New("forcefield: degenerate modes")
 	// ErrNumerics marks a decomposition that failed.
 	ErrNumerics = errors.New("forcefield: numerical failure")
 )

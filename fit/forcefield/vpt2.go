@@ -147,7 +147,7 @@ func VPT2Constants(m Model, fo FermiOptions) (*Anharmonic, error) {
 	for i := range n {
 		for j := i + 1; j < n; j++ {
 			if math.Abs(w[i]-w[j]) < 0.5 {
-				return nil, fmt.Errorf("%w: modes %d and %d are degenerate (%.3f and %.3f cm⁻¹): VPT2 for degenerate modes (symmetric tops, linear molecules) is not implemented", ErrInput, i+1, j+1, w[i], w[j])
+				return nil, fmt.Errorf("%w (%w): modes %d and %d are degenerate (%.3f and %.3f cm⁻¹): VPT2 for degenerate modes (symmetric tops, linear molecules) is not implemented", ErrInput, ErrDegenerate, i+1, j+1, w[i], w[j])
 			}
 		}
 	}

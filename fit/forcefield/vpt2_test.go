@@ -1,6 +1,7 @@
 package forcefield
 
 import (
+	"errors"
 	"math"
 	"strings"
 	"testing"
@@ -248,7 +249,7 @@ func TestVPT2Constants_FermiResonance(t *testing.T) {
 func TestVPT2Constants_RefusesDegenerateModes(t *testing.T) {
 	m := model3(1)
 	m.OmegaCm1 = []float64{1010, 1570, 1570.2} // degenerate pair (a symmetric top's E mode)
-	if _, err := VPT2Constants(m, FermiOptions{}); err == nil || !strings.Contains(err.Error(), "degenerate") {
+	if _, err := VPT2Constants(m, FermiOptions{}); err == nil || !strings.Contains(err.Error(), "degenerate") || !errors.Is(err, ErrDegenerate) || !errors.Is(err, ErrInput) {
 		t.Errorf("err = %v, want a refusal naming the degenerate modes", err)
 	}
 	m.OmegaCm1 = []float64{-1010, 1570, 2380}

@@ -65,19 +65,22 @@ type FFBand struct {
 
 // FFIsotopologue is the result for one set of masses.
 type FFIsotopologue struct {
-	Name        string       `json:"name"`
-	MassesAmu   []float64    `json:"masses_amu"`
-	Modes       []FFMode     `json:"modes"`
-	ZPECm1      float64      `json:"harmonic_zpe_cm1"`
-	RotCm1      Cm1Triple    `json:"rotational_constants_cm1"` // A, B, C; infinite (linear axis) written as null
-	Anharmonic  bool         `json:"anharmonic"`
-	Bands       []FFBand     `json:"bands,omitempty"`
-	X           [][]float64  `json:"x_cm1,omitempty"`
-	Resonances  []string     `json:"fermi_resonances,omitempty"`
-	AlphaCm1    [][3]float64 `json:"alpha_cm1,omitempty"`
-	B0Cm1       *Cm1Triple   `json:"b0_cm1,omitempty"`
-	QuarticStep float64      `json:"quartic_step_dimensionless,omitempty"`
-	Warnings    []string     `json:"warnings,omitempty"`
+	Name       string    `json:"name"`
+	MassesAmu  []float64 `json:"masses_amu"`
+	Modes      []FFMode  `json:"modes"`
+	ZPECm1     float64   `json:"harmonic_zpe_cm1"`
+	RotCm1     Cm1Triple `json:"rotational_constants_cm1"` // A, B, C; infinite (linear axis) written as null
+	Anharmonic bool      `json:"anharmonic"`
+	// AnharmonicWithheld says why a computed quartic force field gives no
+	// VPT2 numbers (degenerate modes); empty otherwise.
+	AnharmonicWithheld string       `json:"anharmonic_withheld,omitempty"`
+	Bands              []FFBand     `json:"bands,omitempty"`
+	X                  [][]float64  `json:"x_cm1,omitempty"`
+	Resonances         []string     `json:"fermi_resonances,omitempty"`
+	AlphaCm1           [][3]float64 `json:"alpha_cm1,omitempty"`
+	B0Cm1              *Cm1Triple   `json:"b0_cm1,omitempty"`
+	QuarticStep        float64      `json:"quartic_step_dimensionless,omitempty"`
+	Warnings           []string     `json:"warnings,omitempty"`
 }
 
 // FFReport is the whole analysis of a force-field job.
@@ -264,6 +267,13 @@ func AnalyzeForceField(spec *planner.Spec, samples []FFSample) (*FFReport, error
 			if err != nil {
 				if errors.Is(err, ErrFFIncomplete) {
 					fi.Warnings = append(fi.Warnings, "quartic force field not complete yet: "+err.Error())
+					break
+				}
+				if errors.Is(err, forcefield.ErrDegenerate) {
+					// The harmonic analysis stands; no anharmonic number
+					// is given rather than a wrong one.
+					fi.AnharmonicWithheld = strings.TrimPrefix(err.Error(), "forcefield: bad input (forcefield: degenerate modes): ")
+					fi.Warnings = append(fi.Warnings, "VPT2 withheld: "+fi.AnharmonicWithheld)
 					break
 				}
 				return nil, fmt.Errorf("report: force field, %s: %w", iso.Name, err)
@@ -470,7 +480,10 @@ func WriteFFMarkdown(w io.Writer, r *FFReport) error {
 			fmt.Fprintf(&b, "| ν%d | %s | %s | %.4f | %.4f |\n", m.Index, w, in, m.ReducedMassAmu, m.ForceConstMdynA)
 		}
 		b.WriteString("\n")
-		if !iso.Anharmonic {
+		if iso.AnharmonicWithheld != "" {
+			b.WriteString("Anharmonic (VPT2): withheld (see the warning above); the quartic points are kept in the store.\n\n")
+			continue
+		} else if !iso.Anharmonic {
 			b.WriteString("Anharmonic (VPT2): not computed for this isotopologue (set quartic = true in its [[forcefield.isotopologue]] block).\n\n")
 			continue
 		}
@@ -537,15 +550,20 @@ func NewFFFigure(r *FFReport) (*FFFigure, error) {
 	if len(r.Isotopologues) == 0 {
 		return nil, errors.New("report: force field has no isotopologue")
 	}
+	fonts, err := newFonts()
+	if err != nil {
+		return nil, err
+	}
 	f := &FFFigure{}
 	for _, iso := range r.Isotopologues {
 		p := plot.New()
+		fonts.plot(p)
 		name := r.Formula
 		if iso.Name != "parent" {
 			name = iso.Name + " (isotopologue of " + r.Formula + ")"
 		}
 		p.Title.Text = fmt.Sprintf("%s, %s: stick spectrum", name, r.Method)
-		p.X.Label.Text = "wavenumber / cm-1"
+		p.X.Label.Text = "wavenumber / cm⁻¹"
 		p.Y.Label.Text = "intensity / (km/mol)"
 		if !r.Intensities {
 			p.Y.Label.Text = "(no intensities: unit sticks)"
@@ -557,8 +575,23 @@ func NewFFFigure(r *FFReport) (*FFFigure, error) {
 			}
 			return *in
 		}
+		// Degenerate modes (within 0.5 cm⁻¹, the rule VPT2 uses) are one
+		// band: one stick with their summed intensity.
+		type band struct{ x, y float64 }
+		var harm []band
 		for _, m := range iso.Modes {
-			top = math.Max(top, height(m.IntensityKmPerMol))
+			if m.Imaginary {
+				continue
+			}
+			y := height(m.IntensityKmPerMol)
+			if n := len(harm); n > 0 && math.Abs(harm[n-1].x-m.WavenumberCm1) < 0.5 {
+				harm[n-1].y += y
+				continue
+			}
+			harm = append(harm, band{m.WavenumberCm1, y})
+		}
+		for _, b := range harm {
+			top = math.Max(top, b.y)
 		}
 		if top == 0 {
 			top = 1
@@ -577,14 +610,11 @@ func NewFFFigure(r *FFReport) (*FFFigure, error) {
 			return nil
 		}
 		xmax := 0.0
-		for _, m := range iso.Modes {
-			if m.Imaginary {
-				continue
-			}
-			if err := stick(m.WavenumberCm1, height(m.IntensityKmPerMol), colHarmonic, false, vg.Points(4)); err != nil {
+		for _, b := range harm {
+			if err := stick(b.x, b.y, colHarmonic, false, vg.Points(4)); err != nil {
 				return nil, err
 			}
-			xmax = math.Max(xmax, m.WavenumberCm1)
+			xmax = math.Max(xmax, b.x)
 		}
 		legend := func(name string, c color.Color, dashed bool) {
 			l, _ := plotter.NewLine(plotter.XYs{{X: 0, Y: 0}})
