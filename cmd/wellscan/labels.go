@@ -57,6 +57,9 @@ func scanLabel(spec *planner.Spec, mol planner.Molecule) string {
 	if b := spec.Engine.BasisLabel(); spec.Engine.Kind == "builtin" && b != "" {
 		m += "/" + b
 	}
+	if spec.ForceField() != nil {
+		return fmt.Sprintf("%s · %s · force field", mol.Isotopologue(), m)
+	}
 	return fmt.Sprintf("%s · %s · %s scan", mol.Isotopologue(), m, scanKind(spec))
 }
 

@@ -138,9 +138,12 @@ func printPlan(w io.Writer, dir string, spec *planner.Spec, o planOptions) {
 	for _, n := range spec.Notes() {
 		fmt.Fprintf(w, "note: %s\n", n)
 	}
-	if spec.Relaxed() {
+	switch {
+	case spec.ForceField() != nil:
+		fmt.Fprintln(w, "job: force field (energies at displaced geometries around the reference)")
+	case spec.Relaxed():
 		fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned is optimised at each point; %d held)\n", scanKind(spec), len(spec.Held()))
-	} else {
+	default:
 		fmt.Fprintf(w, "scan kind: %s (every coordinate not scanned stays at the reference geometry)\n", scanKind(spec))
 	}
 	e := spec.Engine
