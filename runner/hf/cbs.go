@@ -221,12 +221,15 @@ func CombineLimit(r LimitRecipe, comps []ComponentEnergy) (*LimitResult, error) 
 	out.Correlation = (y3*l.Correlation - x3*s.Correlation) / (y3 - x3)
 	if r.Core != "" {
 		a, f := byName[ComponentCoreAll], byName[ComponentCoreFrozen]
-		// f.Frozen is 0 only for molecules without cores (H2): the
-		// correction is then 0, as it should be.
 		if a.Frozen != 0 {
 			return nil, fmt.Errorf("hf: basis-set limit: the all-electron core calculation froze %d orbitals", a.Frozen)
 		}
-		out.CoreCorrection = (a.Reference + a.Correlation) - (f.Reference + f.Correlation)
+		// f.Frozen is 0 only for molecules without cores (H2, He): the two
+		// calculations are then the same one and the correction is exactly
+		// 0 (not the last-bit difference of two parallel runs).
+		if f.Frozen != 0 {
+			out.CoreCorrection = (a.Reference + a.Correlation) - (f.Reference + f.Correlation)
+		}
 	}
 	out.Total = out.HF + out.Correlation + out.CoreCorrection
 	return out, nil
@@ -241,7 +244,20 @@ func ComputeLimit(ctx context.Context, mol planner.Molecule, r LimitRecipe, base
 		return nil, err
 	}
 	var comps []ComponentEnergy
+	noCore := false
+	if n, _ := FrozenCoreOrbitals(mol); n == 0 {
+		noCore = true
+	}
 	for _, c := range r.Components() {
+		if c.Name == ComponentCoreFrozen && noCore && len(comps) > 0 && comps[len(comps)-1].Name == ComponentCoreAll {
+			// Nothing to freeze: the frozen-core calculation is the
+			// all-electron one just done.
+			ce := comps[len(comps)-1]
+			ce.LimitComponent = c
+			ce.Basis = comps[len(comps)-1].Basis
+			comps = append(comps, ce)
+			continue
+		}
 		ce, err := ComputeComponent(ctx, mol, r.Method, c, base)
 		if err != nil {
 			return nil, err
