@@ -451,6 +451,12 @@ workers = 1
 			if code != 0 || !strings.Contains(out, "scan=relaxed") {
 				t.Errorf("export xyz: exit %d, no scan=relaxed in the comments", code)
 			}
+			// The fit says what it fitted: a relaxed scan is never called
+			// rigid (it was, in the fit's model line).
+			code, out, _ = runCLI(t, "", "fit", dir)
+			if code != 0 || !strings.Contains(out, "1-D along the relaxed scan") || strings.Contains(out, "rigid") {
+				t.Errorf("fit: exit %d; want the relaxed model named and no 'rigid':\n%s", code, out)
+			}
 		})
 	}
 }

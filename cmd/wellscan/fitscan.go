@@ -67,7 +67,7 @@ func analyseRecords(ctx context.Context, dir string, spec *planner.Spec, recs []
 }
 
 func printScanFit(w io.Writer, f *analysis.Result) {
-	fmt.Fprintf(w, "fit of %d done points (%s)", f.Points, modelLabel(f.Model))
+	fmt.Fprintf(w, "fit of %d done points (%s)", f.Points, modelLabel(f.Model, f.ScanMode))
 	for _, st := range sortedCounts(f.NotUsed) {
 		fmt.Fprintf(w, " (%d %s not used)", f.NotUsed[st], st)
 	}
@@ -105,12 +105,12 @@ func printScanFit(w io.Writer, f *analysis.Result) {
 	}
 }
 
-func modelLabel(m string) string {
+func modelLabel(m, mode string) string {
 	switch m {
 	case "diatomic":
 		return "rotating diatomic"
 	case "one-dimensional":
-		return "1-D along the rigid scan"
+		return "1-D along the " + mode + " scan"
 	case "torsion":
 		return "full-period torsion: Fourier series and hindered rotor"
 	case "torsion-partial":

@@ -88,6 +88,8 @@ type Result struct {
 	// "torsion-partial" (local polynomials on part of a period) or
 	// "surface" (two coordinates).
 	Model string `json:"model"`
+	// ScanMode is "rigid" or "relaxed" (planner.Spec.ScanMode).
+	ScanMode string `json:"scan_mode"`
 	// MassModel describes the kinetic model in words; Kinetic lists its
 	// value at each stationary point analysed.
 	MassModel string         `json:"mass_model"`
@@ -116,7 +118,7 @@ type Result struct {
 // only when nothing can be analysed (too few points, no minimum).
 func Analyse(ctx context.Context, spec *planner.Spec, pts []Point, opt Options) (*Result, error) {
 	coords := spec.Coordinates()
-	res := &Result{Units: map[string]string{}, Warnings: []string{}}
+	res := &Result{ScanMode: spec.ScanMode(), Units: map[string]string{}, Warnings: []string{}}
 	for _, c := range coords {
 		res.Units[c.Name] = c.UnitLabel(spec.Units()) + " at the edges; bohr or radian inside"
 	}
@@ -275,6 +277,12 @@ func line(ctx context.Context, spec *planner.Spec, xs, es []float64, opt Options
 			res.Model = "torsion-partial"
 		}
 		res.MassModel = fmt.Sprintf("1-D along the scan (rigid): kinetic metric of %s (%s) from the atoms' displacement along the scan with overall translation and rotation removed, evaluated at each minimum", c.Name, massUnit(c))
+		if spec.Relaxed() {
+			// The energies are the relaxed path's; the mass is still the
+			// scanned coordinate's own displacement from the reference
+			// geometry (the relaxed path's kinetic coupling is not used).
+			res.MassModel = fmt.Sprintf("1-D along the scan (relaxed energies: every other coordinate optimised at each point): kinetic metric of %s (%s) from the scanned coordinate's own displacement at the reference geometry, overall translation and rotation removed, evaluated at each minimum; the relaxed path's own kinetic coupling is not included", c.Name, massUnit(c))
+		}
 		mu, err := spec.EffectiveMass(planner.Point{Key: "analysis", Values: []float64{xs[lowest]}}, 0)
 		if err != nil {
 			return fmt.Errorf("analysis: kinetic metric of %s: %w", c.Name, err)
